@@ -1,0 +1,193 @@
+//! Errors as values: every failure has a stable numeric code and a message a technician
+//! can act on.
+//!
+//! Codes are grouped by hundreds: 1xx bad input values, 2xx physics (no solution), 3xx
+//! axes and motion, 4xx protocol. Codes never change meaning once published; new
+//! errors get new codes. The host prints `E<code>: <message>`; the serial protocol sends
+//! the same code.
+
+/// Which physical quantity an input error is about.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum Quantity {
+    /// Beam energy (eV).
+    Energy,
+    /// Wavelength (Å).
+    Wavelength,
+    /// Inner potential V0 (eV).
+    InnerPotential,
+    /// Work function (eV).
+    WorkFunction,
+    /// Gun energy offset (eV).
+    EnergyOffset,
+    /// Sample tilt (degrees).
+    Tilt,
+    /// Sample azimuth (degrees).
+    Azimuth,
+    /// Any angle (degrees).
+    Angle,
+    /// A length such as a screen distance (mm) or a d-spacing (Å).
+    Length,
+    /// Miller or beam indices.
+    Index,
+    /// A count, step or size parameter.
+    Count,
+}
+
+impl Quantity {
+    /// Lower-case name with its unit, for messages.
+    pub const fn name(self) -> &'static str {
+        match self {
+            Quantity::Energy => "energy (eV)",
+            Quantity::Wavelength => "wavelength (Å)",
+            Quantity::InnerPotential => "inner potential (eV)",
+            Quantity::WorkFunction => "work function (eV)",
+            Quantity::EnergyOffset => "energy offset (eV)",
+            Quantity::Tilt => "tilt (deg)",
+            Quantity::Azimuth => "azimuth (deg)",
+            Quantity::Angle => "angle (deg)",
+            Quantity::Length => "length",
+            Quantity::Index => "index",
+            Quantity::Count => "count",
+        }
+    }
+}
+
+/// Everything that can go wrong in the core.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[non_exhaustive]
+pub enum Error {
+    /// A number was NaN or infinite.
+    NotFinite(Quantity),
+    /// A number was below the accepted range.
+    TooLow(Quantity),
+    /// A number was above the accepted range.
+    TooHigh(Quantity),
+    /// The kinetic energy at the sample, after contact-potential and offset corrections,
+    /// is below 1 eV.
+    KineticEnergyTooLow,
+    /// Miller indices (0,0,0) name no plane.
+    ZeroIndices,
+    /// Indices too large for the fixed tables and search boxes (|index| > 12).
+    IndicesTooLarge,
+    /// Four-index hexagonal indices with i ≠ −(h+k).
+    BadHexIndices,
+    /// Four-index indices given for a cubic, tetragonal or orthorhombic crystal.
+    HexIndicesOnNonHexagonal,
+    /// Lattice constants not positive and finite.
+    BadLattice,
+    /// No crystal with that id in the table.
+    UnknownCrystal,
+    /// The beam is evanescent: |k∥| exceeds 1/λ at this energy and incidence.
+    Evanescent,
+    /// n·λ > 2d: this reflection has no Bragg angle at this energy.
+    NoBraggAngle,
+    /// 2θ is 90° or more: the ring never reaches a flat screen.
+    BeyondScreen,
+    /// The lattice search found no surface mesh for this face.
+    NoSurfaceMesh,
+    /// No output slot was given (a zero-length buffer).
+    EmptyBuffer,
+    /// The energy window is empty or reversed.
+    EmptyRange,
+}
+
+impl Error {
+    /// Stable numeric code.
+    pub const fn code(self) -> u16 {
+        match self {
+            Error::NotFinite(_) => 101,
+            Error::TooLow(_) => 102,
+            Error::TooHigh(_) => 103,
+            Error::KineticEnergyTooLow => 104,
+            Error::ZeroIndices => 110,
+            Error::IndicesTooLarge => 111,
+            Error::BadHexIndices => 112,
+            Error::HexIndicesOnNonHexagonal => 113,
+            Error::BadLattice => 114,
+            Error::UnknownCrystal => 115,
+            Error::EmptyBuffer => 120,
+            Error::EmptyRange => 121,
+            Error::Evanescent => 201,
+            Error::NoBraggAngle => 202,
+            Error::BeyondScreen => 203,
+            Error::NoSurfaceMesh => 204,
+        }
+    }
+
+    /// What is wrong and what to do, in one short line.
+    pub const fn message(self) -> &'static str {
+        match self {
+            Error::NotFinite(_) => "value is NaN or infinite; give a finite number",
+            Error::TooLow(q) => match q {
+                Quantity::Energy => "energy below 1 eV; accepted 1 eV to 300000 eV",
+                Quantity::InnerPotential => "inner potential negative; accepted 0 to 100 eV",
+                Quantity::WorkFunction => "work function negative; accepted 0 to 10 eV",
+                Quantity::Wavelength => "wavelength must be positive (Å)",
+                Quantity::Length => "length must be positive",
+                Quantity::Count => "count or step must be positive",
+                _ => "value below the accepted range",
+            },
+            Error::TooHigh(q) => match q {
+                Quantity::Energy => "energy above 300 keV; accepted 1 eV to 300000 eV",
+                Quantity::InnerPotential => "inner potential above 100 eV; accepted 0 to 100 eV",
+                Quantity::WorkFunction => "work function above 10 eV; accepted 0 to 10 eV",
+                Quantity::EnergyOffset => "energy offset beyond ±1000 eV",
+                Quantity::Tilt => "tilt beyond ±89.9 deg",
+                Quantity::Wavelength => "wavelength too long: energy would be below 1 eV",
+                Quantity::Count => "too many points or steps",
+                _ => "value above the accepted range",
+            },
+            Error::KineticEnergyTooLow => {
+                "kinetic energy at the sample below 1 eV after work-function and offset corrections; raise the gun energy"
+            }
+            Error::ZeroIndices => "indices (0,0,0) name no plane",
+            Error::IndicesTooLarge => "indices beyond ±12 are not supported",
+            Error::BadHexIndices => "four-index (hkil) needs i = -(h+k)",
+            Error::HexIndicesOnNonHexagonal => "four-index indices only apply to hexagonal crystals",
+            Error::BadLattice => "lattice constants must be positive and finite",
+            Error::UnknownCrystal => "unknown crystal id; list them with the crystals command",
+            Error::EmptyBuffer => "no room for results (zero-length buffer)",
+            Error::EmptyRange => "empty energy range: 'from' must be below 'to'",
+            Error::Evanescent => {
+                "beam is evanescent at this energy and incidence; raise the energy or change the tilt"
+            }
+            Error::NoBraggAngle => "n·λ exceeds 2d: no Bragg angle at this energy",
+            Error::BeyondScreen => "scattering angle 2θ is 90° or more: the ring misses a flat screen",
+            Error::NoSurfaceMesh => "no surface mesh found for this face",
+        }
+    }
+
+    /// The quantity an input error refers to, if any.
+    pub const fn quantity(self) -> Option<Quantity> {
+        match self {
+            Error::NotFinite(q) | Error::TooLow(q) | Error::TooHigh(q) => Some(q),
+            _ => None,
+        }
+    }
+}
+
+impl core::fmt::Display for Error {
+    fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
+        match self.quantity() {
+            Some(q) if matches!(self, Error::NotFinite(_)) => {
+                write!(f, "E{}: {} is NaN or infinite; give a finite number", self.code(), q.name())
+            }
+            _ => write!(f, "E{}: {}", self.code(), self.message()),
+        }
+    }
+}
+
+/// Result with the core's [`Error`].
+pub type Result<T> = core::result::Result<T, Error>;
+
+/// `Ok(x)` when `x` is finite, else `NotFinite(q)`.
+#[inline]
+pub(crate) fn finite(x: f32, q: Quantity) -> Result<f32> {
+    if x.is_finite() {
+        Ok(x)
+    } else {
+        Err(Error::NotFinite(q))
+    }
+}

@@ -1,0 +1,48 @@
+//! # matterwave-core
+//!
+//! Electron-diffraction and goniometer math for the controller of a motorised detector
+//! arm: `#![no_std]`, no allocation, no `unsafe`, f32 throughout, fixed tables.
+//!
+//! Units: energies in eV, lengths in Å, angles in degrees at every public interface
+//! (radians only inside functions). Reciprocal vectors follow the crystallographer's
+//! convention |k| = 1/λ, |g| = 1/d (no 2π). Constants are CODATA 2018.
+//!
+//! Modules, one concern each:
+//!
+//! | module | owns |
+//! |---|---|
+//! | [`constants`] | CODATA values |
+//! | [`math`] | the float backend (libm, or micromath with `fast-math`) and vector helpers |
+//! | [`error`] | error values with stable codes |
+//! | [`beam`] | gun settings → kinetic energy → wavelength, velocity, wavevector |
+//! | [`lattice`] | structures, conventional cells, d-spacings, extinctions, face notation |
+//! | [`reflections`] | bulk reflection families, Bragg angles, transmission rings |
+//! | [`surface`] | surface meshes, rods, beams at an energy, emergence and I-V energies |
+//! | [`table`] | the fixed crystal table |
+//!
+//! ```
+//! use matterwave_core::{beam, table, surface::{Face, Incidence}};
+//! let e = beam::kinetic_energy_ev(150.0, 0.0, 0.0, 0.0).unwrap();
+//! let lambda = beam::wavelength_a(e).unwrap();
+//! assert!((lambda - 1.0013).abs() < 1e-3);
+//! let face = Face::new(&table::find("cu").unwrap().cell().unwrap(), [1, 1, 1]).unwrap();
+//! let b = face.beam([1, 0], &Incidence::normal(e).unwrap()).unwrap();
+//! assert!(b.exit_deg > 20.0 && b.exit_deg < 30.0);
+//! ```
+#![no_std]
+#![forbid(unsafe_code)]
+#![deny(missing_docs)]
+
+pub mod beam;
+pub mod constants;
+pub mod error;
+pub mod lattice;
+pub mod math;
+pub mod reflections;
+pub mod surface;
+pub mod table;
+
+pub use error::{Error, Quantity, Result};
+
+/// Crate version, as in Cargo.toml.
+pub const VERSION: &str = env!("CARGO_PKG_VERSION");

@@ -1,0 +1,1 @@
+//! Cross-crate conformance and end-to-end tests; see tests/tests/.
