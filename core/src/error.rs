@@ -172,7 +172,12 @@ impl core::fmt::Display for Error {
     fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
         match self.quantity() {
             Some(q) if matches!(self, Error::NotFinite(_)) => {
-                write!(f, "E{}: {} is NaN or infinite; give a finite number", self.code(), q.name())
+                write!(
+                    f,
+                    "E{}: {} is NaN or infinite; give a finite number",
+                    self.code(),
+                    q.name()
+                )
             }
             _ => write!(f, "E{}: {}", self.code(), self.message()),
         }

@@ -157,9 +157,7 @@ impl Structure {
             return false;
         }
         match self {
-            Structure::Diamond => {
-                !(h.rem_euclid(2) == 0 && (h + k + l).rem_euclid(4) != 0)
-            }
+            Structure::Diamond => !(h.rem_euclid(2) == 0 && (h + k + l).rem_euclid(4) != 0),
             Structure::Hcp | Structure::Graphite => {
                 !(l.rem_euclid(2) == 1 && (h - k).rem_euclid(3) == 0)
             }
@@ -298,9 +296,7 @@ impl Cell {
             System::Cubic => (h * h + k * k + l * l) / (a * a),
             System::Tetragonal => (h * h + k * k) / (a * a) + l * l / (c * c),
             System::Orthorhombic => h * h / (a * a) + k * k / (b * b) + l * l / (c * c),
-            System::Hexagonal => {
-                (4.0 / 3.0) * (h * h + h * k + k * k) / (a * a) + l * l / (c * c)
-            }
+            System::Hexagonal => (4.0 / 3.0) * (h * h + h * k + k * k) / (a * a) + l * l / (c * c),
         }
     }
 
@@ -488,7 +484,10 @@ mod tests {
         assert_eq!(parse_miller("10-10", true), Ok([1, 0, 0]));
         assert_eq!(parse_miller("11-20", true), Ok([1, 1, 0]));
         assert_eq!(parse_miller("1,1,1,0", true), Err(Error::BadHexIndices));
-        assert_eq!(parse_miller("0001", false), Err(Error::HexIndicesOnNonHexagonal));
+        assert_eq!(
+            parse_miller("0001", false),
+            Err(Error::HexIndicesOnNonHexagonal)
+        );
         assert_eq!(parse_miller("000", false), Err(Error::ZeroIndices));
         assert_eq!(parse_miller("13,0,0", false), Err(Error::IndicesTooLarge));
         assert!(parse_miller("1.5,0,0", false).is_err());

@@ -10,38 +10,47 @@ pub const PI: f32 = core::f32::consts::PI;
 
 #[cfg(not(feature = "fast-math"))]
 mod backend {
+    /// Square root.
     #[inline]
     pub fn sqrt(x: f32) -> f32 {
         libm::sqrtf(x)
     }
+    /// Sine of an angle in radians.
     #[inline]
     pub fn sin(x: f32) -> f32 {
         libm::sinf(x)
     }
+    /// Cosine of an angle in radians.
     #[inline]
     pub fn cos(x: f32) -> f32 {
         libm::cosf(x)
     }
+    /// Tangent of an angle in radians.
     #[inline]
     pub fn tan(x: f32) -> f32 {
         libm::tanf(x)
     }
+    /// Arcsine, radians.
     #[inline]
     pub fn asin(x: f32) -> f32 {
         libm::asinf(x)
     }
+    /// Arccosine, radians.
     #[inline]
     pub fn acos(x: f32) -> f32 {
         libm::acosf(x)
     }
+    /// Four-quadrant arctangent of y/x, radians.
     #[inline]
     pub fn atan2(y: f32, x: f32) -> f32 {
         libm::atan2f(y, x)
     }
+    /// e^x.
     #[inline]
     pub fn exp(x: f32) -> f32 {
         libm::expf(x)
     }
+    /// Natural logarithm.
     #[inline]
     pub fn ln(x: f32) -> f32 {
         libm::logf(x)
@@ -51,38 +60,47 @@ mod backend {
 #[cfg(feature = "fast-math")]
 mod backend {
     use micromath::F32Ext;
+    /// Square root.
     #[inline]
     pub fn sqrt(x: f32) -> f32 {
         F32Ext::sqrt(x)
     }
+    /// Sine of an angle in radians.
     #[inline]
     pub fn sin(x: f32) -> f32 {
         F32Ext::sin(x)
     }
+    /// Cosine of an angle in radians.
     #[inline]
     pub fn cos(x: f32) -> f32 {
         F32Ext::cos(x)
     }
+    /// Tangent of an angle in radians.
     #[inline]
     pub fn tan(x: f32) -> f32 {
         F32Ext::tan(x)
     }
+    /// Arcsine, radians.
     #[inline]
     pub fn asin(x: f32) -> f32 {
         F32Ext::asin(x)
     }
+    /// Arccosine, radians.
     #[inline]
     pub fn acos(x: f32) -> f32 {
         F32Ext::acos(x)
     }
+    /// Four-quadrant arctangent of y/x, radians.
     #[inline]
     pub fn atan2(y: f32, x: f32) -> f32 {
         F32Ext::atan2(y, x)
     }
+    /// e^x.
     #[inline]
     pub fn exp(x: f32) -> f32 {
         F32Ext::exp(x)
     }
+    /// Natural logarithm.
     #[inline]
     pub fn ln(x: f32) -> f32 {
         F32Ext::ln(x)

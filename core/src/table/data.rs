@@ -17,8 +17,16 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         work_function_ev: Some(4.65),
         inner_potential_ev: Some(10.0),
         faces: &[
-            FaceInfo { miller: [1, 0, 0], inner_potential_ev: Some(10.0), work_function_ev: Some(4.59) },
-            FaceInfo { miller: [1, 1, 1], inner_potential_ev: Some(10.0), work_function_ev: Some(4.94) },
+            FaceInfo {
+                miller: [1, 0, 0],
+                inner_potential_ev: Some(10.0),
+                work_function_ev: Some(4.59),
+            },
+            FaceInfo {
+                miller: [1, 1, 1],
+                inner_potential_ev: Some(10.0),
+                work_function_ev: Some(4.94),
+            },
         ],
     },
     Crystal {

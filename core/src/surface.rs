@@ -1,0 +1,913 @@
+//! Surfaces: the 2D mesh of a crystal face, its reciprocal rods, the diffracted beams at
+//! an energy and incidence, their emergence energies, and kinematic I-V peak energies
+//! with refraction by the inner potential.
+//!
+//! ## Conventions (DESIGN §6–7)
+//!
+//! A face (h k l) is given in conventional-cell Miller indices (reduced by their common
+//! divisor). Its outward normal n̂ points along G(hkl). The mesh (a1, a2) is found by a
+//! lattice search, not a lookup: a1 is the shortest Bravais-lattice vector in the plane,
+//! a2 the shortest one not parallel to a1, signed so that (a1, a2, n̂) is right-handed.
+//! Equal-length candidates are broken by the larger conventional coordinates
+//! (lexicographically), so the choice is deterministic. Rod (h, k) is
+//! g = h·b1 + k·b2 with ai·bj = δij; its row spacing is 1/|g|.
+//!
+//! The surface frame is (e1, e2, n̂) with e1 along a1 at azimuth 0. A positive azimuth φ
+//! turns the crystal counter-clockwise about n̂ (seen from outside). With tilt α the
+//! incoming beam has k∥,in = (sin α/λ)·e1. A beam exists where |k∥,in + g| ≤ 1/λ; its
+//! exit angle is the polar angle from n̂ outside the crystal, which does not depend on
+//! the inner potential.
+//!
+//! ```
+//! use matterwave_core::lattice::{Cell, Structure};
+//! use matterwave_core::surface::{Face, MeshKind};
+//! let cu = Cell::new(Structure::Fcc, 3.615, 0.0, 0.0).unwrap();
+//! let f = Face::new(&cu, [1, 1, 1]).unwrap();
+//! assert_eq!(f.mesh_kind(), MeshKind::Hexagonal);
+//! assert!((f.a1_len_a() - 3.615 / 2f32.sqrt()).abs() < 1e-5);
+//! ```
+
+use crate::beam;
+use crate::error::{finite, Error, Quantity, Result};
+use crate::lattice::{check_indices, reciprocal, Cell, Miller};
+use crate::math::{self, Vec3};
+use crate::reflections::Listing;
+
+/// Largest |tilt| accepted, degrees.
+pub const TILT_MAX_DEG: f32 = 89.9;
+
+/// The five 2D Bravais meshes.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum MeshKind {
+    /// |a1| = |a2|, γ = 90°.
+    Square,
+    /// |a1| = |a2|, γ = 60° or 120°.
+    Hexagonal,
+    /// |a1| ≠ |a2|, γ = 90°.
+    Rectangular,
+    /// A rhombic primitive cell (|a1| = |a2|, or |a1| = 2|a2|·|cos γ|): a centred
+    /// rectangular mesh.
+    CentredRectangular,
+    /// No symmetry beyond two-fold.
+    Oblique,
+}
+
+impl MeshKind {
+    /// Lower-case name.
+    pub const fn name(self) -> &'static str {
+        match self {
+            MeshKind::Square => "square",
+            MeshKind::Hexagonal => "hexagonal",
+            MeshKind::Rectangular => "rectangular",
+            MeshKind::CentredRectangular => "centred-rectangular",
+            MeshKind::Oblique => "oblique",
+        }
+    }
+}
+
+/// A crystal face: bulk-terminated 1×1 mesh, its frame and its reciprocal rods.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Face {
+    /// The bulk cell.
+    pub cell: Cell,
+    /// Face indices, reduced by their common divisor.
+    pub miller: Miller,
+    /// a1 in conventional coordinates, in units of half a cell axis.
+    pub a1_half: [i32; 3],
+    /// a2 in conventional coordinates, in units of half a cell axis.
+    pub a2_half: [i32; 3],
+    /// a3 (shortest lattice vector to the next lattice plane) in half-axis units.
+    pub a3_half: [i32; 3],
+    /// a1, a2, a3 Cartesian in the crystal frame, Å.
+    pub vectors_a: [Vec3; 3],
+    /// Outward unit normal n̂ (crystal frame).
+    pub normal: Vec3,
+    /// Surface frame e1 = â1, e2 = n̂ × e1 (crystal frame).
+    pub frame: [Vec3; 2],
+    /// a1 and a2 in the surface frame (e1, e2), Å.
+    pub mesh_2d_a: [[f32; 2]; 2],
+    /// b1 and b2 in the surface frame, 1/Å.
+    pub recip_2d_inv_a: [[f32; 2]; 2],
+    /// Normal components of the 3D reciprocal basis of (a1, a2, a3), 1/Å: a bulk G with
+    /// rod (h, k) and layer index m has G·n̂ = h·b[0] + k·b[1] + m/d.
+    pub recip_normal_inv_a: [f32; 2],
+    /// Spacing of the lattice planes parallel to the face, Å.
+    pub layer_spacing_a: f32,
+    /// Conventional (H K L) = `to_conventional` · (h, k, m).
+    pub to_conventional: [[i32; 3]; 3],
+}
+
+/// Incidence conditions: kinetic energy outside, tilt α and azimuth φ.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Incidence {
+    /// Kinetic energy at the sample, eV.
+    pub energy_ev: f32,
+    /// Tilt α, degrees (0 = normal incidence).
+    pub tilt_deg: f32,
+    /// Azimuth φ, degrees.
+    pub azimuth_deg: f32,
+    /// 1/λ outside, 1/Å.
+    pub k_inv_a: f32,
+    sin_tilt: f32,
+    cos_az: f32,
+    sin_az: f32,
+}
+
+impl Incidence {
+    /// Incidence at `energy_ev` (1 eV–300 keV), tilt (|α| ≤ 89.9°) and azimuth (finite,
+    /// any value).
+    pub fn new(energy_ev: f32, tilt_deg: f32, azimuth_deg: f32) -> Result<Incidence> {
+        let e = beam::check_energy(energy_ev)?;
+        let t = check_tilt(tilt_deg)?;
+        let a = finite(azimuth_deg, Quantity::Azimuth)?;
+        let (sin_az, cos_az) = math::sin_cos_deg(a);
+        Ok(Incidence {
+            energy_ev: e,
+            tilt_deg: t,
+            azimuth_deg: a,
+            k_inv_a: beam::wavenumber_unchecked_inv_a(e),
+            sin_tilt: math::sin(math::rad(t)),
+            cos_az,
+            sin_az,
+        })
+    }
+
+    /// Normal incidence at azimuth 0.
+    pub fn normal(energy_ev: f32) -> Result<Incidence> {
+        Incidence::new(energy_ev, 0.0, 0.0)
+    }
+
+    /// k∥ of the incoming beam in the surface frame, 1/Å.
+    pub fn k_par_in(&self) -> [f32; 2] {
+        [self.sin_tilt * self.k_inv_a, 0.0]
+    }
+}
+
+/// Checks a tilt angle: finite, |α| ≤ 89.9°.
+pub fn check_tilt(tilt_deg: f32) -> Result<f32> {
+    let t = finite(tilt_deg, Quantity::Tilt)?;
+    if t.abs() > TILT_MAX_DEG {
+        Err(Error::TooHigh(Quantity::Tilt))
+    } else {
+        Ok(t)
+    }
+}
+
+/// One diffracted beam leaving the surface.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct SurfaceBeam {
+    /// Rod indices (h, k).
+    pub rod: [i32; 2],
+    /// |g|, 1/Å (0 for the specular beam).
+    pub g_inv_a: f32,
+    /// k∥ of the beam in the surface frame, 1/Å.
+    pub k_par_inv_a: [f32; 2],
+    /// Polar exit angle from the surface normal, degrees (0–90).
+    pub exit_deg: f32,
+    /// Azimuth of the exit direction in the surface frame, from e1 toward e2, degrees
+    /// (−180, 180].
+    pub exit_azimuth_deg: f32,
+    /// Energy (outside, eV) at which this beam emerges at this tilt and azimuth; `None`
+    /// for the specular beam, which always exists.
+    pub emergence_ev: Option<f32>,
+}
+
+impl SurfaceBeam {
+    /// A placeholder for initialising buffers.
+    pub const EMPTY: SurfaceBeam = SurfaceBeam {
+        rod: [0, 0],
+        g_inv_a: 0.0,
+        k_par_inv_a: [0.0, 0.0],
+        exit_deg: 0.0,
+        exit_azimuth_deg: 0.0,
+        emergence_ev: None,
+    };
+
+    /// Row spacing 1/|g|, Å; `None` for the specular beam.
+    pub fn row_spacing_a(&self) -> Option<f32> {
+        if self.g_inv_a > 0.0 {
+            Some(1.0 / self.g_inv_a)
+        } else {
+            None
+        }
+    }
+}
+
+/// A kinematic I-V intensity maximum on one rod.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct IvPeak {
+    /// Beam energy outside the crystal, eV.
+    pub energy_ev: f32,
+    /// Layer index m of the bulk reciprocal vector (G·n̂ = h·b1n + k·b2n + m/d).
+    pub order: i32,
+    /// Conventional indices (H K L) of the bulk reciprocal vector G.
+    pub g_hkl: [i32; 3],
+    /// G·n̂, 1/Å.
+    pub g_perp_inv_a: f32,
+}
+
+impl IvPeak {
+    /// A placeholder for initialising buffers.
+    pub const EMPTY: IvPeak = IvPeak {
+        energy_ev: 0.0,
+        order: 0,
+        g_hkl: [0, 0, 0],
+        g_perp_inv_a: 0.0,
+    };
+}
+
+fn gcd(a: i32, b: i32) -> i32 {
+    let (mut a, mut b) = (a.abs(), b.abs());
+    while b != 0 {
+        let t = a % b;
+        a = b;
+        b = t;
+    }
+    a
+}
+
+fn half_to_cart(cell: &Cell, half: [i32; 3]) -> Vec3 {
+    cell.point([
+        half[0] as f32 * 0.5,
+        half[1] as f32 * 0.5,
+        half[2] as f32 * 0.5,
+    ])
+}
+
+fn icross(a: [i32; 3], b: [i32; 3]) -> [i32; 3] {
+    [
+        a[1] * b[2] - a[2] * b[1],
+        a[2] * b[0] - a[0] * b[2],
+        a[0] * b[1] - a[1] * b[0],
+    ]
+}
+
+/// Best-so-far candidate of the lattice search: shortest, ties to larger coordinates.
+#[derive(Clone, Copy)]
+struct Best {
+    half: [i32; 3],
+    len2: f32,
+}
+
+impl Best {
+    const NONE: Best = Best {
+        half: [0, 0, 0],
+        len2: f32::INFINITY,
+    };
+
+    fn offer(&mut self, half: [i32; 3], len2: f32) {
+        let tol = 1e-5 * self.len2;
+        if len2 < self.len2 - tol || ((len2 - self.len2).abs() <= tol && half > self.half) {
+            self.half = half;
+            self.len2 = len2;
+        }
+    }
+
+    fn found(&self) -> bool {
+        self.len2.is_finite()
+    }
+}
+
+impl Face {
+    /// The bulk-terminated face (h k l) of `cell`. Indices are reduced by their common
+    /// divisor; |index| ≤ 12.
+    pub fn new(cell: &Cell, miller: Miller) -> Result<Face> {
+        check_indices(miller)?;
+        let g = gcd(gcd(miller[0], miller[1]), miller[2]);
+        let m = [miller[0] / g, miller[1] / g, miller[2] / g];
+        let g_hkl = cell.g_vector(m);
+        let normal = math::unit(g_hkl).ok_or(Error::NoSurfaceMesh)?;
+        let s = cell.structure;
+
+        // Two independent in-plane lattice vectors bound the mesh search.
+        let cands = [[m[1], -m[0], 0], [m[2], 0, -m[0]], [0, m[2], -m[1]]];
+        let mut lens = [f32::INFINITY; 3];
+        for (i, c) in cands.iter().enumerate() {
+            if *c != [0, 0, 0] {
+                lens[i] = math::norm(cell.point([c[0] as f32, c[1] as f32, c[2] as f32]));
+            }
+        }
+        let mut bound = 0.0f32;
+        for i in 0..3 {
+            for j in (i + 1)..3 {
+                if icross(cands[i], cands[j]) != [0, 0, 0] {
+                    let l = lens[i].max(lens[j]);
+                    if bound == 0.0 || l < bound {
+                        bound = l;
+                    }
+                }
+            }
+        }
+        if !(bound > 0.0 && bound.is_finite()) {
+            return Err(Error::NoSurfaceMesh);
+        }
+        let reach = bound + 1.0 / math::norm(g_hkl);
+        let mut n = [0i32; 3];
+        for (i, ni) in n.iter_mut().enumerate() {
+            *ni = (2.0 * reach * math::norm(cell.reciprocal_inv_a[i])) as i32 + 1;
+        }
+
+        // First pass: shortest in-plane vector, and the smallest positive height.
+        let mut t1 = Best::NONE;
+        let mut p_min = i32::MAX;
+        for u in -n[0]..=n[0] {
+            for v in -n[1]..=n[1] {
+                for w in -n[2]..=n[2] {
+                    let half = [u, v, w];
+                    if half == [0, 0, 0] || !s.is_lattice_point_half(half) {
+                        continue;
+                    }
+                    let p = m[0] * u + m[1] * v + m[2] * w;
+                    if p == 0 {
+                        let c = half_to_cart(cell, half);
+                        t1.offer(half, math::dot(c, c));
+                    } else if p > 0 && p < p_min {
+                        p_min = p;
+                    }
+                }
+            }
+        }
+        if !t1.found() || p_min == i32::MAX {
+            return Err(Error::NoSurfaceMesh);
+        }
+        // Second pass: shortest in-plane vector not parallel to a1; shortest vector at
+        // the first positive height.
+        let mut t2 = Best::NONE;
+        let mut t3 = Best::NONE;
+        for u in -n[0]..=n[0] {
+            for v in -n[1]..=n[1] {
+                for w in -n[2]..=n[2] {
+                    let half = [u, v, w];
+                    if !s.is_lattice_point_half(half) {
+                        continue;
+                    }
+                    let p = m[0] * u + m[1] * v + m[2] * w;
+                    if p == 0 {
+                        if icross(t1.half, half) != [0, 0, 0] {
+                            let c = half_to_cart(cell, half);
+                            t2.offer(half, math::dot(c, c));
+                        }
+                    } else if p == p_min {
+                        let c = half_to_cart(cell, half);
+                        t3.offer(half, math::dot(c, c));
+                    }
+                }
+            }
+        }
+        if !t2.found() || !t3.found() {
+            return Err(Error::NoSurfaceMesh);
+        }
+        let a1 = half_to_cart(cell, t1.half);
+        let mut a2_half = t2.half;
+        let mut a2 = half_to_cart(cell, a2_half);
+        if math::dot(math::cross(a1, a2), normal) < 0.0 {
+            a2_half = [-a2_half[0], -a2_half[1], -a2_half[2]];
+            a2 = math::scale(a2, -1.0);
+        }
+        let a3 = half_to_cart(cell, t3.half);
+        let e1 = math::unit(a1).ok_or(Error::NoSurfaceMesh)?;
+        let e2 = math::cross(normal, e1);
+        let mesh_2d_a = [
+            [math::dot(a1, e1), 0.0],
+            [math::dot(a2, e1), math::dot(a2, e2)],
+        ];
+        let det = mesh_2d_a[0][0] * mesh_2d_a[1][1] - mesh_2d_a[0][1] * mesh_2d_a[1][0];
+        if det.is_nan() || det <= 0.0 {
+            return Err(Error::NoSurfaceMesh);
+        }
+        let recip_2d_inv_a = [
+            [mesh_2d_a[1][1] / det, -mesh_2d_a[1][0] / det],
+            [-mesh_2d_a[0][1] / det, mesh_2d_a[0][0] / det],
+        ];
+        let b = reciprocal([a1, a2, a3]);
+        let layer_spacing_a = math::dot(a3, normal);
+        let mut to_conventional = [[0i32; 3]; 3];
+        for (i, row) in to_conventional.iter_mut().enumerate() {
+            for (j, x) in row.iter_mut().enumerate() {
+                *x = math::round(math::dot(b[j], cell.vectors_a[i])) as i32;
+            }
+        }
+        Ok(Face {
+            cell: *cell,
+            miller: m,
+            a1_half: t1.half,
+            a2_half,
+            a3_half: t3.half,
+            vectors_a: [a1, a2, a3],
+            normal,
+            frame: [e1, e2],
+            mesh_2d_a,
+            recip_2d_inv_a,
+            recip_normal_inv_a: [math::dot(b[0], normal), math::dot(b[1], normal)],
+            layer_spacing_a,
+            to_conventional,
+        })
+    }
+
+    /// |a1|, Å.
+    pub fn a1_len_a(&self) -> f32 {
+        self.mesh_2d_a[0][0]
+    }
+
+    /// |a2|, Å.
+    pub fn a2_len_a(&self) -> f32 {
+        let a = self.mesh_2d_a[1];
+        math::sqrt(a[0] * a[0] + a[1] * a[1])
+    }
+
+    /// Angle γ between a1 and a2, degrees.
+    pub fn gamma_deg(&self) -> f32 {
+        let a = self.mesh_2d_a[1];
+        math::deg(math::atan2(a[1], a[0]))
+    }
+
+    /// Mesh area |a1 × a2|, Å².
+    pub fn area_a2(&self) -> f32 {
+        self.mesh_2d_a[0][0] * self.mesh_2d_a[1][1]
+    }
+
+    /// Which of the five 2D Bravais meshes this is (relative tolerance 1e-4).
+    pub fn mesh_kind(&self) -> MeshKind {
+        let l1 = self.a1_len_a();
+        let l2 = self.a2_len_a();
+        let cos_g = self.mesh_2d_a[1][0] / l2;
+        let tol = 1e-4;
+        let eq = (l1 - l2).abs() <= tol * l1;
+        let right = cos_g.abs() <= tol;
+        if eq && right {
+            MeshKind::Square
+        } else if eq && (cos_g.abs() - 0.5).abs() <= tol {
+            MeshKind::Hexagonal
+        } else if right {
+            MeshKind::Rectangular
+        } else if eq || (l1 - 2.0 * l2 * cos_g.abs()).abs() <= tol * l1 {
+            MeshKind::CentredRectangular
+        } else {
+            MeshKind::Oblique
+        }
+    }
+
+    /// Rod vector g(h, k) in the surface frame at azimuth 0, 1/Å.
+    pub fn rod_inv_a(&self, rod: [i32; 2]) -> [f32; 2] {
+        let (h, k) = (rod[0] as f32, rod[1] as f32);
+        let b = &self.recip_2d_inv_a;
+        [h * b[0][0] + k * b[1][0], h * b[0][1] + k * b[1][1]]
+    }
+
+    /// Row spacing 1/|g(h, k)|, Å; `None` for (0, 0).
+    pub fn row_spacing_a(&self, rod: [i32; 2]) -> Option<f32> {
+        let g = self.rod_inv_a(rod);
+        let n = math::sqrt(g[0] * g[0] + g[1] * g[1]);
+        if n > 0.0 {
+            Some(1.0 / n)
+        } else {
+            None
+        }
+    }
+
+    /// Rod vector turned by the incidence's azimuth, in the surface frame, 1/Å.
+    fn rod_turned(&self, rod: [i32; 2], inc: &Incidence) -> [f32; 2] {
+        let g = self.rod_inv_a(rod);
+        [
+            g[0] * inc.cos_az - g[1] * inc.sin_az,
+            g[0] * inc.sin_az + g[1] * inc.cos_az,
+        ]
+    }
+
+    /// The beam on rod (h, k) at `inc`, or `Evanescent`.
+    ///
+    /// ```
+    /// use matterwave_core::lattice::{Cell, Structure};
+    /// use matterwave_core::surface::{Face, Incidence};
+    /// let f = Face::new(&Cell::new(Structure::Fcc, 3.524, 0.0, 0.0).unwrap(), [1, 0, 0]).unwrap();
+    /// let b = f.beam([1, 0], &Incidence::normal(100.0).unwrap()).unwrap();
+    /// // Normal incidence: sin θ = λ/d_row, d_row = |a1| = a/√2 for a square mesh.
+    /// let lambda = matterwave_core::beam::wavelength_a(100.0).unwrap();
+    /// let d = 3.524 / 2f32.sqrt();
+    /// assert!((b.exit_deg - (lambda / d).asin().to_degrees()).abs() < 1e-3);
+    /// ```
+    pub fn beam(&self, rod: [i32; 2], inc: &Incidence) -> Result<SurfaceBeam> {
+        if rod[0].abs() > 4096 || rod[1].abs() > 4096 {
+            return Err(Error::IndicesTooLarge);
+        }
+        let g = self.rod_turned(rod, inc);
+        self.beam_from(rod, g, inc).ok_or(Error::Evanescent)
+    }
+
+    fn beam_from(&self, rod: [i32; 2], g: [f32; 2], inc: &Incidence) -> Option<SurfaceBeam> {
+        let u = inc.k_inv_a;
+        let kin = inc.sin_tilt * u;
+        let kx = kin + g[0];
+        let ky = g[1];
+        let q = kx * kx + ky * ky;
+        if q > u * u {
+            return None;
+        }
+        let g2 = g[0] * g[0] + g[1] * g[1];
+        let k_par = math::sqrt(q);
+        Some(SurfaceBeam {
+            rod,
+            g_inv_a: math::sqrt(g2),
+            k_par_inv_a: [kx, ky],
+            exit_deg: math::deg(math::asin_clamped(k_par / u)),
+            exit_azimuth_deg: if q > 0.0 {
+                math::deg(math::atan2(ky, kx))
+            } else {
+                0.0
+            },
+            emergence_ev: emergence_from(g, g2, inc.sin_tilt),
+        })
+    }
+
+    /// The outside energy (eV) at which rod (h, k) emerges at this tilt and azimuth
+    /// (|k∥,in + g| = 1/λ); `None` for (0, 0). The energy of `inc` is not used.
+    pub fn emergence_ev(&self, rod: [i32; 2], inc: &Incidence) -> Option<f32> {
+        let g = self.rod_turned(rod, inc);
+        emergence_from(g, g[0] * g[0] + g[1] * g[1], inc.sin_tilt)
+    }
+
+    /// Iterator over every beam at `inc`, in rod-index order (no buffer needed).
+    pub fn beams_iter(&self, inc: &Incidence) -> BeamIter<'_> {
+        let reach = inc.k_inv_a * (1.0 + inc.sin_tilt.abs());
+        let bound = |len: f32| ((reach * len) as i32).min(4096);
+        let hmax = bound(self.a1_len_a());
+        let kmax = bound(self.a2_len_a());
+        BeamIter {
+            face: self,
+            inc: *inc,
+            hmax,
+            kmax,
+            h: -hmax,
+            k: -kmax,
+        }
+    }
+
+    /// Every beam at `inc`, sorted by |g| (specular first; equal |g| by rod indices,
+    /// descending), into `out`. When `out` is short, the smallest |g| are kept.
+    ///
+    /// ```
+    /// use matterwave_core::lattice::{Cell, Structure};
+    /// use matterwave_core::surface::{Face, Incidence, SurfaceBeam};
+    /// let f = Face::new(&Cell::new(Structure::Fcc, 3.615, 0.0, 0.0).unwrap(), [1, 1, 1]).unwrap();
+    /// let mut out = [SurfaceBeam::EMPTY; 32];
+    /// let list = f.beams(&Incidence::normal(200.0).unwrap(), &mut out).unwrap();
+    /// assert_eq!(list.stored, 19); // specular + three rings of six
+    /// ```
+    pub fn beams(&self, inc: &Incidence, out: &mut [SurfaceBeam]) -> Result<Listing> {
+        if out.is_empty() {
+            return Err(Error::EmptyBuffer);
+        }
+        let mut stored = 0usize;
+        let mut truncated = false;
+        for b in self.beams_iter(inc) {
+            let mut pos = stored;
+            while pos > 0 && beam_before(&b, &out[pos - 1]) {
+                pos -= 1;
+            }
+            if pos == out.len() {
+                truncated = true;
+                continue;
+            }
+            let end = if stored == out.len() {
+                truncated = true;
+                out.len() - 1
+            } else {
+                stored += 1;
+                stored - 1
+            };
+            let mut i = end;
+            while i > pos {
+                out[i] = out[i - 1];
+                i -= 1;
+            }
+            out[pos] = b;
+        }
+        Ok(Listing { stored, truncated })
+    }
+
+    /// Kinematic I-V peak energies (outside, eV) on rod (h, k) between `from_ev` and
+    /// `to_ev` at tilt/azimuth of `inc` with inner potential `v0_ev`, in increasing
+    /// energy, into `out`.
+    ///
+    /// Inside, K = 1/λ(E + V0) and K⊥ = √(K² − k∥²) for the incoming and the outgoing
+    /// beam; a peak sits where K⊥,in + K⊥,out = G·n̂ for an allowed bulk G on this rod.
+    /// Only energies where the beam exists outside are reported. Normal incidence uses
+    /// the closed form; oblique incidence bisects (the sum grows monotonically with E
+    /// wherever the beam exists).
+    ///
+    /// ```
+    /// use matterwave_core::lattice::{Cell, Structure};
+    /// use matterwave_core::surface::{Face, Incidence, IvPeak};
+    /// let a = 3.524;
+    /// let f = Face::new(&Cell::new(Structure::Fcc, a, 0.0, 0.0).unwrap(), [1, 0, 0]).unwrap();
+    /// let mut out = [IvPeak::EMPTY; 8];
+    /// let inc = Incidence::normal(100.0).unwrap();
+    /// let n = f.iv_peaks([0, 0], &inc, 0.0, 20.0, 400.0, &mut out).unwrap().stored;
+    /// // Specular fcc(100): λ = 2d/n with d = a/2, i.e. λ = a/n.
+    /// let e1 = matterwave_core::beam::energy_from_wavelength_ev(a / 2.0).unwrap();
+    /// assert!(out[..n].iter().any(|p| (p.energy_ev - e1).abs() < 1e-3));
+    /// ```
+    pub fn iv_peaks(
+        &self,
+        rod: [i32; 2],
+        inc: &Incidence,
+        v0_ev: f32,
+        from_ev: f32,
+        to_ev: f32,
+        out: &mut [IvPeak],
+    ) -> Result<Listing> {
+        let v0 = beam::check_inner_potential(v0_ev)?;
+        let lo_in = beam::check_energy(from_ev)?;
+        let hi = beam::check_energy(to_ev)?;
+        if lo_in >= hi {
+            return Err(Error::EmptyRange);
+        }
+        if out.is_empty() {
+            return Err(Error::EmptyBuffer);
+        }
+        if rod[0].abs() > 4096 || rod[1].abs() > 4096 {
+            return Err(Error::IndicesTooLarge);
+        }
+        let g = self.rod_turned(rod, inc);
+        let g2 = g[0] * g[0] + g[1] * g[1];
+        let s = inc.sin_tilt;
+        // The beam must exist outside: start at its emergence energy.
+        let lo = match emergence_from(g, g2, s) {
+            Some(e) if e > lo_in => e,
+            _ => lo_in,
+        };
+        if lo >= hi {
+            return Ok(Listing {
+                stored: 0,
+                truncated: false,
+            });
+        }
+        let sum_lo = perp_sum(g, s, v0, lo);
+        let sum_hi = perp_sum(g, s, v0, hi);
+        let inv_d = 1.0 / self.layer_spacing_a;
+        let off =
+            rod[0] as f32 * self.recip_normal_inv_a[0] + rod[1] as f32 * self.recip_normal_inv_a[1];
+        let m_lo = math::floor((sum_lo - off) / inv_d) as i32 - 1;
+        let m_hi = math::floor((sum_hi - off) / inv_d) as i32 + 1;
+        let mut stored = 0usize;
+        let mut truncated = false;
+        let mut m = m_lo;
+        while m <= m_hi {
+            let gp = off + m as f32 * inv_d;
+            let hkl = self.conventional([rod[0], rod[1], m]);
+            m += 1;
+            if gp <= 0.0 || !self.cell.allowed(hkl) {
+                continue;
+            }
+            let e = if s == 0.0 {
+                // Closed form: K² = q + ((G² − q)/2G)² with q = |g|².
+                let x = (gp * gp - g2) / (2.0 * gp);
+                if x < 0.0 {
+                    continue;
+                }
+                beam::energy_from_wavenumber_ev(math::sqrt(g2 + x * x)) - v0
+            } else {
+                if gp < sum_lo || gp > sum_hi {
+                    continue;
+                }
+                bisect_energy(g, s, v0, gp, lo, hi)
+            };
+            if !(e >= lo && e <= hi) {
+                continue;
+            }
+            if stored == out.len() {
+                truncated = true;
+                break;
+            }
+            out[stored] = IvPeak {
+                energy_ev: e,
+                order: m - 1,
+                g_hkl: hkl,
+                g_perp_inv_a: gp,
+            };
+            stored += 1;
+        }
+        Ok(Listing { stored, truncated })
+    }
+
+    /// Conventional (H K L) of the bulk vector with rod (h, k) and layer index m.
+    pub fn conventional(&self, hkm: [i32; 3]) -> [i32; 3] {
+        let c = &self.to_conventional;
+        let mut r = [0i32; 3];
+        for (i, ri) in r.iter_mut().enumerate() {
+            *ri = c[i][0] * hkm[0] + c[i][1] * hkm[1] + c[i][2] * hkm[2];
+        }
+        r
+    }
+}
+
+/// K⊥,in + K⊥,out (1/Å) at outside energy `e` for rod vector `g`, sin(tilt) `s` and V0.
+/// Returns −1 where the outgoing beam is evanescent inside.
+fn perp_sum(g: [f32; 2], s: f32, v0: f32, e: f32) -> f32 {
+    let u = beam::wavenumber_unchecked_inv_a(e);
+    let k = beam::wavenumber_unchecked_inv_a(e + v0);
+    let k2 = k * k;
+    let kin = s * u;
+    let kx = kin + g[0];
+    let q_out = kx * kx + g[1] * g[1];
+    let a = k2 - kin * kin;
+    let b = k2 - q_out;
+    if a < 0.0 || b < 0.0 {
+        return -1.0;
+    }
+    math::sqrt(a) + math::sqrt(b)
+}
+
+fn bisect_energy(g: [f32; 2], s: f32, v0: f32, target: f32, lo: f32, hi: f32) -> f32 {
+    let (mut a, mut b) = (lo, hi);
+    for _ in 0..64 {
+        let mid = 0.5 * (a + b);
+        if mid <= a || mid >= b {
+            break;
+        }
+        if perp_sum(g, s, v0, mid) < target {
+            a = mid;
+        } else {
+            b = mid;
+        }
+    }
+    0.5 * (a + b)
+}
+
+/// Emergence energy for turned rod vector `g` (|g|² = `g2`) at sin(tilt) `s`.
+///
+/// |s·u·e1 + g| = u has the positive root u = (s·g1 + √(s²g1² + c²|g|²)) / c²; the
+/// algebraically equal form |g|² / (√(…) − s·g1) avoids cancellation when s·g1 < 0.
+fn emergence_from(g: [f32; 2], g2: f32, s: f32) -> Option<f32> {
+    if g2 <= 0.0 {
+        return None;
+    }
+    let c2 = 1.0 - s * s;
+    let sg = s * g[0];
+    let root = math::sqrt(sg * sg + c2 * g2);
+    let u = if sg >= 0.0 {
+        (sg + root) / c2
+    } else {
+        g2 / (root - sg)
+    };
+    Some(beam::energy_from_wavenumber_ev(u))
+}
+
+fn beam_before(a: &SurfaceBeam, b: &SurfaceBeam) -> bool {
+    let tol = 1e-5 * a.g_inv_a.max(b.g_inv_a);
+    if a.g_inv_a < b.g_inv_a - tol {
+        true
+    } else if a.g_inv_a > b.g_inv_a + tol {
+        false
+    } else {
+        a.rod > b.rod
+    }
+}
+
+/// Iterator over the beams of a face at one incidence (see [`Face::beams_iter`]).
+#[derive(Clone, Debug)]
+pub struct BeamIter<'a> {
+    face: &'a Face,
+    inc: Incidence,
+    hmax: i32,
+    kmax: i32,
+    h: i32,
+    k: i32,
+}
+
+impl Iterator for BeamIter<'_> {
+    type Item = SurfaceBeam;
+
+    fn next(&mut self) -> Option<SurfaceBeam> {
+        while self.h <= self.hmax {
+            let rod = [self.h, self.k];
+            if self.k < self.kmax {
+                self.k += 1;
+            } else {
+                self.k = -self.kmax;
+                self.h += 1;
+            }
+            let g = self.face.rod_turned(rod, &self.inc);
+            if let Some(b) = self.face.beam_from(rod, g, &self.inc) {
+                return Some(b);
+            }
+        }
+        None
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::lattice::Structure;
+
+    fn face(s: Structure, a: f32, c: f32, m: Miller) -> Face {
+        Face::new(&Cell::new(s, a, a, c).unwrap(), m).unwrap()
+    }
+
+    fn close(a: f32, b: f32) -> bool {
+        (a - b).abs() <= 1e-5 * b.abs().max(1.0)
+    }
+
+    #[test]
+    fn meshes_of_design_section_6() {
+        // Bulk-terminated meshes (common practice, no source; DESIGN §6).
+        let a = 3.6;
+        let r2 = 2f32.sqrt();
+        let f = face(Structure::Fcc, a, a, [1, 0, 0]);
+        assert_eq!(f.mesh_kind(), MeshKind::Square);
+        assert!(close(f.a1_len_a(), a / r2));
+        let f = face(Structure::Fcc, a, a, [1, 1, 1]);
+        assert_eq!(f.mesh_kind(), MeshKind::Hexagonal);
+        assert!(close(f.a1_len_a(), a / r2));
+        let f = face(Structure::Fcc, a, a, [1, 1, 0]);
+        assert_eq!(f.mesh_kind(), MeshKind::Rectangular);
+        assert!(close(f.a1_len_a(), a / r2) && close(f.a2_len_a(), a));
+        let f = face(Structure::Bcc, a, a, [1, 0, 0]);
+        assert_eq!(f.mesh_kind(), MeshKind::Square);
+        assert!(close(f.a1_len_a(), a));
+        let f = face(Structure::Bcc, a, a, [1, 1, 0]);
+        assert_eq!(f.mesh_kind(), MeshKind::CentredRectangular);
+        assert!(close(f.a1_len_a(), a * 3f32.sqrt() / 2.0));
+        let f = face(Structure::Bcc, a, a, [1, 1, 1]);
+        assert_eq!(f.mesh_kind(), MeshKind::Hexagonal);
+        assert!(close(f.a1_len_a(), a * r2));
+        let f = face(Structure::Hcp, 2.5, 4.07, [0, 0, 1]);
+        assert_eq!(f.mesh_kind(), MeshKind::Hexagonal);
+        assert!(close(f.a1_len_a(), 2.5));
+        assert!(close(f.layer_spacing_a, 4.07));
+        let f = face(Structure::Diamond, 5.431, 5.431, [1, 1, 1]);
+        assert_eq!(f.mesh_kind(), MeshKind::Hexagonal);
+        assert!(close(f.a1_len_a(), 5.431 / r2));
+    }
+
+    #[test]
+    fn frame_is_right_handed_and_reciprocal() {
+        let f = face(Structure::Fcc, 3.52, 3.52, [3, 1, 2]);
+        assert!(math::dot(math::cross(f.vectors_a[0], f.vectors_a[1]), f.normal) > 0.0);
+        for i in 0..2 {
+            for j in 0..2 {
+                let a = f.mesh_2d_a[i];
+                let b = f.recip_2d_inv_a[j];
+                let d = a[0] * b[0] + a[1] * b[1];
+                assert!((d - if i == j { 1.0 } else { 0.0 }).abs() < 1e-5);
+            }
+        }
+        // The conventional matrix maps (h, k, m) to a G whose rod is (h, k).
+        let hkl = f.conventional([1, -2, 3]);
+        let gv = f.cell.g_vector(hkl);
+        assert!((math::dot(gv, f.vectors_a[0]) - 1.0).abs() < 1e-4);
+        assert!((math::dot(gv, f.vectors_a[1]) + 2.0).abs() < 1e-4);
+        assert!((math::dot(gv, f.vectors_a[2]) - 3.0).abs() < 1e-4);
+    }
+
+    #[test]
+    fn oblique_emergence_is_tangent() {
+        let f = face(Structure::Fcc, 3.52, 3.52, [1, 1, 0]);
+        for tilt in [-60.0f32, -20.0, 0.0, 35.0, 70.0] {
+            let inc = Incidence::new(50.0, tilt, 17.0).unwrap();
+            for rod in [[1, 0], [-1, 0], [0, 1], [1, -1], [-2, 1]] {
+                let e = f.emergence_ev(rod, &inc).unwrap();
+                if !(1.5..3.0e5).contains(&e) {
+                    continue;
+                }
+                let above = Incidence::new(e * 1.001, tilt, 17.0).unwrap();
+                let below = Incidence::new(e * 0.999, tilt, 17.0).unwrap();
+                assert!(f.beam(rod, &above).is_ok(), "{tilt} {rod:?}");
+                assert_eq!(f.beam(rod, &below), Err(Error::Evanescent));
+            }
+        }
+    }
+
+    #[test]
+    fn iv_closed_form_matches_bisection() {
+        let f = face(Structure::Fcc, 3.52, 3.52, [1, 1, 1]);
+        let mut a = [IvPeak::EMPTY; 16];
+        let mut b = [IvPeak::EMPTY; 16];
+        let inc0 = Incidence::new(100.0, 0.0, 0.0).unwrap();
+        let inc1 = Incidence::new(100.0, 1e-4, 0.0).unwrap();
+        let na = f
+            .iv_peaks([1, 0], &inc0, 10.0, 20.0, 600.0, &mut a)
+            .unwrap()
+            .stored;
+        let nb = f
+            .iv_peaks([1, 0], &inc1, 10.0, 20.0, 600.0, &mut b)
+            .unwrap()
+            .stored;
+        assert!(na > 2);
+        assert_eq!(na, nb);
+        for i in 0..na {
+            assert!(
+                (a[i].energy_ev - b[i].energy_ev).abs() < 0.01,
+                "{:?} {:?}",
+                a[i],
+                b[i]
+            );
+        }
+    }
+}
