@@ -1,7 +1,14 @@
 //! matterwave-console: the bench side of matterwave.
 //!
 //! A library with a thin CLI (`mwctl`): crystal-table parsing, the independent f64
-//! oracle, output formatting and the command implementations.
+//! oracle, output formats and the command implementations. Every computation goes
+//! through `matterwave-core`, the same f32 code the controller runs; only [`oracle`] is
+//! a separate, double-precision formulation used to check it.
 
+pub mod calc;
+pub mod cli;
+pub mod demo;
+pub mod error;
 pub mod oracle;
+pub mod output;
 pub mod tables;

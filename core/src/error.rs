@@ -69,6 +69,8 @@ pub enum Error {
     KineticEnergyTooLow,
     /// Miller indices (0,0,0) name no plane.
     ZeroIndices,
+    /// Text that is not three (or, for hexagonal crystals, four) integer indices.
+    BadIndexText,
     /// Indices too large for the fixed tables and search boxes (|index| > 12).
     IndicesTooLarge,
     /// Four-index hexagonal indices with i ≠ −(h+k).
@@ -103,6 +105,7 @@ impl Error {
             Error::KineticEnergyTooLow => 104,
             Error::ZeroIndices => 110,
             Error::IndicesTooLarge => 111,
+            Error::BadIndexText => 116,
             Error::BadHexIndices => 112,
             Error::HexIndicesOnNonHexagonal => 113,
             Error::BadLattice => 114,
@@ -143,6 +146,7 @@ impl Error {
                 "kinetic energy at the sample below 1 eV after work-function and offset corrections; raise the gun energy"
             }
             Error::ZeroIndices => "indices (0,0,0) name no plane",
+            Error::BadIndexText => "indices must be three integers (four, h k i l, for hexagonal crystals)",
             Error::IndicesTooLarge => "indices beyond ±12 are not supported",
             Error::BadHexIndices => "four-index (hkil) needs i = -(h+k)",
             Error::HexIndicesOnNonHexagonal => "four-index indices only apply to hexagonal crystals",

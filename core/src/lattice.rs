@@ -345,7 +345,7 @@ pub const MAX_INDEX: i32 = 12;
 /// (one digit per index, a `-` before an index makes it negative). Four indices
 /// (`0001`, `1,0,-1,0`, `10-10`) are hexagonal (h k i l) and need i = −(h+k) and
 /// `hexagonal = true`. Returns `ZeroIndices`, `IndicesTooLarge`, `BadHexIndices`,
-/// `HexIndicesOnNonHexagonal`, or `NotFinite(Index)` for text that is not indices.
+/// `HexIndicesOnNonHexagonal`, or `BadIndexText` for text that is not indices.
 ///
 /// ```
 /// use matterwave_core::lattice::parse_miller;
@@ -354,7 +354,7 @@ pub const MAX_INDEX: i32 = 12;
 /// assert_eq!(parse_miller("2,0,0", false), Ok([2, 0, 0]));
 /// ```
 pub fn parse_miller(text: &str, hexagonal: bool) -> Result<Miller> {
-    let bad = Error::NotFinite(crate::error::Quantity::Index);
+    let bad = Error::BadIndexText;
     let t = text.trim();
     let t = t.strip_prefix('(').unwrap_or(t);
     let t = t.strip_suffix(')').unwrap_or(t);

@@ -1,0 +1,632 @@
+//! `mwctl calc …` and `mwctl crystals`: offline calculations with the core's f32 code,
+//! the same code the controller runs.
+
+use crate::error::{CliError, CliResult, Context};
+use crate::output::{col, List, Report, Value};
+use matterwave_core::beam::{self, Beam, Gun};
+use matterwave_core::lattice::{parse_miller, Cell, Miller, System};
+use matterwave_core::reflections::{self, Reflection};
+use matterwave_core::surface::{Face, Incidence, IvPeak, SurfaceBeam};
+use matterwave_core::table::{self, Crystal};
+
+/// Gun energy and its corrections, as given on the command line.
+#[derive(Clone, Copy, Debug, clap::Args)]
+pub struct GunArgs {
+    /// Nominal beam energy e·V_acc, eV (1 to 300000).
+    #[arg(long, value_name = "EV")]
+    pub energy: f32,
+    /// Cathode work function, eV (adds to the energy at the sample; 0 = no correction).
+    #[arg(long, value_name = "EV", default_value_t = 0.0)]
+    pub cathode_work_function: f32,
+    /// Sample work function, eV (subtracts from the energy at the sample; 0 = none).
+    #[arg(long, value_name = "EV", default_value_t = 0.0)]
+    pub sample_work_function: f32,
+    /// Fitted gun energy offset, eV (added to the energy at the sample).
+    #[arg(long, value_name = "EV", default_value_t = 0.0)]
+    pub energy_offset: f32,
+}
+
+impl GunArgs {
+    /// The core's gun settings.
+    pub fn gun(&self) -> Gun {
+        Gun {
+            nominal_ev: self.energy,
+            cathode_work_function_ev: self.cathode_work_function,
+            sample_work_function_ev: self.sample_work_function,
+            offset_ev: self.energy_offset,
+        }
+    }
+
+    /// Kinetic energy at the sample, eV.
+    pub fn kinetic_ev(&self) -> CliResult<f32> {
+        self.gun()
+            .kinetic_energy_ev()
+            .ctx(format_args!("--energy {}", self.energy))
+    }
+
+    /// The correction added to a nominal energy to get the kinetic energy, eV.
+    pub fn correction_ev(&self) -> f32 {
+        self.cathode_work_function - self.sample_work_function + self.energy_offset
+    }
+
+    fn fields(&self, r: &mut Report, kinetic: f32) {
+        r.field(
+            "nominal_ev",
+            "nominal energy (eV)",
+            Value::F32(self.energy, 3),
+        );
+        if self.correction_ev() != 0.0 {
+            r.field(
+                "cathode_work_function_ev",
+                "cathode work function (eV)",
+                Value::F32(self.cathode_work_function, 3),
+            );
+            r.field(
+                "sample_work_function_ev",
+                "sample work function (eV)",
+                Value::F32(self.sample_work_function, 3),
+            );
+            r.field(
+                "energy_offset_ev",
+                "energy offset (eV)",
+                Value::F32(self.energy_offset, 3),
+            );
+        }
+        r.field("energy_ev", "energy at sample (eV)", Value::F32(kinetic, 3));
+    }
+}
+
+/// Looks up a crystal by id, with a helpful list when unknown.
+pub fn crystal(id: &str) -> CliResult<&'static Crystal> {
+    let key = id.trim().to_ascii_lowercase();
+    table::find(&key).map_err(|e| {
+        let ids: Vec<&str> = table::all().iter().map(|c| c.id).collect();
+        CliError {
+            code: Some(e.code()),
+            message: format!("unknown crystal '{id}'; known ids: {}", ids.join(", ")),
+        }
+    })
+}
+
+fn cell_of(c: &Crystal) -> CliResult<Cell> {
+    c.cell().ctx(format_args!("crystal {}", c.id))
+}
+
+/// Parses a face for a crystal (three or four indices; four only for hexagonal).
+pub fn face_of(c: &Crystal, text: &str) -> CliResult<(Cell, Face)> {
+    let cell = cell_of(c)?;
+    let hex = cell.structure.system() == System::Hexagonal;
+    let m = parse_miller(text, hex).map_err(|e| CliError {
+        code: Some(e.code()),
+        message: format!(
+            "--face '{text}': {}; write e.g. 111, 1-10, 1,1,0 or (1 -1 0){}",
+            e.message(),
+            if hex {
+                "; four-index 0001 or 10-10"
+            } else {
+                ""
+            }
+        ),
+    })?;
+    let face = Face::new(&cell, m).ctx(format_args!("--face {text}"))?;
+    Ok((cell, face))
+}
+
+/// Parses a rod `H,K` (also `H K` or compact `1-1`).
+pub fn parse_rod(text: &str) -> CliResult<[i32; 2]> {
+    let bad = || {
+        CliError::new(format!(
+            "--beam '{text}': give two integers H,K such as 1,0 or -1,1 (compact 10 or -11 also works)"
+        ))
+    };
+    let t = text.trim().trim_start_matches('(').trim_end_matches(')');
+    let parts: Vec<&str> = t.split([',', ' ']).filter(|p| !p.is_empty()).collect();
+    let vals: Vec<i32> = if parts.len() == 2 {
+        parts
+            .iter()
+            .map(|p| p.parse::<i32>().map_err(|_| bad()))
+            .collect::<CliResult<_>>()?
+    } else if parts.len() == 1 {
+        let mut v = Vec::new();
+        let mut neg = false;
+        for ch in t.chars() {
+            match ch {
+                '-' if !neg => neg = true,
+                '0'..='9' => {
+                    let d = ch as i32 - '0' as i32;
+                    v.push(if neg { -d } else { d });
+                    neg = false;
+                }
+                _ => return Err(bad()),
+            }
+        }
+        if neg {
+            return Err(bad());
+        }
+        v
+    } else {
+        return Err(bad());
+    };
+    if vals.len() != 2 {
+        return Err(bad());
+    }
+    if vals.iter().any(|v| v.abs() > 99) {
+        return Err(CliError::new(format!(
+            "--beam '{text}': indices beyond ±99 are not supported"
+        )));
+    }
+    Ok([vals[0], vals[1]])
+}
+
+fn miller_text(m: Miller, hex: bool) -> String {
+    if hex {
+        format!("({} {} {} {})", m[0], m[1], -(m[0] + m[1]), m[2])
+    } else {
+        format!("({} {} {})", m[0], m[1], m[2])
+    }
+}
+
+/// `mwctl crystals`.
+pub fn crystals() -> CliResult<Report> {
+    let rows = crate::tables::load().map_err(|e| CliError::new(e.to_string()))?;
+    let mut list = List {
+        key: "crystals",
+        columns: vec![
+            col("id", "id"),
+            col("name", "name"),
+            col("structure", "structure"),
+            col("a_a", "a (Å)"),
+            col("b_a", "b (Å)"),
+            col("c_a", "c (Å)"),
+            col("temperature_k", "T (K)"),
+            col("work_function_ev", "φ (eV)"),
+            col("inner_potential_ev", "V0 (eV)"),
+            col("faces", "faces"),
+            col("source", "lattice source"),
+        ],
+        rows: Vec::new(),
+    };
+    for c in table::all() {
+        let hex = c.structure.system() == System::Hexagonal;
+        let faces: Vec<String> = c
+            .faces
+            .iter()
+            .map(|f| miller_text(f.miller, hex).replace(' ', ""))
+            .collect();
+        let src = rows
+            .iter()
+            .find(|r| r.id == c.id)
+            .map(|r| r.lattice_source.clone())
+            .unwrap_or_default();
+        let sys = c.structure.system();
+        list.rows.push(vec![
+            Value::Text(c.id.into()),
+            Value::Text(c.name.into()),
+            Value::Text(c.structure.name().into()),
+            Value::F32(c.a_a, 4),
+            if sys == System::Orthorhombic {
+                Value::F32(c.b_a, 4)
+            } else {
+                Value::Missing
+            },
+            if sys == System::Cubic {
+                Value::Missing
+            } else {
+                Value::F32(c.c_a, 4)
+            },
+            Value::F32(c.temperature_k, 0),
+            Value::opt(c.work_function_ev, 2),
+            Value::opt(c.inner_potential_ev, 1),
+            Value::Text(faces.join(" ")),
+            Value::Text(src),
+        ]);
+    }
+    Ok(Report {
+        list: Some(list),
+        ..Report::default()
+    })
+}
+
+/// `mwctl calc wavelength`.
+pub fn wavelength(g: &GunArgs, inner_potential: Option<f32>) -> CliResult<Report> {
+    let e = g.kinetic_ev()?;
+    let b = Beam::new(e).ctx("energy at the sample")?;
+    let mut r = Report::default();
+    g.fields(&mut r, e);
+    r.field(
+        "wavelength_a",
+        "wavelength (Å)",
+        Value::F32(b.wavelength_a, 6),
+    );
+    r.field(
+        "wavelength_nonrel_a",
+        "non-relativistic wavelength (Å)",
+        Value::F32(b.wavelength_nonrel_a, 6),
+    );
+    r.field(
+        "wavenumber_inv_a",
+        "1/λ (1/Å)",
+        Value::F32(b.wavenumber_inv_a, 6),
+    );
+    r.field("momentum_ev", "p·c (eV)", Value::F32(b.momentum_ev, 1));
+    r.field("beta", "v/c", Value::F32(b.beta, 6));
+    r.field(
+        "velocity_m_s",
+        "velocity (m/s)",
+        Value::F32(b.velocity_m_s, 0),
+    );
+    match inner_potential {
+        Some(v0) => {
+            let li = beam::inner_wavelength_a(e, v0).ctx(format_args!("--inner-potential {v0}"))?;
+            r.field(
+                "inner_potential_ev",
+                "inner potential (eV)",
+                Value::F32(v0, 2),
+            );
+            r.field(
+                "inner_wavelength_a",
+                "wavelength inside (Å)",
+                Value::F32(li, 6),
+            );
+        }
+        None => {
+            r.field("inner_potential_ev", "inner potential (eV)", Value::Missing);
+            r.field(
+                "inner_wavelength_a",
+                "wavelength inside (Å)",
+                Value::Missing,
+            );
+        }
+    }
+    Ok(r)
+}
+
+fn check_max(max: usize) -> CliResult<usize> {
+    if max == 0 || max > 10_000 {
+        Err(CliError::new(format!("--max {max}: give 1 to 10000")))
+    } else {
+        Ok(max)
+    }
+}
+
+fn family_list(cell: &Cell, d_min: f32, max: usize) -> CliResult<(Vec<Reflection>, bool)> {
+    let mut buf = vec![Reflection::EMPTY; check_max(max)?];
+    let l = reflections::families(cell, d_min, &mut buf).ctx("reflection search")?;
+    buf.truncate(l.stored);
+    Ok((buf, l.truncated))
+}
+
+/// `mwctl calc reflections`.
+pub fn reflections(id: &str, g: &GunArgs, max: usize) -> CliResult<Report> {
+    let c = crystal(id)?;
+    let cell = cell_of(c)?;
+    let e = g.kinetic_ev()?;
+    let lambda = beam::wavelength_a(e).ctx("energy at the sample")?;
+    let (fams, truncated) = family_list(&cell, lambda / 2.0, max)?;
+    let mut r = Report::default();
+    r.field("crystal", "crystal", Value::Text(c.id.into()));
+    g.fields(&mut r, e);
+    r.field("wavelength_a", "wavelength (Å)", Value::F32(lambda, 6));
+    let mut list = List {
+        key: "reflections",
+        columns: vec![
+            col("h", "h"),
+            col("k", "k"),
+            col("l", "l"),
+            col("d_a", "d (Å)"),
+            col("bragg_deg", "θB (deg)"),
+            col("two_theta_deg", "2θB (deg)"),
+            col("multiplicity", "mult"),
+        ],
+        rows: Vec::new(),
+    };
+    for f in &fams {
+        let th = reflections::bragg_deg(f.d_a, lambda, 1).ctx("Bragg angle")?;
+        list.rows.push(vec![
+            Value::Int(f.hkl[0].into()),
+            Value::Int(f.hkl[1].into()),
+            Value::Int(f.hkl[2].into()),
+            Value::F32(f.d_a, 5),
+            Value::F32(th, 4),
+            Value::F32(2.0 * th, 4),
+            Value::Int(f.multiplicity.into()),
+        ]);
+    }
+    r.field(
+        "truncated",
+        "more beyond --max",
+        Value::Text(truncated.to_string()),
+    );
+    r.list = Some(list);
+    Ok(r)
+}
+
+/// `mwctl calc rings`.
+pub fn rings(id: &str, g: &GunArgs, screen_mm: f32, max: usize) -> CliResult<Report> {
+    let c = crystal(id)?;
+    let cell = cell_of(c)?;
+    let e = g.kinetic_ev()?;
+    let lambda = beam::wavelength_a(e).ctx("energy at the sample")?;
+    if !(screen_mm.is_finite() && screen_mm > 0.0 && screen_mm <= 1.0e5) {
+        return Err(CliError::new(format!(
+            "--screen-distance {screen_mm}: give a distance in mm, above 0 and at most 100000"
+        )));
+    }
+    // 2θ < 90° needs d > λ/√2.
+    let (fams, truncated) = family_list(&cell, lambda / core::f32::consts::SQRT_2, max)?;
+    let mut r = Report::default();
+    r.field("crystal", "crystal", Value::Text(c.id.into()));
+    g.fields(&mut r, e);
+    r.field("wavelength_a", "wavelength (Å)", Value::F32(lambda, 6));
+    r.field(
+        "screen_distance_mm",
+        "screen distance (mm)",
+        Value::F32(screen_mm, 1),
+    );
+    r.field(
+        "camera_constant_mm_a",
+        "camera constant λL (mm·Å)",
+        Value::F32(lambda * screen_mm, 4),
+    );
+    let mut list = List {
+        key: "rings",
+        columns: vec![
+            col("h", "h"),
+            col("k", "k"),
+            col("l", "l"),
+            col("d_a", "d (Å)"),
+            col("two_theta_deg", "2θB (deg)"),
+            col("radius_mm", "R (mm)"),
+            col("multiplicity", "mult"),
+        ],
+        rows: Vec::new(),
+    };
+    for f in &fams {
+        let Ok(ring) = reflections::ring(f.d_a, lambda, screen_mm) else {
+            continue;
+        };
+        list.rows.push(vec![
+            Value::Int(f.hkl[0].into()),
+            Value::Int(f.hkl[1].into()),
+            Value::Int(f.hkl[2].into()),
+            Value::F32(f.d_a, 5),
+            Value::F32(ring.two_theta_deg, 4),
+            Value::F32(ring.radius, 3),
+            Value::Int(f.multiplicity.into()),
+        ]);
+    }
+    r.field(
+        "truncated",
+        "more beyond --max",
+        Value::Text(truncated.to_string()),
+    );
+    r.list = Some(list);
+    Ok(r)
+}
+
+fn face_fields(r: &mut Report, c: &Crystal, face: &Face) {
+    let hex = c.structure.system() == System::Hexagonal;
+    r.field("crystal", "crystal", Value::Text(c.id.into()));
+    r.field("face", "face", Value::Text(miller_text(face.miller, hex)));
+    r.field(
+        "mesh",
+        "surface mesh",
+        Value::Text(face.mesh_kind().name().into()),
+    );
+    r.field("a1_a", "|a1| (Å)", Value::F32(face.a1_len_a(), 4));
+    r.field("a2_a", "|a2| (Å)", Value::F32(face.a2_len_a(), 4));
+    r.field(
+        "gamma_deg",
+        "mesh angle γ (deg)",
+        Value::F32(face.gamma_deg(), 3),
+    );
+    r.field(
+        "layer_spacing_a",
+        "layer spacing (Å)",
+        Value::F32(face.layer_spacing_a, 4),
+    );
+}
+
+fn check_angle(x: f32, name: &str, limit: f32) -> CliResult<f32> {
+    if x.is_finite() && x.abs() <= limit {
+        Ok(x)
+    } else {
+        Err(CliError::new(format!(
+            "--{name} {x}: give a finite angle in degrees within ±{limit}"
+        )))
+    }
+}
+
+/// `mwctl calc beams`.
+pub fn beams(
+    id: &str,
+    face_text: &str,
+    g: &GunArgs,
+    tilt: f32,
+    azimuth: f32,
+    max: usize,
+) -> CliResult<Report> {
+    let c = crystal(id)?;
+    let (_, face) = face_of(c, face_text)?;
+    let e = g.kinetic_ev()?;
+    let tilt = check_angle(tilt, "tilt", 89.9)?;
+    let azimuth = check_angle(azimuth, "azimuth", 360.0)?;
+    let inc = Incidence::new(e, tilt, azimuth).ctx("incidence")?;
+    let mut buf = vec![SurfaceBeam::EMPTY; check_max(max)?];
+    let l = face.beams(&inc, &mut buf).ctx("beam listing")?;
+    let mut r = Report::default();
+    face_fields(&mut r, c, &face);
+    g.fields(&mut r, e);
+    r.field(
+        "wavelength_a",
+        "wavelength (Å)",
+        Value::F32(1.0 / inc.k_inv_a, 6),
+    );
+    r.field("tilt_deg", "tilt (deg)", Value::F32(tilt, 3));
+    r.field("azimuth_deg", "azimuth (deg)", Value::F32(azimuth, 3));
+    let mut list = List {
+        key: "beams",
+        columns: vec![
+            col("h", "h"),
+            col("k", "k"),
+            col("row_spacing_a", "row spacing (Å)"),
+            col("exit_deg", "exit (deg)"),
+            col("exit_azimuth_deg", "exit azimuth (deg)"),
+            col("emergence_ev", "emerges at (eV)"),
+            col("emergence_nominal_ev", "emerges at nominal (eV)"),
+        ],
+        rows: Vec::new(),
+    };
+    for b in &buf[..l.stored] {
+        list.rows.push(vec![
+            Value::Int(b.rod[0].into()),
+            Value::Int(b.rod[1].into()),
+            Value::opt(b.row_spacing_a(), 4),
+            Value::F32(b.exit_deg, 3),
+            Value::F32(b.exit_azimuth_deg, 2),
+            Value::opt(b.emergence_ev, 2),
+            Value::opt(b.emergence_ev.map(|x| x - g.correction_ev()), 2),
+        ]);
+    }
+    r.field("count", "beams", Value::Int(l.stored as i64));
+    r.field(
+        "truncated",
+        "more beyond --max",
+        Value::Text(l.truncated.to_string()),
+    );
+    r.list = Some(list);
+    Ok(r)
+}
+
+/// Arguments of `mwctl calc ivpeaks` other than the crystal and face.
+#[derive(Clone, Copy, Debug)]
+pub struct IvArgs {
+    /// Rod (h, k).
+    pub rod: [i32; 2],
+    /// Nominal start energy, eV.
+    pub from: f32,
+    /// Nominal end energy, eV.
+    pub to: f32,
+    /// Tilt, degrees.
+    pub tilt: f32,
+    /// Azimuth, degrees.
+    pub azimuth: f32,
+    /// V0, eV; `None` = the table's value for the face.
+    pub inner_potential: Option<f32>,
+    /// Work functions and offset (energy field unused).
+    pub cathode_work_function: f32,
+    /// Sample work function, eV.
+    pub sample_work_function: f32,
+    /// Gun offset, eV.
+    pub energy_offset: f32,
+}
+
+/// `mwctl calc ivpeaks`.
+pub fn ivpeaks(id: &str, face_text: &str, a: &IvArgs, max: usize) -> CliResult<Report> {
+    let c = crystal(id)?;
+    let (_, face) = face_of(c, face_text)?;
+    let tilt = check_angle(a.tilt, "tilt", 89.9)?;
+    let azimuth = check_angle(a.azimuth, "azimuth", 360.0)?;
+    let v0 = match a
+        .inner_potential
+        .or_else(|| c.inner_potential_for(face.miller))
+    {
+        Some(v) => v,
+        None => {
+            return Err(CliError::new(format!(
+                "no inner potential in the table for {}; give --inner-potential EV",
+                c.id
+            )))
+        }
+    };
+    let corr = a.cathode_work_function - a.sample_work_function + a.energy_offset;
+    let gun = |nominal: f32, name: &str| {
+        beam::kinetic_energy_ev(
+            nominal,
+            a.cathode_work_function,
+            a.sample_work_function,
+            a.energy_offset,
+        )
+        .ctx(format_args!("--{name} {nominal}"))
+    };
+    let lo = gun(a.from, "from")?;
+    let hi = gun(a.to, "to")?;
+    if lo >= hi {
+        return Err(CliError::new(format!(
+            "--from {} --to {}: 'from' must be below 'to'",
+            a.from, a.to
+        )));
+    }
+    let inc = Incidence::new(lo, tilt, azimuth).ctx("incidence")?;
+    if let Some(e) = face.emergence_ev(a.rod, &inc) {
+        if e >= hi {
+            return Err(CliError::core(
+                matterwave_core::Error::Evanescent,
+                format_args!(
+                    "--beam {},{}: the beam emerges only at {:.2} eV at the sample ({:.2} eV nominal), above --to {}",
+                    a.rod[0],
+                    a.rod[1],
+                    e,
+                    e - corr,
+                    a.to
+                ),
+            ));
+        }
+    }
+    let mut buf = vec![IvPeak::EMPTY; check_max(max)?];
+    let l = face
+        .iv_peaks(a.rod, &inc, v0, lo, hi, &mut buf)
+        .ctx(format_args!("--inner-potential {v0}"))?;
+    let mut r = Report::default();
+    face_fields(&mut r, c, &face);
+    r.field(
+        "beam",
+        "beam",
+        Value::Text(format!("{},{}", a.rod[0], a.rod[1])),
+    );
+    r.field(
+        "inner_potential_ev",
+        "inner potential (eV)",
+        Value::F32(v0, 2),
+    );
+    r.field("tilt_deg", "tilt (deg)", Value::F32(tilt, 3));
+    r.field("azimuth_deg", "azimuth (deg)", Value::F32(azimuth, 3));
+    r.field(
+        "emergence_ev",
+        "beam emerges at (eV)",
+        Value::opt(face.emergence_ev(a.rod, &inc), 2),
+    );
+    let mut list = List {
+        key: "peaks",
+        columns: vec![
+            col("energy_ev", "energy (eV)"),
+            col("nominal_ev", "nominal (eV)"),
+            col("inner_energy_ev", "inside (eV)"),
+            col("order", "m"),
+            col("g_h", "G h"),
+            col("g_k", "G k"),
+            col("g_l", "G l"),
+            col("g_perp_inv_a", "G⊥ (1/Å)"),
+        ],
+        rows: Vec::new(),
+    };
+    for p in &buf[..l.stored] {
+        list.rows.push(vec![
+            Value::F32(p.energy_ev, 2),
+            Value::F32(p.energy_ev - corr, 2),
+            Value::F32(p.energy_ev + v0, 2),
+            Value::Int(p.order.into()),
+            Value::Int(p.g_hkl[0].into()),
+            Value::Int(p.g_hkl[1].into()),
+            Value::Int(p.g_hkl[2].into()),
+            Value::F32(p.g_perp_inv_a, 5),
+        ]);
+    }
+    r.field(
+        "truncated",
+        "more beyond --max",
+        Value::Text(l.truncated.to_string()),
+    );
+    r.list = Some(list);
+    Ok(r)
+}

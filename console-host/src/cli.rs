@@ -1,0 +1,209 @@
+//! Command-line definitions (clap) and dispatch. Each command returns a
+//! [`Report`](crate::output::Report) or a [`CliError`](crate::error::CliError); `main`
+//! prints and sets the exit status.
+
+use crate::calc::{self, GunArgs, IvArgs};
+use crate::error::CliResult;
+use crate::output::Format;
+use clap::{Parser, Subcommand};
+
+/// Cautions shown by `mwctl safety`, in `--help` and in the README.
+pub const CAUTIONS: &str = "\
+CAUTION — electron guns run at high voltage; fast electrons striking matter make X-rays;
+vacuum systems implode and motorised arms pinch and crush. Follow your local codes, your
+laboratory's safety rules and licensed practice for high voltage, radiation and vacuum.
+This software is not an interlock: it never replaces hardware interlocks, shielding,
+radiation surveys or a trained operator.";
+
+/// mwctl — bench console and offline calculator for electron-diffraction goniometers.
+#[derive(Debug, Parser)]
+#[command(name = "mwctl", version, about, after_help = CAUTIONS)]
+pub struct Cli {
+    /// Output format.
+    #[arg(long, global = true, value_enum, default_value_t = Format::Table)]
+    pub format: Format,
+    /// What to do.
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+/// Top-level commands.
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// List the crystal table (ids, structures, lattice constants, typical V0 and φ).
+    Crystals,
+    /// Offline calculations with the controller's own f32 code.
+    #[command(subcommand)]
+    Calc(Calc),
+    /// A short walk-through in an invented bench scenario (Ag(100) at 95 eV).
+    Demo,
+    /// Print the safety cautions.
+    Safety,
+}
+
+/// `mwctl calc …`
+#[derive(Debug, Subcommand)]
+pub enum Calc {
+    /// Wavelength, momentum and speed for a beam energy, with contact-potential
+    /// correction, and the wavelength inside a crystal.
+    #[command(allow_negative_numbers = true)]
+    Wavelength {
+        /// Gun settings.
+        #[command(flatten)]
+        gun: GunArgs,
+        /// Inner potential V0, eV (0 to 100), for the wavelength inside the crystal.
+        #[arg(long, value_name = "EV")]
+        inner_potential: Option<f32>,
+    },
+    /// Bulk reflection families in order of decreasing d, with Bragg angles.
+    #[command(allow_negative_numbers = true)]
+    Reflections {
+        /// Crystal id (see `mwctl crystals`).
+        #[arg(long, value_name = "ID")]
+        crystal: String,
+        /// Gun settings.
+        #[command(flatten)]
+        gun: GunArgs,
+        /// Most families to list.
+        #[arg(long, value_name = "N", default_value_t = 20)]
+        max: usize,
+    },
+    /// Transmission rings on a flat screen at a distance.
+    #[command(allow_negative_numbers = true)]
+    Rings {
+        /// Crystal id.
+        #[arg(long, value_name = "ID")]
+        crystal: String,
+        /// Gun settings.
+        #[command(flatten)]
+        gun: GunArgs,
+        /// Sample-to-screen distance, mm.
+        #[arg(long, value_name = "MM")]
+        screen_distance: f32,
+        /// Most rings to list.
+        #[arg(long, value_name = "N", default_value_t = 20)]
+        max: usize,
+    },
+    /// Diffracted beams of a face at an energy: row spacings, exit angles, emergence
+    /// energies.
+    #[command(allow_negative_numbers = true)]
+    Beams {
+        /// Crystal id.
+        #[arg(long, value_name = "ID")]
+        crystal: String,
+        /// Face: 111, 1-10, 1,1,0, (1 -1 0); hexagonal also 0001, 10-10.
+        #[arg(long, value_name = "HKL", allow_hyphen_values = true)]
+        face: String,
+        /// Gun settings.
+        #[command(flatten)]
+        gun: GunArgs,
+        /// Sample tilt α, degrees (0 = normal incidence).
+        #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+        tilt: f32,
+        /// Sample azimuth φ, degrees.
+        #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+        azimuth: f32,
+        /// Most beams to list (smallest |g| first).
+        #[arg(long, value_name = "N", default_value_t = 500)]
+        max: usize,
+    },
+    /// Kinematic I-V peak energies on one beam, with refraction by the inner potential.
+    #[command(allow_negative_numbers = true)]
+    Ivpeaks {
+        /// Crystal id.
+        #[arg(long, value_name = "ID")]
+        crystal: String,
+        /// Face (as for `beams`).
+        #[arg(long, value_name = "HKL", allow_hyphen_values = true)]
+        face: String,
+        /// Beam (rod) indices H,K, e.g. 0,0 or -1,1.
+        #[arg(long, value_name = "H,K", allow_hyphen_values = true)]
+        beam: String,
+        /// Start of the nominal energy range, eV.
+        #[arg(long, value_name = "EV")]
+        from: f32,
+        /// End of the nominal energy range, eV.
+        #[arg(long, value_name = "EV")]
+        to: f32,
+        /// Sample tilt α, degrees.
+        #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+        tilt: f32,
+        /// Sample azimuth φ, degrees.
+        #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+        azimuth: f32,
+        /// Inner potential V0, eV (default: the table's value for the face).
+        #[arg(long, value_name = "EV")]
+        inner_potential: Option<f32>,
+        /// Cathode work function, eV.
+        #[arg(long, value_name = "EV", default_value_t = 0.0)]
+        cathode_work_function: f32,
+        /// Sample work function, eV.
+        #[arg(long, value_name = "EV", default_value_t = 0.0)]
+        sample_work_function: f32,
+        /// Gun energy offset, eV.
+        #[arg(long, value_name = "EV", default_value_t = 0.0)]
+        energy_offset: f32,
+        /// Most peaks to list.
+        #[arg(long, value_name = "N", default_value_t = 100)]
+        max: usize,
+    },
+}
+
+/// Runs a parsed command and returns the text to print on stdout.
+pub fn run(cli: &Cli) -> CliResult<String> {
+    let f = cli.format;
+    let report = match &cli.command {
+        Command::Crystals => calc::crystals()?,
+        Command::Safety => return Ok(format!("{CAUTIONS}\n")),
+        Command::Demo => return crate::demo::run(f),
+        Command::Calc(c) => match c {
+            Calc::Wavelength {
+                gun,
+                inner_potential,
+            } => calc::wavelength(gun, *inner_potential)?,
+            Calc::Reflections { crystal, gun, max } => calc::reflections(crystal, gun, *max)?,
+            Calc::Rings {
+                crystal,
+                gun,
+                screen_distance,
+                max,
+            } => calc::rings(crystal, gun, *screen_distance, *max)?,
+            Calc::Beams {
+                crystal,
+                face,
+                gun,
+                tilt,
+                azimuth,
+                max,
+            } => calc::beams(crystal, face, gun, *tilt, *azimuth, *max)?,
+            Calc::Ivpeaks {
+                crystal,
+                face,
+                beam,
+                from,
+                to,
+                tilt,
+                azimuth,
+                inner_potential,
+                cathode_work_function,
+                sample_work_function,
+                energy_offset,
+                max,
+            } => {
+                let a = IvArgs {
+                    rod: calc::parse_rod(beam)?,
+                    from: *from,
+                    to: *to,
+                    tilt: *tilt,
+                    azimuth: *azimuth,
+                    inner_potential: *inner_potential,
+                    cathode_work_function: *cathode_work_function,
+                    sample_work_function: *sample_work_function,
+                    energy_offset: *energy_offset,
+                };
+                calc::ivpeaks(crystal, face, &a, *max)?
+            }
+        },
+    };
+    Ok(report.render(f))
+}

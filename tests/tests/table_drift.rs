@@ -1,0 +1,123 @@
+//! The firmware table `core/src/table/data.rs` must be exactly what the generator makes
+//! from `tables/crystals.toml`, and the compiled core table must agree row by row with
+//! the TOML.
+
+use std::path::Path;
+
+use matterwave_console::tables::{self, CrystalRow};
+use matterwave_core::table;
+
+const REGENERATE: &str = "cargo run -p matterwave-tests --bin gen-tables";
+
+fn toml_rows() -> Vec<CrystalRow> {
+    // Read from disk (not the copy compiled into the console) so that an edit to the
+    // TOML without regenerating is caught even before the console is rebuilt.
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../tables/crystals.toml");
+    let text = std::fs::read_to_string(&path)
+        .unwrap_or_else(|e| panic!("cannot read {}: {e}", path.display()));
+    tables::parse(&text).unwrap_or_else(|e| panic!("{}: {e}", path.display()))
+}
+
+/// Same f32 value, allowing one unit of rounding (f64 text -> f32 directly in the core,
+/// via f64 here).
+fn same_f32(core: f32, toml: f64) -> bool {
+    let t = toml as f32;
+    (core - t).abs() <= f32::EPSILON * t.abs()
+}
+
+fn same_opt(core: Option<f32>, toml: Option<f64>) -> bool {
+    match (core, toml) {
+        (None, None) => true,
+        (Some(c), Some(t)) => same_f32(c, t),
+        _ => false,
+    }
+}
+
+#[test]
+fn data_rs_matches_generator() {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../core/src/table/data.rs");
+    let on_disk = std::fs::read_to_string(&path)
+        .unwrap_or_else(|e| panic!("cannot read {}: {e}", path.display()));
+    let expected = tables::render_core_table(&toml_rows());
+    if on_disk != expected {
+        let line = on_disk
+            .lines()
+            .zip(expected.lines())
+            .position(|(a, b)| a != b)
+            .map(|i| i + 1)
+            .unwrap_or_else(|| on_disk.lines().count().min(expected.lines().count()) + 1);
+        panic!(
+            "core/src/table/data.rs differs from tables/crystals.toml (first difference at \
+             line {line}); run `{REGENERATE}`"
+        );
+    }
+}
+
+#[test]
+fn core_rows_equal_toml_rows() {
+    let rows = toml_rows();
+    let core = table::all();
+    assert_eq!(
+        core.len(),
+        rows.len(),
+        "core table has {} rows, TOML has {}; run `{REGENERATE}`",
+        core.len(),
+        rows.len()
+    );
+    for (c, r) in core.iter().zip(&rows) {
+        let what = format!("row {:?}; run `{REGENERATE}`", r.id);
+        assert_eq!(c.id, r.id, "{what}");
+        assert_eq!(c.name, r.name, "{what}");
+        assert_eq!(c.structure, r.structure, "{what}");
+        assert!(same_f32(c.a_a, r.a_a), "a: {} vs {}, {what}", c.a_a, r.a_a);
+        assert!(
+            same_f32(c.b_a, r.b_or_a()),
+            "b: {} vs {}, {what}",
+            c.b_a,
+            r.b_or_a()
+        );
+        assert!(
+            same_f32(c.c_a, r.c_or_a()),
+            "c: {} vs {}, {what}",
+            c.c_a,
+            r.c_or_a()
+        );
+        assert!(same_f32(c.a_uncertainty_a, r.a_uncertainty_a), "{what}");
+        assert!(same_f32(c.temperature_k, r.temperature_k), "{what}");
+        assert!(same_opt(c.work_function_ev, r.work_function_ev), "{what}");
+        assert!(
+            same_opt(c.inner_potential_ev, r.inner_potential_ev),
+            "{what}"
+        );
+        assert_eq!(c.faces.len(), r.faces.len(), "{what}");
+        for (cf, rf) in c.faces.iter().zip(&r.faces) {
+            assert_eq!(cf.miller, rf.miller, "{what}");
+            assert!(same_opt(cf.work_function_ev, rf.work_function_ev), "{what}");
+            assert!(
+                same_opt(cf.inner_potential_ev, rf.inner_potential_ev),
+                "{what}"
+            );
+        }
+        assert_eq!(table::find(&r.id).map(|x| x.id), Ok(c.id), "{what}");
+    }
+}
+
+#[test]
+fn every_core_row_builds_a_cell() {
+    for c in table::all() {
+        let cell = c
+            .cell()
+            .unwrap_or_else(|e| panic!("crystal {:?}: Cell::new failed: {e}", c.id));
+        assert_eq!(cell.structure, c.structure, "{}", c.id);
+        assert!(cell.volume_a3() > 0.0, "{}", c.id);
+    }
+}
+
+#[test]
+fn core_table_is_sorted_and_unique() {
+    let ids: Vec<&str> = table::all().iter().map(|c| c.id).collect();
+    let mut sorted = ids.clone();
+    sorted.sort_unstable();
+    sorted.dedup();
+    assert_eq!(ids, sorted);
+}
