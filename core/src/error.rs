@@ -53,6 +53,45 @@ impl Quantity {
     }
 }
 
+/// A motor axis of the goniometer, named in axis errors.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum AxisId {
+    /// Detector arm angle δ (about z).
+    Arm,
+    /// Detector elevation ν (out of the scattering plane).
+    Elevation,
+    /// Sample tilt α (about z).
+    Tilt,
+    /// Sample azimuth φ (about the surface normal).
+    Azimuth,
+}
+
+impl AxisId {
+    /// Every axis, in protocol order.
+    pub const ALL: [AxisId; 4] = [
+        AxisId::Arm,
+        AxisId::Elevation,
+        AxisId::Tilt,
+        AxisId::Azimuth,
+    ];
+
+    /// Lower-case name used in messages, rig files and the protocol.
+    pub const fn name(self) -> &'static str {
+        match self {
+            AxisId::Arm => "arm",
+            AxisId::Elevation => "elevation",
+            AxisId::Tilt => "tilt",
+            AxisId::Azimuth => "azimuth",
+        }
+    }
+
+    /// Inverse of [`AxisId::name`].
+    pub fn from_name(name: &str) -> Option<AxisId> {
+        AxisId::ALL.iter().copied().find(|a| a.name() == name)
+    }
+}
+
 /// Everything that can go wrong in the core.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
@@ -93,6 +132,29 @@ pub enum Error {
     EmptyBuffer,
     /// The energy window is empty or reversed.
     EmptyRange,
+    /// Target below the axis's lower soft limit.
+    BelowLimit(AxisId),
+    /// Target above the axis's upper soft limit.
+    AboveLimit(AxisId),
+    /// Target inside forbidden zone number `zone` (0-based) of the axis.
+    InZone(AxisId, u8),
+    /// The straight path to the target crosses forbidden zone `zone` of the axis.
+    PathCrossesZone(AxisId, u8),
+    /// Axis configuration invalid (steps per degree, limits, zones, speed or
+    /// acceleration not positive/finite/ordered).
+    BadAxisConfig(AxisId),
+    /// The step count would overflow the axis's ±2^30 microstep range.
+    StepOverflow(AxisId),
+    /// The rig has no such axis (e.g. elevation on a one-circle arm).
+    NoSuchAxis(AxisId),
+    /// Every geometric solution is outside the limits or in a forbidden zone.
+    NoReachableSolution,
+    /// A fit needs more (or less degenerate) points.
+    TooFewPoints,
+    /// The fit's normal equations are singular: the points do not fix the parameters.
+    DegenerateFit,
+    /// A fit or iteration did not converge.
+    NoConvergence,
 }
 
 impl Error {
@@ -116,6 +178,17 @@ impl Error {
             Error::NoBraggAngle => 202,
             Error::BeyondScreen => 203,
             Error::NoSurfaceMesh => 204,
+            Error::NoReachableSolution => 205,
+            Error::TooFewPoints => 250,
+            Error::DegenerateFit => 251,
+            Error::NoConvergence => 252,
+            Error::BelowLimit(_) => 301,
+            Error::AboveLimit(_) => 302,
+            Error::InZone(_, _) => 303,
+            Error::PathCrossesZone(_, _) => 304,
+            Error::BadAxisConfig(_) => 305,
+            Error::StepOverflow(_) => 306,
+            Error::NoSuchAxis(_) => 307,
         }
     }
 
@@ -160,6 +233,37 @@ impl Error {
             Error::NoBraggAngle => "n·λ exceeds 2d: no Bragg angle at this energy",
             Error::BeyondScreen => "scattering angle 2θ is 90° or more: the ring misses a flat screen",
             Error::NoSurfaceMesh => "no surface mesh found for this face",
+            Error::NoReachableSolution => {
+                "every solution lies outside the axis limits or in a forbidden zone"
+            }
+            Error::TooFewPoints => "too few points for this fit; add measurements",
+            Error::DegenerateFit => {
+                "points do not determine the fit parameters; spread them over a wider range"
+            }
+            Error::NoConvergence => "the fit did not converge; check the data and starting values",
+            Error::BelowLimit(_) => "target below the axis's lower soft limit",
+            Error::AboveLimit(_) => "target above the axis's upper soft limit",
+            Error::InZone(_, _) => "target inside a forbidden zone of the axis",
+            Error::PathCrossesZone(_, _) => "path to the target crosses a forbidden zone",
+            Error::BadAxisConfig(_) => {
+                "axis configuration invalid: steps/deg, speed, acceleration > 0; min < max; zones inside limits with from < to"
+            }
+            Error::StepOverflow(_) => "target needs more microsteps than the axis counter holds",
+            Error::NoSuchAxis(_) => "this rig has no such axis",
+        }
+    }
+
+    /// The axis an axis error refers to, if any.
+    pub const fn axis(self) -> Option<AxisId> {
+        match self {
+            Error::BelowLimit(a)
+            | Error::AboveLimit(a)
+            | Error::InZone(a, _)
+            | Error::PathCrossesZone(a, _)
+            | Error::BadAxisConfig(a)
+            | Error::StepOverflow(a)
+            | Error::NoSuchAxis(a) => Some(a),
+            _ => None,
         }
     }
 

@@ -19,6 +19,8 @@
 //! | [`reflections`] | bulk reflection families, Bragg angles, transmission rings |
 //! | [`surface`] | surface meshes, rods, beams at an energy, emergence and I-V energies |
 //! | [`table`] | the fixed crystal table |
+//! | [`goniometer`] | lab-frame geometry: aiming the arm at a beam, what the detector sees |
+//! | [`axis`] | motor axes: microsteps, limits, forbidden zones, backlash, wrap, move times |
 //!
 //! ```
 //! use matterwave_core::{beam, table, surface::{Face, Incidence}};
@@ -33,16 +35,18 @@
 #![forbid(unsafe_code)]
 #![deny(missing_docs)]
 
+pub mod axis;
 pub mod beam;
 pub mod constants;
 pub mod error;
+pub mod goniometer;
 pub mod lattice;
 pub mod math;
 pub mod reflections;
 pub mod surface;
 pub mod table;
 
-pub use error::{Error, Quantity, Result};
+pub use error::{AxisId, Error, Quantity, Result};
 
 /// Crate version, as in Cargo.toml.
 pub const VERSION: &str = env!("CARGO_PKG_VERSION");

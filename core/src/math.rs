@@ -1,7 +1,7 @@
 //! The float backend: every transcendental the crate uses goes through here.
 //!
-//! By default these call [`libm`] (correctly rounded or within an ulp or two). With the
-//! `fast-math` feature they call [`micromath`]'s approximations instead: smaller and
+//! By default these call `libm` (correctly rounded or within an ulp or two). With the
+//! `fast-math` feature they call `micromath`'s approximations instead: smaller and
 //! faster on a Cortex-M4F, but only good to roughly 1e-4 relative — not for conformance.
 //! Also here: three-vector helpers and the degree/radian conversions.
 

@@ -91,7 +91,7 @@ pub struct Face {
     /// b1 and b2 in the surface frame, 1/Å.
     pub recip_2d_inv_a: [[f32; 2]; 2],
     /// Normal components of the 3D reciprocal basis of (a1, a2, a3), 1/Å: a bulk G with
-    /// rod (h, k) and layer index m has G·n̂ = h·b[0] + k·b[1] + m/d.
+    /// rod (h, k) and layer index m has G·n̂ = h·b₁ₙ + k·b₂ₙ + m/d (b₁ₙ, b₂ₙ are the two entries).
     pub recip_normal_inv_a: [f32; 2],
     /// Spacing of the lattice planes parallel to the face, Å.
     pub layer_spacing_a: f32,
@@ -261,6 +261,11 @@ impl Best {
     };
 
     fn offer(&mut self, half: [i32; 3], len2: f32) {
+        if !self.found() {
+            self.half = half;
+            self.len2 = len2;
+            return;
+        }
         let tol = 1e-5 * self.len2;
         if len2 < self.len2 - tol || ((len2 - self.len2).abs() <= tol && half > self.half) {
             self.half = half;

@@ -1,0 +1,454 @@
+//! Motor axes: microsteps ↔ degrees, home offset, soft limits, forbidden zones, backlash
+//! with a fixed approach direction, wrap for continuous axes, and trapezoidal move
+//! times (DESIGN §8).
+//!
+//! The one promise of this module: **no function returns a setpoint outside the soft
+//! limits or inside a forbidden zone.** An unreachable target is an [`Error`] naming the
+//! axis and the limit or zone — never a clamped value.
+//!
+//! Angle of a step count: `angle = home_offset_deg + steps / steps_per_deg`. Step counts
+//! are limited to ±2^24 so that every count is exact in f32.
+//!
+//! ```
+//! use matterwave_core::axis::{AxisConfig, Zone};
+//! use matterwave_core::AxisId;
+//! let mut arm = AxisConfig::new(AxisId::Arm, 200.0 * 16.0 * 50.0 / 360.0);
+//! arm.min_deg = -170.0;
+//! arm.max_deg = 170.0;
+//! arm.zones[0] = Some(Zone { from_deg: -10.0, to_deg: 10.0 }); // the gun's shadow
+//! let sp = arm.setpoint(42.0, 0).unwrap();
+//! assert_eq!(sp.steps, 18667);
+//! assert!(sp.residual_deg.abs() <= 0.5 / arm.steps_per_deg);
+//! assert!(arm.setpoint(5.0, 0).is_err()); // inside the zone: an error, not a clamp
+//! ```
+
+use crate::error::{AxisId, Error, Quantity, Result};
+use crate::math;
+
+/// Most forbidden zones per axis.
+pub const MAX_ZONES: usize = 4;
+
+/// Largest |step count| an axis accepts (2^24: exact in f32).
+pub const STEPS_MAX: i32 = 1 << 24;
+
+/// A forbidden interval [from_deg, to_deg] of axis angles (from < to). On a wrapping
+/// axis it repeats every 360°.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Zone {
+    /// Lower edge, degrees.
+    pub from_deg: f32,
+    /// Upper edge, degrees.
+    pub to_deg: f32,
+}
+
+impl Zone {
+    fn contains(&self, angle_deg: f32, wrap: bool) -> bool {
+        if wrap {
+            let t = self.from_deg + wrap_360(angle_deg - self.from_deg);
+            t <= self.to_deg
+        } else {
+            angle_deg >= self.from_deg && angle_deg <= self.to_deg
+        }
+    }
+
+    /// Whether the closed interval [lo, hi] (lo ≤ hi, unwrapped) meets the zone.
+    fn meets(&self, lo: f32, hi: f32, wrap: bool) -> bool {
+        if wrap {
+            // Shift the zone to the copy nearest the interval start, then test that copy
+            // and the next one up.
+            let k = math::floor((lo - self.from_deg) / 360.0);
+            (0..3).any(|i| {
+                let off = (k + i as f32 - 1.0) * 360.0;
+                self.from_deg + off <= hi && self.to_deg + off >= lo
+            })
+        } else {
+            self.from_deg <= hi && self.to_deg >= lo
+        }
+    }
+}
+
+/// Reduces an angle to [0, 360).
+fn wrap_360(x: f32) -> f32 {
+    let r = x - 360.0 * math::floor(x / 360.0);
+    if r >= 360.0 {
+        0.0
+    } else {
+        r
+    }
+}
+
+/// Direction from which every move finishes, to take up backlash.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum Approach {
+    /// Final motion is toward increasing angle.
+    FromBelow,
+    /// Final motion is toward decreasing angle.
+    FromAbove,
+}
+
+/// Configuration of one motor axis.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct AxisConfig {
+    /// Which axis (named in errors).
+    pub id: AxisId,
+    /// Microsteps per degree = full steps × microsteps × gear ÷ 360.
+    pub steps_per_deg: f32,
+    /// Axis angle at step count 0, degrees.
+    pub home_offset_deg: f32,
+    /// Lower soft limit, degrees (ignored when `wrap`).
+    pub min_deg: f32,
+    /// Upper soft limit, degrees (ignored when `wrap`).
+    pub max_deg: f32,
+    /// Forbidden zones.
+    pub zones: [Option<Zone>; MAX_ZONES],
+    /// Backlash, degrees (0–10).
+    pub backlash_deg: f32,
+    /// Approach direction for the final part of every move.
+    pub approach: Approach,
+    /// Continuous axis: angles repeat every 360°, no soft limits.
+    pub wrap: bool,
+    /// Maximum speed, degrees per second.
+    pub max_speed_deg_s: f32,
+    /// Acceleration (and deceleration), degrees per second².
+    pub accel_deg_s2: f32,
+}
+
+/// A reachable target: the microstep count, the angle it really reaches and the
+/// residual target − reached.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Setpoint {
+    /// Which axis.
+    pub id: AxisId,
+    /// Target microstep count.
+    pub steps: i32,
+    /// Angle reached at `steps`, degrees.
+    pub angle_deg: f32,
+    /// Requested − reached, degrees.
+    pub residual_deg: f32,
+    /// Where the move turns round to take up backlash, when the axis starts on the
+    /// wrong side of the target; `None` for a direct move.
+    pub approach_steps: Option<i32>,
+}
+
+impl AxisConfig {
+    /// An axis with `steps_per_deg`, home at 0°, limits ±180°, no zones, no backlash,
+    /// approach from below, 10°/s, 20°/s².
+    pub const fn new(id: AxisId, steps_per_deg: f32) -> AxisConfig {
+        AxisConfig {
+            id,
+            steps_per_deg,
+            home_offset_deg: 0.0,
+            min_deg: -180.0,
+            max_deg: 180.0,
+            zones: [None; MAX_ZONES],
+            backlash_deg: 0.0,
+            approach: Approach::FromBelow,
+            wrap: false,
+            max_speed_deg_s: 10.0,
+            accel_deg_s2: 20.0,
+        }
+    }
+
+    /// Checks every field; `BadAxisConfig(id)` names the axis.
+    pub fn validate(&self) -> Result<()> {
+        let bad = Err(Error::BadAxisConfig(self.id));
+        let spd = self.steps_per_deg;
+        if !(spd.is_finite() && spd > 0.0 && spd <= 1.0e6) {
+            return bad;
+        }
+        if !(self.home_offset_deg.is_finite() && self.home_offset_deg.abs() <= 360.0) {
+            return bad;
+        }
+        let limits_ok = self.min_deg.is_finite()
+            && self.max_deg.is_finite()
+            && self.min_deg < self.max_deg
+            && self.min_deg >= -720.0
+            && self.max_deg <= 720.0;
+        if !self.wrap && !limits_ok {
+            return bad;
+        }
+        if !(self.backlash_deg.is_finite() && self.backlash_deg >= 0.0 && self.backlash_deg <= 10.0)
+        {
+            return bad;
+        }
+        if !(self.max_speed_deg_s.is_finite() && self.max_speed_deg_s > 0.0) {
+            return bad;
+        }
+        if !(self.accel_deg_s2.is_finite() && self.accel_deg_s2 > 0.0) {
+            return bad;
+        }
+        for z in self.zones.iter().flatten() {
+            if !(z.from_deg.is_finite()
+                && z.to_deg.is_finite()
+                && z.from_deg < z.to_deg
+                && z.from_deg >= -720.0
+                && z.to_deg <= 720.0)
+            {
+                return bad;
+            }
+            if self.wrap && z.to_deg - z.from_deg >= 360.0 {
+                return bad;
+            }
+        }
+        // The whole range must not be forbidden: the home position need not be free,
+        // but some step must be; checked lazily by `setpoint`.
+        Ok(())
+    }
+
+    /// Angle reached at a microstep count, degrees.
+    pub fn steps_to_deg(&self, steps: i32) -> f32 {
+        self.home_offset_deg + steps as f32 / self.steps_per_deg
+    }
+
+    /// Whether an angle is allowed as a resting position: within limits (unless wrap)
+    /// and outside every zone. Returns the error naming the limit or zone.
+    pub fn check_angle(&self, angle_deg: f32) -> Result<()> {
+        if !angle_deg.is_finite() {
+            return Err(Error::NotFinite(Quantity::Angle));
+        }
+        if !self.wrap {
+            if angle_deg < self.min_deg {
+                return Err(Error::BelowLimit(self.id));
+            }
+            if angle_deg > self.max_deg {
+                return Err(Error::AboveLimit(self.id));
+            }
+        }
+        for (i, z) in self.zones.iter().enumerate() {
+            if let Some(z) = z {
+                if z.contains(angle_deg, self.wrap) {
+                    return Err(Error::InZone(self.id, i as u8));
+                }
+            }
+        }
+        Ok(())
+    }
+
+    /// Whether the straight path between two angles (unwrapped) is clear of zones and
+    /// limits. A zone that contains the start is exempt, so an axis that finds itself in
+    /// a zone (e.g. homed there) can always be driven out of it.
+    pub fn check_path(&self, from_deg: f32, to_deg: f32) -> Result<()> {
+        let (lo, hi) = if from_deg <= to_deg {
+            (from_deg, to_deg)
+        } else {
+            (to_deg, from_deg)
+        };
+        if !self.wrap {
+            if lo < self.min_deg {
+                return Err(Error::BelowLimit(self.id));
+            }
+            if hi > self.max_deg {
+                return Err(Error::AboveLimit(self.id));
+            }
+        }
+        for (i, z) in self.zones.iter().enumerate() {
+            if let Some(z) = z {
+                if z.meets(lo, hi, self.wrap) && !z.contains(from_deg, self.wrap) {
+                    return Err(Error::PathCrossesZone(self.id, i as u8));
+                }
+            }
+        }
+        Ok(())
+    }
+
+    fn steps_for(&self, angle_deg: f32) -> Result<i32> {
+        let x = (angle_deg - self.home_offset_deg) * self.steps_per_deg;
+        if !x.is_finite() || math::round(x).abs() > STEPS_MAX as f32 {
+            return Err(Error::StepOverflow(self.id));
+        }
+        Ok(math::round(x) as i32)
+    }
+
+    /// The setpoint for `target_deg`, moving from step count `current_steps`.
+    ///
+    /// On a wrapping axis the target is first replaced by its 360° copy nearest the
+    /// current angle. The target and the angle really reached must both be allowed (see
+    /// [`AxisConfig::check_angle`]); when rounding to a whole step would leave the
+    /// allowed range, the neighbouring step inside it is used. The path, including the
+    /// backlash turn-round point, must be clear of zones ([`AxisConfig::check_path`]).
+    pub fn setpoint(&self, target_deg: f32, current_steps: i32) -> Result<Setpoint> {
+        self.validate()?;
+        if !target_deg.is_finite() {
+            return Err(Error::NotFinite(Quantity::Angle));
+        }
+        if current_steps.abs() > STEPS_MAX {
+            return Err(Error::StepOverflow(self.id));
+        }
+        let current_deg = self.steps_to_deg(current_steps);
+        let mut target = target_deg;
+        if self.wrap {
+            if target.abs() > 1.0e6 {
+                return Err(Error::TooHigh(Quantity::Angle));
+            }
+            let k = math::round((current_deg - target) / 360.0);
+            target += 360.0 * k;
+        }
+        self.check_angle(target)?;
+        let s0 = self.steps_for(target)?;
+        let mut chosen = None;
+        for s in [s0, s0.saturating_add(1), s0.saturating_sub(1)] {
+            if s.abs() <= STEPS_MAX && self.check_angle(self.steps_to_deg(s)).is_ok() {
+                chosen = Some(s);
+                break;
+            }
+        }
+        let steps = match chosen {
+            Some(s) => s,
+            None => {
+                return Err(self
+                    .check_angle(self.steps_to_deg(s0))
+                    .err()
+                    .unwrap_or(Error::NoReachableSolution))
+            }
+        };
+        let reached = self.steps_to_deg(steps);
+        let backlash_steps = self.backlash_steps();
+        let approach_steps = match self.approach {
+            Approach::FromBelow if current_steps > steps && backlash_steps > 0 => {
+                Some(steps.saturating_sub(backlash_steps))
+            }
+            Approach::FromAbove if current_steps < steps && backlash_steps > 0 => {
+                Some(steps.saturating_add(backlash_steps))
+            }
+            _ => None,
+        };
+        match approach_steps {
+            Some(a) => {
+                if a.abs() > STEPS_MAX {
+                    return Err(Error::StepOverflow(self.id));
+                }
+                let turn = self.steps_to_deg(a);
+                self.check_path(current_deg, turn)?;
+                self.check_path(turn, reached)?;
+            }
+            None => self.check_path(current_deg, reached)?,
+        }
+        Ok(Setpoint {
+            id: self.id,
+            steps,
+            angle_deg: reached,
+            residual_deg: target - reached,
+            approach_steps,
+        })
+    }
+
+    /// Backlash in whole microsteps (rounded up).
+    pub fn backlash_steps(&self) -> i32 {
+        let b = self.backlash_deg * self.steps_per_deg;
+        if b.is_finite() && b > 0.0 {
+            (math::floor(b) as i32).saturating_add(if b > math::floor(b) { 1 } else { 0 })
+        } else {
+            0
+        }
+    }
+
+    /// Time for a point-to-point move of `distance_deg` with a trapezoidal (or, for
+    /// short moves, triangular) speed profile, seconds.
+    ///
+    /// ```
+    /// use matterwave_core::axis::AxisConfig;
+    /// use matterwave_core::AxisId;
+    /// let a = AxisConfig::new(AxisId::Arm, 100.0); // 10 deg/s, 20 deg/s²
+    /// assert!((a.move_time_s(90.0) - 9.5).abs() < 1e-5); // 90/10 + 10/20
+    /// assert!((a.move_time_s(1.0) - 2.0 * (1.0f32 / 20.0).sqrt()).abs() < 1e-5);
+    /// ```
+    pub fn move_time_s(&self, distance_deg: f32) -> f32 {
+        let d = distance_deg.abs();
+        let v = self.max_speed_deg_s;
+        let a = self.accel_deg_s2;
+        if !(d.is_finite() && v > 0.0 && a > 0.0) {
+            return 0.0;
+        }
+        if d >= v * v / a {
+            d / v + v / a
+        } else {
+            2.0 * math::sqrt(d / a)
+        }
+    }
+
+    /// Time to go from `current_steps` to a setpoint, including the backlash
+    /// turn-round, seconds.
+    pub fn time_to_s(&self, current_steps: i32, sp: &Setpoint) -> f32 {
+        let spd = self.steps_per_deg;
+        let leg = |a: i32, b: i32| self.move_time_s((b as f32 - a as f32) / spd);
+        match sp.approach_steps {
+            Some(t) => leg(current_steps, t) + leg(t, sp.steps),
+            None => leg(current_steps, sp.steps),
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn arm() -> AxisConfig {
+        let mut a = AxisConfig::new(AxisId::Arm, 100.0);
+        a.min_deg = -170.0;
+        a.max_deg = 170.0;
+        a.zones[0] = Some(Zone {
+            from_deg: -10.0,
+            to_deg: 10.0,
+        });
+        a
+    }
+
+    #[test]
+    fn limits_and_zones_are_errors() {
+        let a = arm();
+        assert_eq!(a.setpoint(171.0, 2000), Err(Error::AboveLimit(AxisId::Arm)));
+        assert_eq!(
+            a.setpoint(-171.0, -2000),
+            Err(Error::BelowLimit(AxisId::Arm))
+        );
+        assert_eq!(a.setpoint(3.0, 2000), Err(Error::InZone(AxisId::Arm, 0)));
+        // Crossing the gun's shadow from one side to the other is refused.
+        assert_eq!(
+            a.setpoint(-30.0, 3000),
+            Err(Error::PathCrossesZone(AxisId::Arm, 0))
+        );
+        assert!(a.setpoint(f32::NAN, 0).is_err());
+    }
+
+    #[test]
+    fn rounding_never_enters_a_zone() {
+        let mut a = arm();
+        a.steps_per_deg = 3.0; // 1/3 degree steps: 10.0 rounds to 10.0 exactly? 30 steps
+        a.zones[0] = Some(Zone {
+            from_deg: -10.0,
+            to_deg: 10.1,
+        });
+        let sp = a.setpoint(10.15, 100).unwrap();
+        assert!(sp.angle_deg > 10.1, "{sp:?}");
+    }
+
+    #[test]
+    fn backlash_turns_round_below() {
+        let mut a = arm();
+        a.backlash_deg = 0.5;
+        let sp = a.setpoint(40.0, 6000).unwrap();
+        assert_eq!(sp.approach_steps, Some(4000 - 50));
+        let sp = a.setpoint(40.0, 2000).unwrap();
+        assert_eq!(sp.approach_steps, None);
+    }
+
+    #[test]
+    fn wrap_takes_nearest_copy() {
+        let mut z = AxisConfig::new(AxisId::Azimuth, 10.0);
+        z.wrap = true;
+        let sp = z.setpoint(-170.0, 1750).unwrap(); // current 175°, target ≡ 190°
+        assert!((sp.angle_deg - 190.0).abs() < 1e-4, "{sp:?}");
+        z.zones[0] = Some(Zone {
+            from_deg: 170.0,
+            to_deg: 180.0,
+        });
+        assert_eq!(
+            z.setpoint(-185.0, 0),
+            Err(Error::InZone(AxisId::Azimuth, 0))
+        );
+    }
+}

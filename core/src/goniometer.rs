@@ -1,0 +1,640 @@
+//! Instrument geometry in the lab frame (DESIGN §7): where a beam goes, how to point
+//! the arm (and turn the sample) at it, and what the detector is looking at.
+//!
+//! Lab frame: origin at the beam spot, z vertical (the axis of the arm and of the sample
+//! tilt), gun on −x firing along +x. Tilt α turns the surface normal n̂ = R_z(α)(−x̂);
+//! e1 = R_z(α)(−ŷ) lies in the scattering plane, e2 = ẑ. The detector direction is
+//! d̂(δ, ν) = (−cos δ cos ν, −sin δ cos ν, sin ν): arm δ = 0 looks back at the gun,
+//! δ = 180° straight through; ν is the elevation.
+//!
+//! In-plane mode (one-circle arm, or a two-circle arm kept at ν = 0): the azimuth is
+//! chosen so that the rod g lies along ±e1; then sin θ_out = sin α + s·λ·|g| and
+//! δ = α + θ_out. The specular beam sits at δ = 2α at every energy. Two-circle mode: the
+//! azimuth is given and (δ, ν) follow from k̂_out.
+//!
+//! ```
+//! use matterwave_core::goniometer::{self, Mode, Rig, Solution};
+//! use matterwave_core::lattice::{Cell, Structure};
+//! use matterwave_core::surface::Face;
+//! let face = Face::new(&Cell::new(Structure::Fcc, 3.615, 0.0, 0.0).unwrap(), [1, 0, 0]).unwrap();
+//! let rig = Rig::bench_default();
+//! let mut out = [Solution::EMPTY; 8];
+//! let n = goniometer::aim(&rig, &face, [0, 0], 100.0, 20.0, Mode::InPlane, &[0; 4], &mut out)
+//!     .unwrap()
+//!     .stored;
+//! assert!(n >= 1);
+//! assert!((out[0].arm.angle_deg - 40.0).abs() < 0.01); // specular at 2α
+//! ```
+
+use crate::axis::{Approach, AxisConfig, Setpoint, Zone};
+use crate::beam;
+use crate::error::{finite, AxisId, Error, Quantity, Result};
+use crate::math::{self, Vec3};
+use crate::reflections::Listing;
+use crate::surface::{Face, Incidence, SurfaceBeam};
+
+/// Index of each axis in a step-count array `[i32; 4]`.
+pub const fn axis_index(id: AxisId) -> usize {
+    match id {
+        AxisId::Arm => 0,
+        AxisId::Elevation => 1,
+        AxisId::Tilt => 2,
+        AxisId::Azimuth => 3,
+    }
+}
+
+/// Step counts of all four axes (arm, elevation, tilt, azimuth); an absent elevation
+/// axis stays at 0.
+pub type Position = [i32; 4];
+
+/// The instrument: its axes and detector.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Rig {
+    /// Detector arm δ.
+    pub arm: AxisConfig,
+    /// Detector elevation ν; `None` for a one-circle arm.
+    pub elevation: Option<AxisConfig>,
+    /// Sample tilt α.
+    pub tilt: AxisConfig,
+    /// Sample azimuth φ.
+    pub azimuth: AxisConfig,
+    /// Detector acceptance half-angle, degrees.
+    pub acceptance_deg: f32,
+}
+
+impl Rig {
+    /// The built-in default rig: one-circle arm ±165° with a ±12° gun shadow, tilt ±80°,
+    /// continuous azimuth, 200-step motors at 16 microsteps through 100:1 gears on arm
+    /// and tilt (and 50:1 on azimuth), detector acceptance 1°. A starting point for a
+    /// real rig file, not a description of any particular instrument.
+    pub const fn bench_default() -> Rig {
+        let mut arm = AxisConfig::new(AxisId::Arm, 200.0 * 16.0 * 100.0 / 360.0);
+        arm.min_deg = -165.0;
+        arm.max_deg = 165.0;
+        arm.zones[0] = Some(Zone {
+            from_deg: -12.0,
+            to_deg: 12.0,
+        });
+        arm.backlash_deg = 0.05;
+        arm.max_speed_deg_s = 15.0;
+        arm.accel_deg_s2 = 30.0;
+        let mut tilt = AxisConfig::new(AxisId::Tilt, 200.0 * 16.0 * 100.0 / 360.0);
+        tilt.min_deg = -80.0;
+        tilt.max_deg = 80.0;
+        tilt.backlash_deg = 0.05;
+        tilt.max_speed_deg_s = 5.0;
+        tilt.accel_deg_s2 = 10.0;
+        let mut azimuth = AxisConfig::new(AxisId::Azimuth, 200.0 * 16.0 * 50.0 / 360.0);
+        azimuth.wrap = true;
+        azimuth.approach = Approach::FromBelow;
+        azimuth.max_speed_deg_s = 20.0;
+        azimuth.accel_deg_s2 = 40.0;
+        Rig {
+            arm,
+            elevation: None,
+            tilt,
+            azimuth,
+            acceptance_deg: 1.0,
+        }
+    }
+
+    /// The configuration of an axis, or `NoSuchAxis`.
+    pub fn axis(&self, id: AxisId) -> Result<&AxisConfig> {
+        match id {
+            AxisId::Arm => Ok(&self.arm),
+            AxisId::Elevation => self.elevation.as_ref().ok_or(Error::NoSuchAxis(id)),
+            AxisId::Tilt => Ok(&self.tilt),
+            AxisId::Azimuth => Ok(&self.azimuth),
+        }
+    }
+
+    /// Checks every axis and the acceptance (0 < acceptance ≤ 20°).
+    pub fn validate(&self) -> Result<()> {
+        self.arm.validate()?;
+        if let Some(e) = &self.elevation {
+            e.validate()?;
+        }
+        self.tilt.validate()?;
+        self.azimuth.validate()?;
+        let a = finite(self.acceptance_deg, Quantity::Angle)?;
+        if a <= 0.0 {
+            return Err(Error::TooLow(Quantity::Angle));
+        }
+        if a > 20.0 {
+            return Err(Error::TooHigh(Quantity::Angle));
+        }
+        Ok(())
+    }
+
+    /// Angles of a position, degrees: (arm, elevation, tilt, azimuth).
+    pub fn angles(&self, p: &Position) -> [f32; 4] {
+        [
+            self.arm.steps_to_deg(p[0]),
+            self.elevation.map_or(0.0, |e| e.steps_to_deg(p[1])),
+            self.tilt.steps_to_deg(p[2]),
+            self.azimuth.steps_to_deg(p[3]),
+        ]
+    }
+}
+
+/// How to aim.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum Mode {
+    /// Turn the azimuth so the beam lies in the scattering plane (elevation 0).
+    InPlane,
+    /// Keep this azimuth (degrees) and use the elevation axis.
+    AtAzimuth(f32),
+}
+
+/// One way to put the detector on a beam, as setpoints of every axis.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Solution {
+    /// Sample azimuth φ.
+    pub azimuth: Setpoint,
+    /// Detector arm δ.
+    pub arm: Setpoint,
+    /// Detector elevation ν (`None` on a one-circle arm; the elevation is then 0).
+    pub elevation: Option<Setpoint>,
+    /// Sample tilt α.
+    pub tilt: Setpoint,
+    /// Branch: +1 when g points along +e1, −1 along −e1 (in-plane mode); 0 otherwise.
+    pub branch: i8,
+    /// Exit angle from the surface normal, degrees (signed along e1 in-plane; polar in
+    /// two-circle mode).
+    pub exit_deg: f32,
+    /// Sum of |angle change| over the axes from the current position, degrees.
+    pub travel_deg: f32,
+}
+
+impl Solution {
+    /// A placeholder for initialising buffers.
+    pub const EMPTY: Solution = Solution {
+        azimuth: EMPTY_SP,
+        arm: EMPTY_SP,
+        elevation: None,
+        tilt: EMPTY_SP,
+        branch: 0,
+        exit_deg: 0.0,
+        travel_deg: 0.0,
+    };
+
+    /// Elevation angle, degrees (0 without an elevation axis).
+    pub fn elevation_deg(&self) -> f32 {
+        self.elevation.map_or(0.0, |e| e.angle_deg)
+    }
+
+    /// Step counts of this solution.
+    pub fn position(&self) -> Position {
+        [
+            self.arm.steps,
+            self.elevation.map_or(0, |e| e.steps),
+            self.tilt.steps,
+            self.azimuth.steps,
+        ]
+    }
+}
+
+const EMPTY_SP: Setpoint = Setpoint {
+    id: AxisId::Arm,
+    steps: 0,
+    angle_deg: 0.0,
+    residual_deg: 0.0,
+    approach_steps: None,
+};
+
+/// Lab-frame unit vectors (e1, e2, n̂) of the surface at tilt α (degrees).
+pub fn surface_frame_lab(tilt_deg: f32) -> [Vec3; 3] {
+    let (s, c) = math::sin_cos_deg(tilt_deg);
+    [[s, -c, 0.0], [0.0, 0.0, 1.0], [-c, -s, 0.0]]
+}
+
+/// Detector direction d̂(δ, ν) for arm and elevation in degrees.
+pub fn detector_direction(arm_deg: f32, elevation_deg: f32) -> Vec3 {
+    let (sd, cd) = math::sin_cos_deg(arm_deg);
+    let (sn, cn) = math::sin_cos_deg(elevation_deg);
+    [-cd * cn, -sd * cn, sn]
+}
+
+/// (arm δ, elevation ν), degrees, of a lab direction (need not be unit length).
+pub fn arm_elevation_deg(d: Vec3) -> (f32, f32) {
+    let n = math::norm(d);
+    let z = if n > 0.0 { d[2] / n } else { 0.0 };
+    (
+        math::deg(math::atan2(-d[1], -d[0])),
+        math::deg(math::asin_clamped(z)),
+    )
+}
+
+/// Lab direction (unit) of a surface beam leaving a sample at tilt α.
+pub fn beam_direction_lab(b: &SurfaceBeam, inc: &Incidence) -> Vec3 {
+    let [e1, e2, n] = surface_frame_lab(inc.tilt_deg);
+    let u = inc.k_inv_a;
+    let kx = b.k_par_inv_a[0] / u;
+    let ky = b.k_par_inv_a[1] / u;
+    let kz = math::sqrt((1.0 - kx * kx - ky * ky).max(0.0));
+    math::add(
+        math::add(math::scale(e1, kx), math::scale(e2, ky)),
+        math::scale(n, kz),
+    )
+}
+
+/// Reduces an angle to (−180, 180].
+pub fn wrap_180(x: f32) -> f32 {
+    let r = x - 360.0 * math::floor((x + 180.0) / 360.0);
+    if r <= -180.0 {
+        r + 360.0
+    } else {
+        r
+    }
+}
+
+/// Geometric pose of one solution before the axes are consulted.
+#[derive(Clone, Copy, Debug, PartialEq)]
+struct Pose {
+    azimuth_deg: f32,
+    arm_deg: f32,
+    elevation_deg: f32,
+    branch: i8,
+    exit_deg: f32,
+}
+
+/// Every way to put the detector on rod `rod` of `face` at kinetic energy `energy_ev`
+/// and tilt `tilt_deg`, within the rig's limits and zones, nearest to `current`
+/// (least total travel) first.
+///
+/// In-plane mode tries both branches (g along ±e1) and, on non-wrapping axes, the ±360°
+/// copies of azimuth and arm. The specular beam has one branch and keeps the current
+/// azimuth. When no solution survives, the error says why: `Evanescent` when the beam
+/// does not exist, else the first limit or zone that rejected a solution.
+#[allow(clippy::too_many_arguments)]
+pub fn aim(
+    rig: &Rig,
+    face: &Face,
+    rod: [i32; 2],
+    energy_ev: f32,
+    tilt_deg: f32,
+    mode: Mode,
+    current: &Position,
+    out: &mut [Solution],
+) -> Result<Listing> {
+    if out.is_empty() {
+        return Err(Error::EmptyBuffer);
+    }
+    let mut poses = [None; 2];
+    match mode {
+        Mode::InPlane => {
+            let e = beam::check_energy(energy_ev)?;
+            let inc = Incidence::new(e, tilt_deg, 0.0)?;
+            let lambda = 1.0 / inc.k_inv_a;
+            let g = face.rod_inv_a(rod);
+            let g_len = math::sqrt(g[0] * g[0] + g[1] * g[1]);
+            let psi = math::deg(math::atan2(g[1], g[0]));
+            let s_alpha = math::sin(math::rad(inc.tilt_deg));
+            let current_az = rig.azimuth.steps_to_deg(current[3]);
+            let branches: &[i8] = if g_len == 0.0 { &[1] } else { &[1, -1] };
+            for (slot, &br) in poses.iter_mut().zip(branches) {
+                let sin_out = s_alpha + br as f32 * lambda * g_len;
+                if sin_out.abs() > 1.0 {
+                    continue;
+                }
+                let theta = math::deg(math::asin(sin_out));
+                let az = if g_len == 0.0 {
+                    current_az
+                } else if br > 0 {
+                    wrap_180(-psi)
+                } else {
+                    wrap_180(180.0 - psi)
+                };
+                *slot = Some(Pose {
+                    azimuth_deg: az,
+                    arm_deg: wrap_180(inc.tilt_deg + theta),
+                    elevation_deg: 0.0,
+                    branch: br,
+                    exit_deg: theta,
+                });
+            }
+        }
+        Mode::AtAzimuth(az) => {
+            let inc = Incidence::new(energy_ev, tilt_deg, az)?;
+            let b = face.beam(rod, &inc)?;
+            let (arm, elev) = arm_elevation_deg(beam_direction_lab(&b, &inc));
+            poses[0] = Some(Pose {
+                azimuth_deg: inc.azimuth_deg,
+                arm_deg: arm,
+                elevation_deg: elev,
+                branch: 0,
+                exit_deg: b.exit_deg,
+            });
+        }
+    }
+    if poses.iter().all(Option::is_none) {
+        return Err(Error::Evanescent);
+    }
+    let mut stored = 0usize;
+    let mut truncated = false;
+    let mut first_err = None;
+    let cur = rig.angles(current);
+    let copies = |ax: &AxisConfig| -> [Option<f32>; 3] {
+        if ax.wrap {
+            [Some(0.0), None, None]
+        } else {
+            [Some(0.0), Some(360.0), Some(-360.0)]
+        }
+    };
+    for pose in poses.iter().flatten() {
+        let tilt_sp = rig.tilt.setpoint(tilt_deg, current[2])?;
+        let elev_sp = match (&rig.elevation, mode) {
+            (Some(ax), _) => match ax.setpoint(pose.elevation_deg, current[1]) {
+                Ok(s) => Some(s),
+                Err(e) => {
+                    first_err.get_or_insert(e);
+                    continue;
+                }
+            },
+            (None, Mode::AtAzimuth(_)) if pose.elevation_deg.abs() > rig.acceptance_deg => {
+                first_err.get_or_insert(Error::NoSuchAxis(AxisId::Elevation));
+                continue;
+            }
+            (None, _) => None,
+        };
+        for az_off in copies(&rig.azimuth).iter().flatten() {
+            let az_sp = match rig.azimuth.setpoint(pose.azimuth_deg + az_off, current[3]) {
+                Ok(s) => s,
+                Err(e) => {
+                    if *az_off == 0.0 {
+                        first_err.get_or_insert(e);
+                    }
+                    continue;
+                }
+            };
+            for arm_off in copies(&rig.arm).iter().flatten() {
+                let arm_sp = match rig.arm.setpoint(pose.arm_deg + arm_off, current[0]) {
+                    Ok(s) => s,
+                    Err(e) => {
+                        if *arm_off == 0.0 {
+                            first_err.get_or_insert(e);
+                        }
+                        continue;
+                    }
+                };
+                let travel = (arm_sp.angle_deg - cur[0]).abs()
+                    + elev_sp.map_or(0.0, |e| (e.angle_deg - cur[1]).abs())
+                    + (tilt_sp.angle_deg - cur[2]).abs()
+                    + (az_sp.angle_deg - cur[3]).abs();
+                let sol = Solution {
+                    azimuth: az_sp,
+                    arm: arm_sp,
+                    elevation: elev_sp,
+                    tilt: tilt_sp,
+                    branch: pose.branch,
+                    exit_deg: pose.exit_deg,
+                    travel_deg: travel,
+                };
+                if insert_by_travel(out, &mut stored, sol) {
+                    truncated = true;
+                }
+            }
+        }
+    }
+    if stored == 0 {
+        return Err(first_err.unwrap_or(Error::NoReachableSolution));
+    }
+    Ok(Listing { stored, truncated })
+}
+
+fn insert_by_travel(out: &mut [Solution], stored: &mut usize, s: Solution) -> bool {
+    let mut pos = *stored;
+    while pos > 0 && s.travel_deg < out[pos - 1].travel_deg {
+        pos -= 1;
+    }
+    if pos == out.len() {
+        return true;
+    }
+    let dropped = *stored == out.len();
+    let mut i = if dropped { out.len() - 1 } else { *stored };
+    while i > pos {
+        out[i] = out[i - 1];
+        i -= 1;
+    }
+    out[pos] = s;
+    if !dropped {
+        *stored += 1;
+    }
+    dropped
+}
+
+/// A beam the detector sees.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct InView {
+    /// The beam.
+    pub beam: SurfaceBeam,
+    /// Angle between the detector axis and the beam, degrees.
+    pub offset_deg: f32,
+    /// Arm angle of the beam, degrees.
+    pub arm_deg: f32,
+    /// Elevation of the beam, degrees.
+    pub elevation_deg: f32,
+}
+
+impl InView {
+    /// A placeholder for initialising buffers.
+    pub const EMPTY: InView = InView {
+        beam: SurfaceBeam::EMPTY,
+        offset_deg: 0.0,
+        arm_deg: 0.0,
+        elevation_deg: 0.0,
+    };
+}
+
+/// "What is the detector looking at": every beam of `face` at `inc` within
+/// `acceptance_deg` of the detector axis at (arm, elevation), nearest first.
+pub fn beams_in_view(
+    face: &Face,
+    inc: &Incidence,
+    arm_deg: f32,
+    elevation_deg: f32,
+    acceptance_deg: f32,
+    out: &mut [InView],
+) -> Result<Listing> {
+    let arm = finite(arm_deg, Quantity::Angle)?;
+    let elev = finite(elevation_deg, Quantity::Angle)?;
+    let acc = finite(acceptance_deg, Quantity::Angle)?;
+    if out.is_empty() {
+        return Err(Error::EmptyBuffer);
+    }
+    let d = detector_direction(arm, elev);
+    let cos_acc = math::cos(math::rad(acc.clamp(0.0, 90.0)));
+    let mut stored = 0usize;
+    let mut truncated = false;
+    for b in face.beams_iter(inc) {
+        let k = beam_direction_lab(&b, inc);
+        let c = math::dot(k, d);
+        if c < cos_acc {
+            continue;
+        }
+        // Angle from the cross product's length for accuracy near zero.
+        let off = math::deg(math::atan2(math::norm(math::cross(k, d)), c));
+        let (ba, be) = arm_elevation_deg(k);
+        let item = InView {
+            beam: b,
+            offset_deg: off,
+            arm_deg: ba,
+            elevation_deg: be,
+        };
+        let mut pos = stored;
+        while pos > 0 && off < out[pos - 1].offset_deg {
+            pos -= 1;
+        }
+        if pos == out.len() {
+            truncated = true;
+            continue;
+        }
+        let mut i = if stored == out.len() {
+            truncated = true;
+            out.len() - 1
+        } else {
+            stored += 1;
+            stored - 1
+        };
+        while i > pos {
+            out[i] = out[i - 1];
+            i -= 1;
+        }
+        out[pos] = item;
+    }
+    Ok(Listing { stored, truncated })
+}
+
+/// Arm angle (degrees) of a bulk Bragg reflection in the scattering plane:
+/// 2θ_B = 180° − δ, on the +δ side.
+pub fn bragg_arm_deg(bragg_deg: f32) -> f32 {
+    180.0 - 2.0 * bragg_deg
+}
+
+/// (arm, elevation) in degrees of the point at ring azimuth ψ (degrees; 0 = in the
+/// scattering plane on the +y side) of a transmission ring with scattering angle 2θ.
+pub fn ring_point_deg(two_theta_deg: f32, ring_azimuth_deg: f32) -> (f32, f32) {
+    let (s2, c2) = math::sin_cos_deg(two_theta_deg);
+    let (sp, cp) = math::sin_cos_deg(ring_azimuth_deg);
+    arm_elevation_deg([c2, s2 * cp, s2 * sp])
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::lattice::{Cell, Structure};
+
+    fn cu(m: [i32; 3]) -> Face {
+        Face::new(&Cell::new(Structure::Fcc, 3.615, 0.0, 0.0).unwrap(), m).unwrap()
+    }
+
+    #[test]
+    fn specular_at_twice_tilt() {
+        let rig = Rig::bench_default();
+        let f = cu([1, 1, 1]);
+        let mut out = [Solution::EMPTY; 8];
+        for e in [20.0, 75.0, 300.0, 2000.0] {
+            for t in [10.0f32, 25.0, 60.0] {
+                aim(&rig, &f, [0, 0], e, t, Mode::InPlane, &[0; 4], &mut out).unwrap();
+                assert!((out[0].arm.angle_deg - 2.0 * t).abs() < 1e-3);
+            }
+        }
+    }
+
+    #[test]
+    fn two_circle_agrees_with_in_plane() {
+        let mut rig = Rig::bench_default();
+        let mut el = AxisConfig::new(AxisId::Elevation, 1000.0);
+        el.min_deg = -60.0;
+        el.max_deg = 60.0;
+        rig.elevation = Some(el);
+        let f = cu([1, 0, 0]);
+        let mut a = [Solution::EMPTY; 8];
+        let mut b = [Solution::EMPTY; 8];
+        let n = aim(
+            &rig,
+            &f,
+            [1, 1],
+            150.0,
+            15.0,
+            Mode::InPlane,
+            &[0; 4],
+            &mut a,
+        )
+        .unwrap()
+        .stored;
+        for s in &a[..n] {
+            let m = aim(
+                &rig,
+                &f,
+                [1, 1],
+                150.0,
+                15.0,
+                Mode::AtAzimuth(s.azimuth.angle_deg),
+                &[0; 4],
+                &mut b,
+            )
+            .unwrap()
+            .stored;
+            assert!(m >= 1);
+            assert!(
+                (b[0].arm.angle_deg - s.arm.angle_deg).abs() < 0.01,
+                "{:?} {:?}",
+                b[0],
+                s
+            );
+            assert!(b[0].elevation_deg().abs() < 0.01);
+        }
+    }
+
+    #[test]
+    fn gun_shadow_is_reported() {
+        let rig = Rig::bench_default();
+        let f = cu([1, 0, 0]);
+        let mut out = [Solution::EMPTY; 4];
+        // Specular at tilt 3°: δ = 6°, inside the ±12° shadow.
+        let e = aim(
+            &rig,
+            &f,
+            [0, 0],
+            100.0,
+            3.0,
+            Mode::InPlane,
+            &[0; 4],
+            &mut out,
+        );
+        assert_eq!(e, Err(Error::InZone(AxisId::Arm, 0)));
+    }
+
+    #[test]
+    fn where_inverts_aim() {
+        let rig = Rig::bench_default();
+        let f = cu([1, 1, 0]);
+        let mut out = [Solution::EMPTY; 8];
+        let n = aim(
+            &rig,
+            &f,
+            [1, 0],
+            120.0,
+            20.0,
+            Mode::InPlane,
+            &[0; 4],
+            &mut out,
+        )
+        .unwrap()
+        .stored;
+        for s in &out[..n] {
+            let inc = Incidence::new(120.0, s.tilt.angle_deg, s.azimuth.angle_deg).unwrap();
+            let mut v = [InView::EMPTY; 4];
+            let k = beams_in_view(&f, &inc, s.arm.angle_deg, 0.0, 0.5, &mut v)
+                .unwrap()
+                .stored;
+            assert!(k >= 1 && v[0].beam.rod == [1, 0], "{:?}", &v[..k]);
+            assert!(v[0].offset_deg < 0.01);
+        }
+    }
+}
