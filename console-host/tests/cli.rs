@@ -1,0 +1,387 @@
+//! End-to-end tests of the `mwctl` binary: every calc command in every format, JSON
+//! keys, exit status 2 with one helpful line for bad input, no panics.
+
+use std::process::Command;
+
+fn mwctl(args: &[&str]) -> (i32, String, String) {
+    let out = Command::new(env!("CARGO_BIN_EXE_mwctl"))
+        .args(args)
+        .output()
+        .expect("mwctl runs");
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+fn json(args: &[&str]) -> serde_json::Value {
+    let mut a = args.to_vec();
+    a.extend(["--format", "json"]);
+    let (code, out, err) = mwctl(&a);
+    assert_eq!(code, 0, "{args:?}: {err}");
+    serde_json::from_str(&out).unwrap_or_else(|e| panic!("{args:?}: {e}: {out}"))
+}
+
+const COMMANDS: &[&[&str]] = &[
+    &["crystals"],
+    &[
+        "calc",
+        "wavelength",
+        "--energy",
+        "150",
+        "--inner-potential",
+        "10",
+    ],
+    &[
+        "calc",
+        "reflections",
+        "--crystal",
+        "si",
+        "--energy",
+        "100000",
+        "--max",
+        "8",
+    ],
+    &[
+        "calc",
+        "rings",
+        "--crystal",
+        "au",
+        "--energy",
+        "200000",
+        "--screen-distance",
+        "500",
+    ],
+    &[
+        "calc",
+        "beams",
+        "--crystal",
+        "cu",
+        "--face",
+        "111",
+        "--energy",
+        "120",
+        "--tilt",
+        "8",
+    ],
+    &[
+        "calc",
+        "ivpeaks",
+        "--crystal",
+        "ni",
+        "--face",
+        "100",
+        "--beam",
+        "0,0",
+        "--from",
+        "20",
+        "--to",
+        "400",
+    ],
+];
+
+#[test]
+fn every_command_answers_in_every_format() {
+    for cmd in COMMANDS {
+        for fmt in ["table", "json", "csv"] {
+            let mut a = cmd.to_vec();
+            a.extend(["--format", fmt]);
+            let (code, out, err) = mwctl(&a);
+            assert_eq!(code, 0, "{a:?}: {err}");
+            assert!(!out.trim().is_empty(), "{a:?} printed nothing");
+            if fmt == "csv" {
+                let lines: Vec<&str> = out.lines().collect();
+                let cols = lines[0].split(',').count();
+                assert!(lines.len() >= 2, "{a:?}");
+                for l in &lines[1..] {
+                    // Quoted fields may contain commas; count only unquoted rows.
+                    if !l.contains('"') {
+                        assert_eq!(l.split(',').count(), cols, "{a:?}: {l}");
+                    }
+                }
+            }
+        }
+    }
+}
+
+#[test]
+fn json_keys_are_stable() {
+    let w = json(COMMANDS[1]);
+    for k in [
+        "energy_ev",
+        "wavelength_a",
+        "wavelength_nonrel_a",
+        "velocity_m_s",
+        "inner_wavelength_a",
+    ] {
+        assert!(w.get(k).is_some(), "wavelength lacks {k}");
+    }
+    let r = json(COMMANDS[2]);
+    for k in ["h", "k", "l", "d_a", "bragg_deg", "multiplicity"] {
+        assert!(r["reflections"][0].get(k).is_some(), "reflections lack {k}");
+    }
+    let r = json(COMMANDS[3]);
+    for k in ["h", "k", "l", "d_a", "two_theta_deg", "radius_mm"] {
+        assert!(r["rings"][0].get(k).is_some(), "rings lack {k}");
+    }
+    let b = json(COMMANDS[4]);
+    for k in ["h", "k", "row_spacing_a", "exit_deg", "emergence_ev"] {
+        assert!(b["beams"][1].get(k).is_some(), "beams lack {k}");
+    }
+    let p = json(COMMANDS[5]);
+    assert!(p["peaks"][0].get("energy_ev").is_some());
+    let c = json(COMMANDS[0]);
+    assert!(c["crystals"].as_array().is_some_and(|a| a.len() >= 30));
+    assert!(c["crystals"][0].get("id").is_some());
+}
+
+#[test]
+fn reflections_and_rings_come_in_decreasing_d() {
+    for cmd in [COMMANDS[2], COMMANDS[3]] {
+        let v = json(cmd);
+        let key = if cmd[1] == "reflections" {
+            "reflections"
+        } else {
+            "rings"
+        };
+        let d: Vec<f64> = v[key]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|r| r["d_a"].as_f64().unwrap())
+            .collect();
+        assert!(d.windows(2).all(|w| w[0] >= w[1]), "{key}: {d:?}");
+    }
+}
+
+#[test]
+fn work_functions_correct_the_energy() {
+    // E = e·V + φ_cathode − φ_sample (DESIGN §4).
+    let v = json(&[
+        "calc",
+        "wavelength",
+        "--energy",
+        "100",
+        "--cathode-work-function",
+        "2.5",
+        "--sample-work-function",
+        "4.5",
+    ]);
+    assert_eq!(v["nominal_ev"].as_f64(), Some(100.0));
+    assert!((v["energy_ev"].as_f64().unwrap() - 98.0).abs() < 1e-4);
+}
+
+#[test]
+fn bad_input_exits_2_with_one_line() {
+    let bad: &[&[&str]] = &[
+        &["calc", "wavelength", "--energy", "0"],
+        &["calc", "wavelength", "--energy", "-5"],
+        &["calc", "wavelength", "--energy", "nan"],
+        &["calc", "wavelength", "--energy", "inf"],
+        &["calc", "wavelength", "--energy", "1e39"],
+        &["calc", "wavelength", "--energy", "abc"],
+        &["calc", "wavelength", "--energy", "400000"],
+        &[
+            "calc",
+            "wavelength",
+            "--energy",
+            "100",
+            "--inner-potential",
+            "-3",
+        ],
+        &[
+            "calc",
+            "wavelength",
+            "--energy",
+            "2",
+            "--sample-work-function",
+            "5",
+        ],
+        &[
+            "calc",
+            "reflections",
+            "--crystal",
+            "unobtainium",
+            "--energy",
+            "100",
+        ],
+        &[
+            "calc",
+            "reflections",
+            "--crystal",
+            "cu",
+            "--energy",
+            "100",
+            "--max",
+            "0",
+        ],
+        &[
+            "calc",
+            "rings",
+            "--crystal",
+            "cu",
+            "--energy",
+            "1e5",
+            "--screen-distance",
+            "0",
+        ],
+        &[
+            "calc",
+            "beams",
+            "--crystal",
+            "cu",
+            "--face",
+            "11",
+            "--energy",
+            "100",
+        ],
+        &[
+            "calc",
+            "beams",
+            "--crystal",
+            "cu",
+            "--face",
+            "000",
+            "--energy",
+            "100",
+        ],
+        &[
+            "calc",
+            "beams",
+            "--crystal",
+            "cu",
+            "--face",
+            "1.5,0,0",
+            "--energy",
+            "100",
+        ],
+        &[
+            "calc",
+            "beams",
+            "--crystal",
+            "cu",
+            "--face",
+            "0001",
+            "--energy",
+            "100",
+        ],
+        &[
+            "calc",
+            "beams",
+            "--crystal",
+            "zn",
+            "--face",
+            "1,1,1,1",
+            "--energy",
+            "100",
+        ],
+        &[
+            "calc",
+            "beams",
+            "--crystal",
+            "cu",
+            "--face",
+            "111",
+            "--energy",
+            "100",
+            "--tilt",
+            "95",
+        ],
+        &[
+            "calc",
+            "beams",
+            "--crystal",
+            "cu",
+            "--face",
+            "111",
+            "--energy",
+            "100",
+            "--tilt",
+            "nan",
+        ],
+        &[
+            "calc",
+            "ivpeaks",
+            "--crystal",
+            "cu",
+            "--face",
+            "111",
+            "--beam",
+            "3,0",
+            "--from",
+            "10",
+            "--to",
+            "20",
+        ],
+        &[
+            "calc",
+            "ivpeaks",
+            "--crystal",
+            "cu",
+            "--face",
+            "111",
+            "--beam",
+            "x",
+            "--from",
+            "10",
+            "--to",
+            "20",
+        ],
+        &[
+            "calc",
+            "ivpeaks",
+            "--crystal",
+            "cu",
+            "--face",
+            "111",
+            "--beam",
+            "0,0",
+            "--from",
+            "200",
+            "--to",
+            "20",
+        ],
+        &[
+            "calc",
+            "ivpeaks",
+            "--crystal",
+            "gaas",
+            "--face",
+            "100",
+            "--beam",
+            "0,0",
+            "--from",
+            "20",
+            "--to",
+            "200",
+        ],
+        &["calc", "nonsense"],
+    ];
+    for args in bad {
+        let (code, out, err) = mwctl(args);
+        assert_eq!(code, 2, "{args:?}: stdout {out} stderr {err}");
+        assert!(
+            !err.contains("panicked") && !err.contains("RUST_BACKTRACE"),
+            "{args:?}: {err}"
+        );
+        let first = err.lines().next().unwrap_or("");
+        assert!(first.contains("error"), "{args:?}: {err}");
+    }
+}
+
+#[test]
+fn cautions_are_shown() {
+    let (code, out, _) = mwctl(&["safety"]);
+    assert_eq!(code, 0);
+    assert!(out.contains("not an interlock") && out.contains("X-rays"));
+    let (_, help, _) = mwctl(&["--help"]);
+    assert!(help.contains("not an interlock"));
+}
+
+#[test]
+fn demo_runs() {
+    let (code, out, err) = mwctl(&["demo"]);
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("ag") && out.contains("I-V"));
+}
