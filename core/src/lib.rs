@@ -20,7 +20,10 @@
 //! | [`surface`] | surface meshes, rods, beams at an energy, emergence and I-V energies |
 //! | [`table`] | the fixed crystal table |
 //! | [`goniometer`] | lab-frame geometry: aiming the arm at a beam, what the detector sees |
+//! | [`scan`] | scan plans as iterators (track, arm sweep, I-V) and time estimates |
 //! | [`axis`] | motor axes: microsteps, limits, forbidden zones, backlash, wrap, move times |
+//! | [`fit`] | peak centring and calibration fits (arm zero, gun offset, row and layer spacing, V0) |
+//! | [`budget`] | the angular error budget: named contributions and their combination |
 //!
 //! ```
 //! use matterwave_core::{beam, table, surface::{Face, Incidence}};
@@ -37,12 +40,15 @@
 
 pub mod axis;
 pub mod beam;
+pub mod budget;
 pub mod constants;
 pub mod error;
+pub mod fit;
 pub mod goniometer;
 pub mod lattice;
 pub mod math;
 pub mod reflections;
+pub mod scan;
 pub mod surface;
 pub mod table;
 

@@ -1,0 +1,588 @@
+//! Scan plans as iterators that need no buffers: an energy sweep that tracks a beam, an
+//! arm sweep at fixed energy, and an I-V plan with the predicted peak energies marked;
+//! and time estimates from trapezoidal motion profiles plus dwell.
+//!
+//! A point that cannot be reached (the beam is evanescent, or its solution leaves the
+//! limits) is still yielded, carrying the error, and the plan goes on.
+//!
+//! ```
+//! use matterwave_core::beam::Gun;
+//! use matterwave_core::goniometer::{Mode, Rig};
+//! use matterwave_core::lattice::{Cell, Structure};
+//! use matterwave_core::scan::TrackPlan;
+//! use matterwave_core::surface::Face;
+//! let face = Face::new(&Cell::new(Structure::Fcc, 3.615, 0.0, 0.0).unwrap(), [1, 0, 0]).unwrap();
+//! let plan = TrackPlan::new(Rig::bench_default(), face, [1, 0], Gun::plain(0.0), 30.0, 200.0, 10.0, 10.0, Mode::InPlane)
+//!     .unwrap();
+//! assert_eq!(plan.len(), 18);
+//! let first = plan.iter([0; 4]).next().unwrap();
+//! // Nearest solution from the home position: g along −e1, δ = α + asin(sin α − λ|g|).
+//! let lambda = matterwave_core::beam::wavelength_a(30.0).unwrap();
+//! let s = 10f32.to_radians().sin() - lambda * 2f32.sqrt() / 3.615;
+//! let arm = 10.0 + s.asin().to_degrees();
+//! assert!((first.result.unwrap().arm.angle_deg - arm).abs() < 0.01);
+//! ```
+
+use crate::beam::Gun;
+use crate::error::{finite, Error, Quantity, Result};
+use crate::goniometer::{self, InView, Mode, Position, Rig, Solution};
+use crate::math;
+use crate::reflections::Listing;
+use crate::surface::{Face, Incidence, IvPeak};
+
+/// Most points one plan may have.
+pub const MAX_POINTS: u32 = 100_000;
+
+/// Most predicted peaks an I-V plan marks.
+pub const MAX_PEAKS: usize = 32;
+
+fn count_points(from: f32, to: f32, step: f32, q: Quantity) -> Result<u32> {
+    let from = finite(from, q)?;
+    let to = finite(to, q)?;
+    let step = finite(step, Quantity::Count)?;
+    if step <= 0.0 {
+        return Err(Error::TooLow(Quantity::Count));
+    }
+    if to < from {
+        return Err(Error::EmptyRange);
+    }
+    let n = math::floor((to - from) / step + 1e-4) + 1.0;
+    if n > MAX_POINTS as f32 {
+        return Err(Error::TooHigh(Quantity::Count));
+    }
+    Ok(n as u32)
+}
+
+/// An energy sweep that keeps the detector on one beam.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct TrackPlan {
+    /// The instrument.
+    pub rig: Rig,
+    /// The face.
+    pub face: Face,
+    /// The beam (rod).
+    pub rod: [i32; 2],
+    /// Gun corrections; `nominal_ev` is replaced at each point.
+    pub gun: Gun,
+    /// First nominal energy, eV.
+    pub from_ev: f32,
+    /// Nominal energy step, eV.
+    pub step_ev: f32,
+    /// Sample tilt, degrees.
+    pub tilt_deg: f32,
+    /// Aiming mode.
+    pub mode: Mode,
+    count: u32,
+}
+
+/// One point of a tracking sweep.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct TrackPoint {
+    /// Index from 0.
+    pub index: u32,
+    /// Nominal energy, eV.
+    pub nominal_ev: f32,
+    /// Kinetic energy at the sample, eV (NaN where the correction made it invalid).
+    pub energy_ev: f32,
+    /// The nearest solution, or why there is none.
+    pub result: core::result::Result<Solution, Error>,
+}
+
+impl TrackPlan {
+    /// A sweep from `from_ev` to `to_ev` (nominal, inclusive where the step lands on
+    /// it) in steps of `step_ev`.
+    #[allow(clippy::too_many_arguments)]
+    pub fn new(
+        rig: Rig,
+        face: Face,
+        rod: [i32; 2],
+        gun: Gun,
+        from_ev: f32,
+        to_ev: f32,
+        step_ev: f32,
+        tilt_deg: f32,
+        mode: Mode,
+    ) -> Result<TrackPlan> {
+        rig.validate()?;
+        crate::surface::check_tilt(tilt_deg)?;
+        let count = count_points(from_ev, to_ev, step_ev, Quantity::Energy)?;
+        Ok(TrackPlan {
+            rig,
+            face,
+            rod,
+            gun,
+            from_ev,
+            step_ev,
+            tilt_deg,
+            mode,
+            count,
+        })
+    }
+
+    /// Number of points.
+    pub fn len(&self) -> u32 {
+        self.count
+    }
+
+    /// Whether the plan has no points (never, once built).
+    pub fn is_empty(&self) -> bool {
+        self.count == 0
+    }
+
+    /// Nominal energy of point `i`, eV.
+    pub fn nominal_ev(&self, i: u32) -> f32 {
+        self.from_ev + i as f32 * self.step_ev
+    }
+
+    /// The points, starting from axis position `start`; each point's solution is the
+    /// one nearest the previous reachable point.
+    pub fn iter(&self, start: Position) -> TrackIter<'_> {
+        TrackIter {
+            plan: self,
+            next: 0,
+            position: start,
+        }
+    }
+
+    /// The solution at one point from position `from`.
+    pub fn point(&self, i: u32, from: &Position) -> TrackPoint {
+        let nominal = self.nominal_ev(i);
+        let gun = Gun {
+            nominal_ev: nominal,
+            ..self.gun
+        };
+        let (energy, result) = match gun.kinetic_energy_ev() {
+            Ok(e) => {
+                let mut one = [Solution::EMPTY; 1];
+                let r = goniometer::aim(
+                    &self.rig,
+                    &self.face,
+                    self.rod,
+                    e,
+                    self.tilt_deg,
+                    self.mode,
+                    from,
+                    &mut one,
+                )
+                .map(|_| one[0]);
+                (e, r)
+            }
+            Err(err) => (f32::NAN, Err(err)),
+        };
+        TrackPoint {
+            index: i,
+            nominal_ev: nominal,
+            energy_ev: energy,
+            result,
+        }
+    }
+}
+
+/// Iterator over a [`TrackPlan`].
+#[derive(Clone, Debug)]
+pub struct TrackIter<'a> {
+    plan: &'a TrackPlan,
+    next: u32,
+    position: Position,
+}
+
+impl Iterator for TrackIter<'_> {
+    type Item = TrackPoint;
+
+    fn next(&mut self) -> Option<TrackPoint> {
+        if self.next >= self.plan.count {
+            return None;
+        }
+        let p = self.plan.point(self.next, &self.position);
+        self.next += 1;
+        if let Ok(s) = &p.result {
+            self.position = s.position();
+        }
+        Some(p)
+    }
+
+    fn size_hint(&self) -> (usize, Option<usize>) {
+        let n = (self.plan.count - self.next) as usize;
+        (n, Some(n))
+    }
+}
+
+/// An arm sweep at fixed energy, tilt, azimuth and elevation.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct SweepPlan {
+    /// The instrument.
+    pub rig: Rig,
+    /// The face.
+    pub face: Face,
+    /// Incidence (energy at the sample, tilt, azimuth).
+    pub incidence: Incidence,
+    /// Detector elevation during the sweep, degrees.
+    pub elevation_deg: f32,
+    /// First arm angle, degrees.
+    pub from_deg: f32,
+    /// Arm step, degrees (positive).
+    pub step_deg: f32,
+    count: u32,
+}
+
+/// One point of an arm sweep.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct SweepPoint {
+    /// Index from 0.
+    pub index: u32,
+    /// Requested arm angle, degrees.
+    pub arm_deg: f32,
+    /// The arm setpoint, or the limit/zone that forbids it.
+    pub setpoint: core::result::Result<crate::axis::Setpoint, Error>,
+    /// The beam nearest the detector axis, if one is within the acceptance.
+    pub in_view: Option<InView>,
+}
+
+impl SweepPlan {
+    /// An arm sweep from `from_deg` to `to_deg` in steps of `step_deg`.
+    #[allow(clippy::too_many_arguments)]
+    pub fn new(
+        rig: Rig,
+        face: Face,
+        incidence: Incidence,
+        elevation_deg: f32,
+        from_deg: f32,
+        to_deg: f32,
+        step_deg: f32,
+    ) -> Result<SweepPlan> {
+        rig.validate()?;
+        finite(elevation_deg, Quantity::Angle)?;
+        let count = count_points(from_deg, to_deg, step_deg, Quantity::Angle)?;
+        Ok(SweepPlan {
+            rig,
+            face,
+            incidence,
+            elevation_deg,
+            from_deg,
+            step_deg,
+            count,
+        })
+    }
+
+    /// Number of points.
+    pub fn len(&self) -> u32 {
+        self.count
+    }
+
+    /// Whether the plan has no points (never, once built).
+    pub fn is_empty(&self) -> bool {
+        self.count == 0
+    }
+
+    /// The points, starting from arm step count `start_steps`.
+    pub fn iter(&self, start_steps: i32) -> SweepIter<'_> {
+        SweepIter {
+            plan: self,
+            next: 0,
+            steps: start_steps,
+        }
+    }
+
+    /// Every beam whose arm angle lies in the sweep's range and whose elevation is
+    /// within the acceptance of the sweep's elevation, in order of arm angle.
+    pub fn beams_crossed(&self, out: &mut [InView]) -> Result<Listing> {
+        if out.is_empty() {
+            return Err(Error::EmptyBuffer);
+        }
+        let lo = self.from_deg;
+        let hi = self.from_deg + (self.count.saturating_sub(1)) as f32 * self.step_deg;
+        let inc = &self.incidence;
+        let mut stored = 0usize;
+        let mut truncated = false;
+        for b in self.face.beams_iter(inc) {
+            let (arm, elev) =
+                goniometer::arm_elevation_deg(goniometer::beam_direction_lab(&b, inc));
+            let off = (elev - self.elevation_deg).abs();
+            if arm < lo || arm > hi || off > self.rig.acceptance_deg {
+                continue;
+            }
+            let item = InView {
+                beam: b,
+                offset_deg: off,
+                arm_deg: arm,
+                elevation_deg: elev,
+            };
+            let mut pos = stored;
+            while pos > 0 && arm < out[pos - 1].arm_deg {
+                pos -= 1;
+            }
+            if pos == out.len() {
+                truncated = true;
+                continue;
+            }
+            let mut i = if stored == out.len() {
+                truncated = true;
+                out.len() - 1
+            } else {
+                stored += 1;
+                stored - 1
+            };
+            while i > pos {
+                out[i] = out[i - 1];
+                i -= 1;
+            }
+            out[pos] = item;
+        }
+        Ok(Listing { stored, truncated })
+    }
+}
+
+/// Iterator over a [`SweepPlan`].
+#[derive(Clone, Debug)]
+pub struct SweepIter<'a> {
+    plan: &'a SweepPlan,
+    next: u32,
+    steps: i32,
+}
+
+impl Iterator for SweepIter<'_> {
+    type Item = SweepPoint;
+
+    fn next(&mut self) -> Option<SweepPoint> {
+        let p = self.plan;
+        if self.next >= p.count {
+            return None;
+        }
+        let arm = p.from_deg + self.next as f32 * p.step_deg;
+        let sp = p.rig.arm.setpoint(arm, self.steps);
+        if let Ok(s) = &sp {
+            self.steps = s.steps;
+        }
+        let mut one = [InView::EMPTY; 1];
+        let in_view = match goniometer::beams_in_view(
+            &p.face,
+            &p.incidence,
+            arm,
+            p.elevation_deg,
+            p.rig.acceptance_deg,
+            &mut one,
+        ) {
+            Ok(l) if l.stored > 0 => Some(one[0]),
+            _ => None,
+        };
+        let point = SweepPoint {
+            index: self.next,
+            arm_deg: arm,
+            setpoint: sp,
+            in_view,
+        };
+        self.next += 1;
+        Some(point)
+    }
+}
+
+/// An I-V plan: a tracking sweep with the predicted kinematic peak energies marked.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct IvPlan {
+    /// The tracking sweep.
+    pub track: TrackPlan,
+    /// Inner potential used for the prediction, eV.
+    pub inner_potential_ev: f32,
+    peaks: [IvPeak; MAX_PEAKS],
+    peak_count: usize,
+}
+
+/// One point of an I-V plan.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct IvPoint {
+    /// The tracking point.
+    pub point: TrackPoint,
+    /// A predicted peak within half a step of this point's energy.
+    pub peak: Option<IvPeak>,
+}
+
+impl IvPlan {
+    /// Builds the plan and predicts the peaks over its energy range, at the azimuth of
+    /// the first reachable solution (in-plane mode) or the given azimuth.
+    pub fn new(track: TrackPlan, inner_potential_ev: f32, start: Position) -> Result<IvPlan> {
+        let mut peaks = [IvPeak::EMPTY; MAX_PEAKS];
+        let azimuth = match track.mode {
+            Mode::AtAzimuth(a) => a,
+            Mode::InPlane => track
+                .iter(start)
+                .find_map(|p| p.result.ok())
+                .map_or(0.0, |s| s.azimuth.angle_deg),
+        };
+        let last = track.nominal_ev(track.len().saturating_sub(1));
+        let gun_at = |n: f32| {
+            Gun {
+                nominal_ev: n,
+                ..track.gun
+            }
+            .kinetic_energy_ev()
+        };
+        let lo = gun_at(track.from_ev)?;
+        let hi = gun_at(last)?;
+        let mut peak_count = 0;
+        if hi > lo {
+            let inc = Incidence::new(lo, track.tilt_deg, azimuth)?;
+            let l = track
+                .face
+                .iv_peaks(track.rod, &inc, inner_potential_ev, lo, hi, &mut peaks)?;
+            peak_count = l.stored;
+        } else {
+            crate::beam::check_inner_potential(inner_potential_ev)?;
+        }
+        Ok(IvPlan {
+            track,
+            inner_potential_ev,
+            peaks,
+            peak_count,
+        })
+    }
+
+    /// The predicted peaks (energies at the sample).
+    pub fn peaks(&self) -> &[IvPeak] {
+        self.peaks.get(..self.peak_count).unwrap_or(&[])
+    }
+
+    /// The points with peak marks.
+    pub fn iter(&self, start: Position) -> impl Iterator<Item = IvPoint> + '_ {
+        let half = 0.5 * self.track.step_ev;
+        self.track.iter(start).map(move |point| {
+            let peak = self
+                .peaks()
+                .iter()
+                .copied()
+                .find(|p| (p.energy_ev - point.energy_ev).abs() <= half);
+            IvPoint { point, peak }
+        })
+    }
+}
+
+/// Total time of a sequence of solutions from `start`: per move the slowest axis
+/// (trapezoidal profile, backlash turn-round included), plus `dwell_s` at every
+/// reachable point. Unreachable points (`None`) are skipped.
+pub fn estimate_s(
+    rig: &Rig,
+    start: Position,
+    points: impl Iterator<Item = Option<Solution>>,
+    dwell_s: f32,
+) -> f32 {
+    let dwell = if dwell_s.is_finite() && dwell_s > 0.0 {
+        dwell_s
+    } else {
+        0.0
+    };
+    let mut pos = start;
+    let mut total = 0.0f32;
+    for s in points.flatten() {
+        let mut t = rig.arm.time_to_s(pos[0], &s.arm);
+        if let (Some(ax), Some(sp)) = (&rig.elevation, &s.elevation) {
+            t = t.max(ax.time_to_s(pos[1], sp));
+        }
+        t = t.max(rig.tilt.time_to_s(pos[2], &s.tilt));
+        t = t.max(rig.azimuth.time_to_s(pos[3], &s.azimuth));
+        total += t + dwell;
+        pos = s.position();
+    }
+    total
+}
+
+/// Total time of an arm sweep from `start_steps`, seconds (moves plus dwell).
+pub fn estimate_sweep_s(plan: &SweepPlan, start_steps: i32, dwell_s: f32) -> f32 {
+    let dwell = if dwell_s.is_finite() && dwell_s > 0.0 {
+        dwell_s
+    } else {
+        0.0
+    };
+    let mut steps = start_steps;
+    let mut total = 0.0;
+    for p in plan.iter(start_steps) {
+        if let Ok(sp) = p.setpoint {
+            total += plan.rig.arm.time_to_s(steps, &sp) + dwell;
+            steps = sp.steps;
+        }
+    }
+    total
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::lattice::{Cell, Structure};
+
+    fn cu100() -> Face {
+        Face::new(
+            &Cell::new(Structure::Fcc, 3.615, 0.0, 0.0).unwrap(),
+            [1, 0, 0],
+        )
+        .unwrap()
+    }
+
+    #[test]
+    fn track_goes_on_past_unreachable_points() {
+        let plan = TrackPlan::new(
+            Rig::bench_default(),
+            cu100(),
+            [1, 0],
+            Gun::plain(0.0),
+            20.0,
+            300.0,
+            20.0,
+            10.0,
+            Mode::InPlane,
+        )
+        .unwrap();
+        // Start with the arm at +30°, on the far side of the gun's shadow from the −1
+        // branch, so the track follows the +1 branch.
+        let start = [(30.0 * plan.rig.arm.steps_per_deg) as i32, 0, 0, 0];
+        let mut ok = 0;
+        let mut bad = 0;
+        for p in plan.iter(start) {
+            if p.result.is_ok() {
+                ok += 1;
+            } else {
+                bad += 1;
+            }
+        }
+        assert_eq!(ok + bad, plan.len());
+        assert!(ok > 5 && bad >= 1);
+    }
+
+    #[test]
+    fn estimate_adds_dwell() {
+        let rig = Rig::bench_default();
+        let plan = TrackPlan::new(
+            rig,
+            cu100(),
+            [0, 0],
+            Gun::plain(0.0),
+            50.0,
+            100.0,
+            10.0,
+            20.0,
+            Mode::InPlane,
+        )
+        .unwrap();
+        let t0 = estimate_s(&rig, [0; 4], plan.iter([0; 4]).map(|p| p.result.ok()), 0.0);
+        let t1 = estimate_s(&rig, [0; 4], plan.iter([0; 4]).map(|p| p.result.ok()), 2.0);
+        assert!((t1 - t0 - 2.0 * plan.len() as f32).abs() < 1e-3);
+        assert!(t0 > 0.0);
+    }
+
+    #[test]
+    fn iv_plan_marks_peaks() {
+        let plan = TrackPlan::new(
+            Rig::bench_default(),
+            cu100(),
+            [0, 0],
+            Gun::plain(0.0),
+            30.0,
+            400.0,
+            1.0,
+            15.0,
+            Mode::InPlane,
+        )
+        .unwrap();
+        let iv = IvPlan::new(plan, 10.0, [0; 4]).unwrap();
+        assert!(iv.peaks().len() >= 3);
+        let marked = iv.iter([0; 4]).filter(|p| p.peak.is_some()).count();
+        assert!(marked >= iv.peaks().len());
+    }
+}
