@@ -4,8 +4,11 @@
 
 use crate::calc::{self, GunArgs, IvArgs};
 use crate::error::CliResult;
+use crate::gonio::{self, AimArgs, BudgetArgs, FitArgs, RigArgs, SweepArgs, TrackArgs, WhereArgs};
 use crate::output::Format;
+use crate::rig;
 use clap::{Parser, Subcommand};
+use std::path::PathBuf;
 
 /// Cautions shown by `mwctl safety`, in `--help` and in the README.
 pub const CAUTIONS: &str = "\
@@ -37,8 +40,37 @@ pub enum Command {
     Calc(Calc),
     /// A short walk-through in an invented bench scenario (Ag(100) at 95 eV).
     Demo,
+    /// The goniometer's rig: axes, limits, forbidden zones, detector (docs/RIG.md).
+    #[command(subcommand)]
+    Rig(RigCmd),
     /// Print the safety cautions.
     Safety,
+    /// Talk to a controller console: requests from stdin, replies to stdout.
+    Talk {
+        /// The link: `sim` (in-process simulator of the controller).
+        #[arg(long, value_name = "LINK", default_value = "sim")]
+        link: String,
+    },
+}
+
+/// `mwctl rig …`
+#[derive(Debug, Subcommand)]
+pub enum RigCmd {
+    /// Print the effective rig: the built-in one, or the one in --rig FILE.
+    Show {
+        /// The rig.
+        #[command(flatten)]
+        rig: RigArgs,
+        /// Print it as a rig file (TOML) that `rig check` and `--rig` read back.
+        #[arg(long)]
+        toml: bool,
+    },
+    /// Check a rig file: every field, then the controller's own validation.
+    Check {
+        /// The rig file (TOML).
+        #[arg(value_name = "FILE")]
+        file: PathBuf,
+    },
 }
 
 /// `mwctl calc …`
@@ -147,6 +179,29 @@ pub enum Calc {
         #[arg(long, value_name = "N", default_value_t = 100)]
         max: usize,
     },
+    /// Point the arm (and turn the sample) at a beam: setpoints of every axis, nearest
+    /// the current position first.
+    #[command(allow_negative_numbers = true)]
+    Aim(AimArgs),
+    /// Follow a beam over an energy range: setpoints at every step, the limit or zone
+    /// where it is unreachable, and a time estimate.
+    #[command(allow_negative_numbers = true)]
+    Track(TrackArgs),
+    /// Sweep the arm at one energy: the beams crossed, and a time estimate.
+    #[command(allow_negative_numbers = true)]
+    Sweep(SweepArgs),
+    /// What the detector sees at an arm (and elevation) angle: beams within the
+    /// acceptance, nearest first.
+    #[command(allow_negative_numbers = true)]
+    Where(WhereArgs),
+    /// Calibration fits from a CSV file: peak centre, arm zero and gun offset, row
+    /// spacing, inner potential and layer spacing.
+    #[command(allow_negative_numbers = true, after_help = gonio::FIT_HELP)]
+    Fit(FitArgs),
+    /// Angular error budget of the aimed arm angle: energy spread, lattice constant,
+    /// step quantisation, detector acceptance, arm zero.
+    #[command(allow_negative_numbers = true)]
+    Budget(BudgetArgs),
 }
 
 /// Runs a parsed command and returns the text to print on stdout.
@@ -156,6 +211,26 @@ pub fn run(cli: &Cli) -> CliResult<String> {
         Command::Crystals => calc::crystals()?,
         Command::Safety => return Ok(format!("{CAUTIONS}\n")),
         Command::Demo => return crate::demo::run(f),
+        Command::Rig(RigCmd::Show { rig: r, toml }) => {
+            let rf = r.load()?;
+            if *toml {
+                return Ok(rig::to_toml(&rf));
+            }
+            rig::report(&rf)
+        }
+        Command::Rig(RigCmd::Check { file }) => {
+            let rf = rig::load(file)?;
+            let mut r = rig::report(&rf);
+            r.fields.insert(
+                0,
+                ("check", "check", crate::output::Value::Text("ok".into())),
+            );
+            r
+        }
+        Command::Talk { link } => {
+            crate::talk::run(link)?;
+            return Ok(String::new());
+        }
         Command::Calc(c) => match c {
             Calc::Wavelength {
                 gun,
@@ -203,6 +278,12 @@ pub fn run(cli: &Cli) -> CliResult<String> {
                 };
                 calc::ivpeaks(crystal, face, &a, *max)?
             }
+            Calc::Aim(a) => gonio::aim(a)?,
+            Calc::Track(a) => gonio::track(a)?,
+            Calc::Sweep(a) => return Ok(gonio::sweep(a)?.render(f)),
+            Calc::Where(a) => gonio::where_(a)?,
+            Calc::Fit(a) => gonio::fit_cmd(a)?,
+            Calc::Budget(a) => gonio::budget_cmd(a)?,
         },
     };
     Ok(report.render(f))

@@ -155,6 +155,34 @@ pub enum Error {
     DegenerateFit,
     /// A fit or iteration did not converge.
     NoConvergence,
+    /// Protocol: the request line exceeded the maximum length.
+    LineTooLong,
+    /// Protocol: the request line held a non-ASCII byte or a control character.
+    BadByte,
+    /// Protocol: the `*XXXX` checksum suffix is malformed or does not match.
+    BadChecksum,
+    /// Protocol: unknown command word.
+    UnknownCommand,
+    /// Protocol: an argument the command does not take (unknown key, extra value).
+    UnknownArgument,
+    /// Protocol: a required argument is missing.
+    MissingArgument,
+    /// Protocol: a number could not be read (NaN, inf, out of f32 range, not a number).
+    BadNumber,
+    /// Protocol: a word value is not one of those accepted, or arguments are malformed.
+    BadValue,
+    /// Protocol: motion needs `enable` first.
+    NotEnabled,
+    /// Protocol: the interlock input reports unsafe; no motion.
+    InterlockOpen,
+    /// Protocol: a list is still streaming; send `stop` to abort it.
+    Busy,
+    /// Protocol: the streaming request was aborted by `stop`.
+    Aborted,
+    /// Protocol: no stored aim solution with that index.
+    NoSuchSolution,
+    /// Protocol: the sample buffer is full.
+    BufferFull,
 }
 
 impl Error {
@@ -189,6 +217,20 @@ impl Error {
             Error::BadAxisConfig(_) => 305,
             Error::StepOverflow(_) => 306,
             Error::NoSuchAxis(_) => 307,
+            Error::LineTooLong => 400,
+            Error::BadByte => 401,
+            Error::BadChecksum => 402,
+            Error::UnknownCommand => 403,
+            Error::UnknownArgument => 404,
+            Error::MissingArgument => 405,
+            Error::BadNumber => 406,
+            Error::BadValue => 407,
+            Error::NotEnabled => 408,
+            Error::InterlockOpen => 409,
+            Error::Busy => 410,
+            Error::Aborted => 411,
+            Error::NoSuchSolution => 412,
+            Error::BufferFull => 413,
         }
     }
 
@@ -250,6 +292,20 @@ impl Error {
             }
             Error::StepOverflow(_) => "target needs more microsteps than the axis counter holds",
             Error::NoSuchAxis(_) => "this rig has no such axis",
+            Error::LineTooLong => "line too long; at most 120 bytes before the line end",
+            Error::BadByte => "line holds a non-ASCII byte or control character; send printable ASCII",
+            Error::BadChecksum => "checksum suffix malformed or wrong; end the line with a star and the 4 hex digits of its CRC-16",
+            Error::UnknownCommand => "unknown command; send help for the list",
+            Error::UnknownArgument => "argument not taken by this command; send help for its arguments",
+            Error::MissingArgument => "a required argument is missing; send help for the arguments",
+            Error::BadNumber => "not a finite number within range",
+            Error::BadValue => "value not accepted; send help for the accepted words",
+            Error::NotEnabled => "motion is disabled; send enable first",
+            Error::InterlockOpen => "interlock reports unsafe; no motion until it is safe",
+            Error::Busy => "a list is still streaming; wait or send stop",
+            Error::Aborted => "aborted by stop",
+            Error::NoSuchSolution => "no stored solution with that index; send aim first",
+            Error::BufferFull => "sample buffer full; send pt clear",
         }
     }
 

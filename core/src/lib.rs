@@ -14,6 +14,7 @@
 //! | [`constants`] | CODATA values |
 //! | [`math`] | the float backend (libm, or micromath with `fast-math`) and vector helpers |
 //! | [`error`] | error values with stable codes |
+//! | [`console`] | the serial protocol's foundation: lines, checksums, numbers, tokens, replies |
 //! | [`beam`] | gun settings → kinetic energy → wavelength, velocity, wavevector |
 //! | [`lattice`] | structures, conventional cells, d-spacings, extinctions, face notation |
 //! | [`reflections`] | bulk reflection families, Bragg angles, transmission rings |
@@ -41,6 +42,7 @@
 pub mod axis;
 pub mod beam;
 pub mod budget;
+pub mod console;
 pub mod constants;
 pub mod error;
 pub mod fit;

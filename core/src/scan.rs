@@ -344,15 +344,24 @@ impl Iterator for SweepIter<'_> {
     type Item = SweepPoint;
 
     fn next(&mut self) -> Option<SweepPoint> {
-        let p = self.plan;
-        if self.next >= p.count {
+        if self.next >= self.plan.count {
             return None;
         }
-        let arm = p.from_deg + self.next as f32 * p.step_deg;
-        let sp = p.rig.arm.setpoint(arm, self.steps);
-        if let Ok(s) = &sp {
+        let point = self.plan.point(self.next, self.steps);
+        if let Ok(s) = &point.setpoint {
             self.steps = s.steps;
         }
+        self.next += 1;
+        Some(point)
+    }
+}
+
+impl SweepPlan {
+    /// Point `i` of the sweep, moving from arm step count `from_steps`.
+    pub fn point(&self, i: u32, from_steps: i32) -> SweepPoint {
+        let p = self;
+        let arm = p.from_deg + i as f32 * p.step_deg;
+        let sp = p.rig.arm.setpoint(arm, from_steps);
         let mut one = [InView::EMPTY; 1];
         let in_view = match goniometer::beams_in_view(
             &p.face,
@@ -365,14 +374,12 @@ impl Iterator for SweepIter<'_> {
             Ok(l) if l.stored > 0 => Some(one[0]),
             _ => None,
         };
-        let point = SweepPoint {
-            index: self.next,
+        SweepPoint {
+            index: i,
             arm_deg: arm,
             setpoint: sp,
             in_view,
-        };
-        self.next += 1;
-        Some(point)
+        }
     }
 }
 
@@ -443,15 +450,22 @@ impl IvPlan {
 
     /// The points with peak marks.
     pub fn iter(&self, start: Position) -> impl Iterator<Item = IvPoint> + '_ {
+        self.track.iter(start).map(move |point| self.mark(point))
+    }
+
+    /// Point `i` from position `from`, with its peak mark.
+    pub fn point(&self, i: u32, from: &Position) -> IvPoint {
+        self.mark(self.track.point(i, from))
+    }
+
+    fn mark(&self, point: TrackPoint) -> IvPoint {
         let half = 0.5 * self.track.step_ev;
-        self.track.iter(start).map(move |point| {
-            let peak = self
-                .peaks()
-                .iter()
-                .copied()
-                .find(|p| (p.energy_ev - point.energy_ev).abs() <= half);
-            IvPoint { point, peak }
-        })
+        let peak = self
+            .peaks()
+            .iter()
+            .copied()
+            .find(|p| (p.energy_ev - point.energy_ev).abs() <= half);
+        IvPoint { point, peak }
     }
 }
 

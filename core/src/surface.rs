@@ -536,14 +536,16 @@ impl Face {
         emergence_from(g, g[0] * g[0] + g[1] * g[1], inc.sin_tilt)
     }
 
-    /// Iterator over every beam at `inc`, in rod-index order (no buffer needed).
-    pub fn beams_iter(&self, inc: &Incidence) -> BeamIter<'_> {
+    /// Iterator over every beam at `inc`, in rod-index order (no buffer needed). The
+    /// iterator holds its own copy of the face, so it can be kept across calls (e.g. to
+    /// stream a list one line at a time).
+    pub fn beams_iter(&self, inc: &Incidence) -> BeamIter {
         let reach = inc.k_inv_a * (1.0 + inc.sin_tilt.abs());
         let bound = |len: f32| ((reach * len) as i32).min(4096);
         let hmax = bound(self.a1_len_a());
         let kmax = bound(self.a2_len_a());
         BeamIter {
-            face: self,
+            face: *self,
             inc: *inc,
             hmax,
             kmax,
@@ -775,9 +777,9 @@ fn beam_before(a: &SurfaceBeam, b: &SurfaceBeam) -> bool {
 }
 
 /// Iterator over the beams of a face at one incidence (see [`Face::beams_iter`]).
-#[derive(Clone, Debug)]
-pub struct BeamIter<'a> {
-    face: &'a Face,
+#[derive(Clone, Copy, Debug)]
+pub struct BeamIter {
+    face: Face,
     inc: Incidence,
     hmax: i32,
     kmax: i32,
@@ -785,7 +787,7 @@ pub struct BeamIter<'a> {
     k: i32,
 }
 
-impl Iterator for BeamIter<'_> {
+impl Iterator for BeamIter {
     type Item = SurfaceBeam;
 
     fn next(&mut self) -> Option<SurfaceBeam> {

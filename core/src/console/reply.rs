@@ -1,0 +1,501 @@
+//! Building reply lines and writing them to any [`embedded_io::Write`].
+//!
+//! A [`ReplyWriter`] assembles ONE outgoing line at a time in a fixed `N`-byte buffer
+//! (no heap) from pieces separated by single spaces, then [`ReplyWriter::finish`] writes
+//! it, with the `*XXXX` checksum suffix if checksums are on (they are when the request
+//! carried one), and a `\n`. The writer can then build the next line (streamed items,
+//! then the final status line).
+//!
+//! Line shapes started by the helpers: [`ReplyWriter::ok`] → `ok key=value …`,
+//! [`ReplyWriter::err`] → `err <code> <message>`, [`ReplyWriter::item`] → `- key=value …`.
+//!
+//! # Length limit
+//!
+//! `N` (default [`MAX_LINE`] = 120) is the maximum line length on the wire without the
+//! `\n` and *including* the checksum suffix, so the content may use `N − 5` bytes
+//! whether or not checksums are on (a reply fits or not independently of the checksum
+//! setting). Each piece is appended whole or not at all. Once a piece does not fit, the
+//! line is marked overflowed, further pieces are ignored, and `finish` writes nothing
+//! and returns [`ReplyError::TooLong`]; the caller should then send a short `err` line
+//! instead. A reply is never silently truncated.
+//!
+//! # Character rules
+//!
+//! Replies are printable ASCII. Text is made safe as it is appended: letters common in
+//! messages are spelt out (`Å`→`A`, `°`→`deg`, `λ`→`lambda`, `θ`→`theta`, `±`→`+-`, `·`→`.`,
+//! …), any other non-ASCII character becomes one `?`, and `*` (reserved for the checksum)
+//! becomes `?`. In words, keys and values, spaces, tabs and control characters become
+//! `_`, so a value stays one token; in free text ([`ReplyWriter::text`], the message of
+//! [`ReplyWriter::err`]) they become spaces.
+//!
+//! ```
+//! use matterwave_core::console::reply::ReplyWriter;
+//! let mut wire = [0u8; 64];
+//! let mut port = &mut wire[..];
+//! let mut rw = ReplyWriter::new(&mut port, false);
+//! rw.item().field_str("axis", "arm").field_f32("pos", 12.5, 2);
+//! rw.finish().unwrap();
+//! rw.ok().field_i32("n", 1);
+//! rw.finish().unwrap();
+//! let left = port.len();
+//! assert_eq!(&wire[..64 - left], b"- axis=arm pos=12.50\nok n=1\n");
+//! ```
+
+use embedded_io::Write;
+
+use super::crc;
+pub use super::line::MAX_LINE;
+use super::num::{self, NumBuf};
+
+/// Why a reply line was not (completely) sent.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum ReplyError<E> {
+    /// The writer failed; part of the line may have been sent.
+    Io(E),
+    /// The writer accepted zero bytes of a non-empty write; part of the line may have
+    /// been sent.
+    WriteZero,
+    /// The line did not fit the buffer; nothing was sent.
+    TooLong,
+}
+
+impl<E> From<E> for ReplyError<E> {
+    fn from(e: E) -> Self {
+        ReplyError::Io(e)
+    }
+}
+
+/// How a piece of text is made safe.
+#[derive(Clone, Copy, PartialEq, Eq)]
+enum Mode {
+    /// One token: blanks and controls become `_`.
+    Token,
+    /// Free text: blanks and controls become spaces.
+    Text,
+}
+
+/// ASCII spellings of non-ASCII characters found in messages.
+const SPELLINGS: [(char, &str); 16] = [
+    ('Å', "A"),
+    ('°', "deg"),
+    ('λ', "lambda"),
+    ('θ', "theta"),
+    ('±', "+-"),
+    ('·', "."),
+    ('×', "x"),
+    ('−', "-"),
+    ('µ', "u"),
+    ('μ', "u"),
+    ('δ', "delta"),
+    ('ν', "nu"),
+    ('α', "alpha"),
+    ('φ', "phi"),
+    ('≤', "<="),
+    ('≥', ">="),
+];
+
+/// Write all of `bytes`, treating a zero-length write as an error (never panics, unlike
+/// a `write_all` that meets a misbehaving writer).
+fn send<W: Write>(out: &mut W, mut bytes: &[u8]) -> Result<(), ReplyError<W::Error>> {
+    while !bytes.is_empty() {
+        match out.write(bytes) {
+            Ok(0) => return Err(ReplyError::WriteZero),
+            Ok(n) => bytes = bytes.get(n..).unwrap_or(&[]),
+            Err(e) => return Err(ReplyError::Io(e)),
+        }
+    }
+    Ok(())
+}
+
+/// Builds one reply line at a time in an `N`-byte buffer and writes it to `W`.
+/// See the [module docs](self).
+pub struct ReplyWriter<'w, W: Write, const N: usize = { MAX_LINE }> {
+    out: &'w mut W,
+    buf: [u8; N],
+    len: usize,
+    crc: bool,
+    overflow: bool,
+}
+
+impl<'w, W: Write> ReplyWriter<'w, W> {
+    /// A writer with the protocol's [`MAX_LINE`]; `with_crc` appends checksums.
+    pub fn new(out: &'w mut W, with_crc: bool) -> Self {
+        Self::with_line_length(out, with_crc)
+    }
+}
+
+impl<'w, W: Write, const N: usize> ReplyWriter<'w, W, N> {
+    /// A writer for lines of at most `N` bytes (content `N − 5`).
+    ///
+    /// ```
+    /// # use matterwave_core::console::reply::ReplyWriter;
+    /// let mut wire = [0u8; 32];
+    /// let mut port = &mut wire[..];
+    /// let mut rw = ReplyWriter::<_, 12>::with_line_length(&mut port, false);
+    /// rw.ok().field_str("abc", "de"); // "ok abc=de" is 9 > 12 - 5 bytes
+    /// assert!(rw.overflowed());
+    /// ```
+    pub fn with_line_length(out: &'w mut W, with_crc: bool) -> Self {
+        Self {
+            out,
+            buf: [0; N],
+            len: 0,
+            crc: with_crc,
+            overflow: false,
+        }
+    }
+
+    /// Turn checksums on outgoing lines on or off.
+    pub fn set_crc(&mut self, on: bool) {
+        self.crc = on;
+    }
+
+    /// Whether outgoing lines get a checksum.
+    pub fn crc_enabled(&self) -> bool {
+        self.crc
+    }
+
+    /// Content bytes a line may hold (`N − 5`).
+    pub const fn capacity(&self) -> usize {
+        N.saturating_sub(crc::SUFFIX_LEN)
+    }
+
+    /// The line built so far (without suffix and `\n`).
+    pub fn line(&self) -> &str {
+        self.buf
+            .get(..self.len)
+            .and_then(|b| core::str::from_utf8(b).ok())
+            .unwrap_or("")
+    }
+
+    /// Whether a piece of the current line did not fit.
+    pub fn overflowed(&self) -> bool {
+        self.overflow
+    }
+
+    /// Discard the line being built (and its overflow mark).
+    pub fn clear(&mut self) -> &mut Self {
+        self.len = 0;
+        self.overflow = false;
+        self
+    }
+
+    /// Discard the current line and start a new one with `first` (a word).
+    pub fn begin(&mut self, first: &str) -> &mut Self {
+        self.clear().word(first)
+    }
+
+    /// Start an `ok` status line.
+    pub fn ok(&mut self) -> &mut Self {
+        self.begin("ok")
+    }
+
+    /// Start an `err <code> <message>` status line; more pieces may follow.
+    ///
+    /// ```
+    /// # use matterwave_core::console::reply::ReplyWriter;
+    /// let mut wire = [0u8; 64];
+    /// let mut port = &mut wire[..];
+    /// let mut rw = ReplyWriter::new(&mut port, false);
+    /// rw.err(202, "n·λ exceeds 2d");
+    /// assert_eq!(rw.line(), "err 202 n.lambda exceeds 2d");
+    /// ```
+    pub fn err(&mut self, code: u16, message: &str) -> &mut Self {
+        let mut nb: NumBuf = [0; num::NUM_BUF_LEN];
+        let code = num::format_i32(i32::from(code), &mut nb);
+        self.begin("err").word(code).text(message)
+    }
+
+    /// Start a streamed list item `- …`.
+    pub fn item(&mut self) -> &mut Self {
+        self.begin("-")
+    }
+
+    /// Append one token (blanks become `_`).
+    pub fn word(&mut self, word: &str) -> &mut Self {
+        self.piece(&[(word, Mode::Token)])
+    }
+
+    /// Append free text (blanks kept).
+    pub fn text(&mut self, text: &str) -> &mut Self {
+        self.piece(&[(text, Mode::Text)])
+    }
+
+    /// Append `key=value`.
+    pub fn field_str(&mut self, key: &str, value: &str) -> &mut Self {
+        self.piece(&[(key, Mode::Token), ("=", Mode::Token), (value, Mode::Token)])
+    }
+
+    /// Append `key=<x with decimals places>` (see [`num::format_f32`]).
+    pub fn field_f32(&mut self, key: &str, x: f32, decimals: u8) -> &mut Self {
+        let mut nb: NumBuf = [0; num::NUM_BUF_LEN];
+        let v = num::format_f32(x, decimals, &mut nb);
+        self.field_str(key, v)
+    }
+
+    /// Append `key=<x, round-trip exact>` (see [`num::format_f32_roundtrip`]).
+    pub fn field_f32_rt(&mut self, key: &str, x: f32) -> &mut Self {
+        let mut nb: NumBuf = [0; num::NUM_BUF_LEN];
+        let v = num::format_f32_roundtrip(x, &mut nb);
+        self.field_str(key, v)
+    }
+
+    /// Append `key=<x>`.
+    pub fn field_i32(&mut self, key: &str, x: i32) -> &mut Self {
+        let mut nb: NumBuf = [0; num::NUM_BUF_LEN];
+        let v = num::format_i32(x, &mut nb);
+        self.field_str(key, v)
+    }
+
+    /// Append the parts as one piece (preceded by a space unless the line is empty),
+    /// whole or not at all.
+    fn piece(&mut self, parts: &[(&str, Mode)]) -> &mut Self {
+        if self.overflow {
+            return self;
+        }
+        let start = self.len;
+        let cap = self.capacity();
+        let mut ok = true;
+        if self.len > 0 {
+            ok &= self.push(b' ', cap);
+        }
+        for &(s, mode) in parts {
+            for ch in s.chars() {
+                ok &= self.push_char(ch, mode, cap);
+            }
+        }
+        if !ok {
+            self.len = start;
+            self.overflow = true;
+        }
+        self
+    }
+
+    fn push(&mut self, b: u8, cap: usize) -> bool {
+        if self.len >= cap {
+            return false;
+        }
+        match self.buf.get_mut(self.len) {
+            Some(slot) => {
+                *slot = b;
+                self.len += 1;
+                true
+            }
+            None => false,
+        }
+    }
+
+    fn push_char(&mut self, ch: char, mode: Mode, cap: usize) -> bool {
+        let blank = match mode {
+            Mode::Token => b'_',
+            Mode::Text => b' ',
+        };
+        match ch {
+            '*' => self.push(b'?', cap),
+            ' ' | '\t' => self.push(blank, cap),
+            c if c.is_ascii_graphic() => self.push(c as u8, cap),
+            c if c.is_ascii() => self.push(blank, cap),
+            c => match SPELLINGS.iter().find(|(k, _)| *k == c) {
+                Some((_, spelt)) => spelt.bytes().all(|b| self.push(b, cap)),
+                None => self.push(b'?', cap),
+            },
+        }
+    }
+
+    /// Write the line (content, checksum suffix if on, `\n`) and clear it for the next.
+    ///
+    /// Nothing is written for an empty line. An overflowed line is discarded unsent with
+    /// [`ReplyError::TooLong`]. The line is cleared in every case. Does not flush.
+    ///
+    /// ```
+    /// # use matterwave_core::console::{crc, reply::ReplyWriter};
+    /// let mut wire = [0u8; 32];
+    /// let mut port = &mut wire[..];
+    /// let mut rw = ReplyWriter::new(&mut port, true);
+    /// rw.ok();
+    /// rw.finish().unwrap();
+    /// let sent = core::str::from_utf8(&wire[..8]).unwrap();
+    /// assert_eq!(crc::verify(sent.trim_end()), Ok(("ok", true)));
+    /// ```
+    pub fn finish(&mut self) -> Result<(), ReplyError<W::Error>> {
+        let len = self.len;
+        let overflow = self.overflow;
+        self.clear();
+        if overflow {
+            return Err(ReplyError::TooLong);
+        }
+        if len == 0 {
+            return Ok(());
+        }
+        let content = self.buf.get(..len).unwrap_or(&[]);
+        let mut tail = [0u8; crc::SUFFIX_LEN + 1];
+        let tail_len = if self.crc {
+            let suffix = crc::suffix_for(content);
+            for (dst, src) in tail.iter_mut().zip(suffix.iter()) {
+                *dst = *src;
+            }
+            crc::SUFFIX_LEN
+        } else {
+            0
+        };
+        if let Some(slot) = tail.get_mut(tail_len) {
+            *slot = b'\n';
+        }
+        send(self.out, content)?;
+        send(self.out, tail.get(..tail_len + 1).unwrap_or(&[]))
+    }
+
+    /// Flush the underlying writer.
+    pub fn flush(&mut self) -> Result<(), ReplyError<W::Error>> {
+        self.out.flush().map_err(ReplyError::Io)
+    }
+
+    /// Give back the underlying writer.
+    pub fn into_inner(self) -> &'w mut W {
+        self.out
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Collects written bytes; optionally fails or stalls after `limit` bytes.
+    struct Sink {
+        data: [u8; 512],
+        len: usize,
+        limit: usize,
+        zero: bool,
+        chunk: usize,
+    }
+
+    impl Sink {
+        fn new() -> Self {
+            Self {
+                data: [0; 512],
+                len: 0,
+                limit: 512,
+                zero: false,
+                chunk: 3,
+            }
+        }
+        fn text(&self) -> &str {
+            core::str::from_utf8(&self.data[..self.len]).unwrap()
+        }
+    }
+
+    /// The sink's failure.
+    const BROKEN: embedded_io::ErrorKind = embedded_io::ErrorKind::Other;
+
+    impl embedded_io::ErrorType for Sink {
+        type Error = embedded_io::ErrorKind;
+    }
+
+    impl Write for Sink {
+        fn write(&mut self, buf: &[u8]) -> Result<usize, embedded_io::ErrorKind> {
+            if buf.is_empty() {
+                return Ok(0);
+            }
+            if self.len >= self.limit {
+                return if self.zero { Ok(0) } else { Err(BROKEN) };
+            }
+            // Short writes, to exercise the loop.
+            let n = buf.len().min(self.chunk).min(self.limit - self.len);
+            self.data[self.len..self.len + n].copy_from_slice(&buf[..n]);
+            self.len += n;
+            Ok(n)
+        }
+        fn flush(&mut self) -> Result<(), embedded_io::ErrorKind> {
+            Ok(())
+        }
+    }
+
+    #[test]
+    fn shapes() {
+        let mut sink = Sink::new();
+        let mut rw = ReplyWriter::new(&mut sink, false);
+        rw.item().field_str("id", "cu").field_f32_rt("a", 3.615);
+        rw.finish().unwrap();
+        rw.ok().field_i32("count", -1).field_f32("e", 150.0, 1);
+        rw.finish().unwrap();
+        rw.err(415, "unknown crystal id");
+        rw.finish().unwrap();
+        rw.finish().unwrap(); // empty: nothing
+        assert_eq!(
+            sink.text(),
+            "- id=cu a=3.615\nok count=-1 e=150.0\nerr 415 unknown crystal id\n"
+        );
+    }
+
+    #[test]
+    fn checksums() {
+        let mut sink = Sink::new();
+        let mut rw = ReplyWriter::new(&mut sink, true);
+        assert!(rw.crc_enabled());
+        rw.ok().field_str("x", "1");
+        rw.finish().unwrap();
+        let line = sink.text().strip_suffix('\n').unwrap();
+        assert_eq!(crc::verify(line), Ok(("ok x=1", true)));
+    }
+
+    #[test]
+    fn sanitising() {
+        let mut sink = Sink::new();
+        let mut rw = ReplyWriter::new(&mut sink, false);
+        rw.err(103, "tilt beyond ±89.9°; a*b\tc\nd ☃");
+        assert_eq!(rw.line(), "err 103 tilt beyond +-89.9deg; a?b c d ?");
+        rw.ok().field_str("name", "two words\r\n").word("Å·λ");
+        assert_eq!(rw.line(), "ok name=two_words__ A.lambda");
+        let line = rw.line();
+        assert!(line.bytes().all(|b| (0x20..0x7F).contains(&b) && b != b'*'));
+    }
+
+    #[test]
+    fn overflow_is_all_or_nothing() {
+        let mut sink = Sink::new();
+        {
+            let mut rw = ReplyWriter::<_, 20>::with_line_length(&mut sink, false);
+            assert_eq!(rw.capacity(), 15);
+            rw.ok().field_str("a", "123456789"); // "ok a=123456789" = 14
+            assert!(!rw.overflowed());
+            rw.field_str("b", "1"); // would be 18
+            assert!(rw.overflowed());
+            rw.word("x"); // ignored even though it would fit
+            assert_eq!(rw.line(), "ok a=123456789");
+            assert_eq!(rw.finish(), Err(ReplyError::TooLong));
+            assert!(!rw.overflowed());
+            rw.err(400, "reply too long"); // 18 > 15: also overflows
+            assert_eq!(rw.finish(), Err(ReplyError::TooLong));
+            rw.err(400, "long");
+            rw.finish().unwrap();
+            // A multi-byte spelling that does not fit is dropped whole.
+            rw.ok().word("123456789λ");
+            assert!(rw.overflowed());
+            assert_eq!(rw.line(), "ok");
+        }
+        assert_eq!(sink.text(), "err 400 long\n");
+        // Zero capacity never panics.
+        let mut sink = Sink::new();
+        let mut rw = ReplyWriter::<_, 0>::with_line_length(&mut sink, true);
+        rw.ok();
+        assert_eq!(rw.finish(), Err(ReplyError::TooLong));
+    }
+
+    #[test]
+    fn writer_errors_propagate() {
+        let mut sink = Sink::new();
+        sink.limit = 4;
+        let mut rw = ReplyWriter::new(&mut sink, false);
+        rw.ok().field_i32("n", 12345);
+        assert_eq!(rw.finish(), Err(ReplyError::Io(BROKEN)));
+        assert_eq!(rw.line(), "");
+        let mut sink = Sink::new();
+        sink.limit = 4;
+        sink.zero = true;
+        let mut rw = ReplyWriter::new(&mut sink, false);
+        rw.ok().field_i32("n", 12345);
+        assert_eq!(rw.finish(), Err(ReplyError::WriteZero));
+        assert_eq!(rw.flush(), Ok(()));
+    }
+}

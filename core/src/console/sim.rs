@@ -1,0 +1,91 @@
+//! In-memory board parts for simulators and tests (feature `sim`): axes that arrive at
+//! once, a switchable interlock, and a synthetic detector that sees the beams the
+//! geometry puts into its acceptance cone.
+
+use super::board::{AxisDriver, Detector, Interlock, Scene};
+use crate::error::AxisId;
+use crate::goniometer::{self, axis_index, InView};
+use crate::math;
+
+/// Simulated axes: every move completes immediately.
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub struct SimAxes {
+    /// Step counts (arm, elevation, tilt, azimuth).
+    pub steps: [i32; 4],
+    /// Number of moves started.
+    pub moves: u32,
+    /// Number of stop calls.
+    pub stops: u32,
+}
+
+impl AxisDriver for SimAxes {
+    fn position(&mut self, axis: AxisId) -> i32 {
+        self.steps[axis_index(axis)]
+    }
+    fn start(&mut self, axis: AxisId, _via: Option<i32>, target: i32) {
+        self.steps[axis_index(axis)] = target;
+        self.moves = self.moves.saturating_add(1);
+    }
+    fn busy(&mut self) -> bool {
+        false
+    }
+    fn stop(&mut self) {
+        self.stops = self.stops.saturating_add(1);
+    }
+}
+
+/// A switchable interlock input.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct SimInterlock {
+    /// What the input reports.
+    pub safe: bool,
+}
+
+impl Interlock for SimInterlock {
+    fn safe(&mut self) -> bool {
+        self.safe
+    }
+}
+
+/// Synthetic detector, nA: a background plus, for every beam within the acceptance,
+/// a Gaussian in the angle between detector axis and beam (σ = acceptance / 2).
+/// Deterministic, for demos and tests; not a model of real intensities.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct SimDetector {
+    /// Background current, nA.
+    pub background_na: f32,
+    /// Peak current of a beam centred on the detector, nA.
+    pub beam_na: f32,
+}
+
+impl Default for SimDetector {
+    fn default() -> Self {
+        SimDetector {
+            background_na: 0.5,
+            beam_na: 100.0,
+        }
+    }
+}
+
+impl Detector for SimDetector {
+    fn read(&mut self, scene: &Scene<'_>) -> f32 {
+        let acc = scene.rig.acceptance_deg;
+        let mut view = [InView::EMPTY; 8];
+        let n = goniometer::beams_in_view(
+            scene.face,
+            &scene.incidence,
+            scene.arm_deg,
+            scene.elevation_deg,
+            acc,
+            &mut view,
+        )
+        .map_or(0, |l| l.stored);
+        let sigma = 0.5 * acc;
+        let mut i = self.background_na;
+        for v in view.iter().take(n) {
+            let x = v.offset_deg / sigma;
+            i += self.beam_na * math::exp(-0.5 * x * x);
+        }
+        i
+    }
+}
