@@ -35,16 +35,16 @@ fn stream(seed: u64, len: usize) -> Vec<u8> {
             state ^= state >> 7;
             state ^= state << 17;
             let r = (state >> 24) as usize;
-            let b = if r % 4 == 0 {
+            let b = if r.is_multiple_of(4) {
                 (r >> 8) as u8 // any byte at all
             } else {
                 LIKELY[(r >> 8) % LIKELY.len()]
             };
             let terminator = b == b'\n' || b == b'\r';
-            let bad = !terminator && !(b == b'\t' || (0x20..=0x7E).contains(&b));
+            let bad = !(terminator || b == b'\t' || (0x20..=0x7E).contains(&b));
             // Sparse mode keeps 1 in 8 terminators and 1 in 64 bad bytes.
             let keep = if terminator { 8 } else { 64 };
-            match (sparse && (r >> 20) % keep != 0, terminator, bad) {
+            match (sparse && !(r >> 20).is_multiple_of(keep), terminator, bad) {
                 (true, true, _) => b'x',
                 (true, _, true) => b'y',
                 _ => b,

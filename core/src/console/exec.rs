@@ -772,7 +772,13 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         for id in AxisId::ALL {
             if let Some(sp) = sps[axis_index(id)] {
                 self.axes.start(id, sp.approach_steps, sp.steps);
-                rw.field_i32(id.name(), sp.steps);
+                let key = match id {
+                    AxisId::Arm => "arm_steps",
+                    AxisId::Elevation => "elevation_steps",
+                    AxisId::Tilt => "tilt_steps",
+                    AxisId::Azimuth => "azimuth_steps",
+                };
+                rw.field_i32(key, sp.steps);
             }
         }
         Ok(None)

@@ -6,7 +6,7 @@
 //!
 //! | module | owns |
 //! |---|---|
-//! | [`line`] | byte stream → complete lines (length limit, byte filter, CR/LF/CRLF) |
+//! | [`line`](mod@line) | byte stream → complete lines (length limit, byte filter, CR/LF/CRLF) |
 //! | [`crc`] | CRC-16/IBM-3740 and the optional `*XXXX` line checksum |
 //! | [`num`] | exact number parsing and formatting without `core::fmt` floats |
 //! | [`token`] | a request line → command word, positional and `key=value` arguments |
