@@ -29,8 +29,8 @@
 use crate::axis::{Approach, AxisConfig, Setpoint, Zone};
 use crate::beam;
 use crate::error::{finite, AxisId, Error, Quantity, Result};
+use crate::listing::{insert_sorted, Listing};
 use crate::math::{self, Vec3};
-use crate::reflections::Listing;
 use crate::surface::{Face, Incidence, SurfaceBeam};
 
 /// Index of each axis in a step-count array `[i32; 4]`.
@@ -393,9 +393,8 @@ pub fn aim(
                     exit_deg: pose.exit_deg,
                     travel_deg: travel,
                 };
-                if insert_by_travel(out, &mut stored, sol) {
-                    truncated = true;
-                }
+                truncated |=
+                    insert_sorted(out, &mut stored, sol, |a, b| a.travel_deg < b.travel_deg);
             }
         }
     }
@@ -403,27 +402,6 @@ pub fn aim(
         return Err(first_err.unwrap_or(Error::NoReachableSolution));
     }
     Ok(Listing { stored, truncated })
-}
-
-fn insert_by_travel(out: &mut [Solution], stored: &mut usize, s: Solution) -> bool {
-    let mut pos = *stored;
-    while pos > 0 && s.travel_deg < out[pos - 1].travel_deg {
-        pos -= 1;
-    }
-    if pos == out.len() {
-        return true;
-    }
-    let dropped = *stored == out.len();
-    let mut i = if dropped { out.len() - 1 } else { *stored };
-    while i > pos {
-        out[i] = out[i - 1];
-        i -= 1;
-    }
-    out[pos] = s;
-    if !dropped {
-        *stored += 1;
-    }
-    dropped
 }
 
 /// A beam the detector sees.
@@ -485,26 +463,7 @@ pub fn beams_in_view(
             arm_deg: ba,
             elevation_deg: be,
         };
-        let mut pos = stored;
-        while pos > 0 && off < out[pos - 1].offset_deg {
-            pos -= 1;
-        }
-        if pos == out.len() {
-            truncated = true;
-            continue;
-        }
-        let mut i = if stored == out.len() {
-            truncated = true;
-            out.len() - 1
-        } else {
-            stored += 1;
-            stored - 1
-        };
-        while i > pos {
-            out[i] = out[i - 1];
-            i -= 1;
-        }
-        out[pos] = item;
+        truncated |= insert_sorted(out, &mut stored, item, |a, b| a.offset_deg < b.offset_deg);
     }
     Ok(Listing { stored, truncated })
 }

@@ -17,6 +17,7 @@
 //! | [`console`] | the serial protocol's foundation: lines, checksums, numbers, tokens, replies |
 //! | [`beam`] | gun settings → kinetic energy → wavelength, velocity, wavevector |
 //! | [`lattice`] | structures, conventional cells, d-spacings, extinctions, face notation |
+//! | [`listing`] | results into caller buffers: `Listing` and sorted insertion |
 //! | [`reflections`] | bulk reflection families, Bragg angles, transmission rings |
 //! | [`surface`] | surface meshes, rods, beams at an energy, emergence and I-V energies |
 //! | [`table`] | the fixed crystal table |
@@ -48,6 +49,7 @@ pub mod error;
 pub mod fit;
 pub mod goniometer;
 pub mod lattice;
+pub mod listing;
 pub mod math;
 pub mod reflections;
 pub mod scan;

@@ -22,6 +22,7 @@
 
 use crate::error::{finite, Error, Quantity, Result};
 use crate::lattice::{Cell, System};
+use crate::listing::insert_sorted;
 use crate::math;
 
 /// One reflection family.
@@ -45,23 +46,7 @@ impl Reflection {
     };
 }
 
-/// How many results a listing stored and how many it found.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-#[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub struct Listing {
-    /// Results written to the front of the buffer.
-    pub stored: usize,
-    /// Whether results were dropped for lack of room (the stored ones are then the
-    /// first in the listing's order).
-    pub truncated: bool,
-}
-
-impl Listing {
-    /// True when every result fitted.
-    pub const fn complete(&self) -> bool {
-        !self.truncated
-    }
-}
+pub use crate::listing::Listing;
 
 /// Size of the Laue group of a crystal system.
 const fn group_order(system: System) -> u16 {
@@ -200,7 +185,7 @@ pub fn families(cell: &Cell, d_min_a: f32, out: &mut [Reflection]) -> Result<Lis
                         d_a: d,
                         multiplicity: multiplicity(system, hkl),
                     };
-                    if insert_sorted(out, &mut stored, r) {
+                    if insert_sorted(out, &mut stored, r, before) {
                         truncated = true;
                     }
                 }
@@ -211,30 +196,9 @@ pub fn families(cell: &Cell, d_min_a: f32, out: &mut [Reflection]) -> Result<Lis
     Ok(Listing { stored, truncated })
 }
 
-/// Inserts `r` keeping `out[..*stored]` in decreasing d. Returns true if a reflection
-/// was dropped (either `r` or the last one).
-fn insert_sorted(out: &mut [Reflection], stored: &mut usize, r: Reflection) -> bool {
-    let before =
-        |a: &Reflection, b: &Reflection| a.d_a > b.d_a || (a.d_a == b.d_a && a.hkl > b.hkl);
-    let mut pos = *stored;
-    while pos > 0 && before(&r, &out[pos - 1]) {
-        pos -= 1;
-    }
-    if pos == out.len() {
-        return true;
-    }
-    let dropped = *stored == out.len();
-    let end = if dropped { out.len() - 1 } else { *stored };
-    let mut i = end;
-    while i > pos {
-        out[i] = out[i - 1];
-        i -= 1;
-    }
-    out[pos] = r;
-    if !dropped {
-        *stored += 1;
-    }
-    dropped
+/// Decreasing d; equal d: larger indices first.
+fn before(a: &Reflection, b: &Reflection) -> bool {
+    a.d_a > b.d_a || (a.d_a == b.d_a && a.hkl > b.hkl)
 }
 
 /// Bragg angle θ_B (degrees) for spacing `d_a` (Å), wavelength `lambda_a` (Å) and

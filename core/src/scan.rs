@@ -26,8 +26,8 @@
 use crate::beam::Gun;
 use crate::error::{finite, Error, Quantity, Result};
 use crate::goniometer::{self, InView, Mode, Position, Rig, Solution};
+use crate::listing::{insert_sorted, Listing};
 use crate::math;
-use crate::reflections::Listing;
 use crate::surface::{Face, Incidence, IvPeak};
 
 /// Most points one plan may have.
@@ -307,26 +307,7 @@ impl SweepPlan {
                 arm_deg: arm,
                 elevation_deg: elev,
             };
-            let mut pos = stored;
-            while pos > 0 && arm < out[pos - 1].arm_deg {
-                pos -= 1;
-            }
-            if pos == out.len() {
-                truncated = true;
-                continue;
-            }
-            let mut i = if stored == out.len() {
-                truncated = true;
-                out.len() - 1
-            } else {
-                stored += 1;
-                stored - 1
-            };
-            while i > pos {
-                out[i] = out[i - 1];
-                i -= 1;
-            }
-            out[pos] = item;
+            truncated |= insert_sorted(out, &mut stored, item, |a, b| a.arm_deg < b.arm_deg);
         }
         Ok(Listing { stored, truncated })
     }

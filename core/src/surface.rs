@@ -30,8 +30,8 @@
 use crate::beam;
 use crate::error::{finite, Error, Quantity, Result};
 use crate::lattice::{check_indices, reciprocal, Cell, Miller};
+use crate::listing::{insert_sorted, Listing};
 use crate::math::{self, Vec3};
-use crate::reflections::Listing;
 
 /// Largest |tilt| accepted, degrees.
 pub const TILT_MAX_DEG: f32 = 89.9;
@@ -572,27 +572,7 @@ impl Face {
         let mut stored = 0usize;
         let mut truncated = false;
         for b in self.beams_iter(inc) {
-            let mut pos = stored;
-            while pos > 0 && beam_before(&b, &out[pos - 1]) {
-                pos -= 1;
-            }
-            if pos == out.len() {
-                truncated = true;
-                continue;
-            }
-            let end = if stored == out.len() {
-                truncated = true;
-                out.len() - 1
-            } else {
-                stored += 1;
-                stored - 1
-            };
-            let mut i = end;
-            while i > pos {
-                out[i] = out[i - 1];
-                i -= 1;
-            }
-            out[pos] = b;
+            truncated |= insert_sorted(out, &mut stored, b, beam_before);
         }
         Ok(Listing { stored, truncated })
     }
