@@ -31,6 +31,10 @@ pub const MAX_ZONES: usize = 4;
 /// Largest |step count| an axis accepts (2^24: exact in f32).
 pub const STEPS_MAX: i32 = 1 << 24;
 
+/// How far from home a wrapping axis may turn, degrees (ten turns). Beyond that, angles
+/// lose f32 precision; re-home the axis to reset its counter.
+pub const WRAP_RANGE_DEG: f32 = 3600.0;
+
 /// A forbidden interval [from_deg, to_deg] of axis angles (from < to). On a wrapping
 /// axis it repeats every 360°.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -229,15 +233,18 @@ impl AxisConfig {
     }
 
     /// Whether the straight path between two angles (unwrapped) is clear of zones and
-    /// limits. A zone that contains the start is exempt, so an axis that finds itself in
-    /// a zone (e.g. homed there) can always be driven out of it.
+    /// limits. A zone that contains the start is exempt, and so are the limits when the
+    /// start lies beyond them, so an axis found in a zone or past a limit (e.g. homed
+    /// there) can always be driven back.
     pub fn check_path(&self, from_deg: f32, to_deg: f32) -> Result<()> {
         let (lo, hi) = if from_deg <= to_deg {
             (from_deg, to_deg)
         } else {
             (to_deg, from_deg)
         };
-        if !self.wrap {
+        // An axis that starts beyond a soft limit may be driven back inside.
+        let starts_outside = from_deg < self.min_deg || from_deg > self.max_deg;
+        if !self.wrap && !starts_outside {
             if lo < self.min_deg {
                 return Err(Error::BelowLimit(self.id));
             }
@@ -275,22 +282,56 @@ impl AxisConfig {
         if !target_deg.is_finite() {
             return Err(Error::NotFinite(Quantity::Angle));
         }
-        if current_steps.abs() > STEPS_MAX {
+        if current_steps.unsigned_abs() > STEPS_MAX as u32 {
             return Err(Error::StepOverflow(self.id));
         }
         let current_deg = self.steps_to_deg(current_steps);
-        let mut target = target_deg;
-        if self.wrap {
-            if target.abs() > 1.0e6 {
-                return Err(Error::TooHigh(Quantity::Angle));
+        if !self.wrap {
+            return self.setpoint_exact(target_deg, current_steps, current_deg);
+        }
+        if target_deg.abs() > 1.0e6 {
+            return Err(Error::TooHigh(Quantity::Angle));
+        }
+        // The copy nearest the current angle; if its path crosses a zone, the copy the
+        // other way round.
+        let k = math::round((current_deg - target_deg) / 360.0);
+        let near = target_deg + 360.0 * k;
+        match self.setpoint_exact(near, current_steps, current_deg) {
+            Err(e @ Error::PathCrossesZone(..)) => {
+                let other = if near > current_deg {
+                    near - 360.0
+                } else {
+                    near + 360.0
+                };
+                self.setpoint_exact(other, current_steps, current_deg)
+                    .map_err(|_| e)
             }
-            let k = math::round((current_deg - target) / 360.0);
-            target += 360.0 * k;
+            r => r,
+        }
+    }
+
+    /// [`AxisConfig::setpoint`] for one exact target angle (no 360° copies).
+    fn setpoint_exact(
+        &self,
+        target: f32,
+        current_steps: i32,
+        current_deg: f32,
+    ) -> Result<Setpoint> {
+        if self.wrap && (target - self.home_offset_deg).abs() > WRAP_RANGE_DEG {
+            return Err(Error::StepOverflow(self.id));
         }
         self.check_angle(target)?;
         let s0 = self.steps_for(target)?;
+        // When rounding lands on a forbidden step, try the nearer neighbour first.
+        let exact = (target - self.home_offset_deg) * self.steps_per_deg;
+        let up = exact >= s0 as f32;
+        let (n1, n2) = if up {
+            (s0.saturating_add(1), s0.saturating_sub(1))
+        } else {
+            (s0.saturating_sub(1), s0.saturating_add(1))
+        };
         let mut chosen = None;
-        for s in [s0, s0.saturating_add(1), s0.saturating_sub(1)] {
+        for s in [s0, n1, n2] {
             if s.abs() <= STEPS_MAX && self.check_angle(self.steps_to_deg(s)).is_ok() {
                 chosen = Some(s);
                 break;
@@ -322,6 +363,12 @@ impl AxisConfig {
                     return Err(Error::StepOverflow(self.id));
                 }
                 let turn = self.steps_to_deg(a);
+                if !self.wrap && turn < self.min_deg {
+                    return Err(Error::BelowLimit(self.id));
+                }
+                if !self.wrap && turn > self.max_deg {
+                    return Err(Error::AboveLimit(self.id));
+                }
                 self.check_path(current_deg, turn)?;
                 self.check_path(turn, reached)?;
             }

@@ -251,24 +251,17 @@ pub fn wrap_180(x: f32) -> f32 {
     }
 }
 
-/// Geometric pose of one solution before the axes are consulted.
-#[derive(Clone, Copy, Debug, PartialEq)]
-struct Pose {
-    azimuth_deg: f32,
-    arm_deg: f32,
-    elevation_deg: f32,
-    branch: i8,
-    exit_deg: f32,
-}
-
 /// Every way to put the detector on rod `rod` of `face` at kinetic energy `energy_ev`
 /// and tilt `tilt_deg`, within the rig's limits and zones, nearest to `current`
 /// (least total travel) first.
 ///
-/// In-plane mode tries both branches (g along ±e1) and, on non-wrapping axes, the ±360°
-/// copies of azimuth and arm. The specular beam has one branch and keeps the current
-/// azimuth. When no solution survives, the error says why: `Evanescent` when the beam
-/// does not exist, else the first limit or zone that rejected a solution.
+/// The tilt is set first; the geometry then uses the tilt the axis really reaches, and
+/// the arm (and elevation) follow from the beam direction at the azimuth the azimuth
+/// axis really reaches, so quantisation of the sample axes does not throw the detector
+/// off the beam. In-plane mode tries both branches (g along ±e1) and, on non-wrapping
+/// axes, the ±360° copies of azimuth and arm. The specular beam has one branch and keeps
+/// the current azimuth. When no solution survives, the error says why: `Evanescent`
+/// when the beam does not exist, else the first limit or zone that rejected a solution.
 #[allow(clippy::too_many_arguments)]
 pub fn aim(
     rig: &Rig,
@@ -283,24 +276,30 @@ pub fn aim(
     if out.is_empty() {
         return Err(Error::EmptyBuffer);
     }
-    let mut poses = [None; 2];
+    let e = beam::check_energy(energy_ev)?;
+    crate::surface::check_tilt(tilt_deg)?;
+    if rod[0].abs() > 4096 || rod[1].abs() > 4096 {
+        return Err(Error::IndicesTooLarge);
+    }
+    let tilt_sp = rig.tilt.setpoint(tilt_deg, current[2])?;
+    let tilt = tilt_sp.angle_deg;
+    // Wanted azimuths with their branch and signed in-plane exit angle.
+    let mut wanted: [Option<(f32, i8, f32)>; 2] = [None; 2];
     match mode {
         Mode::InPlane => {
-            let e = beam::check_energy(energy_ev)?;
-            let inc = Incidence::new(e, tilt_deg, 0.0)?;
+            let inc = Incidence::new(e, tilt, 0.0)?;
             let lambda = 1.0 / inc.k_inv_a;
             let g = face.rod_inv_a(rod);
             let g_len = math::sqrt(g[0] * g[0] + g[1] * g[1]);
             let psi = math::deg(math::atan2(g[1], g[0]));
-            let s_alpha = math::sin(math::rad(inc.tilt_deg));
+            let s_alpha = math::sin(math::rad(tilt));
             let current_az = rig.azimuth.steps_to_deg(current[3]);
             let branches: &[i8] = if g_len == 0.0 { &[1] } else { &[1, -1] };
-            for (slot, &br) in poses.iter_mut().zip(branches) {
+            for (slot, &br) in wanted.iter_mut().zip(branches) {
                 let sin_out = s_alpha + br as f32 * lambda * g_len;
                 if sin_out.abs() > 1.0 {
                     continue;
                 }
-                let theta = math::deg(math::asin(sin_out));
                 let az = if g_len == 0.0 {
                     current_az
                 } else if br > 0 {
@@ -308,80 +307,76 @@ pub fn aim(
                 } else {
                     wrap_180(180.0 - psi)
                 };
-                *slot = Some(Pose {
-                    azimuth_deg: az,
-                    arm_deg: wrap_180(inc.tilt_deg + theta),
-                    elevation_deg: 0.0,
-                    branch: br,
-                    exit_deg: theta,
-                });
+                *slot = Some((az, br, math::deg(math::asin(sin_out))));
             }
         }
         Mode::AtAzimuth(az) => {
-            let inc = Incidence::new(energy_ev, tilt_deg, az)?;
+            let inc = Incidence::new(e, tilt, az)?;
             let b = face.beam(rod, &inc)?;
-            let (arm, elev) = arm_elevation_deg(beam_direction_lab(&b, &inc));
-            poses[0] = Some(Pose {
-                azimuth_deg: inc.azimuth_deg,
-                arm_deg: arm,
-                elevation_deg: elev,
-                branch: 0,
-                exit_deg: b.exit_deg,
-            });
+            wanted[0] = Some((inc.azimuth_deg, 0, b.exit_deg));
         }
     }
-    if poses.iter().all(Option::is_none) {
+    if wanted.iter().all(Option::is_none) {
         return Err(Error::Evanescent);
     }
     let mut stored = 0usize;
     let mut truncated = false;
     let mut first_err = None;
     let cur = rig.angles(current);
-    let copies = |ax: &AxisConfig| -> [Option<f32>; 3] {
+    let copies = |ax: &AxisConfig| -> &'static [f32] {
         if ax.wrap {
-            [Some(0.0), None, None]
+            &[0.0]
         } else {
-            [Some(0.0), Some(360.0), Some(-360.0)]
+            &[0.0, 360.0, -360.0]
         }
     };
-    for pose in poses.iter().flatten() {
-        let tilt_sp = rig.tilt.setpoint(tilt_deg, current[2])?;
-        let elev_sp = match (&rig.elevation, mode) {
-            (Some(ax), _) => match ax.setpoint(pose.elevation_deg, current[1]) {
-                Ok(s) => Some(s),
-                Err(e) => {
-                    first_err.get_or_insert(e);
-                    continue;
-                }
-            },
-            (None, Mode::AtAzimuth(_)) if pose.elevation_deg.abs() > rig.acceptance_deg => {
-                first_err.get_or_insert(Error::NoSuchAxis(AxisId::Elevation));
-                continue;
-            }
-            (None, _) => None,
-        };
-        for az_off in copies(&rig.azimuth).iter().flatten() {
-            let az_sp = match rig.azimuth.setpoint(pose.azimuth_deg + az_off, current[3]) {
+    for &(az_want, branch, exit) in wanted.iter().flatten() {
+        for az_off in copies(&rig.azimuth) {
+            let az_sp = match rig.azimuth.setpoint(az_want + az_off, current[3]) {
                 Ok(s) => s,
-                Err(e) => {
+                Err(err) => {
                     if *az_off == 0.0 {
-                        first_err.get_or_insert(e);
+                        first_err.get_or_insert(err);
                     }
                     continue;
                 }
             };
-            for arm_off in copies(&rig.arm).iter().flatten() {
-                let arm_sp = match rig.arm.setpoint(pose.arm_deg + arm_off, current[0]) {
+            // The beam as the sample really sits.
+            let inc = Incidence::new(e, tilt, az_sp.angle_deg)?;
+            let b = match face.beam(rod, &inc) {
+                Ok(b) => b,
+                Err(err) => {
+                    first_err.get_or_insert(err);
+                    continue;
+                }
+            };
+            let (arm_deg, elev_deg) = arm_elevation_deg(beam_direction_lab(&b, &inc));
+            let elev_sp = match &rig.elevation {
+                Some(ax) => match ax.setpoint(elev_deg, current[1]) {
+                    Ok(s) => Some(s),
+                    Err(err) => {
+                        first_err.get_or_insert(err);
+                        continue;
+                    }
+                },
+                None if elev_deg.abs() > rig.acceptance_deg => {
+                    first_err.get_or_insert(Error::NoSuchAxis(AxisId::Elevation));
+                    continue;
+                }
+                None => None,
+            };
+            for arm_off in copies(&rig.arm) {
+                let arm_sp = match rig.arm.setpoint(arm_deg + arm_off, current[0]) {
                     Ok(s) => s,
-                    Err(e) => {
+                    Err(err) => {
                         if *arm_off == 0.0 {
-                            first_err.get_or_insert(e);
+                            first_err.get_or_insert(err);
                         }
                         continue;
                     }
                 };
                 let travel = (arm_sp.angle_deg - cur[0]).abs()
-                    + elev_sp.map_or(0.0, |e| (e.angle_deg - cur[1]).abs())
+                    + elev_sp.map_or(0.0, |s| (s.angle_deg - cur[1]).abs())
                     + (tilt_sp.angle_deg - cur[2]).abs()
                     + (az_sp.angle_deg - cur[3]).abs();
                 let sol = Solution {
@@ -389,8 +384,9 @@ pub fn aim(
                     arm: arm_sp,
                     elevation: elev_sp,
                     tilt: tilt_sp,
-                    branch: pose.branch,
-                    exit_deg: pose.exit_deg,
+                    branch,
+                    // Two-circle: the polar exit at the reached azimuth.
+                    exit_deg: if branch == 0 { b.exit_deg } else { exit },
                     travel_deg: travel,
                 };
                 truncated |=
@@ -474,12 +470,14 @@ pub fn bragg_arm_deg(bragg_deg: f32) -> f32 {
     180.0 - 2.0 * bragg_deg
 }
 
-/// (arm, elevation) in degrees of the point at ring azimuth ψ (degrees; 0 = in the
-/// scattering plane on the +y side) of a transmission ring with scattering angle 2θ.
+/// (arm, elevation) in degrees of the point at ring azimuth ψ (degrees) of a
+/// transmission ring with scattering angle 2θ. ψ = 0 lies in the scattering plane on
+/// the side of positive arm angles (the point [`bragg_arm_deg`] gives), ψ = 90° straight
+/// up, ψ = 180° in the plane at negative arm angles.
 pub fn ring_point_deg(two_theta_deg: f32, ring_azimuth_deg: f32) -> (f32, f32) {
     let (s2, c2) = math::sin_cos_deg(two_theta_deg);
     let (sp, cp) = math::sin_cos_deg(ring_azimuth_deg);
-    arm_elevation_deg([c2, s2 * cp, s2 * sp])
+    arm_elevation_deg([c2, -s2 * cp, s2 * sp])
 }
 
 #[cfg(test)]
