@@ -2,7 +2,7 @@
 //! the same code the controller runs.
 
 use crate::error::{CliError, CliResult, Context};
-use crate::output::{col, List, Report, Value};
+use crate::output::{col, Column, List, Report, Value};
 use matterwave_core::beam::{self, Beam, Gun};
 use matterwave_core::lattice::{parse_miller, Cell, Miller, System};
 use matterwave_core::reflections::{self, Reflection};
@@ -49,7 +49,9 @@ impl GunArgs {
         self.cathode_work_function - self.sample_work_function + self.energy_offset
     }
 
-    fn fields(&self, r: &mut Report, kinetic: f32) {
+    /// The gun fields of a report: nominal energy, the corrections when any is set, and
+    /// the energy at the sample.
+    pub(crate) fn fields(&self, r: &mut Report, kinetic: f32) {
         r.field(
             "nominal_ev",
             "nominal energy (eV)",
@@ -296,57 +298,85 @@ fn family_list(cell: &Cell, d_min: f32, max: usize) -> CliResult<(Vec<Reflection
     Ok((buf, l.truncated))
 }
 
-/// `mwctl calc reflections`.
-pub fn reflections(id: &str, g: &GunArgs, max: usize) -> CliResult<Report> {
-    let c = crystal(id)?;
-    let cell = cell_of(c)?;
-    let e = g.kinetic_ev()?;
-    let lambda = beam::wavelength_a(e).ctx("energy at the sample")?;
-    let (fams, truncated) = family_list(&cell, lambda / 2.0, max)?;
-    let mut r = Report::default();
-    r.field("crystal", "crystal", Value::Text(c.id.into()));
-    g.fields(&mut r, e);
-    r.field("wavelength_a", "wavelength (Å)", Value::F32(lambda, 6));
-    let mut list = List {
-        key: "reflections",
-        columns: vec![
-            col("h", "h"),
-            col("k", "k"),
-            col("l", "l"),
-            col("d_a", "d (Å)"),
-            col("bragg_deg", "θB (deg)"),
-            col("two_theta_deg", "2θB (deg)"),
-            col("multiplicity", "mult"),
-        ],
-        rows: Vec::new(),
-    };
-    for f in &fams {
-        let th = reflections::bragg_deg(f.d_a, lambda, 1).ctx("Bragg angle")?;
-        list.rows.push(vec![
-            Value::Int(f.hkl[0].into()),
-            Value::Int(f.hkl[1].into()),
-            Value::Int(f.hkl[2].into()),
-            Value::F32(f.d_a, 5),
-            Value::F32(th, 4),
-            Value::F32(2.0 * th, 4),
-            Value::Int(f.multiplicity.into()),
-        ]);
-    }
+/// The `truncated` field: whether more rows than `--max` exist.
+fn truncated_field(r: &mut Report, truncated: bool) {
     r.field(
         "truncated",
         "more beyond --max",
         Value::Text(truncated.to_string()),
     );
-    r.list = Some(list);
+}
+
+/// What `reflections` and `rings` start with: the crystal's cell, the wavelength at the
+/// sample, and a report holding the crystal, the gun fields and the wavelength.
+fn bulk_start(id: &str, g: &GunArgs) -> CliResult<(Cell, f32, Report)> {
+    let c = crystal(id)?;
+    let cell = cell_of(c)?;
+    let e = g.kinetic_ev()?;
+    let lambda = beam::wavelength_a(e).ctx("energy at the sample")?;
+    let mut r = Report::default();
+    r.field("crystal", "crystal", Value::Text(c.id.into()));
+    g.fields(&mut r, e);
+    r.field("wavelength_a", "wavelength (Å)", Value::F32(lambda, 6));
+    Ok((cell, lambda, r))
+}
+
+/// A list of reflection families: h, k, l, d, the two `middle` columns, multiplicity.
+fn family_table(key: &'static str, middle: [Column; 2], rows: Vec<Vec<Value>>) -> List {
+    let [a, b] = middle;
+    List {
+        key,
+        columns: vec![
+            col("h", "h"),
+            col("k", "k"),
+            col("l", "l"),
+            col("d_a", "d (Å)"),
+            a,
+            b,
+            col("multiplicity", "mult"),
+        ],
+        rows,
+    }
+}
+
+/// A row of [`family_table`].
+fn family_row(f: &Reflection, middle: [Value; 2]) -> Vec<Value> {
+    let [a, b] = middle;
+    vec![
+        Value::Int(f.hkl[0].into()),
+        Value::Int(f.hkl[1].into()),
+        Value::Int(f.hkl[2].into()),
+        Value::F32(f.d_a, 5),
+        a,
+        b,
+        Value::Int(f.multiplicity.into()),
+    ]
+}
+
+/// `mwctl calc reflections`.
+pub fn reflections(id: &str, g: &GunArgs, max: usize) -> CliResult<Report> {
+    let (cell, lambda, mut r) = bulk_start(id, g)?;
+    let (fams, truncated) = family_list(&cell, lambda / 2.0, max)?;
+    let mut rows = Vec::new();
+    for f in &fams {
+        let th = reflections::bragg_deg(f.d_a, lambda, 1).ctx("Bragg angle")?;
+        rows.push(family_row(f, [Value::F32(th, 4), Value::F32(2.0 * th, 4)]));
+    }
+    truncated_field(&mut r, truncated);
+    r.list = Some(family_table(
+        "reflections",
+        [
+            col("bragg_deg", "θB (deg)"),
+            col("two_theta_deg", "2θB (deg)"),
+        ],
+        rows,
+    ));
     Ok(r)
 }
 
 /// `mwctl calc rings`.
 pub fn rings(id: &str, g: &GunArgs, screen_mm: f32, max: usize) -> CliResult<Report> {
-    let c = crystal(id)?;
-    let cell = cell_of(c)?;
-    let e = g.kinetic_ev()?;
-    let lambda = beam::wavelength_a(e).ctx("energy at the sample")?;
+    let (cell, lambda, mut r) = bulk_start(id, g)?;
     if !(screen_mm.is_finite() && screen_mm > 0.0 && screen_mm <= 1.0e5) {
         return Err(CliError::new(format!(
             "--screen-distance {screen_mm}: give a distance in mm, above 0 and at most 100000"
@@ -354,10 +384,6 @@ pub fn rings(id: &str, g: &GunArgs, screen_mm: f32, max: usize) -> CliResult<Rep
     }
     // 2θ < 90° needs d > λ/√2.
     let (fams, truncated) = family_list(&cell, lambda / core::f32::consts::SQRT_2, max)?;
-    let mut r = Report::default();
-    r.field("crystal", "crystal", Value::Text(c.id.into()));
-    g.fields(&mut r, e);
-    r.field("wavelength_a", "wavelength (Å)", Value::F32(lambda, 6));
     r.field(
         "screen_distance_mm",
         "screen distance (mm)",
@@ -368,46 +394,41 @@ pub fn rings(id: &str, g: &GunArgs, screen_mm: f32, max: usize) -> CliResult<Rep
         "camera constant λL (mm·Å)",
         Value::F32(lambda * screen_mm, 4),
     );
-    let mut list = List {
-        key: "rings",
-        columns: vec![
-            col("h", "h"),
-            col("k", "k"),
-            col("l", "l"),
-            col("d_a", "d (Å)"),
-            col("two_theta_deg", "2θB (deg)"),
-            col("radius_mm", "R (mm)"),
-            col("multiplicity", "mult"),
-        ],
-        rows: Vec::new(),
-    };
+    let mut rows = Vec::new();
     for f in &fams {
         let Ok(ring) = reflections::ring(f.d_a, lambda, screen_mm) else {
             continue;
         };
-        list.rows.push(vec![
-            Value::Int(f.hkl[0].into()),
-            Value::Int(f.hkl[1].into()),
-            Value::Int(f.hkl[2].into()),
-            Value::F32(f.d_a, 5),
-            Value::F32(ring.two_theta_deg, 4),
-            Value::F32(ring.radius, 3),
-            Value::Int(f.multiplicity.into()),
-        ]);
+        rows.push(family_row(
+            f,
+            [
+                Value::F32(ring.two_theta_deg, 4),
+                Value::F32(ring.radius, 3),
+            ],
+        ));
     }
-    r.field(
-        "truncated",
-        "more beyond --max",
-        Value::Text(truncated.to_string()),
-    );
-    r.list = Some(list);
+    truncated_field(&mut r, truncated);
+    r.list = Some(family_table(
+        "rings",
+        [
+            col("two_theta_deg", "2θB (deg)"),
+            col("radius_mm", "R (mm)"),
+        ],
+        rows,
+    ));
     Ok(r)
 }
 
-fn face_fields(r: &mut Report, c: &Crystal, face: &Face) {
+/// The `crystal` and `face` fields of a report.
+pub(crate) fn crystal_face_fields(r: &mut Report, c: &Crystal, face: &Face) {
     let hex = c.structure.system() == System::Hexagonal;
     r.field("crystal", "crystal", Value::Text(c.id.into()));
     r.field("face", "face", Value::Text(miller_text(face.miller, hex)));
+}
+
+/// The crystal and face fields, then the face's surface mesh and layer spacing.
+fn face_fields(r: &mut Report, c: &Crystal, face: &Face) {
+    crystal_face_fields(r, c, face);
     r.field(
         "mesh",
         "surface mesh",
@@ -427,7 +448,8 @@ fn face_fields(r: &mut Report, c: &Crystal, face: &Face) {
     );
 }
 
-fn check_angle(x: f32, name: &str, limit: f32) -> CliResult<f32> {
+/// `x` when it is a finite angle within ±`limit` degrees, else an error naming `--name`.
+pub(crate) fn check_angle(x: f32, name: &str, limit: f32) -> CliResult<f32> {
     if x.is_finite() && x.abs() <= limit {
         Ok(x)
     } else {
@@ -489,11 +511,7 @@ pub fn beams(
         ]);
     }
     r.field("count", "beams", Value::Int(l.stored as i64));
-    r.field(
-        "truncated",
-        "more beyond --max",
-        Value::Text(l.truncated.to_string()),
-    );
+    truncated_field(&mut r, l.truncated);
     r.list = Some(list);
     Ok(r)
 }
@@ -622,11 +640,7 @@ pub fn ivpeaks(id: &str, face_text: &str, a: &IvArgs, max: usize) -> CliResult<R
             Value::F32(p.g_perp_inv_a, 5),
         ]);
     }
-    r.field(
-        "truncated",
-        "more beyond --max",
-        Value::Text(l.truncated.to_string()),
-    );
+    truncated_field(&mut r, l.truncated);
     r.list = Some(list);
     Ok(r)
 }

@@ -15,15 +15,15 @@ use std::path::{Path, PathBuf};
 use matterwave_core::axis::{AxisConfig, MAX_ZONES, STEPS_MAX};
 use matterwave_core::beam::{self, Gun};
 use matterwave_core::goniometer::{self, axis_index, InView, Mode, Position, Rig, Solution};
-use matterwave_core::lattice::{Cell, System};
+use matterwave_core::lattice::Cell;
 use matterwave_core::scan::{self, SweepPlan, TrackPlan};
 use matterwave_core::surface::{Face, Incidence, TILT_MAX_DEG};
 use matterwave_core::table::Crystal;
 use matterwave_core::{budget, fit, math, AxisId, Error};
 
-use crate::calc::{self, GunArgs};
+use crate::calc::{self, check_angle, crystal_face_fields, GunArgs};
 use crate::error::{CliError, CliResult, Context};
-use crate::output::{col, Format, List, Report, Value};
+use crate::output::{col, json_text, Format, List, Report, Value};
 use crate::rig::{self, RigFile};
 
 /// Most aim solutions listed (two branches × three copies of azimuth and arm).
@@ -381,16 +381,6 @@ fn text(s: impl Into<String>) -> Value {
     Value::Text(s.into())
 }
 
-fn check_angle(x: f32, name: &str, limit: f32) -> CliResult<f32> {
-    if x.is_finite() && x.abs() <= limit {
-        Ok(x)
-    } else {
-        Err(CliError::new(format!(
-            "--{name} {x}: give a finite angle in degrees within ±{limit}"
-        )))
-    }
-}
-
 fn check_dwell(x: f32) -> CliResult<f32> {
     if x.is_finite() && (0.0..=DWELL_MAX_S).contains(&x) {
         Ok(x)
@@ -401,45 +391,32 @@ fn check_dwell(x: f32) -> CliResult<f32> {
     }
 }
 
-fn face_text(c: &Crystal, face: &Face) -> String {
-    let m = face.miller;
-    if c.structure.system() == System::Hexagonal {
-        format!("({} {} {} {})", m[0], m[1], -(m[0] + m[1]), m[2])
-    } else {
-        format!("({} {} {})", m[0], m[1], m[2])
-    }
-}
-
-fn face_fields(r: &mut Report, c: &Crystal, face: &Face) {
-    r.field("crystal", "crystal", text(c.id));
-    r.field("face", "face", text(face_text(c, face)));
-}
-
 fn rod_text(rod: [i32; 2]) -> String {
     format!("{},{}", rod[0], rod[1])
 }
 
-/// Gun fields as `calc beams` prints them.
-fn gun_fields(r: &mut Report, g: &GunArgs, kinetic: f32) {
-    r.field("nominal_ev", "nominal energy (eV)", f(g.energy, 3));
-    if g.correction_ev() != 0.0 {
-        r.field(
-            "cathode_work_function_ev",
-            "cathode work function (eV)",
-            f(g.cathode_work_function, 3),
-        );
-        r.field(
-            "sample_work_function_ev",
-            "sample work function (eV)",
-            f(g.sample_work_function, 3),
-        );
-        r.field(
-            "energy_offset_ev",
-            "energy offset (eV)",
-            f(g.energy_offset, 3),
-        );
+/// A scan plan's refusal of its range `--FROM x --TO y --step s`, with a hint.
+fn plan_error(e: Error, (from, x): (&str, f32), (to, y): (&str, f32), step: f32) -> CliError {
+    let hint = match e {
+        Error::EmptyRange => format!("; --{from} must not be above --{to}"),
+        Error::TooHigh(_) => "; at most 100000 points: use a larger --step".to_string(),
+        Error::TooLow(_) => "; --step must be positive".to_string(),
+        _ => String::new(),
+    };
+    CliError {
+        code: Some(e.code()),
+        message: format!(
+            "--{from} {x} --{to} {y} --step {step}: {}{hint}",
+            e.message()
+        ),
     }
-    r.field("energy_ev", "energy at sample (eV)", f(kinetic, 3));
+}
+
+/// `--elevation` other than 0 on a rig without an elevation axis.
+fn no_elevation_axis(elevation: f32) -> CliError {
+    CliError::new(format!(
+        "--elevation {elevation}: this rig has no elevation axis; omit --elevation or give a rig file with an [elevation] axis"
+    ))
 }
 
 fn rig_field(r: &mut Report, rf: &RigFile) {
@@ -710,11 +687,8 @@ impl AimQuery<'_> {
             let why = match p.refusal {
                 Some(e @ Error::NoSuchAxis(_)) => axis_reason(self.rig, e),
                 Some(e) => match e.axis() {
-                    Some(AxisId::Tilt) => {
-                        format!("refused by the tilt: {}", axis_reason(self.rig, e))
-                    }
-                    Some(AxisId::Azimuth) => {
-                        format!("refused by the azimuth: {}", axis_reason(self.rig, e))
+                    Some(a @ (AxisId::Tilt | AxisId::Azimuth)) => {
+                        format!("refused by the {}: {}", a.name(), axis_reason(self.rig, e))
                     }
                     _ => axis_reason(self.rig, e),
                 },
@@ -854,38 +828,49 @@ fn target(t: &TargetArgs) -> CliResult<Target> {
     Ok((c, cell, face, rod))
 }
 
+/// What `aim` and `budget` start from: the crystal and its cell, the energy at the
+/// sample, and the aim query on `rf`'s rig from the current position.
+fn aim_query<'a>(
+    rf: &'a RigFile,
+    target_args: &TargetArgs,
+    gun: &GunArgs,
+    tilt: f32,
+    azimuth: Option<f32>,
+    position: &PositionArgs,
+) -> CliResult<(&'static Crystal, Cell, f32, AimQuery<'a>)> {
+    let (c, cell, face, rod) = target(target_args)?;
+    let e = gun.kinetic_ev()?;
+    let q = AimQuery {
+        rig: &rf.rig,
+        face,
+        rod,
+        tilt: check_angle(tilt, "tilt", TILT_MAX_DEG)?,
+        mode: mode_of(azimuth)?,
+        current: parse_position(position.position.as_deref(), &rf.rig)?,
+    };
+    Ok((c, cell, e, q))
+}
+
 // ---------------------------------------------------------------------------------------
 // aim
 
 /// `mwctl calc aim`.
 pub fn aim(a: &AimArgs) -> CliResult<Report> {
     let rf = a.rig.load()?;
-    let (c, _, face, rod) = target(&a.target)?;
-    let e = a.gun.kinetic_ev()?;
-    let tilt = check_angle(a.tilt, "tilt", TILT_MAX_DEG)?;
-    let mode = mode_of(a.azimuth)?;
-    let current = parse_position(a.position.position.as_deref(), &rf.rig)?;
-    let q = AimQuery {
-        rig: &rf.rig,
-        face,
-        rod,
-        tilt,
-        mode,
-        current,
-    };
+    let (c, _, e, q) = aim_query(&rf, &a.target, &a.gun, a.tilt, a.azimuth, &a.position)?;
     let mut buf = [Solution::EMPTY; MAX_SOLUTIONS];
     let n = q.reachable(e, a.gun.energy, a.gun.correction_ev(), &mut buf)?;
     let mut r = Report::default();
-    face_fields(&mut r, c, &face);
-    r.field("beam", "beam", text(rod_text(rod)));
-    gun_fields(&mut r, &a.gun, e);
+    crystal_face_fields(&mut r, c, &q.face);
+    r.field("beam", "beam", text(rod_text(q.rod)));
+    a.gun.fields(&mut r, e);
     r.field(
         "wavelength_a",
         "wavelength (Å)",
         f(beam::wavelength_a(e).ctx("energy at the sample")?, 6),
     );
-    r.field("tilt_deg", "tilt (deg)", f(tilt, 3));
-    r.field("mode", "mode", text(mode_text(mode)));
+    r.field("tilt_deg", "tilt (deg)", f(q.tilt, 3));
+    r.field("mode", "mode", text(mode_text(q.mode)));
     rig_field(&mut r, &rf);
     r.field("count", "solutions", Value::Int(n as i64));
     r.list = Some(List {
@@ -926,24 +911,7 @@ pub fn track(a: &TrackArgs) -> CliResult<Report> {
         tilt,
         mode,
     )
-    .map_err(|e| {
-        let hint = match e {
-            Error::EmptyRange => "; --from must not be above --to",
-            Error::TooHigh(_) => "; at most 100000 points: use a larger --step",
-            Error::TooLow(_) => "; --step must be positive",
-            _ => "",
-        };
-        CliError {
-            code: Some(e.code()),
-            message: format!(
-                "--from {} --to {} --step {}: {}{hint}",
-                a.from,
-                a.to,
-                a.step,
-                e.message()
-            ),
-        }
-    })?;
+    .map_err(|e| plan_error(e, ("from", a.from), ("to", a.to), a.step))?;
     let mut rows = Vec::new();
     let mut reachable = 0i64;
     let mut at = start;
@@ -1001,7 +969,7 @@ pub fn track(a: &TrackArgs) -> CliResult<Report> {
         dwell,
     );
     let mut r = Report::default();
-    face_fields(&mut r, c, &face);
+    crystal_face_fields(&mut r, c, &face);
     r.field("beam", "beam", text(rod_text(rod)));
     if corr.correction_ev() != 0.0 {
         r.field(
@@ -1073,9 +1041,7 @@ impl SweepOutput {
                 {
                     m.extend(e);
                 }
-                let mut s = serde_json::to_string_pretty(&j).unwrap_or_default();
-                s.push('\n');
-                s
+                json_text(&j)
             }
             Format::Csv => extra.render(format),
             Format::Table => {
@@ -1099,49 +1065,22 @@ pub fn sweep(a: &SweepArgs) -> CliResult<SweepOutput> {
     let elevation = check_angle(a.elevation, "elevation", 90.0)?;
     let dwell = check_dwell(a.dwell)?;
     let start = parse_position(a.position.position.as_deref(), rig)?;
-    match &rig.elevation {
-        None if elevation != 0.0 => {
-            return Err(CliError::new(format!(
-                "--elevation {elevation}: this rig has no elevation axis; omit --elevation or give a rig file with an [elevation] axis"
-            )))
-        }
-        Some(ax) => ax
-            .check_angle(elevation)
-            .map_err(|er| CliError {
-                code: Some(er.code()),
-                message: format!("--elevation {elevation}: {}", axis_reason(rig, er)),
-            })?,
-        None => {}
-    }
-    for (name, ax, x) in [
-        ("tilt", &rig.tilt, tilt),
-        ("azimuth", &rig.azimuth, azimuth),
-    ] {
+    let within = |name: &str, ax: &AxisConfig, x: f32| {
         ax.check_angle(x).map_err(|er| CliError {
             code: Some(er.code()),
             message: format!("--{name} {x}: {}", axis_reason(rig, er)),
-        })?;
+        })
+    };
+    match &rig.elevation {
+        None if elevation != 0.0 => return Err(no_elevation_axis(elevation)),
+        Some(ax) => within("elevation", ax, elevation)?,
+        None => {}
     }
+    within("tilt", &rig.tilt, tilt)?;
+    within("azimuth", &rig.azimuth, azimuth)?;
     let inc = Incidence::new(e, tilt, azimuth).ctx("incidence")?;
-    let plan =
-        SweepPlan::new(*rig, face, inc, elevation, a.arm_from, a.arm_to, a.step).map_err(|er| {
-            let hint = match er {
-                Error::EmptyRange => "; --arm-from must not be above --arm-to",
-                Error::TooHigh(_) => "; at most 100000 points: use a larger --step",
-                Error::TooLow(_) => "; --step must be positive",
-                _ => "",
-            };
-            CliError {
-                code: Some(er.code()),
-                message: format!(
-                    "--arm-from {} --arm-to {} --step {}: {}{hint}",
-                    a.arm_from,
-                    a.arm_to,
-                    a.step,
-                    er.message()
-                ),
-            }
-        })?;
+    let plan = SweepPlan::new(*rig, face, inc, elevation, a.arm_from, a.arm_to, a.step)
+        .map_err(|er| plan_error(er, ("arm-from", a.arm_from), ("arm-to", a.arm_to), a.step))?;
     let mut unreachable = 0i64;
     let mut statuses: Vec<String> = Vec::with_capacity(plan.len() as usize);
     let mut point_rows = Vec::new();
@@ -1193,8 +1132,8 @@ pub fn sweep(a: &SweepArgs) -> CliResult<SweepOutput> {
     }
     let est = scan::estimate_sweep_s(&plan, start[0], dwell);
     let mut r = Report::default();
-    face_fields(&mut r, c, &face);
-    gun_fields(&mut r, &a.gun, e);
+    crystal_face_fields(&mut r, c, &face);
+    a.gun.fields(&mut r, e);
     r.field("tilt_deg", "tilt (deg)", f(tilt, 3));
     r.field("azimuth_deg", "azimuth (deg)", f(azimuth, 3));
     r.field("elevation_deg", "elevation (deg)", f(elevation, 3));
@@ -1256,9 +1195,7 @@ pub fn where_(a: &WhereArgs) -> CliResult<Report> {
     let arm = check_angle(a.arm, "arm", 360.0)?;
     let elevation = check_angle(a.elevation, "elevation", 90.0)?;
     if rig.elevation.is_none() && elevation != 0.0 {
-        return Err(CliError::new(format!(
-            "--elevation {elevation}: this rig has no elevation axis; omit --elevation or give a rig file with an [elevation] axis"
-        )));
+        return Err(no_elevation_axis(elevation));
     }
     let acceptance = match a.acceptance {
         None => rig.acceptance_deg,
@@ -1278,8 +1215,8 @@ pub fn where_(a: &WhereArgs) -> CliResult<Report> {
         Err(er) => status_word(er),
     };
     let mut r = Report::default();
-    face_fields(&mut r, c, &face);
-    gun_fields(&mut r, &a.gun, e);
+    crystal_face_fields(&mut r, c, &face);
+    a.gun.fields(&mut r, e);
     r.field("tilt_deg", "tilt (deg)", f(tilt, 3));
     r.field("azimuth_deg", "azimuth (deg)", f(azimuth, 3));
     r.field("arm_deg", "arm (deg)", f(arm, 4));
@@ -1642,7 +1579,7 @@ fn fit_arm_zero(a: &FitArgs, rows: &[CsvRow], ctx: &str, r: &mut Report) -> CliR
         other => CliError::core(other, ctx),
     })?;
     let [zero, offset] = fit.params;
-    face_fields(r, c, &face);
+    crystal_face_fields(r, c, &face);
     r.field("beam", "beam", text(rod_text(rod)));
     r.field("tilt_deg", "tilt (deg)", f(tilt, 3));
     r.field("branch", "branch", Value::Int(s as i64));
@@ -1690,11 +1627,8 @@ fn fit_arm_zero(a: &FitArgs, rows: &[CsvRow], ctx: &str, r: &mut Report) -> CliR
 pub fn budget_cmd(a: &BudgetArgs) -> CliResult<Report> {
     let rf = a.rig.load()?;
     let rig = &rf.rig;
-    let (c, cell, face, rod) = target(&a.target)?;
-    let e = a.gun.kinetic_ev()?;
-    let tilt = check_angle(a.tilt, "tilt", TILT_MAX_DEG)?;
-    let mode = mode_of(a.azimuth)?;
-    let current = parse_position(a.position.position.as_deref(), rig)?;
+    let (c, cell, e, q) = aim_query(&rf, &a.target, &a.gun, a.tilt, a.azimuth, &a.position)?;
+    let (face, rod, tilt, mode) = (q.face, q.rod, q.tilt, q.mode);
     let spread = a.energy_spread;
     if !(spread.is_finite() && (0.0..=100.0).contains(&spread)) {
         return Err(CliError::new(format!(
@@ -1707,14 +1641,6 @@ pub fn budget_cmd(a: &BudgetArgs) -> CliResult<Report> {
             "--arm-zero-sigma {zero_sigma}: give one standard deviation in degrees from 0 to 10"
         )));
     }
-    let q = AimQuery {
-        rig,
-        face,
-        rod,
-        tilt,
-        mode,
-        current,
-    };
     let mut buf = [Solution::EMPTY; MAX_SOLUTIONS];
     q.reachable(e, a.gun.energy, a.gun.correction_ev(), &mut buf)?;
     let sol = buf[0];
@@ -1725,11 +1651,8 @@ pub fn budget_cmd(a: &BudgetArgs) -> CliResult<Report> {
     let open = relaxed(rig, matches!(mode, Mode::AtAzimuth(_)));
     let near = AimQuery {
         rig: &open,
-        face,
-        rod,
-        tilt,
-        mode,
         current: sol.position(),
+        ..q
     };
     let arm_at = |q: &AimQuery<'_>, energy: f32| -> matterwave_core::Result<f32> {
         let mut one = [Solution::EMPTY; 1];
@@ -1788,9 +1711,9 @@ pub fn budget_cmd(a: &BudgetArgs) -> CliResult<Report> {
         format!("--arm-zero-sigma {zero_sigma} deg"),
     ];
     let mut r = Report::default();
-    face_fields(&mut r, c, &face);
+    crystal_face_fields(&mut r, c, &face);
     r.field("beam", "beam", text(rod_text(rod)));
-    gun_fields(&mut r, &a.gun, e);
+    a.gun.fields(&mut r, e);
     r.field("tilt_deg", "tilt (deg)", f(tilt, 3));
     r.field("mode", "mode", text(mode_text(mode)));
     rig_field(&mut r, &rf);

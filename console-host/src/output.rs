@@ -90,6 +90,13 @@ pub fn f32_json(x: f32) -> serde_json::Value {
     }
 }
 
+/// Pretty-printed JSON ending with a newline.
+pub(crate) fn json_text(v: &serde_json::Value) -> String {
+    let mut s = serde_json::to_string_pretty(v).unwrap_or_default();
+    s.push('\n');
+    s
+}
+
 /// A column of a list: JSON/CSV key and table header (with unit).
 #[derive(Clone, Copy, Debug)]
 pub struct Column {
@@ -166,9 +173,7 @@ impl Report {
     }
 
     fn render_json(&self) -> String {
-        let mut s = serde_json::to_string_pretty(&self.to_json()).unwrap_or_default();
-        s.push('\n');
-        s
+        json_text(&self.to_json())
     }
 
     fn render_csv(&self) -> String {

@@ -52,6 +52,7 @@ use toml::{Table, Value};
 
 use crate::error::{CliError, CliResult};
 use crate::output::{col, List, Report, Value as Cell};
+use crate::tables::{describe, finite_number};
 
 /// Top-level keys of a rig file.
 const TOP_FIELDS: &[&str] = &["name", "detector", "arm", "elevation", "tilt", "azimuth"];
@@ -205,21 +206,12 @@ impl Ctx<'_> {
 
     /// A finite number (integer or float), if present.
     fn number(&self, t: &Table, field: &str, unit: &str) -> Result<Option<f64>, RigError> {
-        let x = match t.get(field) {
-            None => return Ok(None),
-            Some(Value::Float(x)) => *x,
-            Some(Value::Integer(n)) => *n as f64,
-            Some(other) => {
-                return Err(self.field_err(
-                    field,
-                    format!("must be a number {unit}, got {}", describe(other)),
-                ))
-            }
-        };
-        if !x.is_finite() {
-            return Err(self.field_err(field, format!("must be a finite number {unit}, got {x}")));
+        match t.get(field) {
+            None => Ok(None),
+            Some(v) => finite_number(v, unit)
+                .map(Some)
+                .map_err(|m| self.field_err(field, m)),
         }
-        Ok(Some(x))
     }
 
     /// A number in [lo, hi] (`lo_open`: (lo, hi]), if present.
@@ -280,13 +272,12 @@ impl Ctx<'_> {
 /// Reads a rig file.
 pub fn load(path: &Path) -> Result<RigFile, RigError> {
     let file = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|e| RigError {
-        file: file.clone(),
-        section: None,
-        field: None,
-        index: None,
-        message: format!("cannot read it: {e}"),
-        code: None,
+    let text = std::fs::read_to_string(path).map_err(|e| {
+        let ctx = Ctx {
+            file: &file,
+            section: None,
+        };
+        ctx.err(None, None, format!("cannot read it: {e}"))
     })?;
     parse(&text, &file)
 }
@@ -693,22 +684,6 @@ fn covers(pairs: &[(f64, f64)], lo: f64, hi: f64) -> bool {
 
 fn one_line(s: &str) -> String {
     s.split_whitespace().collect::<Vec<_>>().join(" ")
-}
-
-/// A short description of a TOML value for "got …" in messages.
-fn describe(v: &Value) -> String {
-    match v {
-        Value::String(s) => format!("string {s:?}"),
-        Value::Integer(n) => n.to_string(),
-        Value::Float(x) => x.to_string(),
-        Value::Boolean(b) => format!("boolean {b}"),
-        Value::Datetime(d) => format!("date-time {d}"),
-        Value::Array(items) => {
-            let parts: Vec<String> = items.iter().map(describe).collect();
-            format!("[{}]", parts.join(", "))
-        }
-        Value::Table(_) => "a table".to_string(),
-    }
 }
 
 /// The word of an approach direction in rig files.

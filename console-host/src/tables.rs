@@ -224,13 +224,13 @@ pub fn parse(text: &str) -> Result<Vec<CrystalRow>, TableError> {
         ));
     }
     let items = match top.get("crystal") {
-        None => {
+        Some(Value::Array(items)) if !items.is_empty() => items,
+        None | Some(Value::Array(_)) => {
             return Err(top_err(
                 "crystal",
                 "no [[crystal]] blocks; the table needs at least one".to_string(),
             ))
         }
-        Some(Value::Array(items)) => items,
         Some(other) => {
             return Err(top_err(
                 "crystal",
@@ -241,12 +241,6 @@ pub fn parse(text: &str) -> Result<Vec<CrystalRow>, TableError> {
             ))
         }
     };
-    if items.is_empty() {
-        return Err(top_err(
-            "crystal",
-            "no [[crystal]] blocks; the table needs at least one".to_string(),
-        ));
-    }
 
     let mut rows: Vec<CrystalRow> = Vec::with_capacity(items.len());
     for (i, item) in items.iter().enumerate() {
@@ -359,21 +353,8 @@ impl Ctx<'_> {
                 return Err(self.err(Some(field), "missing; this field is required".to_string()))
             }
             None => return Ok(None),
-            Some(Value::Float(x)) => *x,
-            Some(Value::Integer(n)) => *n as f64,
-            Some(other) => {
-                return Err(self.err(
-                    Some(field),
-                    format!("must be a number {unit}, got {}", describe(other)),
-                ))
-            }
+            Some(v) => finite_number(v, unit).map_err(|m| self.err(Some(field), m))?,
         };
-        if !x.is_finite() {
-            return Err(self.err(
-                Some(field),
-                format!("must be a finite number {unit}, got {x}"),
-            ));
-        }
         if x <= 0.0 {
             return Err(self.err(
                 Some(field),
@@ -495,22 +476,8 @@ fn parse_row(ctx: &Ctx<'_>, t: &Table) -> Result<CrystalRow, TableError> {
         .number(t, "temperature_k", true, TEMPERATURE_RANGE_K, false, "of K")?
         .unwrap_or_default();
     let lattice_source = ctx.string(t, "lattice_source", true)?.unwrap_or_default();
-    let (work_function_ev, work_function_source) = ctx.sourced(
-        t,
-        "work_function_ev",
-        "work_function_source",
-        WORK_FUNCTION_RANGE_EV,
-        true,
-        "of eV",
-    )?;
-    let (inner_potential_ev, inner_potential_source) = ctx.sourced(
-        t,
-        "inner_potential_ev",
-        "inner_potential_source",
-        INNER_POTENTIAL_RANGE_EV,
-        false,
-        "of eV",
-    )?;
+    let ((work_function_ev, work_function_source), (inner_potential_ev, inner_potential_source)) =
+        typical_values(ctx, t)?;
 
     let faces = match t.get("face") {
         None => Vec::new(),
@@ -575,6 +542,31 @@ fn parse_row(ctx: &Ctx<'_>, t: &Table) -> Result<CrystalRow, TableError> {
     })
 }
 
+/// A value with its source, as [`Ctx::sourced`] reads it.
+type Sourced = (Option<f64>, Option<String>);
+
+/// The work function and the inner potential, each with its source: the same fields
+/// with the same ranges in a `[[crystal]]` row and in a `[[crystal.face]]`.
+fn typical_values(ctx: &Ctx<'_>, t: &Table) -> Result<(Sourced, Sourced), TableError> {
+    let work_function = ctx.sourced(
+        t,
+        "work_function_ev",
+        "work_function_source",
+        WORK_FUNCTION_RANGE_EV,
+        true,
+        "of eV",
+    )?;
+    let inner_potential = ctx.sourced(
+        t,
+        "inner_potential_ev",
+        "inner_potential_source",
+        INNER_POTENTIAL_RANGE_EV,
+        false,
+        "of eV",
+    )?;
+    Ok((work_function, inner_potential))
+}
+
 fn check_id(ctx: &Ctx<'_>, id: &str) -> Result<(), TableError> {
     let mut chars = id.chars();
     let first_ok = chars.next().is_some_and(|c| c.is_ascii_lowercase());
@@ -625,22 +617,8 @@ fn parse_face(ctx: &Ctx<'_>, t: &Table) -> Result<FaceRow, TableError> {
         }
         Some(other) => return Err(bad_miller(describe(other))),
     };
-    let (work_function_ev, work_function_source) = ctx.sourced(
-        t,
-        "work_function_ev",
-        "work_function_source",
-        WORK_FUNCTION_RANGE_EV,
-        true,
-        "of eV",
-    )?;
-    let (inner_potential_ev, inner_potential_source) = ctx.sourced(
-        t,
-        "inner_potential_ev",
-        "inner_potential_source",
-        INNER_POTENTIAL_RANGE_EV,
-        false,
-        "of eV",
-    )?;
+    let ((work_function_ev, work_function_source), (inner_potential_ev, inner_potential_source)) =
+        typical_values(ctx, t)?;
     Ok(FaceRow {
         miller,
         work_function_ev,
@@ -650,8 +628,24 @@ fn parse_face(ctx: &Ctx<'_>, t: &Table) -> Result<FaceRow, TableError> {
     })
 }
 
-/// A short description of a TOML value for "got …" in messages.
-fn describe(v: &Value) -> String {
+/// A TOML number (integer or float) as f64 when it is finite; else the message,
+/// "must be a (finite) number UNIT, got …". Shared with [`crate::rig`].
+pub(crate) fn finite_number(v: &Value, unit: &str) -> Result<f64, String> {
+    let x = match v {
+        Value::Float(x) => *x,
+        Value::Integer(n) => *n as f64,
+        other => return Err(format!("must be a number {unit}, got {}", describe(other))),
+    };
+    if x.is_finite() {
+        Ok(x)
+    } else {
+        Err(format!("must be a finite number {unit}, got {x}"))
+    }
+}
+
+/// A short description of a TOML value for "got …" in messages. Shared with
+/// [`crate::rig`].
+pub(crate) fn describe(v: &Value) -> String {
     match v {
         Value::String(s) => format!("string {s:?}"),
         Value::Integer(n) => n.to_string(),

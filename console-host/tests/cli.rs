@@ -1,27 +1,9 @@
 //! End-to-end tests of the `mwctl` binary: every calc command in every format, JSON
 //! keys, exit status 2 with one helpful line for bad input, no panics.
 
-use std::process::Command;
+mod common;
 
-fn mwctl(args: &[&str]) -> (i32, String, String) {
-    let out = Command::new(env!("CARGO_BIN_EXE_mwctl"))
-        .args(args)
-        .output()
-        .expect("mwctl runs");
-    (
-        out.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&out.stdout).into_owned(),
-        String::from_utf8_lossy(&out.stderr).into_owned(),
-    )
-}
-
-fn json(args: &[&str]) -> serde_json::Value {
-    let mut a = args.to_vec();
-    a.extend(["--format", "json"]);
-    let (code, out, err) = mwctl(&a);
-    assert_eq!(code, 0, "{args:?}: {err}");
-    serde_json::from_str(&out).unwrap_or_else(|e| panic!("{args:?}: {e}: {out}"))
-}
+use common::{json, mwctl};
 
 const COMMANDS: &[&[&str]] = &[
     &["crystals"],

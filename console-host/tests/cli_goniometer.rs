@@ -7,28 +7,11 @@
 //! and §9 with parameters chosen in the test (said beside each); the fits must recover
 //! them. Physical constants: CODATA 2018 (NIST), as in DESIGN §3.
 
+mod common;
+
 use std::path::PathBuf;
-use std::process::Command;
 
-fn mwctl(args: &[&str]) -> (i32, String, String) {
-    let out = Command::new(env!("CARGO_BIN_EXE_mwctl"))
-        .args(args)
-        .output()
-        .expect("mwctl runs");
-    (
-        out.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&out.stdout).into_owned(),
-        String::from_utf8_lossy(&out.stderr).into_owned(),
-    )
-}
-
-fn json(args: &[&str]) -> serde_json::Value {
-    let mut a = args.to_vec();
-    a.extend(["--format", "json"]);
-    let (code, out, err) = mwctl(&a);
-    assert_eq!(code, 0, "{args:?}: {err}");
-    serde_json::from_str(&out).unwrap_or_else(|e| panic!("{args:?}: {e}: {out}"))
-}
+use common::{json, mwctl};
 
 /// Runs a command that must fail: exit 2, one line on stderr, no panic. Returns stderr.
 fn fails(args: &[&str]) -> String {
