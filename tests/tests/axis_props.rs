@@ -20,6 +20,7 @@
 //! ulps of the magnitudes involved (the core reduces modulo 360° in f32); everything
 //! else is compared exactly.
 
+use matterwave_tests::Rng;
 use std::cell::{Cell, RefCell};
 use std::collections::BTreeMap;
 use std::sync::OnceLock;
@@ -72,49 +73,6 @@ macro_rules! check_eq {
             ));
         }
     }};
-}
-
-/// SplitMix64: a small deterministic generator, so failures reproduce.
-struct Rng(u64);
-
-impl Rng {
-    fn next(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-    fn unit(&mut self) -> f64 {
-        (self.next() >> 11) as f64 / (1u64 << 53) as f64
-    }
-    fn range(&mut self, lo: f64, hi: f64) -> f64 {
-        lo + (hi - lo) * self.unit()
-    }
-    fn rangef(&mut self, lo: f32, hi: f32) -> f32 {
-        (self.range(lo as f64, hi as f64) as f32).clamp(lo, hi)
-    }
-    fn int(&mut self, lo: i32, hi: i32) -> i32 {
-        (lo as i64 + (self.next() % (hi as i64 - lo as i64 + 1) as u64) as i64) as i32
-    }
-    fn chance(&mut self, p: f64) -> bool {
-        self.unit() < p
-    }
-    /// Index by weights.
-    fn weighted(&mut self, w: &[u32]) -> usize {
-        let total: u32 = w.iter().sum();
-        let mut x = (self.next() % total as u64) as u32;
-        for (i, wi) in w.iter().enumerate() {
-            if x < *wi {
-                return i;
-            }
-            x -= wi;
-        }
-        w.len() - 1
-    }
-    fn select<T: Copy>(&mut self, v: &[T]) -> T {
-        v[(self.next() % v.len() as u64) as usize]
-    }
 }
 
 /// Runs `cases` cases of `body` on inputs from `gen`, panicking with the case number

@@ -16,52 +16,11 @@ use matterwave_core::reflections::{self, Reflection};
 use matterwave_core::scan;
 use matterwave_core::surface::{Face, Incidence};
 use matterwave_core::{beam, table, AxisId, Error};
+use matterwave_tests::Rng;
 
 // ---------------------------------------------------------------------------------
 // Helpers
 // ---------------------------------------------------------------------------------
-
-/// SplitMix64: a small deterministic generator, so failures reproduce.
-struct Rng(u64);
-
-impl Rng {
-    fn next(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-    fn unit(&mut self) -> f64 {
-        (self.next() >> 11) as f64 / (1u64 << 53) as f64
-    }
-    fn range(&mut self, lo: f64, hi: f64) -> f64 {
-        lo + (hi - lo) * self.unit()
-    }
-    fn int(&mut self, lo: i32, hi: i32) -> i32 {
-        lo + (self.next() % (hi - lo + 1) as u64) as i32
-    }
-    fn sign(&mut self) -> f64 {
-        if self.next() & 1 == 0 {
-            1.0
-        } else {
-            -1.0
-        }
-    }
-    /// Log-uniform energy in [lo, hi] eV, as f32.
-    fn energy(&mut self, lo: f64, hi: f64) -> f32 {
-        self.range(lo.ln(), hi.ln()).exp().clamp(lo, hi) as f32
-    }
-    /// A non-zero rod with |h|, |k| ≤ 3.
-    fn rod(&mut self) -> [i32; 2] {
-        loop {
-            let r = [self.int(-3, 3), self.int(-3, 3)];
-            if r != [0, 0] {
-                return r;
-            }
-        }
-    }
-}
 
 /// Difference of two angles reduced to (−180, 180], degrees.
 fn ang_diff(a: f64, b: f64) -> f64 {

@@ -11,32 +11,7 @@ use matterwave_core::goniometer;
 use matterwave_core::lattice::Structure;
 use matterwave_core::surface::{Face, Incidence, IvPeak};
 use matterwave_core::{beam, table, Error};
-
-/// SplitMix64: a small deterministic generator, so failures reproduce.
-struct Rng(u64);
-
-impl Rng {
-    fn next(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-    fn unit(&mut self) -> f64 {
-        (self.next() >> 11) as f64 / (1u64 << 53) as f64
-    }
-    fn range(&mut self, lo: f64, hi: f64) -> f64 {
-        lo + (hi - lo) * self.unit()
-    }
-    fn int(&mut self, lo: i32, hi: i32) -> i32 {
-        lo + (self.next() % (hi - lo + 1) as u64) as i32
-    }
-    /// Log-uniform energy in [1, 3e5] eV, as f32.
-    fn energy(&mut self) -> f32 {
-        (self.range(0.0, (3.0e5f64).ln())).exp().clamp(1.0, 3.0e5) as f32
-    }
-}
+use matterwave_tests::Rng;
 
 fn ocell(c: &table::Crystal) -> OCell {
     let s = oracle::structure_from_name(c.structure.name()).expect("oracle knows every structure");
@@ -73,7 +48,7 @@ fn wavelengths_agree() {
     let mut rng = Rng(1);
     let mut worst = 0.0f64;
     for _ in 0..200_000 {
-        let e = rng.energy();
+        let e = rng.energy(1.0, 3.0e5);
         let core = beam::wavelength_a(e).unwrap() as f64;
         let refv = oracle::wavelength_a(e as f64);
         let rel = (core / refv - 1.0).abs();
@@ -156,7 +131,7 @@ fn exit_angles_and_emergence_agree() {
         let m = random_face(&mut rng, hex);
         let f = Face::new(&c.cell().unwrap(), m).unwrap();
         let oc = ocell(c);
-        let e = rng.energy();
+        let e = rng.energy(1.0, 3.0e5);
         let tilt = rng.range(-70.0, 70.0) as f32;
         let az = rng.range(-180.0, 180.0) as f32;
         let inc = Incidence::new(e, tilt, az).unwrap();
