@@ -6,7 +6,8 @@
 pub struct Rng(pub u64);
 
 impl Rng {
-    /// Next 64 random bits.
+    /// Next 64 random bits. (Not an `Iterator`: the stream never ends.)
+    #[allow(clippy::should_implement_trait)]
     pub fn next(&mut self) -> u64 {
         self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
         let mut z = self.0;
