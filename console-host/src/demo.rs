@@ -52,5 +52,33 @@ pub fn run(format: Format) -> CliResult<String> {
         "I-V maxima of the (1,0) beam, 40-400 eV nominal",
         calc::ivpeaks("ag", "100", &iv, 40)?.render(format),
     );
+    if format == Format::Table {
+        section(
+            "the controller (in-process simulator): aim, move, read, plan an I-V sweep",
+            simulator_session()?,
+        );
+    }
     Ok(out)
+}
+
+/// The same scenario driven through the controller's own console on simulated axes.
+fn simulator_session() -> CliResult<String> {
+    let mut console = crate::talk::sim_console()?;
+    let requests = [
+        "set crystal=ag face=100 energy=95 cathode=2.7 sample=4.64 tilt=6 beam=1,0",
+        "aim",
+        "enable",
+        "move sol=0",
+        "read",
+        "plan kind=iv from=40 to=240 step=20 dwell=2",
+        "disable",
+    ];
+    let mut text = String::new();
+    for r in requests {
+        text.push_str(&format!("> {r}\n"));
+        for line in crate::talk::exchange(&mut console, r) {
+            text.push_str(&format!("< {line}\n"));
+        }
+    }
+    Ok(text)
 }

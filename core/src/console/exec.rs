@@ -117,7 +117,7 @@ enum Stream {
     Help(u8),
     Crystals(u8),
     Faces(u8),
-    Beams(BeamIter, u16),
+    Beams(BeamIter, u32),
     Aim(u8),
     Plan {
         plan: Plan,
