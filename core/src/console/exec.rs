@@ -886,13 +886,6 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         };
         cfg.zones[idx] = zone;
         cfg.validate()?;
-        // A new zone may not contain the axis's resting position.
-        let here = cfg.steps_to_deg(self.axes.position(id));
-        if let Err(Error::InZone(_, z)) = cfg.check_angle(here) {
-            if z as usize == idx {
-                return Err(Error::InZone(id, z));
-            }
-        }
         set_axis(&mut rig, id, Some(cfg));
         self.settings.rig = rig;
         self.n_solutions = 0;
@@ -1356,24 +1349,34 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                     .field_f32_rt("acceptance", s.rig.acceptance_deg);
                 Dump::Line
             }
-            2..=5 => {
-                let id = axes[(i - 2) as usize];
-                rw.item().word("axis");
-                match axis_of(&s.rig, id) {
-                    Some(c) => {
-                        axis_fields(rw, c);
+            // Two lines per axis, so that each stays within the request line limit.
+            2..=9 => {
+                let id = axes[((i - 2) / 2) as usize];
+                let second = (i - 2) % 2 == 1;
+                match (axis_of(&s.rig, id), second) {
+                    (Some(c), false) => {
+                        rw.item().word("axis");
+                        axis_fields_geometry(rw, c);
                         if id == AxisId::Elevation {
                             rw.field_i32("fitted", 1);
                         }
                     }
-                    None => {
-                        rw.field_str("name", id.name()).field_i32("fitted", 0);
+                    (Some(c), true) => {
+                        rw.item().word("axis");
+                        axis_fields_motion(rw, c);
                     }
+                    (None, false) => {
+                        rw.item()
+                            .word("axis")
+                            .field_str("name", id.name())
+                            .field_i32("fitted", 0);
+                    }
+                    (None, true) => return Dump::Skip,
                 }
                 Dump::Line
             }
-            6..=21 => {
-                let k = (i - 6) as usize;
+            10..=25 => {
+                let k = (i - 10) as usize;
                 let id = axes[k / MAX_ZONES];
                 let z = k % MAX_ZONES;
                 let Some(c) = axis_of(&s.rig, id) else {
@@ -1454,12 +1457,27 @@ fn point_error<W: Write>(rw: &mut Rw<'_, W>, e: Error) {
 }
 
 fn axis_fields<W: Write>(rw: &mut Rw<'_, W>, c: &AxisConfig) {
+    axis_fields_geometry(rw, c);
+    motion_fields(rw, c);
+}
+
+/// `name spd home min max`.
+fn axis_fields_geometry<W: Write>(rw: &mut Rw<'_, W>, c: &AxisConfig) {
     rw.field_str("name", c.id.name())
         .field_f32_rt("spd", c.steps_per_deg)
         .field_f32_rt("home", c.home_offset_deg)
         .field_f32_rt("min", c.min_deg)
-        .field_f32_rt("max", c.max_deg)
-        .field_f32_rt("backlash", c.backlash_deg)
+        .field_f32_rt("max", c.max_deg);
+}
+
+/// `name backlash approach wrap speed accel`.
+fn axis_fields_motion<W: Write>(rw: &mut Rw<'_, W>, c: &AxisConfig) {
+    rw.field_str("name", c.id.name());
+    motion_fields(rw, c);
+}
+
+fn motion_fields<W: Write>(rw: &mut Rw<'_, W>, c: &AxisConfig) {
+    rw.field_f32_rt("backlash", c.backlash_deg)
         .field_str(
             "approach",
             match c.approach {

@@ -1,0 +1,545 @@
+//! A catalogue of malformed and refused requests for the serial console
+//! (`core/src/console/exec.rs`), each with the error code it must get and the rule it
+//! checks, on a fresh simulated controller (feature `sim`).
+//!
+//! For every case: the input's final lines carry exactly the expected codes; the state
+//! a technician can see — `get`, `dump`, `pos` and `status` without its request/error
+//! counters — is the same before and after; running the case again on a fresh console
+//! gives byte-identical output (determinism); and sending the same input a second time
+//! gives the same reply again.
+//!
+//! Codes are those of `core/src/error.rs` (1xx input values, 2xx physics, 3xx axes, 4xx
+//! protocol). "DESIGN §N" is /work/shared/DESIGN.md, section N.
+
+use matterwave_core::console::sim::{SimAxes, SimDetector, SimInterlock};
+use matterwave_core::console::Console;
+
+type Con = Console<SimAxes, SimDetector, SimInterlock>;
+
+/// `ok` as an expected "code".
+const OK: u16 = 0;
+
+/// One catalogue entry.
+struct Case {
+    /// What the case checks, with its source.
+    rule: &'static str,
+    /// Setup lines, each answered `ok` (streams polled to the end). Special steps:
+    /// `!open` opens the interlock, `!safe` closes it, `!stream LINE` starts a stream and
+    /// leaves it running (not polled).
+    setup: &'static [&'static str],
+    /// Whether the interlock is safe from the start.
+    safe: bool,
+    /// The malformed input, with its line end.
+    input: &'static [u8],
+    /// Codes of the final lines the input must produce, in order (`OK` = `ok`).
+    want: &'static [u16],
+}
+
+const fn case(
+    rule: &'static str,
+    setup: &'static [&'static str],
+    input: &'static [u8],
+    want: &'static [u16],
+) -> Case {
+    Case {
+        rule,
+        setup,
+        safe: true,
+        input,
+        want,
+    }
+}
+
+const fn unsafe_case(
+    rule: &'static str,
+    setup: &'static [&'static str],
+    input: &'static [u8],
+    want: &'static [u16],
+) -> Case {
+    Case {
+        rule,
+        setup,
+        safe: false,
+        input,
+        want,
+    }
+}
+
+/// The 64 `pt` lines that fill the point buffer (`MAX_POINTS` = 64).
+const FILL_POINTS: [&str; 64] = {
+    const P: &str = "pt x=1 y=2 n=3";
+    [P; 64]
+};
+
+const CATALOGUE: &[Case] = &[
+    // ---- 4xx: the line itself -------------------------------------------------------
+    case("DESIGN §10: overlong lines (130 bytes > 120) get a clear error (400)", &[],
+        b"get xxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxx\n",
+        &[400]),
+    case("DESIGN §10: the documented maximum is 120 bytes: 121 is too long (400)", &[],
+        b"get                                                                                                                      \n",
+        &[400]),
+    case("DESIGN §10: non-ASCII bytes (UTF-8 e-acute) are refused (401)", &[], b"set crystal=\xc3\xa9\n", &[401]),
+    case("DESIGN §10: a NUL byte is refused (401)", &[], b"get\x00 energy\n", &[401]),
+    case("DESIGN §10: control bytes (ESC, DEL) are refused (401)", &[], b"get \x1b[A\x7f\n", &[401]),
+    case("DESIGN §10: 0xFF is refused (401); the first problem in a line wins over length", &[],
+        b"\xffxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxx\n",
+        &[401]),
+    case("DESIGN §10: optional per-line checksum: a wrong one is refused (402)", &[], b"get*0000\n", &[402]),
+    case("DESIGN §10: a malformed checksum (*12) is refused (402)", &[], b"get*12\n", &[402]),
+    case("DESIGN §10: a checksum of non-hex digits is refused (402)", &[], b"get energy*zz1G\n", &[402]),
+    case("DESIGN §10: a bare star is a malformed checksum (402)", &[], b"set energy=120*\n", &[402]),
+    case("DESIGN §10: unknown words: unknown command (403)", &[], b"frobnicate\n", &[403]),
+    case("DESIGN §10: command words are lower case: HELP is unknown (403)", &[], b"HELP\n", &[403]),
+    case("DESIGN §10: a line without a command word (=5) is unknown (403)", &[], b"=5 energy\n", &[403]),
+    case("DESIGN §10: unknown words: unknown key (404)", &[], b"set colour=red\n", &[404]),
+    case("DESIGN §10: unknown words: unknown get key (404)", &[], b"get nonsense\n", &[404]),
+    case("DESIGN §10: an extra positional argument is refused (404)", &[], b"hello there\n", &[404]),
+    case("DESIGN §10: stop with an argument is refused (404), nothing stopped", &[], b"stop now\n", &[404]),
+    case("DESIGN §10: more than 12 arguments are refused (404)", &[],
+        b"set a=1 b=2 c=3 d=4 e=5 f=6 g=7 h=8 i=9 j=10 k=11 l=12 m=13\n", &[404]),
+    case("DESIGN §10: move takes sol= or angles, not both (404)", &["enable"], b"move sol=0 arm=40\n", &[404]),
+    case("DESIGN §10: peak fits take no threshold (404)", &["pt x=1 y=1"], b"fit kind=peak threshold=1\n", &[404]),
+    case("DESIGN §10: zone off takes no from/to (404)", &[], b"zone name=arm i=1 off from=3\n", &[404]),
+    case("DESIGN §10: missing argument: set with nothing to set (405)", &[], b"set\n", &[405]),
+    case("DESIGN §10: missing argument: move with no target (405)", &["enable"], b"move\n", &[405]),
+    case("DESIGN §10: missing argument: plan without step (405)", &[], b"plan kind=track from=50 to=60\n", &[405]),
+    case("DESIGN §10: missing argument: key= with an empty value (405)", &[], b"set energy=\n", &[405]),
+    case("DESIGN §10: missing argument: pt without y (405)", &[], b"pt x=1\n", &[405]),
+    case("DESIGN §10: missing argument: zone without i (405)", &[], b"zone name=arm from=1 to=2\n", &[405]),
+    case("DESIGN §10: NaN gets a clear error (406)", &[], b"set energy=nan\n", &[406]),
+    case("DESIGN §10: inf gets a clear error (406)", &[], b"set energy=inf\n", &[406]),
+    case("DESIGN §10: -Infinity gets a clear error (406)", &[], b"set tilt=-Infinity\n", &[406]),
+    case("DESIGN §10: out-of-range numbers: 1e39 overflows f32 (406)", &[], b"set energy=1e39\n", &[406]),
+    case("DESIGN §10: text where a number goes (406)", &[], b"set tilt=abc\n", &[406]),
+    case("DESIGN §10: hex is not a decimal number (406)", &[], b"set energy=0x10\n", &[406]),
+    case("DESIGN §10: NaN as a move target (406), nothing moves", &["enable"], b"move arm=nan\n", &[406]),
+    case("DESIGN §10: an index beyond i32 (406)", &[], b"pt x=1 y=2 n=2147483648\n", &[406]),
+    case("DESIGN §10: a fractional index (406)", &[], b"zone name=arm i=1.5 from=1 to=2\n", &[406]),
+    case("DESIGN §10: dwell beyond an hour (406)", &[], b"plan kind=sweep from=20 to=30 step=5 dwell=5000\n", &[406]),
+    case("DESIGN §10: unknown words: approach=sideways (407)", &[], b"axis name=arm approach=sideways\n", &[407]),
+    case("DESIGN §10: unknown words: beam=1 is not h,k (407)", &[], b"set beam=1\n", &[407]),
+    case("DESIGN §10: unknown words: axis name=gun (407)", &[], b"axis name=gun spd=100\n", &[407]),
+    case("DESIGN §10: unknown words: fit kind=foo (407)", &[], b"fit kind=foo\n", &[407]),
+    case("DESIGN §10: unknown words: plan kind=bar (407)", &[], b"plan kind=bar from=1 to=2 step=1\n", &[407]),
+    case("DESIGN §10: unknown words: wrap=maybe (407)", &[], b"axis name=azimuth wrap=maybe\n", &[407]),
+    case("DESIGN §10: the same key twice (407)", &[], b"set energy=100 energy=200\n", &[407]),
+    case("DESIGN §8: zone index beyond the 4 slots (407)", &[], b"zone name=arm i=4 from=1 to=2\n", &[407]),
+    case("DESIGN §8: only the elevation axis can be fitted or removed (407)", &[], b"axis name=tilt fitted=0\n", &[407]),
+    case("DESIGN §10: motion only when enabled (408)", &[], b"move arm=40\n", &[408]),
+    case("DESIGN §10: motion only when enabled: disable forbids it again (408)", &["enable", "disable"], b"move tilt=10\n", &[408]),
+    unsafe_case("DESIGN §10: enable refuses while the interlock reports unsafe (409)", &[], b"enable\n", &[409]),
+    case("DESIGN §10: motion only when the interlock reports safe (409)", &["enable", "!open"], b"move arm=40\n", &[409]),
+    case("DESIGN §10: interlock open, move by solution refused (409)", &["enable", "aim", "!open"], b"move sol=0\n", &[409]),
+    case("DESIGN §10: a request while a stream runs is busy (410); the stream goes on", &["!stream help"], b"get\n", &[410]),
+    case("DESIGN §10: busy even for a valid move (410), nothing moves", &["enable", "!stream dump"], b"move arm=40\n", &[410]),
+    case("DESIGN §10: stop works in every state: mid-stream, 411 ends the stream, then ok", &["!stream help"], b"stop\n", &[411, OK]),
+    case("DESIGN §10: stop mid-stream keeps the stream request's checksum setting", &["!stream dump*27FA"], b"stop\n", &[411, OK]),
+    case("DESIGN §7: move sol=N needs a stored solution (412)", &["enable"], b"move sol=9\n", &[412]),
+    case("DESIGN §7: a negative solution index (412)", &["enable", "aim"], b"move sol=-1\n", &[412]),
+    case("DESIGN §7: solutions are forgotten when settings change (412)", &["enable", "aim", "set energy=120"], b"move sol=0\n", &[412]),
+    case("DESIGN §9: the fixed-size point buffer: 65th point refused (413)", &FILL_POINTS, b"pt x=1 y=1\n", &[413]),
+    // ---- 1xx: values out of range ---------------------------------------------------
+    case("DESIGN §10: out-of-range numbers: energy 0 (102)", &[], b"set energy=0\n", &[102]),
+    case("DESIGN §10: out-of-range numbers: energy -5 (102)", &[], b"set energy=-5\n", &[102]),
+    case("DESIGN §10: out-of-range numbers: energy 4e5 > 300 keV (103)", &[], b"set energy=4e5\n", &[103]),
+    case("DESIGN §4: kinetic energy below 1 eV after corrections (104)", &[], b"set energy=0.5\n", &[104]),
+    case("DESIGN §4: negative cathode work function (102)", &[], b"set cathode=-1\n", &[102]),
+    case("DESIGN §4: inner potential above 100 eV (103)", &[], b"set v0=150\n", &[103]),
+    case("DESIGN §7: tilt 95 deg beyond +-89.9 (103)", &[], b"set tilt=95\n", &[103]),
+    case("DESIGN §7: azimuth beyond +-360 deg (103)", &[], b"set azimuth=400\n", &[103]),
+    case("DESIGN §7: detector acceptance 0 (102)", &[], b"set acceptance=0\n", &[102]),
+    case("DESIGN §5: face 0,0,0 names no plane (110)", &[], b"set face=0,0,0\n", &[110]),
+    case("DESIGN §5: beam indices beyond the supported range (111)", &[], b"set beam=100,0\n", &[111]),
+    case("DESIGN §5: bad hex indices 1,1,1,1 on ru: i != -(h+k) (112)", &[], b"set crystal=ru face=1,1,1,1\n", &[112]),
+    case("DESIGN §5: four-index face on a cubic crystal (113)", &[], b"set face=1,1,-2,0\n", &[113]),
+    case("DESIGN §5: unknown crystal id (115)", &[], b"set crystal=unobtainium\n", &[115]),
+    case("DESIGN §5: face 1.5,0,0 is not integer indices (116)", &[], b"set face=1.5,0,0\n", &[116]),
+    case("DESIGN §5: two indices are not a face (116)", &[], b"set face=1,0\n", &[116]),
+    case("DESIGN §8: plan step 0 (102)", &[], b"plan kind=sweep from=20 to=30 step=0\n", &[102]),
+    case("DESIGN §9: a peak fit needs points (250)", &[], b"fit kind=peak\n", &[250]),
+    // ---- 2xx: physics ---------------------------------------------------------------
+    case("DESIGN §6: aim at an evanescent beam (201)", &["set energy=5"], b"aim beam=3,0\n", &[201]),
+    // ---- 3xx: axes ------------------------------------------------------------------
+    case("DESIGN §8: the arm never enters the gun's shadow: move into the zone (303)", &["enable"], b"move arm=5\n", &[303]),
+    case("DESIGN §8: ... nor crosses it: 40 -> -40 (304)", &["enable", "move arm=40"], b"move arm=-40\n", &[304]),
+    case("DESIGN §8: soft limits: arm 170 > 165 (302)", &["enable"], b"move arm=170\n", &[302]),
+    case("DESIGN §8: soft limits: arm -170 < -165 (301)", &["enable", "move arm=-40"], b"move arm=-170\n", &[301]),
+    case("DESIGN §8: soft limits: tilt 85 > 80 (302)", &["enable"], b"move tilt=85\n", &[302]),
+    case("DESIGN §8: a move is all or nothing: a good arm target with a bad tilt moves nothing (302)",
+        &["enable"], b"move arm=40 tilt=85\n", &[302]),
+    case("DESIGN §8: a one-circle arm has no elevation axis (307)", &["enable"], b"move elevation=10\n", &[307]),
+    case("DESIGN §8: configuring the unfitted elevation axis (307)", &[], b"axis name=elevation min=-10\n", &[307]),
+    case("DESIGN §8: with a zone set over the resting position, a move within it is refused (303)",
+        &["enable", "move arm=40", "zone name=arm i=1 from=30 to=50"], b"move arm=45\n", &[303]),
+    case("DESIGN §8: bad axis config: steps per degree 0 (305)", &[], b"axis name=arm spd=0\n", &[305]),
+    case("DESIGN §8: bad axis config: min above max (305)", &[], b"axis name=arm min=10 max=5\n", &[305]),
+    case("DESIGN §8: bad axis config: backlash beyond 10 deg (305)", &[], b"axis name=tilt backlash=20\n", &[305]),
+    case("DESIGN §8: bad axis config: zone with from > to (305)", &[], b"zone name=arm i=1 from=30 to=20\n", &[305]),
+    case("DESIGN §8: bad axis config: negative speed (305)", &[], b"axis name=arm speed=-1\n", &[305]),
+];
+
+/// Feeds `bytes` without polling; returns what was written.
+fn feed(c: &mut Con, bytes: &[u8]) -> String {
+    let mut out = Vec::new();
+    for &b in bytes {
+        c.push(b, &mut out).expect("reply written");
+    }
+    String::from_utf8(out).expect("ASCII reply")
+}
+
+/// Polls a running stream to its end; returns what was written.
+fn drain(c: &mut Con) -> String {
+    let mut out = Vec::new();
+    let mut n = 0;
+    while c.poll(&mut out).expect("stream line written") {
+        n += 1;
+        assert!(n < 200_000, "stream never ends");
+    }
+    String::from_utf8(out).expect("ASCII reply")
+}
+
+/// One request line, its stream polled out; returns the whole reply.
+fn request(c: &mut Con, line: &str) -> String {
+    let mut r = feed(c, format!("{line}\n").as_bytes());
+    r.push_str(&drain(c));
+    r
+}
+
+/// Final lines of a reply (not `- ` items), checksum suffix removed.
+fn finals(reply: &str) -> Vec<&str> {
+    reply
+        .lines()
+        .filter(|l| !l.starts_with("- "))
+        .map(|l| match l.len().checked_sub(5) {
+            Some(i) if l.as_bytes()[i] == b'*' => &l[..i],
+            _ => l,
+        })
+        .collect()
+}
+
+fn code_of(line: &str) -> u16 {
+    if line == "ok" || line.starts_with("ok ") {
+        return OK;
+    }
+    line.strip_prefix("err ")
+        .and_then(|r| r.get(..3))
+        .and_then(|c| c.parse().ok())
+        .unwrap_or_else(|| panic!("not a final line: {line:?}"))
+}
+
+/// What a technician can see of the state: get, dump, pos, and status without its
+/// request and error counters.
+fn observe(c: &mut Con) -> String {
+    let status: String = request(c, "status")
+        .split(' ')
+        .filter(|f| !f.starts_with("requests=") && !f.starts_with("errors="))
+        .collect::<Vec<_>>()
+        .join(" ");
+    format!(
+        "{}{}{}{status}",
+        request(c, "get"),
+        request(c, "dump"),
+        request(c, "pos")
+    )
+}
+
+/// Runs the setup of a case on a fresh console. Returns the console, whether a stream
+/// was left running and the state observed before that stream started.
+fn prepare(k: &Case) -> (Con, String) {
+    let mut c = Console::new(
+        SimAxes::default(),
+        SimDetector::default(),
+        SimInterlock { safe: k.safe },
+    )
+    .expect("factory settings");
+    let mut seen = None;
+    for step in k.setup {
+        match *step {
+            "!open" => c.interlock.safe = false,
+            "!safe" => c.interlock.safe = true,
+            s if s.starts_with("!stream ") => {
+                seen = Some(observe(&mut c));
+                let r = feed(&mut c, format!("{}\n", &s[8..]).as_bytes());
+                assert!(
+                    r.is_empty() && c.streaming(),
+                    "{}: setup {s} did not stream",
+                    k.rule
+                );
+            }
+            s => {
+                let r = request(&mut c, s);
+                let f = finals(&r);
+                assert_eq!(f.len(), 1, "{}: setup {s}: {r}", k.rule);
+                assert_eq!(code_of(f[0]), OK, "{}: setup {s}: {r}", k.rule);
+            }
+        }
+    }
+    let seen = seen.unwrap_or_else(|| observe(&mut c));
+    (c, seen)
+}
+
+/// Runs one case; returns the complete transcript (for the determinism check).
+fn run(k: &Case) -> String {
+    let (mut c, before) = prepare(k);
+    let steps_before = c.axes.steps;
+    let moves_before = c.axes.moves;
+    let reply = feed(&mut c, k.input);
+    let got: Vec<u16> = finals(&reply).iter().map(|l| code_of(l)).collect();
+    assert_eq!(
+        got,
+        k.want,
+        "{}\n  input {:?}\n  reply {reply}",
+        k.rule,
+        String::from_utf8_lossy(k.input)
+    );
+    // Any stream the setup left running goes on to its own final line.
+    let rest = drain(&mut c);
+    if !rest.is_empty() {
+        let f = finals(&rest);
+        assert_eq!(f.len(), 1, "{}: stream end {rest}", k.rule);
+        assert_eq!(code_of(f[0]), OK, "{}: stream end {rest}", k.rule);
+    }
+    assert_eq!(c.axes.steps, steps_before, "{}: axes moved", k.rule);
+    assert_eq!(c.axes.moves, moves_before, "{}: a move was started", k.rule);
+    let after = observe(&mut c);
+    assert_eq!(
+        before,
+        after,
+        "{}: state changed by {:?}",
+        k.rule,
+        String::from_utf8_lossy(k.input)
+    );
+    // The same input again: the same answer (nothing changed). Streams do not apply:
+    // the setup's stream has ended.
+    let again = if k.setup.iter().any(|s| s.starts_with("!stream")) {
+        String::new()
+    } else {
+        let again = feed(&mut c, k.input);
+        assert_eq!(
+            again, reply,
+            "{}: a second identical request answered differently",
+            k.rule
+        );
+        again
+    };
+    format!("{reply}{rest}{after}{again}")
+}
+
+#[test]
+fn catalogue_has_at_least_40_cases_with_distinct_inputs() {
+    assert!(CATALOGUE.len() >= 40, "{}", CATALOGUE.len());
+    let mut codes: Vec<u16> = CATALOGUE
+        .iter()
+        .flat_map(|k| k.want.iter().copied())
+        .collect();
+    codes.sort_unstable();
+    codes.dedup();
+    for c in [
+        102, 103, 104, 110, 112, 113, 115, 116, 201, 301, 302, 303, 304, 305, 400, 401, 402, 403,
+        404, 405, 406, 407, 408, 409, 410, 411, 412, 413,
+    ] {
+        assert!(codes.contains(&c), "no case for {c}");
+    }
+}
+
+#[test]
+fn every_malformed_input_gets_its_code_and_changes_nothing() {
+    let mut failures = Vec::new();
+    for k in CATALOGUE {
+        if let Err(e) = std::panic::catch_unwind(|| run(k)) {
+            let msg = e
+                .downcast_ref::<String>()
+                .cloned()
+                .or_else(|| e.downcast_ref::<&str>().map(|s| s.to_string()))
+                .unwrap_or_default();
+            failures.push(msg);
+        }
+    }
+    assert!(
+        failures.is_empty(),
+        "{} of {} cases failed:\n{}",
+        failures.len(),
+        CATALOGUE.len(),
+        failures.join("\n")
+    );
+}
+
+#[test]
+fn the_same_input_gives_the_same_output() {
+    // DESIGN §10 (a firmware is a deterministic machine): every case, run twice on fresh
+    // consoles, writes byte-identical transcripts.
+    for k in CATALOGUE {
+        let a = std::panic::catch_unwind(|| run(k));
+        let b = std::panic::catch_unwind(|| run(k));
+        if let (Ok(a), Ok(b)) = (a, b) {
+            assert_eq!(a, b, "{}", k.rule);
+        }
+    }
+}
+
+#[test]
+fn minus_zero_is_accepted_as_zero() {
+    // DESIGN §10 (numbers): -0 is a number, read as 0, and never shown as "-0".
+    let mut c = Console::new(
+        SimAxes::default(),
+        SimDetector::default(),
+        SimInterlock { safe: true },
+    )
+    .expect("factory settings");
+    for (line, field) in [
+        ("set tilt=-0", "tilt=0"),
+        ("set offset=-0", "offset=0"),
+        ("set azimuth=-0.0", "azimuth=0"),
+        ("set v0=-0", "v0=0"),
+    ] {
+        let r = request(&mut c, line);
+        assert_eq!(r, "ok\n", "{line}");
+        let key = field.split('=').next().unwrap();
+        let g = request(&mut c, &format!("get {key}"));
+        assert_eq!(g, format!("ok {field}\n"), "{line}");
+    }
+    let d = request(&mut c, "dump");
+    assert!(
+        d.contains(" tilt=0 ") && d.contains(" offset=0 ") && !d.contains("=-0"),
+        "{d}"
+    );
+    // And as an angle: the arm to -0 degrees is the gun zone like 0.
+    request(&mut c, "enable");
+    assert_eq!(code_of(finals(&request(&mut c, "move arm=-0"))[0]), 303);
+}
+
+#[test]
+fn boundary_controls_are_accepted() {
+    // The positive side of the boundaries above, so that the catalogue does not pass
+    // by refusing everything.
+    let mut c = Console::new(
+        SimAxes::default(),
+        SimDetector::default(),
+        SimInterlock { safe: true },
+    )
+    .expect("factory settings");
+    // DESIGN §10: exactly 120 bytes is accepted ("get" and 117 blanks).
+    let line = format!("get{}", " ".repeat(117));
+    assert_eq!(line.len(), 120);
+    assert!(request(&mut c, &line).starts_with("ok energy="));
+    // DESIGN §10: CR, CRLF and LF all end a line; tabs separate.
+    assert_eq!(
+        feed(&mut c, b"get\tenergy\r\nget energy\rget energy\n")
+            .lines()
+            .count(),
+        3
+    );
+    // DESIGN §10: a correct checksum (lower-case hex too) is accepted and answered with one.
+    let r = request(&mut c, "get energy*0c3b");
+    assert!(r.starts_with("ok energy=100*"), "{r}");
+    // Energy and tilt at the edges of their ranges.
+    assert_eq!(request(&mut c, "set energy=300000"), "ok\n");
+    assert_eq!(request(&mut c, "set energy=1"), "ok\n");
+    assert_eq!(request(&mut c, "set tilt=89.9"), "ok\n");
+    assert_eq!(request(&mut c, "reset"), "ok enabled=0\n");
+    // 64 points fit.
+    for _ in 0..64 {
+        assert!(request(&mut c, "pt x=1 y=2").starts_with("ok points="));
+    }
+    // A move just outside the gun zone and inside the limits.
+    request(&mut c, "enable");
+    assert!(request(&mut c, "move arm=12.01").starts_with("ok"));
+    assert!(request(&mut c, "move arm=165").starts_with("ok"));
+}
+
+/// Replays the items of `dump` (without their `- `) on a fresh console; returns the
+/// problems found: lines over the request limit, lines not answered `ok`, and a
+/// different dump afterwards.
+fn replay_problems(dump: &str) -> Vec<String> {
+    let mut problems = Vec::new();
+    let mut fresh = Console::new(
+        SimAxes::default(),
+        SimDetector::default(),
+        SimInterlock { safe: true },
+    )
+    .expect("factory settings");
+    for item in dump.lines().filter_map(|l| l.strip_prefix("- ")) {
+        if item.len() > 120 {
+            problems.push(format!(
+                "{} bytes, over the 120-byte request limit: {item}",
+                item.len()
+            ));
+        }
+        let r = request(&mut fresh, item);
+        if !r.starts_with("ok") {
+            problems.push(format!("{item} -> {}", r.trim_end()));
+        }
+    }
+    let again = request(&mut fresh, "dump");
+    if again != dump {
+        problems.push(format!("replayed dump differs:\n{again}"));
+    }
+    problems
+}
+
+#[test]
+fn dump_replays_as_commands_on_a_fresh_console() {
+    // DESIGN §10: "a config dump that replays as commands"; docs/PROTOCOL.md `dump`:
+    // each item without its leading `- ` is a request, and sending them in order
+    // restores the settings. A controller restoring its configuration after power-up
+    // (axes at home, step count 0) is the fresh console here.
+    let setups: [(&str, &[&str]); 5] = [
+        ("factory settings", &[]),
+        (
+            // Realistic values: the azimuth line grows to 123 bytes.
+            "azimuth home, backlash, speed and acceleration",
+            &["axis name=azimuth home=-123.45679 backlash=0.05 speed=20.5 accel=40.25"],
+        ),
+        (
+            // A zone over the home position, set while the axis was elsewhere.
+            "azimuth zone over home",
+            &[
+                "enable",
+                "move azimuth=90",
+                "zone name=azimuth i=0 from=-5 to=5",
+            ],
+        ),
+        (
+            // Extreme but valid (AxisConfig::validate accepts it): the dump item needs
+            // more than the 200-byte reply line and comes out as `- skipped=too-long`.
+            "extreme elevation axis",
+            &[
+                "axis name=elevation fitted=1",
+                "axis name=elevation spd=0.000100002115 home=-0.000100002115 min=-0.000100002115 max=0.000100002115",
+                "axis name=elevation backlash=0.000100002115 speed=0.000100002115 accel=0.000100002115",
+            ],
+        ),
+        (
+            // Hexagonal face, two-circle mode, fitted elevation, extra arm zone.
+            "ruthenium two-circle",
+            &[
+                "set crystal=ru face=0,0,0,1 azimuth=30 beam=1,0 v0=12.5 energy=150",
+                "axis name=elevation fitted=1 min=-45 max=45",
+                "zone name=arm i=1 from=150 to=165",
+            ],
+        ),
+    ];
+    let mut failures = Vec::new();
+    for (name, lines) in setups {
+        let mut c = Console::new(
+            SimAxes::default(),
+            SimDetector::default(),
+            SimInterlock { safe: true },
+        )
+        .expect("factory settings");
+        for l in lines {
+            let r = request(&mut c, l);
+            assert!(r.starts_with("ok"), "{name}: setup {l}: {r}");
+        }
+        let dump = request(&mut c, "dump");
+        for p in replay_problems(&dump) {
+            failures.push(format!("{name}: {p}"));
+        }
+    }
+    assert!(
+        failures.is_empty(),
+        "dump does not replay:\n{}",
+        failures.join("\n")
+    );
+}
