@@ -279,7 +279,7 @@ fn prepare(k: &Case) -> (Con, String) {
     (c, seen)
 }
 
-/// Runs one case; returns the complete transcript (for the determinism check).
+/// Runs one case; returns every line exchanged (for the determinism check).
 fn run(k: &Case) -> String {
     let (mut c, before) = prepare(k);
     let steps_before = c.axes.steps;
