@@ -262,7 +262,7 @@ impl Error {
             }
             Error::ZeroIndices => "indices (0,0,0) name no plane",
             Error::BadIndexText => "indices must be three integers (four, h k i l, for hexagonal crystals)",
-            Error::IndicesTooLarge => "indices beyond ±12 are not supported",
+            Error::IndicesTooLarge => "indices too large: faces up to ±12, beams up to ±99",
             Error::BadHexIndices => "four-index (hkil) needs i = -(h+k)",
             Error::HexIndicesOnNonHexagonal => "four-index indices only apply to hexagonal crystals",
             Error::BadLattice => "lattice constants must be positive and finite",

@@ -502,7 +502,7 @@ fn dump_replays_as_commands_on_a_fresh_console() {
         ),
         (
             // Extreme but valid (AxisConfig::validate accepts it): the dump item needs
-            // more than the 200-byte reply line and comes out as `- skipped=too-long`.
+            // more than the 256-byte reply line and comes out as `- skipped=too-long`.
             "extreme elevation axis",
             &[
                 "axis name=elevation fitted=1",

@@ -9,7 +9,7 @@
 //!   streaming request gets its items and then exactly one final line; `stop` during a
 //!   stream ends the stream with `err 411` and answers `ok`; any other request during a
 //!   stream gets one `err` and the stream goes on; blank lines get no reply;
-//! * reply lines are printable ASCII, at most `MAX_REPLY` (200) bytes including the
+//! * reply lines are printable ASCII, at most `MAX_REPLY` (256) bytes including the
 //!   optional `*XXXX` checksum, which is present exactly when the request carried one
 //!   and matches an independent CRC-16/IBM-3740;
 //! * a request answered with `err` changes nothing: settings, the enable flag, axis

@@ -34,7 +34,7 @@ use crate::table::{self, Crystal};
 pub const PROTOCOL_VERSION: u16 = 1;
 
 /// Longest reply line, bytes, including a checksum suffix (requests: [`MAX_LINE`]).
-pub const MAX_REPLY: usize = 200;
+pub const MAX_REPLY: usize = 256;
 
 /// Aim solutions kept for `move sol=N`.
 pub const MAX_SOLUTIONS: usize = 8;
