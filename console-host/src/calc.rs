@@ -121,38 +121,11 @@ pub fn parse_rod(text: &str) -> CliResult<[i32; 2]> {
             "--beam '{text}': give two integers H,K such as 1,0 or -1,1 (compact 10 or -11 also works)"
         ))
     };
-    let t = text.trim().trim_start_matches('(').trim_end_matches(')');
-    let parts: Vec<&str> = t.split([',', ' ']).filter(|p| !p.is_empty()).collect();
-    let vals: Vec<i32> = if parts.len() == 2 {
-        parts
-            .iter()
-            .map(|p| p.parse::<i32>().map_err(|_| bad()))
-            .collect::<CliResult<_>>()?
-    } else if parts.len() == 1 {
-        let mut v = Vec::new();
-        let mut neg = false;
-        for ch in t.chars() {
-            match ch {
-                '-' if !neg => neg = true,
-                '0'..='9' => {
-                    let d = ch as i32 - '0' as i32;
-                    v.push(if neg { -d } else { d });
-                    neg = false;
-                }
-                _ => return Err(bad()),
-            }
-        }
-        if neg {
-            return Err(bad());
-        }
-        v
-    } else {
-        return Err(bad());
-    };
-    if vals.len() != 2 {
+    let (vals, n) = matterwave_core::lattice::split_indices(text).map_err(|_| bad())?;
+    if n != 2 {
         return Err(bad());
     }
-    if vals.iter().any(|v| v.abs() > 99) {
+    if vals[..2].iter().any(|v| v.abs() > 99) {
         return Err(CliError::new(format!(
             "--beam '{text}': indices beyond ±99 are not supported"
         )));

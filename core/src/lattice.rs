@@ -354,14 +354,42 @@ pub const MAX_INDEX: i32 = 12;
 /// assert_eq!(parse_miller("2,0,0", false), Ok([2, 0, 0]));
 /// ```
 pub fn parse_miller(text: &str, hexagonal: bool) -> Result<Miller> {
+    let (vals, n) = split_indices(text)?;
+    let hkl = match n {
+        3 => [vals[0], vals[1], vals[2]],
+        4 => {
+            if !hexagonal {
+                return Err(Error::HexIndicesOnNonHexagonal);
+            }
+            if vals[2] != -(vals[0] + vals[1]) {
+                return Err(Error::BadHexIndices);
+            }
+            [vals[0], vals[1], vals[3]]
+        }
+        _ => return Err(Error::BadIndexText),
+    };
+    check_indices(hkl)?;
+    Ok(hkl)
+}
+
+/// Splits index notation into up to four integers: separated (`1,-1,0`, `1 -1 0`,
+/// `(1,-1,0)`) or compact (`1-10`: one digit per index, `-` before a negative one).
+/// Returns the values and how many there are; `BadIndexText` for anything else.
+/// Shared by face ([`parse_miller`]) and beam-rod notation.
+///
+/// ```
+/// use matterwave_core::lattice::split_indices;
+/// assert_eq!(split_indices("-11"), Ok(([-1, 1, 0, 0], 2)));
+/// assert_eq!(split_indices("(2, -3)"), Ok(([2, -3, 0, 0], 2)));
+/// ```
+pub fn split_indices(text: &str) -> Result<([i32; 4], usize)> {
     let bad = Error::BadIndexText;
     let t = text.trim();
     let t = t.strip_prefix('(').unwrap_or(t);
     let t = t.strip_suffix(')').unwrap_or(t);
     let mut vals = [0i32; 4];
     let mut n = 0usize;
-    let separated = t.contains(',') || t.contains(' ');
-    if separated {
+    if t.contains(',') || t.contains(' ') {
         for part in t.split([',', ' ']).filter(|p| !p.is_empty()) {
             if n >= 4 {
                 return Err(bad);
@@ -390,21 +418,7 @@ pub fn parse_miller(text: &str, hexagonal: bool) -> Result<Miller> {
             return Err(bad);
         }
     }
-    let hkl = match n {
-        3 => [vals[0], vals[1], vals[2]],
-        4 => {
-            if !hexagonal {
-                return Err(Error::HexIndicesOnNonHexagonal);
-            }
-            if vals[2] != -(vals[0] + vals[1]) {
-                return Err(Error::BadHexIndices);
-            }
-            [vals[0], vals[1], vals[3]]
-        }
-        _ => return Err(bad),
-    };
-    check_indices(hkl)?;
-    Ok(hkl)
+    Ok((vals, n))
 }
 
 /// Checks that indices are not all zero and within ±[`MAX_INDEX`].

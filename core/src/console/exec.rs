@@ -1103,7 +1103,8 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         }
         let crc_on = self.stream_crc;
         let mut rw = Rw::with_line_length(out, crc_on);
-        let mut next = self.stream;
+        // Take the stream out (no copy of the plan it may hold), step it, put it back.
+        let mut next = core::mem::replace(&mut self.stream, Stream::Idle);
         let more = self.stream_step(&mut next, &mut rw);
         if rw.overflowed() {
             rw.clear();
