@@ -246,8 +246,8 @@ impl Cell {
     pub fn g_vector(&self, hkl: [i32; 3]) -> Vec3 {
         let r = &self.reciprocal_inv_a;
         let mut g = [0.0; 3];
-        for (i, &n) in hkl.iter().enumerate() {
-            g = math::add(g, math::scale(r[i], n as f32));
+        for (ri, &n) in r.iter().zip(hkl.iter()) {
+            g = math::add(g, math::scale(*ri, n as f32));
         }
         g
     }
@@ -266,9 +266,9 @@ impl Cell {
     pub fn reciprocal_metric(&self) -> [[f32; 3]; 3] {
         let r = &self.reciprocal_inv_a;
         let mut m = [[0.0; 3]; 3];
-        for (i, row) in m.iter_mut().enumerate() {
-            for (j, x) in row.iter_mut().enumerate() {
-                *x = math::dot(r[i], r[j]);
+        for (row, ri) in m.iter_mut().zip(r.iter()) {
+            for (x, rj) in row.iter_mut().zip(r.iter()) {
+                *x = math::dot(*ri, *rj);
             }
         }
         m
@@ -279,9 +279,9 @@ impl Cell {
         let m = self.reciprocal_metric();
         let h = [hkl[0] as f32, hkl[1] as f32, hkl[2] as f32];
         let mut s = 0.0;
-        for i in 0..3 {
-            for j in 0..3 {
-                s += h[i] * m[i][j] * h[j];
+        for (row, hi) in m.iter().zip(h.iter()) {
+            for (mij, hj) in row.iter().zip(h.iter()) {
+                s += hi * mij * hj;
             }
         }
         s
@@ -391,10 +391,8 @@ pub fn split_indices(text: &str) -> Result<([i32; 4], usize)> {
     let mut n = 0usize;
     if t.contains(',') || t.contains(' ') {
         for part in t.split([',', ' ']).filter(|p| !p.is_empty()) {
-            if n >= 4 {
-                return Err(bad);
-            }
-            vals[n] = parse_int(part).ok_or(bad)?;
+            let slot = vals.get_mut(n).ok_or(bad)?;
+            *slot = parse_int(part).ok_or(bad)?;
             n += 1;
         }
     } else {
@@ -403,11 +401,9 @@ pub fn split_indices(text: &str) -> Result<([i32; 4], usize)> {
             match ch {
                 '-' if !neg => neg = true,
                 '0'..='9' => {
-                    if n >= 4 {
-                        return Err(bad);
-                    }
+                    let slot = vals.get_mut(n).ok_or(bad)?;
                     let d = ch as i32 - '0' as i32;
-                    vals[n] = if neg { -d } else { d };
+                    *slot = if neg { -d } else { d };
                     neg = false;
                     n += 1;
                 }

@@ -41,20 +41,27 @@ pub fn insert_sorted<T: Copy>(
     before: impl Fn(&T, &T) -> bool,
 ) -> bool {
     let n = (*stored).min(out.len());
-    let mut pos = n;
-    while pos > 0 && before(&item, &out[pos - 1]) {
-        pos -= 1;
-    }
+    let Some(kept) = out.get(..n) else {
+        return true;
+    };
+    // Insertion point: after every stored item that `item` does not sort before.
+    let pos = kept
+        .iter()
+        .rposition(|x| !before(&item, x))
+        .map_or(0, |i| i + 1);
     if pos == out.len() {
         return true;
     }
     let full = n == out.len();
-    let mut i = if full { n - 1 } else { n };
-    while i > pos {
-        out[i] = out[i - 1];
-        i -= 1;
+    let end = if full { n } else { n + 1 };
+    // Shift out[pos..end-1] one place right (the last one falls off when full), then
+    // put the item at `pos`.
+    if let Some(window) = out.get_mut(pos..end) {
+        window.rotate_right(1);
+        if let Some(first) = window.first_mut() {
+            *first = item;
+        }
     }
-    out[pos] = item;
     if !full {
         *stored = n + 1;
     }

@@ -51,7 +51,12 @@ const fn nibble_table() -> [u16; 16] {
             };
             bit += 1;
         }
-        table[i] = r;
+        // `i < 16` is the loop condition: the index is in bounds (const fn, checked at
+        // compile time).
+        #[allow(clippy::indexing_slicing)]
+        {
+            table[i] = r;
+        }
         i += 1;
     }
     table
@@ -61,7 +66,8 @@ const fn nibble_table() -> [u16; 16] {
 #[inline]
 fn step(crc: u16, nibble: u8) -> u16 {
     let index = ((crc >> 12) ^ u16::from(nibble & 0x0F)) & 0x0F;
-    (crc << 4) ^ NIBBLE_TABLE[usize::from(index)]
+    // `index` is masked to 0..=15, so the lookup always hits; 0 is never used.
+    (crc << 4) ^ NIBBLE_TABLE.get(usize::from(index)).copied().unwrap_or(0)
 }
 
 /// CRC-16/IBM-3740 of `bytes`.
@@ -225,7 +231,10 @@ pub fn hex4(value: u16) -> [u8; 4] {
     let mut out = [0u8; 4];
     for (i, slot) in out.iter_mut().enumerate() {
         let shift = 12u32.saturating_sub(4 * i as u32);
-        *slot = DIGITS[usize::from((value >> shift) & 0x0F)];
+        *slot = DIGITS
+            .get(usize::from((value >> shift) & 0x0F))
+            .copied()
+            .unwrap_or(b'0');
     }
     out
 }

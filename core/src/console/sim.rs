@@ -20,10 +20,12 @@ pub struct SimAxes {
 
 impl AxisDriver for SimAxes {
     fn position(&mut self, axis: AxisId) -> i32 {
-        self.steps[axis_index(axis)]
+        self.steps.get(axis_index(axis)).copied().unwrap_or(0)
     }
     fn start(&mut self, axis: AxisId, _via: Option<i32>, target: i32) {
-        self.steps[axis_index(axis)] = target;
+        if let Some(s) = self.steps.get_mut(axis_index(axis)) {
+            *s = target;
+        }
         self.moves = self.moves.saturating_add(1);
     }
     fn busy(&mut self) -> bool {
