@@ -57,7 +57,7 @@ fn every_protocol_example_runs_as_documented() {
 
 #[test]
 fn every_command_is_documented() {
-    for (cmd, _) in matterwave_core::console::exec::COMMANDS {
+    for (cmd, _) in matterwave_core::console::controller::COMMANDS {
         assert!(
             DOC.contains(&format!("`{cmd}")),
             "docs/PROTOCOL.md lacks {cmd}"

@@ -183,6 +183,10 @@ pub enum Error {
     NoSuchSolution,
     /// Protocol: the sample buffer is full.
     BufferFull,
+    /// Protocol: the reply would exceed the reply line limit.
+    ReplyTooLong,
+    /// A crystal with no table face was chosen without `face=`.
+    FaceNeeded,
 }
 
 impl Error {
@@ -231,6 +235,8 @@ impl Error {
             Error::Aborted => 411,
             Error::NoSuchSolution => 412,
             Error::BufferFull => 413,
+            Error::ReplyTooLong => 420,
+            Error::FaceNeeded => 130,
         }
     }
 
@@ -306,6 +312,8 @@ impl Error {
             Error::Aborted => "aborted by stop",
             Error::NoSuchSolution => "no stored solution with that index; send aim first",
             Error::BufferFull => "sample buffer full; send pt clear",
+            Error::ReplyTooLong => "reply too long; ask for fewer fields",
+            Error::FaceNeeded => "this crystal has no table face; give face= with the crystal",
         }
     }
 

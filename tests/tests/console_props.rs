@@ -29,7 +29,7 @@
 //! lines = 100,000 request lines.
 
 use matterwave_core::axis::AxisConfig;
-use matterwave_core::console::exec::MAX_REPLY;
+use matterwave_core::console::controller::MAX_REPLY;
 use matterwave_core::console::line::MAX_LINE;
 use matterwave_core::console::sim::{SimAxes, SimDetector, SimInterlock};
 use matterwave_core::console::{AxisDriver, Console, Settings};
@@ -1016,8 +1016,13 @@ proptest! {
             }
             let now = s.buffers();
             if let (true, Some(Kind::Err(code)), Some(b)) = (idle_before, kind, &buffers) {
-                prop_assert_eq!(&now, b, "err {} changed the buffers: {:?}",
-                    code, String::from_utf8_lossy(line));
+                // A failed `aim` clears the stored solutions (so that no `move sol=`
+                // drives to an older beam); nothing else changes.
+                let is_aim = line.trim_ascii_start().starts_with(b"aim");
+                let cleared = (String::from("0"), b.1.clone());
+                prop_assert!(&now == b || (is_aim && now == cleared),
+                    "err {} changed the buffers: {:?} -> {:?}: {:?}",
+                    code, b, now, String::from_utf8_lossy(line));
             }
             buffers = Some(now);
         }

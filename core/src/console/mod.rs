@@ -9,7 +9,7 @@
 //! |---|---|
 //! | [`wire`] | the wire layer: [`line`](mod@line), [`crc`], [`num`], [`token`], [`reply`] |
 //! | [`board`] | traits for what a board supplies: axes, detector, interlock |
-//! | [`exec`] | the console: controller state, commands, streamed replies |
+//! | [`controller`] | the application: controller state, commands, streamed replies |
 //! | `sim` | in-memory board parts for simulators (feature `sim`) |
 //!
 //! A request is handled in this order: [`line::LineAssembler`] yields a line,
@@ -18,7 +18,7 @@
 //! [`reply::ReplyWriter`] sends the answer — with a checksum if the request had one.
 
 pub mod board;
-pub mod exec;
+pub mod controller;
 #[cfg(feature = "sim")]
 pub mod sim;
 pub mod wire;
@@ -26,4 +26,4 @@ pub mod wire;
 pub use wire::{crc, line, num, reply, token};
 
 pub use board::{AxisDriver, Detector, Interlock, Scene};
-pub use exec::{Console, Settings};
+pub use controller::{Console, Settings};

@@ -1,0 +1,165 @@
+//! `pt` and `fit`: the point buffer and the calibration and peak fits over it.
+
+use embedded_io::Write;
+
+use super::args::{opt_num, parse_int, req_num, tok_err};
+use super::{Console, Point, Rw, Stream, MAX_POINTS};
+use crate::axis::MAX_ZONES;
+use crate::beam::Gun;
+use crate::console::board::{AxisDriver, Detector, Interlock};
+use crate::console::wire::token::Args;
+use crate::error::{Error, Result};
+use crate::fit::{self, Sample};
+use crate::goniometer::{self, Mode, Solution};
+
+impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
+    pub(super) fn cmd_pt<W: Write>(
+        &mut self,
+        a: &mut Args<'_>,
+        rw: &mut Rw<'_, W>,
+    ) -> Result<Option<Stream>> {
+        if a.positional(0) == Some("clear") {
+            a.check_all_used().map_err(tok_err)?;
+            self.points.clear();
+            rw.ok().field_i32("points", 0);
+            return Ok(None);
+        }
+        let x = req_num(a, "x")?;
+        let y = req_num(a, "y")?;
+        let n = a.get("n").map(parse_int).transpose()?.unwrap_or(0);
+        a.check_all_used().map_err(tok_err)?;
+        self.points
+            .push(Point { x, y, n })
+            .map_err(|_| Error::BufferFull)?;
+        rw.ok().field_i32("points", self.points.len() as i32);
+        Ok(None)
+    }
+
+    pub(super) fn cmd_fit<W: Write>(
+        &mut self,
+        a: &mut Args<'_>,
+        rw: &mut Rw<'_, W>,
+    ) -> Result<Option<Stream>> {
+        let kind = a.get("kind").ok_or(Error::MissingArgument)?;
+        let threshold = opt_num(a, "threshold")?;
+        a.check_all_used().map_err(tok_err)?;
+        let pts: &[Point] = &self.points;
+        match kind {
+            "peak" | "centroid" => {
+                let mut samples = [Sample {
+                    angle_deg: 0.0,
+                    current: 0.0,
+                }; MAX_POINTS];
+                for (s, p) in samples.iter_mut().zip(pts) {
+                    *s = Sample {
+                        angle_deg: p.x,
+                        current: p.y,
+                    };
+                }
+                let smp = samples.get(..pts.len()).unwrap_or(&[]);
+                let c = if kind == "peak" {
+                    if threshold.is_some() {
+                        return Err(Error::UnknownArgument);
+                    }
+                    fit::parabola_log(smp)?
+                } else {
+                    fit::centroid(smp, threshold.unwrap_or(0.0))?
+                };
+                rw.ok()
+                    .field_f32_rt("angle", c.angle_deg)
+                    .field_f32_rt("sigma", c.uncertainty_deg)
+                    .field_f32_rt("peak", c.peak_current)
+                    .field_f32_rt("fwhm", c.fwhm_deg)
+                    .field_i32("used", c.points_used as i32);
+            }
+            "armzero" => {
+                if threshold.is_some() {
+                    return Err(Error::UnknownArgument);
+                }
+                let s = &self.settings;
+                let mut xy = [(0.0f32, 0.0f32); MAX_POINTS];
+                for (d, p) in xy.iter_mut().zip(pts) {
+                    *d = (p.x, p.y);
+                }
+                let first_arm = pts.first().map_or(0.0, |p| p.y);
+                let gun = s.gun;
+                // True arm angle of the current beam at a nominal energy + offset: the
+                // in-plane solution nearest the first measured angle.
+                let model = |nominal: f32| -> Result<f32> {
+                    let e = Gun {
+                        nominal_ev: nominal,
+                        offset_ev: 0.0,
+                        ..gun
+                    }
+                    .kinetic_energy_ev()?;
+                    let mut out = [Solution::EMPTY; 4];
+                    let mut free = s.rig;
+                    free.arm.zones = [None; MAX_ZONES];
+                    free.arm.min_deg = -180.0;
+                    free.arm.max_deg = 180.0;
+                    let n = goniometer::aim(
+                        &free,
+                        &s.face,
+                        s.beam,
+                        e,
+                        s.tilt_deg,
+                        Mode::InPlane,
+                        &[0; 4],
+                        &mut out,
+                    )?
+                    .stored;
+                    let found = out.get(..n).unwrap_or(&[]);
+                    let mut best = found.first().map_or(0.0, |o| o.arm.angle_deg);
+                    for o in found {
+                        if (o.arm.angle_deg - first_arm).abs() < (best - first_arm).abs() {
+                            best = o.arm.angle_deg;
+                        }
+                    }
+                    Ok(best)
+                };
+                let f = fit::arm_zero_and_energy_offset(model, xy.get(..pts.len()).unwrap_or(&[]))?;
+                rw.ok()
+                    .field_f32_rt("arm_zero", f.params[0])
+                    .field_f32_rt("arm_zero_sigma", f.sigma[0])
+                    .field_f32_rt("offset", f.params[1])
+                    .field_f32_rt("offset_sigma", f.sigma[1])
+                    .field_f32_rt("rms", f.rms_residual)
+                    .field_i32("used", f.points as i32);
+            }
+            "rows" => {
+                if threshold.is_some() {
+                    return Err(Error::UnknownArgument);
+                }
+                let mut v = [(0.0f32, 0i32, 0.0f32); MAX_POINTS];
+                for (d, p) in v.iter_mut().zip(pts) {
+                    *d = (p.x, p.n, p.y);
+                }
+                let f = fit::row_spacing(v.get(..pts.len()).unwrap_or(&[]))?;
+                rw.ok()
+                    .field_f32_rt("row_spacing", f.value)
+                    .field_f32_rt("sigma", f.sigma)
+                    .field_f32_rt("rms", f.rms_residual)
+                    .field_i32("used", f.points as i32);
+            }
+            "iv" => {
+                if threshold.is_some() {
+                    return Err(Error::UnknownArgument);
+                }
+                let mut v = [(0i32, 0.0f32); MAX_POINTS];
+                for (d, p) in v.iter_mut().zip(pts) {
+                    *d = (p.n, p.x);
+                }
+                let f = fit::inner_potential_and_spacing(v.get(..pts.len()).unwrap_or(&[]))?;
+                rw.ok()
+                    .field_f32_rt("v0", f.inner_potential_ev)
+                    .field_f32_rt("v0_sigma", f.inner_potential_sigma_ev)
+                    .field_f32_rt("layer_spacing", f.layer_spacing_a)
+                    .field_f32_rt("layer_spacing_sigma", f.layer_spacing_sigma_a)
+                    .field_f32_rt("rms", f.rms_residual_ev)
+                    .field_i32("used", f.points as i32);
+            }
+            _ => return Err(Error::BadValue),
+        }
+        Ok(None)
+    }
+}

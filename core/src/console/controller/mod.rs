@@ -1,0 +1,400 @@
+//! The controller: console state, request execution and streamed replies — the
+//! application layer on top of the [`wire`](super::wire) layer.
+//!
+//! [`Console`] is fed bytes ([`Console::push`]); each complete line is one request. A
+//! request gets exactly one final status line, `ok …` or `err <code> <message>`. Long
+//! lists are streamed: the request starts a stream and every [`Console::poll`] writes
+//! one `- …` item, the last poll the final line — nothing is buffered beyond the item
+//! being written. While a stream runs, `stop` aborts it (the streaming request ends with
+//! `err 411`, then `stop` answers `ok`); any other request gets `err 410` (busy).
+//!
+//! A request that fails changes nothing: every command reads and checks all of its
+//! arguments, computes its results, and only then commits them.
+//!
+//! One file per concern:
+//!
+//! | file | owns |
+//! |---|---|
+//! | `mod.rs` | the [`Console`], byte intake, request dispatch, `poll` |
+//! | `args.rs` | argument readers and the small text helpers replies share |
+//! | `settings.rs` | [`Settings`] and the one table of setting keys ([`SETTING_KEYS`]) that drives `set`, `get`, `dump` and `help` |
+//! | `motion.rs` | `move`, `stop`, `pos`, `enable`, `disable`, `read` |
+//! | `axes.rs` | `axis` and `zone`: the rig as the controller holds it |
+//! | `plan.rs` | `aim` and `plan`: solutions and scan plans |
+//! | `fit.rs` | `pt` and `fit` |
+//! | `stream.rs` | the running stream and its items (help, lists, solutions, plan points) |
+//! | `dump.rs` | `dump`: the settings as requests that replay them |
+//!
+//! The command set is documented in `docs/PROTOCOL.md`; a test runs every example there.
+
+mod args;
+mod axes;
+mod dump;
+mod fit;
+mod motion;
+mod plan;
+mod settings;
+mod stream;
+
+use embedded_io::Write;
+
+use super::board::{AxisDriver, Detector, Interlock};
+use super::wire::crc;
+use super::wire::line::{LineAssembler, LineEvent, MAX_LINE};
+use super::wire::reply::{ReplyError, ReplyWriter};
+use super::wire::token::Args;
+use crate::error::{AxisId, Error, Result};
+use crate::goniometer::{axis_index, Position, Solution};
+
+use args::{tok_err, write_err};
+pub use settings::{SettingKey, Settings, SETTING_KEYS};
+use stream::Stream;
+
+/// Protocol version reported by `hello`.
+pub const PROTOCOL_VERSION: u16 = 1;
+
+/// Longest reply line, bytes, including a checksum suffix (requests: [`MAX_LINE`]).
+pub const MAX_REPLY: usize = 256;
+
+/// Aim solutions kept for `move sol=N`.
+pub const MAX_SOLUTIONS: usize = 8;
+
+/// Points the `pt` buffer holds for fits.
+pub const MAX_POINTS: usize = 64;
+
+type Rw<'w, W> = ReplyWriter<'w, W, MAX_REPLY>;
+
+/// Commands with their one-line usage, as `help` lists them (`set` and `get` append
+/// the key names of [`SETTING_KEYS`]).
+pub const COMMANDS: [(&str, &str); 22] = [
+    ("hello", "identify: name, version, protocol"),
+    ("help", "this list"),
+    ("status", "enabled, interlock, motion, stream"),
+    ("set", "set key=value ...:"),
+    ("get", "get [key]: one or all settings"),
+    ("crystals", "list the crystal table"),
+    ("faces", "list the crystal's table faces"),
+    ("beams", "list the beams at the current settings"),
+    (
+        "aim",
+        "aim [beam=h,k]: solutions for the beam, nearest first",
+    ),
+    (
+        "move",
+        "move sol=N | move arm=DEG [elevation= tilt= azimuth=]: needs enable",
+    ),
+    ("stop", "stop motion and any stream; always accepted"),
+    ("pos", "axis positions"),
+    ("enable", "allow motion (interlock must report safe)"),
+    ("disable", "forbid motion"),
+    (
+        "axis",
+        "axis name=A [spd= home= min= max= backlash= approach= wrap= speed= accel= fitted=]",
+    ),
+    (
+        "zone",
+        "zone name=A i=N from=DEG to=DEG | zone name=A i=N off",
+    ),
+    (
+        "plan",
+        "plan kind=track|iv|sweep from= to= step= [dwell=]: streamed points",
+    ),
+    ("pt", "pt x= y= [n=] | pt clear: points for fit"),
+    ("fit", "fit kind=peak|centroid|armzero|rows|iv [threshold=]"),
+    ("read", "read the detector"),
+    ("dump", "settings as commands that replay them"),
+    ("reset", "factory settings, motion disabled"),
+];
+
+/// A point of the `pt` buffer: two values and an optional integer.
+#[derive(Clone, Copy, Debug, PartialEq)]
+struct Point {
+    x: f32,
+    y: f32,
+    n: i32,
+}
+
+/// The console of one controller, generic over the board's parts.
+pub struct Console<A: AxisDriver, D: Detector, I: Interlock> {
+    /// Motor axes.
+    pub axes: A,
+    /// Detector.
+    pub detector: D,
+    /// Interlock input.
+    pub interlock: I,
+    lines: LineAssembler<MAX_LINE>,
+    settings: Settings,
+    enabled: bool,
+    solutions: heapless::Vec<Solution, MAX_SOLUTIONS>,
+    points: heapless::Vec<Point, MAX_POINTS>,
+    stream: Stream,
+    stream_crc: bool,
+    requests: u32,
+    errors: u32,
+}
+
+/// A write error from the reply path (the line was not sent).
+pub type WriteResult<E> = core::result::Result<(), ReplyError<E>>;
+
+impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
+    /// A console with factory settings and motion disabled.
+    pub fn new(axes: A, detector: D, interlock: I) -> Result<Self> {
+        Ok(Console {
+            axes,
+            detector,
+            interlock,
+            lines: LineAssembler::new(),
+            settings: Settings::defaults()?,
+            enabled: false,
+            solutions: heapless::Vec::new(),
+            points: heapless::Vec::new(),
+            stream: Stream::Idle,
+            stream_crc: false,
+            requests: 0,
+            errors: 0,
+        })
+    }
+
+    /// The current settings.
+    pub fn settings(&self) -> &Settings {
+        &self.settings
+    }
+
+    /// Whether motion is enabled.
+    pub fn enabled(&self) -> bool {
+        self.enabled
+    }
+
+    /// Whether a stream is running (call [`Console::poll`] until it is not).
+    pub fn streaming(&self) -> bool {
+        !matches!(self.stream, Stream::Idle)
+    }
+
+    /// Current axis step counts.
+    pub fn position(&mut self) -> Position {
+        let mut p = [0; 4];
+        for id in AxisId::ALL {
+            if id != AxisId::Elevation || self.settings.rig.elevation.is_some() {
+                if let Some(slot) = p.get_mut(axis_index(id)) {
+                    *slot = self.axes.position(id);
+                }
+            }
+        }
+        p
+    }
+
+    /// Feeds one byte; a completed line is executed (its reply written to `out`, or
+    /// its stream started).
+    pub fn push<W: Write>(&mut self, byte: u8, out: &mut W) -> WriteResult<W::Error> {
+        let mut buf = [0u8; MAX_LINE];
+        let len = match self.lines.push(byte) {
+            None | Some(LineEvent::Empty) => return Ok(()),
+            Some(LineEvent::TooLong) => return self.reject(out, Error::LineTooLong, false),
+            Some(LineEvent::BadByte) => return self.reject(out, Error::BadByte, false),
+            Some(LineEvent::Line(s)) => {
+                let n = s.len().min(MAX_LINE);
+                if let (Some(dst), Some(src)) = (buf.get_mut(..n), s.as_bytes().get(..n)) {
+                    dst.copy_from_slice(src);
+                }
+                n
+            }
+        };
+        let line = buf
+            .get(..len)
+            .and_then(|b| core::str::from_utf8(b).ok())
+            .unwrap_or("");
+        self.request(line, out)
+    }
+
+    /// Feeds bytes, then runs any stream to its end (for links that do not interleave
+    /// requests with a running stream).
+    pub fn feed_all<W: Write>(&mut self, bytes: &[u8], out: &mut W) -> WriteResult<W::Error> {
+        for &b in bytes {
+            self.push(b, out)?;
+            while self.poll(out)? {}
+        }
+        Ok(())
+    }
+
+    fn reject<W: Write>(&mut self, out: &mut W, e: Error, crc_on: bool) -> WriteResult<W::Error> {
+        self.requests = self.requests.saturating_add(1);
+        self.errors = self.errors.saturating_add(1);
+        let mut rw = Rw::with_line_length(out, crc_on);
+        rw.err(e.code(), e.message());
+        rw.finish()
+    }
+
+    fn request<W: Write>(&mut self, line: &str, out: &mut W) -> WriteResult<W::Error> {
+        let (body, crc_on) = match crc::verify(line) {
+            Ok(v) => v,
+            Err(_) => return self.reject(out, Error::BadChecksum, line.contains('*')),
+        };
+        let mut args = match Args::parse(body) {
+            Ok(a) => a,
+            Err(e) => return self.reject(out, tok_err(e), crc_on),
+        };
+        if self.streaming() {
+            if args.command() == "stop" && args.is_empty() {
+                self.axes.stop();
+                let stream_crc = self.stream_crc;
+                self.stream = Stream::Idle;
+                {
+                    let mut rw = Rw::with_line_length(out, stream_crc);
+                    rw.err(Error::Aborted.code(), Error::Aborted.message());
+                    rw.finish()?;
+                }
+                self.requests = self.requests.saturating_add(1);
+                let mut rw = Rw::with_line_length(out, crc_on);
+                rw.ok().field_str("stopped", "stream");
+                return rw.finish();
+            }
+            return self.reject(out, Error::Busy, crc_on);
+        }
+        self.requests = self.requests.saturating_add(1);
+        let mut rw = Rw::with_line_length(out, crc_on);
+        match self.execute(&mut args, &mut rw) {
+            Ok(None) => {
+                if rw.overflowed() {
+                    rw.clear();
+                    rw.err(Error::ReplyTooLong.code(), Error::ReplyTooLong.message());
+                }
+                rw.finish()
+            }
+            Ok(Some(stream)) => {
+                rw.clear();
+                self.stream = stream;
+                self.stream_crc = crc_on;
+                Ok(())
+            }
+            Err(e) => {
+                self.errors = self.errors.saturating_add(1);
+                rw.clear();
+                write_err(&mut rw, e, &self.settings.rig);
+                rw.finish()
+            }
+        }
+    }
+
+    fn execute<W: Write>(
+        &mut self,
+        a: &mut Args<'_>,
+        rw: &mut Rw<'_, W>,
+    ) -> Result<Option<Stream>> {
+        let cmd = a.command();
+        // Commands without arguments check that none were given.
+        let none = |a: &Args<'_>| a.check_all_used().map_err(tok_err);
+        match cmd {
+            "hello" => {
+                none(a)?;
+                rw.ok()
+                    .field_str("name", "matterwave")
+                    .field_str("version", crate::VERSION)
+                    .field_i32("protocol", PROTOCOL_VERSION as i32)
+                    .field_i32("max_line", MAX_LINE as i32);
+                Ok(None)
+            }
+            "help" => {
+                none(a)?;
+                Ok(Some(Stream::Help(0)))
+            }
+            "status" => {
+                none(a)?;
+                let safe = self.interlock.safe();
+                let busy = self.axes.busy();
+                rw.ok()
+                    .field_i32("enabled", self.enabled as i32)
+                    .field_str("interlock", if safe { "safe" } else { "open" })
+                    .field_i32("moving", busy as i32)
+                    .field_i32("solutions", self.solutions.len() as i32)
+                    .field_i32("points", self.points.len() as i32)
+                    .field_i32("requests", self.requests as i32)
+                    .field_i32("errors", self.errors as i32);
+                Ok(None)
+            }
+            "set" => self.cmd_set(a, rw),
+            "get" => self.cmd_get(a, rw),
+            "crystals" => {
+                none(a)?;
+                Ok(Some(Stream::Crystals(0)))
+            }
+            "faces" => {
+                none(a)?;
+                Ok(Some(Stream::Faces(0)))
+            }
+            "beams" => {
+                none(a)?;
+                self.start_beams()
+            }
+            "aim" => self.cmd_aim(a),
+            "move" => self.cmd_move(a, rw),
+            "stop" => {
+                none(a)?;
+                self.cmd_stop(rw)
+            }
+            "pos" => {
+                none(a)?;
+                self.cmd_pos(rw)
+            }
+            "enable" => {
+                none(a)?;
+                self.cmd_enable(rw)
+            }
+            "disable" => {
+                none(a)?;
+                self.cmd_disable(rw)
+            }
+            "axis" => self.cmd_axis(a, rw),
+            "zone" => self.cmd_zone(a, rw),
+            "plan" => self.cmd_plan(a),
+            "pt" => self.cmd_pt(a, rw),
+            "fit" => self.cmd_fit(a, rw),
+            "read" => {
+                none(a)?;
+                self.cmd_read(rw)
+            }
+            "dump" => {
+                none(a)?;
+                Ok(Some(Stream::Dump(0)))
+            }
+            "reset" => {
+                none(a)?;
+                let s = Settings::defaults()?;
+                self.settings = s;
+                self.enabled = false;
+                self.solutions.clear();
+                self.points.clear();
+                rw.ok().field_i32("enabled", 0);
+                Ok(None)
+            }
+            _ => Err(Error::UnknownCommand),
+        }
+    }
+
+    /// Writes the next line of a running stream. Returns whether more lines follow.
+    ///
+    /// The stream is stepped where it lives: the settings and stored solutions it reads
+    /// are borrowed beside it, so no plan is copied per line.
+    pub fn poll<W: Write>(
+        &mut self,
+        out: &mut W,
+    ) -> core::result::Result<bool, ReplyError<W::Error>> {
+        if !self.streaming() {
+            return Ok(false);
+        }
+        let mut rw = Rw::with_line_length(out, self.stream_crc);
+        let ctx = stream::Context {
+            settings: &self.settings,
+            solutions: &self.solutions,
+        };
+        let more = self.stream.step(&ctx, &mut rw);
+        if rw.overflowed() {
+            rw.clear();
+            rw.item().field_str("skipped", "too-long");
+        }
+        if !more {
+            self.stream = Stream::Idle;
+        }
+        rw.finish()?;
+        Ok(more)
+    }
+}

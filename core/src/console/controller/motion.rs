@@ -1,0 +1,145 @@
+//! Motion: `move`, `stop`, `pos`, `enable`, `disable`, and `read` (the detector at the
+//! current pose).
+
+use embedded_io::Write;
+
+use super::args::{opt_num, parse_int, tok_err};
+use super::axes::axis_of;
+use super::{Console, Rw, Stream};
+use crate::console::board::{AxisDriver, Detector, Interlock, Scene};
+use crate::console::wire::token::Args;
+use crate::error::{AxisId, Error, Result};
+use crate::goniometer::axis_index;
+use crate::surface::Incidence;
+
+impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
+    pub(super) fn cmd_move<W: Write>(
+        &mut self,
+        a: &mut Args<'_>,
+        rw: &mut Rw<'_, W>,
+    ) -> Result<Option<Stream>> {
+        let sol = a.get("sol").map(parse_int).transpose()?;
+        let targets = [
+            (AxisId::Arm, opt_num(a, "arm")?),
+            (AxisId::Elevation, opt_num(a, "elevation")?),
+            (AxisId::Tilt, opt_num(a, "tilt")?),
+            (AxisId::Azimuth, opt_num(a, "azimuth")?),
+        ];
+        a.check_all_used().map_err(tok_err)?;
+        let raw = targets.iter().any(|t| t.1.is_some());
+        let mut goal: [Option<f32>; 4] = [None; 4];
+        match (sol, raw) {
+            (Some(_), true) => return Err(Error::UnknownArgument),
+            (None, false) => return Err(Error::MissingArgument),
+            (Some(n), false) => {
+                let s = usize::try_from(n)
+                    .ok()
+                    .and_then(|i| self.solutions.get(i))
+                    .ok_or(Error::NoSuchSolution)?;
+                goal = [
+                    Some(s.arm.angle_deg),
+                    s.elevation.map(|e| e.angle_deg),
+                    Some(s.tilt.angle_deg),
+                    Some(s.azimuth.angle_deg),
+                ];
+            }
+            (None, true) => {
+                for (id, v) in targets {
+                    if let Some(g) = goal.get_mut(axis_index(id)) {
+                        *g = v;
+                    }
+                }
+            }
+        }
+        if !self.enabled {
+            return Err(Error::NotEnabled);
+        }
+        if !self.interlock.safe() {
+            return Err(Error::InterlockOpen);
+        }
+        // Every setpoint is computed (limits, zones, path from where the axis is now)
+        // before any axis moves.
+        let pos = self.position();
+        let mut sps = [None; 4];
+        for ((id, want), (sp, &from)) in AxisId::ALL
+            .into_iter()
+            .zip(goal)
+            .zip(sps.iter_mut().zip(pos.iter()))
+        {
+            if let Some(angle) = want {
+                let cfg = axis_of(&self.settings.rig, id).ok_or(Error::NoSuchAxis(id))?;
+                *sp = Some(cfg.setpoint(angle, from)?);
+            }
+        }
+        rw.ok();
+        for (id, sp) in AxisId::ALL.into_iter().zip(sps) {
+            if let Some(sp) = sp {
+                self.axes.start(id, sp.approach_steps, sp.steps);
+                let key = match id {
+                    AxisId::Arm => "arm_steps",
+                    AxisId::Elevation => "elevation_steps",
+                    AxisId::Tilt => "tilt_steps",
+                    AxisId::Azimuth => "azimuth_steps",
+                };
+                rw.field_i32(key, sp.steps);
+            }
+        }
+        Ok(None)
+    }
+    pub(super) fn cmd_stop<W: Write>(&mut self, rw: &mut Rw<'_, W>) -> Result<Option<Stream>> {
+        self.axes.stop();
+        rw.ok().field_str("stopped", "motion");
+        Ok(None)
+    }
+
+    pub(super) fn cmd_pos<W: Write>(&mut self, rw: &mut Rw<'_, W>) -> Result<Option<Stream>> {
+        let p = self.position();
+        let ang = self.settings.rig.angles(&p);
+        rw.ok()
+            .field_f32_rt("arm", ang[0])
+            .field_f32_rt("elevation", ang[1])
+            .field_f32_rt("tilt", ang[2])
+            .field_f32_rt("azimuth", ang[3])
+            .field_i32("arm_steps", p[0])
+            .field_i32("elevation_steps", p[1])
+            .field_i32("tilt_steps", p[2])
+            .field_i32("azimuth_steps", p[3]);
+        Ok(None)
+    }
+
+    pub(super) fn cmd_enable<W: Write>(&mut self, rw: &mut Rw<'_, W>) -> Result<Option<Stream>> {
+        if !self.interlock.safe() {
+            return Err(Error::InterlockOpen);
+        }
+        self.enabled = true;
+        rw.ok().field_i32("enabled", 1);
+        Ok(None)
+    }
+
+    pub(super) fn cmd_disable<W: Write>(&mut self, rw: &mut Rw<'_, W>) -> Result<Option<Stream>> {
+        self.enabled = false;
+        rw.ok().field_i32("enabled", 0);
+        Ok(None)
+    }
+
+    pub(super) fn cmd_read<W: Write>(&mut self, rw: &mut Rw<'_, W>) -> Result<Option<Stream>> {
+        let p = self.position();
+        let ang = self.settings.rig.angles(&p);
+        let s = &self.settings;
+        let e = s.gun.kinetic_energy_ev()?;
+        let inc = Incidence::new(e, ang[2], ang[3])?;
+        let scene = Scene {
+            face: &s.face,
+            incidence: inc,
+            arm_deg: ang[0],
+            elevation_deg: ang[1],
+            rig: &s.rig,
+        };
+        let v = self.detector.read(&scene);
+        if !v.is_finite() {
+            return Err(Error::NotFinite(crate::error::Quantity::Count));
+        }
+        rw.ok().field_f32_rt("current", v);
+        Ok(None)
+    }
+}

@@ -1,0 +1,191 @@
+//! `aim` and `plan`: aiming solutions and scan plans, and the stepping of a running
+//! plan's points.
+
+use embedded_io::Write;
+
+use super::args::{opt_num, parse_rod, req_num, tok_err, write_point_error};
+use super::{Console, Rw, Stream, MAX_SOLUTIONS};
+use crate::console::board::{AxisDriver, Detector, Interlock};
+use crate::console::wire::token::Args;
+use crate::error::{Error, Result};
+use crate::goniometer::{self, Position, Rig, Solution};
+use crate::scan::{self, IvPlan, SweepPlan, TrackPlan};
+use crate::surface::Incidence;
+
+// No heap to box into: the one running plan lives in place.
+#[allow(clippy::large_enum_variant)]
+#[derive(Clone, Copy)]
+pub(super) enum Plan {
+    Track(TrackPlan),
+    Iv(IvPlan),
+    Sweep(SweepPlan),
+}
+
+/// A running plan: the plan, the next point, where the axes will be, and the totals
+/// so far.
+#[derive(Clone, Copy)]
+pub(super) struct PlanRun {
+    plan: Plan,
+    i: u32,
+    pos: Position,
+    reachable: u32,
+    time_s: f32,
+    dwell_s: f32,
+}
+
+impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
+    pub(super) fn cmd_aim(&mut self, a: &mut Args<'_>) -> Result<Option<Stream>> {
+        // Any `aim` that fails leaves no stale solutions behind for `move sol=`.
+        self.solutions.clear();
+        let rod = match a.get("beam") {
+            Some(v) => parse_rod(v)?,
+            None => self.settings.beam,
+        };
+        a.check_all_used().map_err(tok_err)?;
+        let s = &self.settings;
+        let e = s.gun.kinetic_energy_ev()?;
+        let pos = self.position();
+        let s = &self.settings;
+        let mut out = [Solution::EMPTY; MAX_SOLUTIONS];
+        let l = goniometer::aim(
+            &s.rig,
+            &s.face,
+            rod,
+            e,
+            s.tilt_deg,
+            s.mode(),
+            &pos,
+            &mut out,
+        )?;
+        for sol in out.iter().take(l.stored) {
+            // Cannot fail: `out` has the vector's capacity.
+            let _ = self.solutions.push(*sol);
+        }
+        Ok(Some(Stream::Aim(0)))
+    }
+
+    pub(super) fn cmd_plan(&mut self, a: &mut Args<'_>) -> Result<Option<Stream>> {
+        let kind = a.get("kind").ok_or(Error::MissingArgument)?;
+        let from = req_num(a, "from")?;
+        let to = req_num(a, "to")?;
+        let step = req_num(a, "step")?;
+        let dwell = opt_num(a, "dwell")?.unwrap_or(0.0);
+        a.check_all_used().map_err(tok_err)?;
+        if !(0.0..=3600.0).contains(&dwell) {
+            return Err(Error::BadNumber);
+        }
+        let pos = self.position();
+        let s = &self.settings;
+        let plan = match kind {
+            "track" | "iv" => {
+                let t = TrackPlan::new(
+                    s.rig,
+                    s.face,
+                    s.beam,
+                    s.gun,
+                    from,
+                    to,
+                    step,
+                    s.tilt_deg,
+                    s.mode(),
+                )?;
+                if kind == "iv" {
+                    Plan::Iv(IvPlan::new(t, s.inner_potential(), pos)?)
+                } else {
+                    Plan::Track(t)
+                }
+            }
+            "sweep" => {
+                let e = s.gun.kinetic_energy_ev()?;
+                let ang = s.rig.angles(&pos);
+                let inc = Incidence::new(e, s.tilt_deg, s.azimuth_deg.unwrap_or(ang[3]))?;
+                Plan::Sweep(SweepPlan::new(s.rig, s.face, inc, ang[1], from, to, step)?)
+            }
+            _ => return Err(Error::BadValue),
+        };
+        Ok(Some(Stream::Plan(PlanRun {
+            plan,
+            i: 0,
+            pos,
+            reachable: 0,
+            time_s: 0.0,
+            dwell_s: dwell,
+        })))
+    }
+}
+
+impl PlanRun {
+    /// Writes point `i` (or the final line) into `rw`, updating the totals; false when
+    /// that line is the final one.
+    pub(super) fn step<W: Write>(&mut self, rig: &Rig, rw: &mut Rw<'_, W>) -> bool {
+        let total = match &self.plan {
+            Plan::Track(t) => t.len(),
+            Plan::Iv(p) => p.track.len(),
+            Plan::Sweep(p) => p.len(),
+        };
+        if self.i >= total {
+            rw.ok()
+                .field_i32("points", total as i32)
+                .field_i32("reachable", self.reachable as i32)
+                .field_f32("estimate_s", self.time_s, 1);
+            return false;
+        }
+        rw.item().field_i32("i", self.i as i32);
+
+        match &self.plan {
+            Plan::Track(_) | Plan::Iv(_) => {
+                let (point, peak) = match &self.plan {
+                    Plan::Iv(p) => {
+                        let q = p.point(self.i, &self.pos);
+                        (q.point, q.peak)
+                    }
+                    Plan::Track(t) => (t.point(self.i, &self.pos), None),
+                    Plan::Sweep(_) => return false,
+                };
+                rw.field_f32_rt("nominal", point.nominal_ev);
+                match point.result {
+                    Ok(s) => {
+                        rw.field_f32_rt("arm", s.arm.angle_deg)
+                            .field_f32_rt("elevation", s.elevation_deg())
+                            .field_f32_rt("azimuth", s.azimuth.angle_deg)
+                            .field_i32("arm_steps", s.arm.steps);
+                        self.time_s += scan::estimate_s(
+                            rig,
+                            self.pos,
+                            core::iter::once(Some(s)),
+                            self.dwell_s,
+                        );
+                        self.pos = s.position();
+                        self.reachable += 1;
+                    }
+                    Err(e) => {
+                        write_point_error(rw, e);
+                    }
+                }
+                if let Some(p) = peak {
+                    rw.field_f32_rt("peak", p.energy_ev);
+                }
+            }
+            Plan::Sweep(p) => {
+                let point = p.point(self.i, self.pos[0]);
+                rw.field_f32_rt("arm", point.arm_deg);
+                match point.setpoint {
+                    Ok(sp) => {
+                        rw.field_i32("arm_steps", sp.steps);
+                        self.time_s += rig.arm.time_to_s(self.pos[0], &sp) + self.dwell_s;
+                        self.pos[0] = sp.steps;
+                        self.reachable += 1;
+                    }
+                    Err(e) => write_point_error(rw, e),
+                }
+                if let Some(v) = point.in_view {
+                    rw.field_i32("h", v.beam.rod[0])
+                        .field_i32("k", v.beam.rod[1])
+                        .field_f32_rt("offset", v.offset_deg);
+                }
+            }
+        }
+        self.i += 1;
+        true
+    }
+}

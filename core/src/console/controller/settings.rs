@@ -1,0 +1,310 @@
+//! The settings the console keeps, and the one table of their keys: `set`, `get`,
+//! `dump` and `help` all read [`SETTING_KEYS`], so a key is named in one place.
+
+use embedded_io::Write;
+
+use super::args::{miller_text, parse_num, parse_rod, rod_text, tok_err};
+use super::{Console, Rw, Stream};
+use crate::beam::{self, Gun};
+use crate::console::board::{AxisDriver, Detector, Interlock};
+use crate::console::wire::token::Args;
+use crate::error::{Error, Quantity, Result};
+use crate::goniometer::{Mode, Rig};
+use crate::lattice::{parse_miller, Miller, System};
+use crate::surface::Face;
+use crate::table::{self, Crystal};
+
+/// Every setting the console keeps (what `dump` saves and `reset` restores).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Settings {
+    /// Gun energy and corrections.
+    pub gun: Gun,
+    /// Inner potential, eV; `None` = the table's value for the face.
+    pub inner_potential_ev: Option<f32>,
+    /// The crystal.
+    pub crystal: &'static Crystal,
+    /// The face (computed from the crystal and the Miller indices).
+    pub face: Face,
+    /// Sample tilt, degrees (also the tilt axis target of `aim`).
+    pub tilt_deg: f32,
+    /// Sample azimuth for two-circle aiming, degrees; `None` = in-plane mode.
+    pub azimuth_deg: Option<f32>,
+    /// The beam (rod) `aim` and the plans use.
+    pub beam: [i32; 2],
+    /// Axes and detector acceptance.
+    pub rig: Rig,
+}
+
+impl Settings {
+    /// Factory settings: Cu(100), 100 eV, tilt 20°, specular beam, the default rig.
+    pub fn defaults() -> Result<Settings> {
+        let crystal = table::find("cu")?;
+        let face = Face::new(&crystal.cell()?, [1, 0, 0])?;
+        Ok(Settings {
+            gun: Gun::plain(100.0),
+            inner_potential_ev: None,
+            crystal,
+            face,
+            tilt_deg: 20.0,
+            azimuth_deg: None,
+            beam: [0, 0],
+            rig: Rig::bench_default(),
+        })
+    }
+
+    pub(super) fn mode(&self) -> Mode {
+        self.azimuth_deg.map_or(Mode::InPlane, Mode::AtAzimuth)
+    }
+
+    /// The inner potential in use, eV: the set value, else the table's for the face,
+    /// else 10 eV.
+    pub(super) fn inner_potential(&self) -> f32 {
+        self.inner_potential_ev
+            .or_else(|| self.crystal.inner_potential_for(self.face.miller))
+            .unwrap_or(10.0)
+    }
+}
+
+/// Which setting a key names.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Key {
+    /// Nominal gun energy, eV.
+    Energy,
+    /// Kinetic energy at the sample, eV (read only).
+    Kinetic,
+    /// Wavelength at the sample, Å (read only).
+    Wavelength,
+    /// Cathode work function, eV.
+    Cathode,
+    /// Sample work function, eV.
+    Sample,
+    /// Energy offset, eV.
+    Offset,
+    /// Inner potential, eV, or `table`.
+    InnerPotential,
+    /// Crystal id.
+    Crystal,
+    /// Face Miller indices.
+    Face,
+    /// Sample tilt, degrees.
+    Tilt,
+    /// Azimuth, degrees, or `free` (in-plane aiming).
+    Azimuth,
+    /// Beam rod `h,k`.
+    Beam,
+    /// Detector acceptance half-angle, degrees.
+    Acceptance,
+}
+
+/// One setting key as the protocol names it.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct SettingKey {
+    /// The key word in `set`, `get` and `dump`.
+    pub name: &'static str,
+    /// The setting.
+    pub key: Key,
+    /// Whether `set` accepts it (false for values derived from others).
+    pub settable: bool,
+    /// The `dump` line (0 or 1) that carries it, for settable keys.
+    pub dump_line: u8,
+}
+
+const fn k(name: &'static str, key: Key, settable: bool, dump_line: u8) -> SettingKey {
+    SettingKey {
+        name,
+        key,
+        settable,
+        dump_line,
+    }
+}
+
+/// Every setting key, in the order `get` prints them and `set` applies them (the
+/// crystal before the face it is read against).
+pub const SETTING_KEYS: [SettingKey; 13] = [
+    k("energy", Key::Energy, true, 0),
+    k("kinetic", Key::Kinetic, false, 0),
+    k("wavelength", Key::Wavelength, false, 0),
+    k("cathode", Key::Cathode, true, 0),
+    k("sample", Key::Sample, true, 0),
+    k("offset", Key::Offset, true, 0),
+    k("v0", Key::InnerPotential, true, 0),
+    k("crystal", Key::Crystal, true, 1),
+    k("face", Key::Face, true, 1),
+    k("tilt", Key::Tilt, true, 1),
+    k("azimuth", Key::Azimuth, true, 1),
+    k("beam", Key::Beam, true, 1),
+    k("acceptance", Key::Acceptance, true, 1),
+];
+
+/// Lines of the dump that [`SETTING_KEYS`] fill.
+pub(super) const SETTING_DUMP_LINES: u8 = 2;
+
+/// What `set` changed besides the fields it was given.
+#[derive(Default)]
+struct SetNotes {
+    /// Miller indices given with `face=`.
+    miller: Option<Miller>,
+    /// Whether `crystal=` was given.
+    crystal: bool,
+}
+
+/// Applies `key=value` to `s`.
+fn apply(s: &mut Settings, notes: &mut SetNotes, key: Key, v: &str) -> Result<()> {
+    match key {
+        Key::Energy => s.gun.nominal_ev = parse_num(v)?,
+        Key::Cathode => s.gun.cathode_work_function_ev = beam::check_work_function(parse_num(v)?)?,
+        Key::Sample => s.gun.sample_work_function_ev = beam::check_work_function(parse_num(v)?)?,
+        Key::Offset => s.gun.offset_ev = parse_num(v)?,
+        Key::InnerPotential => {
+            s.inner_potential_ev = if v == "table" {
+                None
+            } else {
+                Some(beam::check_inner_potential(parse_num(v)?)?)
+            }
+        }
+        Key::Crystal => {
+            s.crystal = table::find(v)?;
+            notes.crystal = true;
+        }
+        Key::Face => {
+            let hex = s.crystal.structure.system() == System::Hexagonal;
+            notes.miller = Some(parse_miller(v, hex)?);
+        }
+        Key::Tilt => s.tilt_deg = crate::surface::check_tilt(parse_num(v)?)?,
+        Key::Azimuth => {
+            s.azimuth_deg = if v == "free" {
+                None
+            } else {
+                let x = parse_num(v)?;
+                if x.abs() > 360.0 {
+                    return Err(Error::TooHigh(Quantity::Azimuth));
+                }
+                Some(x)
+            }
+        }
+        Key::Beam => s.beam = parse_rod(v)?,
+        Key::Acceptance => s.rig.acceptance_deg = parse_num(v)?,
+        Key::Kinetic | Key::Wavelength => return Err(Error::UnknownArgument),
+    }
+    Ok(())
+}
+
+impl Settings {
+    /// Writes `key=value` for `get` (`for_dump` false: values in use) or `dump`
+    /// (`for_dump` true: the setting as `set` takes it back).
+    pub(super) fn write_key<W: Write>(
+        &self,
+        key: &SettingKey,
+        for_dump: bool,
+        rw: &mut Rw<'_, W>,
+    ) -> Result<()> {
+        let n = key.name;
+        match key.key {
+            Key::Energy => rw.field_f32_rt(n, self.gun.nominal_ev),
+            Key::Kinetic => rw.field_f32_rt(n, self.gun.kinetic_energy_ev()?),
+            Key::Wavelength => {
+                rw.field_f32_rt(n, beam::wavelength_a(self.gun.kinetic_energy_ev()?)?)
+            }
+            Key::Cathode => rw.field_f32_rt(n, self.gun.cathode_work_function_ev),
+            Key::Sample => rw.field_f32_rt(n, self.gun.sample_work_function_ev),
+            Key::Offset => rw.field_f32_rt(n, self.gun.offset_ev),
+            Key::InnerPotential => match (for_dump, self.inner_potential_ev) {
+                (true, None) => rw.field_str(n, "table"),
+                (true, Some(v)) => rw.field_f32_rt(n, v),
+                (false, _) => rw.field_f32_rt(n, self.inner_potential()),
+            },
+            Key::Crystal => rw.field_str(n, self.crystal.id),
+            Key::Face => {
+                let mut b = [0u8; 40];
+                rw.field_str(n, miller_text(self.face.miller, &mut b))
+            }
+            Key::Tilt => rw.field_f32_rt(n, self.tilt_deg),
+            Key::Azimuth => match self.azimuth_deg {
+                Some(v) => rw.field_f32_rt(n, v),
+                None => rw.field_str(n, "free"),
+            },
+            Key::Beam => {
+                let mut b = [0u8; 40];
+                rw.field_str(n, rod_text(self.beam, &mut b))
+            }
+            Key::Acceptance => rw.field_f32_rt(n, self.rig.acceptance_deg),
+        };
+        Ok(())
+    }
+}
+
+impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
+    /// `set key=value ...`: every key checked and applied to a copy, committed only
+    /// when all are valid. A crystal given without a face switches to that crystal's
+    /// first table face, and the `ok` line says so (`face=… face_from=table`).
+    pub(super) fn cmd_set<W: Write>(
+        &mut self,
+        a: &mut Args<'_>,
+        rw: &mut Rw<'_, W>,
+    ) -> Result<Option<Stream>> {
+        if a.is_empty() {
+            return Err(Error::MissingArgument);
+        }
+        let mut s = self.settings;
+        let mut notes = SetNotes::default();
+        for key in SETTING_KEYS.iter().filter(|k| k.settable) {
+            if let Some(v) = a.get(key.name) {
+                apply(&mut s, &mut notes, key.key, v)?;
+            }
+        }
+        a.check_all_used().map_err(tok_err)?;
+        let from_table = notes.crystal && notes.miller.is_none();
+        let miller = match (notes.miller, from_table) {
+            (Some(m), _) => Some(m),
+            (None, true) => Some(
+                s.crystal
+                    .faces
+                    .first()
+                    .map(|f| f.miller)
+                    .ok_or(Error::FaceNeeded)?,
+            ),
+            (None, false) => None,
+        };
+        if let Some(m) = miller {
+            s.face = Face::new(&s.crystal.cell()?, m)?;
+        }
+        s.gun.kinetic_energy_ev()?;
+        s.rig.validate()?;
+        self.settings = s;
+        self.solutions.clear();
+        rw.ok();
+        if from_table {
+            let mut b = [0u8; 40];
+            rw.field_str("crystal", s.crystal.id)
+                .field_str("face", miller_text(s.face.miller, &mut b))
+                .field_str("face_from", "table");
+        }
+        Ok(None)
+    }
+
+    /// `get [key]`: one setting, or all of them in table order.
+    pub(super) fn cmd_get<W: Write>(
+        &mut self,
+        a: &mut Args<'_>,
+        rw: &mut Rw<'_, W>,
+    ) -> Result<Option<Stream>> {
+        let want = a.positional(0);
+        a.check_all_used().map_err(tok_err)?;
+        if let Some(w) = want {
+            if !SETTING_KEYS.iter().any(|k| k.name == w) {
+                return Err(Error::UnknownArgument);
+            }
+        }
+        let s = self.settings;
+        // Fails early (before `ok`) when the gun settings give no valid energy.
+        s.gun.kinetic_energy_ev()?;
+        rw.ok();
+        for key in SETTING_KEYS
+            .iter()
+            .filter(|k| want.is_none_or(|w| w == k.name))
+        {
+            s.write_key(key, false, rw)?;
+        }
+        Ok(None)
+    }
+}

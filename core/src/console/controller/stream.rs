@@ -1,0 +1,172 @@
+//! The running stream: what each `poll` writes for help, the crystal and face lists,
+//! beams, aim solutions, plan points and the dump.
+
+use embedded_io::Write;
+
+use super::args::miller_text;
+use super::plan::PlanRun;
+use super::settings::{Settings, SETTING_KEYS};
+use super::{Console, Rw, COMMANDS, MAX_SOLUTIONS};
+use crate::console::board::{AxisDriver, Detector, Interlock};
+use crate::error::Result;
+use crate::goniometer::Solution;
+use crate::lattice::System;
+use crate::surface::{BeamIter, Incidence};
+use crate::table;
+
+/// What a stream reads besides its own state: borrowed from the console beside it.
+pub(super) struct Context<'a> {
+    pub(super) settings: &'a Settings,
+    pub(super) solutions: &'a [Solution],
+}
+
+/// The one stream a console runs at a time.
+// No heap to box into: the one running plan lives in place.
+#[allow(clippy::large_enum_variant)]
+pub(super) enum Stream {
+    Idle,
+    Help(u8),
+    Crystals(u8),
+    Faces(u8),
+    Beams(BeamIter, u32),
+    Aim(u8),
+    Plan(PlanRun),
+    Dump(u8),
+}
+
+impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
+    /// Starts the `beams` list at the current settings.
+    pub(super) fn start_beams(&self) -> Result<Option<Stream>> {
+        let s = &self.settings;
+        let e = s.gun.kinetic_energy_ev()?;
+        let inc = Incidence::new(e, s.tilt_deg, s.azimuth_deg.unwrap_or(0.0))?;
+        Ok(Some(Stream::Beams(s.face.beams_iter(&inc), 0)))
+    }
+}
+
+impl Stream {
+    /// Fills `rw` with the next line; false when that line is the final one.
+    pub(super) fn step<W: Write>(&mut self, ctx: &Context<'_>, rw: &mut Rw<'_, W>) -> bool {
+        match self {
+            Stream::Idle => false,
+            Stream::Help(i) => match COMMANDS.get(*i as usize) {
+                Some((c, u)) => {
+                    rw.item().field_str("cmd", c).text(u);
+                    if *c == "set" {
+                        for k in SETTING_KEYS.iter().filter(|k| k.settable) {
+                            rw.text(k.name);
+                        }
+                    }
+                    *i += 1;
+                    true
+                }
+                None => {
+                    rw.ok().field_i32("count", COMMANDS.len() as i32);
+                    false
+                }
+            },
+            Stream::Crystals(i) => match table::all().get(*i as usize) {
+                Some(c) => {
+                    rw.item()
+                        .field_str("id", c.id)
+                        .field_str("structure", c.structure.name())
+                        .field_f32_rt("a", c.a_a);
+                    if c.structure.system() != System::Cubic {
+                        if c.structure.system() == System::Orthorhombic {
+                            rw.field_f32_rt("b", c.b_a);
+                        }
+                        rw.field_f32_rt("c", c.c_a);
+                    }
+                    rw.field_str("name", c.name);
+                    *i += 1;
+                    true
+                }
+                None => {
+                    rw.ok().field_i32("count", table::all().len() as i32);
+                    false
+                }
+            },
+            Stream::Faces(i) => {
+                let c = ctx.settings.crystal;
+                match c.faces.get(*i as usize) {
+                    Some(f) => {
+                        let mut b = [0u8; 40];
+                        rw.item().field_str("face", miller_text(f.miller, &mut b));
+                        if let Some(v) = f.inner_potential_ev {
+                            rw.field_f32_rt("v0", v);
+                        }
+                        if let Some(v) = f.work_function_ev {
+                            rw.field_f32_rt("work_function", v);
+                        }
+                        *i += 1;
+                        true
+                    }
+                    None => {
+                        rw.ok()
+                            .field_str("crystal", c.id)
+                            .field_i32("count", c.faces.len() as i32);
+                        false
+                    }
+                }
+            }
+            Stream::Beams(iter, n) => match iter.next() {
+                Some(b) => {
+                    rw.item()
+                        .field_i32("h", b.rod[0])
+                        .field_i32("k", b.rod[1])
+                        .field_f32_rt("exit", b.exit_deg)
+                        .field_f32_rt("exit_azimuth", b.exit_azimuth_deg);
+                    if let Some(d) = b.row_spacing_a() {
+                        rw.field_f32_rt("row", d);
+                    }
+                    if let Some(e) = b.emergence_ev {
+                        rw.field_f32_rt("emerge", e);
+                    }
+                    *n = n.saturating_add(1);
+                    true
+                }
+                None => {
+                    rw.ok().field_i32("count", *n as i32);
+                    false
+                }
+            },
+            Stream::Aim(i) => {
+                let k = *i as usize;
+                if let Some(s) = ctx.solutions.get(k) {
+                    rw.item()
+                        .field_i32("sol", k as i32)
+                        .field_f32_rt("arm", s.arm.angle_deg)
+                        .field_f32_rt("elevation", s.elevation_deg())
+                        .field_f32_rt("tilt", s.tilt.angle_deg)
+                        .field_f32_rt("azimuth", s.azimuth.angle_deg)
+                        .field_i32("arm_steps", s.arm.steps)
+                        .field_f32_rt("residual", s.arm.residual_deg)
+                        .field_i32("branch", s.branch as i32)
+                        .field_f32_rt("travel", s.travel_deg);
+                    *i += 1;
+                    true
+                } else {
+                    rw.ok().field_i32("count", ctx.solutions.len() as i32);
+                    false
+                }
+            }
+            Stream::Plan(run) => run.step(&ctx.settings.rig, rw),
+            Stream::Dump(i) => loop {
+                match ctx.settings.dump_line(*i, rw) {
+                    super::dump::Dump::Line => {
+                        *i = i.saturating_add(1);
+                        return true;
+                    }
+                    super::dump::Dump::Skip => *i = i.saturating_add(1),
+                    super::dump::Dump::End => {
+                        rw.clear();
+                        rw.ok();
+                        return false;
+                    }
+                }
+            },
+        }
+    }
+}
+
+const _: () = assert!(MAX_SOLUTIONS <= u8::MAX as usize);
