@@ -60,20 +60,71 @@ mod backend {
 #[cfg(feature = "fast-math")]
 mod backend {
     use micromath::F32Ext;
-    /// Square root.
+    /// Square root: micromath's estimate (a few per cent off) refined by two Newton
+    /// steps, y ← (y + x/y)/2, which bring it to f32 rounding.
     #[inline]
     pub fn sqrt(x: f32) -> f32 {
-        F32Ext::sqrt(x)
+        let y = F32Ext::sqrt(x);
+        if y.is_nan() || y <= 0.0 || y.is_infinite() {
+            return y;
+        }
+        let y = 0.5 * (y + x / y);
+        0.5 * (y + x / y)
     }
-    /// Sine of an angle in radians.
+    /// `x` reduced by the nearest multiple j of π/2: (r, j mod 4), |r| ≤ π/4. π/2 is
+    /// split in three parts so that r keeps f32 precision for |x| up to ~10^4 rad.
+    #[inline]
+    fn reduce(x: f32) -> (f32, u32) {
+        const TWO_OVER_PI: f32 = core::f32::consts::FRAC_2_PI;
+        // π/2 = P1 + P2 + P3, P1 and P2 with few significant bits (exact products).
+        const P1: f32 = 1.5703125;
+        const P2: f32 = 4.837_513e-4;
+        const P3: f32 = 7.549_79e-8;
+        let j = libm::roundf(x * TWO_OVER_PI);
+        let r = ((x - j * P1) - j * P2) - j * P3;
+        // `j` is an integer-valued float; its low two bits pick the quadrant.
+        (r, (j as i32 as u32) & 3)
+    }
+    /// Sine on [−π/4, π/4]: odd polynomial, error below 1 ulp there (coefficients of the
+    /// classic single-precision minimax fit, from memory).
+    #[inline]
+    fn sin_kernel(r: f32) -> f32 {
+        let z = r * r;
+        r + r * z * (-1.666_665_5e-1 + z * (8.332_161e-3 + z * -1.951_529_6e-4))
+    }
+    /// Cosine on [−π/4, π/4]: even polynomial (same source).
+    #[inline]
+    fn cos_kernel(r: f32) -> f32 {
+        let z = r * r;
+        1.0 - 0.5 * z + z * z * (4.166_664_6e-2 + z * (-1.388_731_6e-3 + z * 2.443_315_7e-5))
+    }
+    /// Sine of an angle in radians (f32 range reduction and polynomials; no f64).
     #[inline]
     pub fn sin(x: f32) -> f32 {
-        F32Ext::sin(x)
+        if !x.is_finite() {
+            return f32::NAN;
+        }
+        let (r, q) = reduce(x);
+        match q {
+            0 => sin_kernel(r),
+            1 => cos_kernel(r),
+            2 => -sin_kernel(r),
+            _ => -cos_kernel(r),
+        }
     }
-    /// Cosine of an angle in radians.
+    /// Cosine of an angle in radians (f32 range reduction and polynomials; no f64).
     #[inline]
     pub fn cos(x: f32) -> f32 {
-        F32Ext::cos(x)
+        if !x.is_finite() {
+            return f32::NAN;
+        }
+        let (r, q) = reduce(x);
+        match q {
+            0 => cos_kernel(r),
+            1 => -sin_kernel(r),
+            2 => -cos_kernel(r),
+            _ => sin_kernel(r),
+        }
     }
     /// Tangent of an angle in radians.
     #[inline]
@@ -83,17 +134,17 @@ mod backend {
     /// Arcsine, radians.
     #[inline]
     pub fn asin(x: f32) -> f32 {
-        F32Ext::asin(x)
+        libm::asinf(x)
     }
     /// Arccosine, radians.
     #[inline]
     pub fn acos(x: f32) -> f32 {
-        F32Ext::acos(x)
+        libm::acosf(x)
     }
     /// Four-quadrant arctangent of y/x, radians.
     #[inline]
     pub fn atan2(y: f32, x: f32) -> f32 {
-        F32Ext::atan2(y, x)
+        libm::atan2f(y, x)
     }
     /// e^x.
     #[inline]

@@ -2,9 +2,11 @@
 //! (`matterwave_console::oracle`), over random energies 1 eV–300 keV, every table
 //! crystal, faces with indices up to 3, tilts −70°..70° and random azimuths.
 //!
-//! Tolerances (issue requirement): wavelength relative error ≤ 1e-6; exit-angle error
+//! Every tolerance is in [`tol`], one set for the default libm backend and one for the
+//! `fast-math` backend (`cargo test -p matterwave-tests --features fast-math --test
+//! oracle_agreement`). With libm: wavelength relative error ≤ 1e-6; exit-angle error
 //! ≤ 0.002° wherever the exit angle is ≤ 85°. The largest errors seen are printed
-//! (`cargo test -p matterwave-tests --test oracle_agreement -- --nocapture`).
+//! (`-- --nocapture`).
 
 use matterwave_console::oracle::{self, OCell};
 use matterwave_core::goniometer;
@@ -12,6 +14,48 @@ use matterwave_core::lattice::Structure;
 use matterwave_core::surface::{Face, Incidence, IvPeak};
 use matterwave_core::{beam, table, Error};
 use matterwave_tests::Rng;
+
+/// Tolerances, in one place per float backend.
+mod tol {
+    /// The libm backend (default): the requirement values.
+    #[cfg(not(feature = "fast-math"))]
+    mod values {
+        pub const WAVELENGTH_REL: f64 = 1e-6;
+        pub const ROUND_TRIP_REL: f64 = 2e-6;
+        pub const MESH_REL: f64 = 2e-5;
+        pub const GAMMA_DEG: f64 = 2e-3;
+        pub const IN_PLANE_A: f64 = 1e-4;
+        pub const EXIT_DEG: f64 = 0.002;
+        pub const LAB_DEG: f64 = 0.002;
+        pub const EMERGENCE_REL: f64 = 1e-4;
+        pub const IV_REL: f64 = 2e-5;
+        pub const IV_ABS_EV: f64 = 2e-3;
+        pub const D_REL: f64 = 1e-6;
+        /// Exit angle beyond which f32 rounding may decide evanescent or not, degrees.
+        pub const GRAZING_DEG: f64 = 89.0;
+    }
+    /// The `fast-math` backend: the libm values except where its own f32 square root
+    /// and sine/cosine measured worse (largest seen over these same cases: wavelength
+    /// 1.60e-6, d-spacing 1.55e-6 relative; the rest within the libm limits: exit angle
+    /// 9.5e-4°, lab direction 8.5e-4°, emergence 7.3e-6, meshes 3.7e-6, γ 3.4e-5°,
+    /// I-V peaks 9.6e-6).
+    #[cfg(feature = "fast-math")]
+    mod values {
+        pub const WAVELENGTH_REL: f64 = 2.5e-6;
+        pub const ROUND_TRIP_REL: f64 = 4e-6;
+        pub const MESH_REL: f64 = 2e-5;
+        pub const GAMMA_DEG: f64 = 2e-3;
+        pub const IN_PLANE_A: f64 = 1e-4;
+        pub const EXIT_DEG: f64 = 0.002;
+        pub const LAB_DEG: f64 = 0.002;
+        pub const EMERGENCE_REL: f64 = 1e-4;
+        pub const IV_REL: f64 = 2e-5;
+        pub const IV_ABS_EV: f64 = 2e-3;
+        pub const D_REL: f64 = 2.5e-6;
+        pub const GRAZING_DEG: f64 = 89.0;
+    }
+    pub use values::*;
+}
 
 fn ocell(c: &table::Crystal) -> OCell {
     let s = oracle::structure_from_name(c.structure.name()).expect("oracle knows every structure");
@@ -53,11 +97,17 @@ fn wavelengths_agree() {
         let refv = oracle::wavelength_a(e as f64);
         let rel = (core / refv - 1.0).abs();
         worst = worst.max(rel);
-        assert!(rel <= 1e-6, "E = {e} eV: core {core} oracle {refv}");
-        let back = beam::energy_from_wavelength_ev(core as f32);
-        if let Ok(b) = back {
-            assert!((b as f64 / e as f64 - 1.0).abs() < 2e-6, "{e} -> {b}");
-        }
+        assert!(
+            rel <= tol::WAVELENGTH_REL,
+            "E = {e} eV: core {core} oracle {refv}"
+        );
+        // The inverse must succeed over the whole range, edges included.
+        let b = beam::energy_from_wavelength_ev(core as f32)
+            .unwrap_or_else(|err| panic!("E = {e} eV: inverse of λ = {core} Å failed: {err}"));
+        assert!(
+            (b as f64 / e as f64 - 1.0).abs() < tol::ROUND_TRIP_REL,
+            "{e} -> {b}"
+        );
     }
     println!("wavelength: max relative error {worst:.3e} over 200000 energies");
 }
@@ -66,6 +116,7 @@ fn wavelengths_agree() {
 fn meshes_agree() {
     let mut rng = Rng(2);
     let mut worst = 0.0f64;
+    let (mut worst_gamma, mut worst_plane) = (0.0f64, 0.0f64);
     let mut n = 0;
     for c in table::all() {
         let cell = c.cell().unwrap();
@@ -92,13 +143,14 @@ fn meshes_agree() {
                 let rel = (core / refv - 1.0).abs();
                 worst = worst.max(rel);
                 assert!(
-                    rel < 2e-5,
+                    rel < tol::MESH_REL,
                     "{} {m:?} {what}: core {core} oracle {refv}",
                     c.id
                 );
             }
+            worst_gamma = worst_gamma.max((g - om.gamma_deg).abs());
             assert!(
-                (g - om.gamma_deg).abs() < 2e-3,
+                (g - om.gamma_deg).abs() < tol::GAMMA_DEG,
                 "{} {m:?} gamma {g} vs {}",
                 c.id,
                 om.gamma_deg
@@ -107,8 +159,9 @@ fn meshes_agree() {
             let nrm = oracle::face_normal(&oc, f.miller);
             for v in &f.vectors_a[..2] {
                 let d: f64 = (0..3).map(|i| v[i] as f64 * nrm[i]).sum();
+                worst_plane = worst_plane.max(d.abs());
                 assert!(
-                    d.abs() < 1e-4,
+                    d.abs() < tol::IN_PLANE_A,
                     "{} {m:?}: mesh vector off the plane by {d}",
                     c.id
                 );
@@ -116,7 +169,10 @@ fn meshes_agree() {
             n += 1;
         }
     }
-    println!("meshes: max relative error {worst:.3e} over {n} faces");
+    println!(
+        "meshes: max relative error {worst:.3e} over {n} faces; max gamma error \
+         {worst_gamma:.3e} deg; max distance of a mesh vector from the plane {worst_plane:.3e} Å"
+    );
 }
 
 #[test]
@@ -147,7 +203,7 @@ fn exit_angles_and_emergence_agree() {
                         let err = (b.exit_deg as f64 - ob.exit_polar_deg).abs();
                         worst_exit = worst_exit.max(err);
                         assert!(
-                            err <= 0.002,
+                            err <= tol::EXIT_DEG,
                             "{} {m:?} rod {rod:?} E={e} tilt={tilt} az={az}: core {} oracle {}",
                             c.id,
                             b.exit_deg,
@@ -170,7 +226,7 @@ fn exit_angles_and_emergence_agree() {
                         let ang = sn.atan2(cs).to_degrees();
                         worst_lab = worst_lab.max(ang);
                         assert!(
-                            ang <= 0.002,
+                            ang <= tol::LAB_DEG,
                             "{} {m:?} rod {rod:?} E={e} tilt={tilt} az={az}: lab direction off by {ang}°: core {d:?} {b:?} oracle {ob:?}",
                             c.id
                         );
@@ -183,7 +239,7 @@ fn exit_angles_and_emergence_agree() {
                         let rel = (ce as f64 / oe - 1.0).abs();
                         worst_em = worst_em.max(rel);
                         assert!(
-                            rel < 1e-4,
+                            rel < tol::EMERGENCE_REL,
                             "{} {m:?} rod {rod:?}: emergence {ce} vs {oe}",
                             c.id
                         );
@@ -193,14 +249,14 @@ fn exit_angles_and_emergence_agree() {
                 (Err(Error::Evanescent), Some(ob)) => {
                     // Only at grazing exit, where f32 rounding decides.
                     assert!(
-                        ob.exit_polar_deg > 89.0,
+                        ob.exit_polar_deg > tol::GRAZING_DEG,
                         "{} {m:?} rod {rod:?}: core says evanescent, oracle {ob:?}",
                         c.id
                     );
                 }
                 (Ok(b), None) => {
                     assert!(
-                        b.exit_deg > 89.0,
+                        b.exit_deg as f64 > tol::GRAZING_DEG,
                         "{} {m:?} rod {rod:?}: oracle says evanescent, core {b:?}",
                         c.id
                     );
@@ -275,7 +331,7 @@ fn iv_peaks_agree() {
             let err = (a - b).abs();
             worst = worst.max(err / b);
             assert!(
-                err <= 2e-5 * b + 2e-3,
+                err <= tol::IV_REL * b + tol::IV_ABS_EV,
                 "{} {m:?} rod {rod:?}: {a} vs {b}",
                 c.id
             );
@@ -288,6 +344,7 @@ fn iv_peaks_agree() {
 
 #[test]
 fn d_spacings_and_extinctions_agree() {
+    let mut worst = 0.0f64;
     for c in table::all() {
         let cell = c.cell().unwrap();
         let oc = ocell(c);
@@ -300,10 +357,16 @@ fn d_spacings_and_extinctions_agree() {
                     let hkl = [h, k, l];
                     let d = cell.d_spacing_a(hkl).unwrap() as f64;
                     let od = oc.d_spacing_a(hkl);
-                    assert!((d / od - 1.0).abs() < 1e-6, "{} {hkl:?}: {d} vs {od}", c.id);
+                    worst = worst.max((d / od - 1.0).abs());
+                    assert!(
+                        (d / od - 1.0).abs() < tol::D_REL,
+                        "{} {hkl:?}: {d} vs {od}",
+                        c.id
+                    );
                     assert_eq!(cell.allowed(hkl), oc.allowed(hkl), "{} {hkl:?}", c.id);
                 }
             }
         }
     }
+    println!("d-spacings: max relative error {worst:.3e}");
 }
