@@ -1630,75 +1630,50 @@ pub fn budget_cmd(a: &BudgetArgs) -> CliResult<Report> {
     let (c, cell, e, q) = aim_query(&rf, &a.target, &a.gun, a.tilt, a.azimuth, &a.position)?;
     let (face, rod, tilt, mode) = (q.face, q.rod, q.tilt, q.mode);
     let spread = a.energy_spread;
-    if !(spread.is_finite() && (0.0..=100.0).contains(&spread)) {
-        return Err(CliError::new(format!(
-            "--energy-spread {spread}: give one standard deviation in eV from 0 to 100"
-        )));
-    }
     let zero_sigma = a.arm_zero_sigma;
-    if !(zero_sigma.is_finite() && (0.0..=10.0).contains(&zero_sigma)) {
-        return Err(CliError::new(format!(
-            "--arm-zero-sigma {zero_sigma}: give one standard deviation in degrees from 0 to 10"
-        )));
-    }
-    let mut buf = [Solution::EMPTY; MAX_SOLUTIONS];
-    q.reachable(e, a.gun.energy, a.gun.correction_ev(), &mut buf)?;
-    let sol = buf[0];
-    let arm0 = target_deg(&sol.arm);
-
-    // Re-aim near the chosen solution on the rig without limits or zones, so that a
-    // small change of energy or lattice constant keeps the same branch and copy.
-    let open = relaxed(rig, matches!(mode, Mode::AtAzimuth(_)));
-    let near = AimQuery {
-        rig: &open,
-        current: sol.position(),
-        ..q
+    let inputs = budget::ArmBudgetInputs {
+        energy_spread_ev: spread,
+        arm_zero_sigma_deg: zero_sigma,
+        lattice_sigma_a: c.a_uncertainty_a,
     };
-    let arm_at = |q: &AimQuery<'_>, energy: f32| -> matterwave_core::Result<f32> {
-        let mut one = [Solution::EMPTY; 1];
-        q.solve(energy, &mut one)?;
-        Ok(target_deg(&one[0].arm))
-    };
-    let mut de = (0.005 * e).max(0.05);
-    let d_energy = loop {
-        match budget::sensitivity(|x| arm_at(&near, x), e, de) {
-            Ok(s) => break s,
-            Err(_) if de > 1e-3 => de *= 0.1,
-            Err(er) => {
-                return Err(CliError::core(
-                    er,
-                    "energy sensitivity (the beam is too close to its emergence energy)",
-                ))
-            }
-        }
-    };
-    let a0 = cell.a_a;
-    let da = 1e-3 * a0;
-    let d_lattice = budget::sensitivity(
-        |x| {
-            let cell_x = Cell::new(cell.structure, x, cell.b_a, cell.c_a)?;
-            let face_x = Face::new(&cell_x, face.miller)?;
-            arm_at(
-                &AimQuery {
-                    face: face_x,
-                    ..near
-                },
-                e,
-            )
-        },
-        a0,
-        da,
+    let ab = budget::arm_budget(
+        rig,
+        &cell,
+        face.miller,
+        rod,
+        e,
+        tilt,
+        mode,
+        &q.current,
+        &inputs,
     )
-    .ctx("lattice-constant sensitivity")?;
-    let quant = budget::quantisation_deg(rig.arm.steps_per_deg).ctx("arm steps per degree")?;
-    let accept = budget::acceptance_deg(rig.acceptance_deg).ctx("detector acceptance")?;
-    let b = budget::Budget {
-        energy_spread_deg: budget::propagate(d_energy, spread),
-        lattice_constant_deg: budget::propagate(d_lattice, c.a_uncertainty_a),
-        step_quantisation_deg: quant,
-        detector_acceptance_deg: accept,
-        arm_zero_deg: zero_sigma,
-    };
+    .or_else(|er| {
+        let flag = match er.quantity() {
+            Some(matterwave_core::Quantity::EnergySpread) => {
+                Some(format!("--energy-spread {spread}"))
+            }
+            Some(matterwave_core::Quantity::ArmZeroSigma) => {
+                Some(format!("--arm-zero-sigma {zero_sigma}"))
+            }
+            _ => None,
+        };
+        if let Some(flag) = flag {
+            return Err(CliError::core(er, flag));
+        }
+        // Refused by the rig: say which axis refuses each geometric pose.
+        let mut buf = [Solution::EMPTY; MAX_SOLUTIONS];
+        q.reachable(e, a.gun.energy, a.gun.correction_ev(), &mut buf)?;
+        Err(CliError::core(
+            er,
+            "energy sensitivity (the beam is too close to its emergence energy)",
+        ))
+    })?;
+    let (arm0, d_energy, d_lattice, b) = (
+        ab.arm_deg,
+        ab.d_arm_d_energy_deg_per_ev,
+        ab.d_arm_d_lattice_deg_per_a,
+        ab.budget,
+    );
     let basis = [
         format!("σE {spread} eV × {:.5} deg/eV", d_energy.abs()),
         format!(

@@ -1085,3 +1085,60 @@ fn bad_goniometer_input_exits_2() {
         fails(args);
     }
 }
+
+/// The controller's `budget` request and `mwctl calc budget` run the same core function:
+/// on the same crystal, face, beam, energy, tilt, rig (the built-in one) and position
+/// (home) they give the same contributions, arm angle and total.
+#[test]
+fn console_budget_equals_mwctl_budget() {
+    use matterwave_core::console::sim::{SimAxes, SimDetector, SimInterlock};
+    use matterwave_core::console::Console;
+    let mut c = Console::new(
+        SimAxes::default(),
+        SimDetector::default(),
+        SimInterlock { safe: true },
+    )
+    .unwrap();
+    let mut out = Vec::new();
+    for line in [
+        "set crystal=cu face=100 beam=1,0 energy=100 tilt=10\n",
+        "budget energy_spread=0.5 arm_zero_sigma=0.1\n",
+    ] {
+        for &b in line.as_bytes() {
+            c.push(b, &mut out).unwrap();
+            while c.poll(&mut out).unwrap() {}
+        }
+    }
+    let text = String::from_utf8(out).unwrap();
+    let field = |line: &str, key: &str| -> f64 {
+        line.split(' ')
+            .find_map(|t| t.strip_prefix(key).and_then(|v| v.strip_prefix('=')))
+            .unwrap_or_else(|| panic!("{key} missing in {line}"))
+            .parse()
+            .unwrap()
+    };
+    let items: Vec<&str> = text.lines().filter(|l| l.starts_with("- ")).collect();
+    let last = text.lines().last().unwrap();
+    let mut a = BUDGET.to_vec();
+    a.extend_from_slice(&["--energy-spread", "0.5", "--arm-zero-sigma", "0.1"]);
+    let v = json(&a);
+    let contributions = v["contributions"].as_array().unwrap();
+    assert_eq!(items.len(), contributions.len(), "{text}");
+    for (item, want) in items.iter().zip(contributions) {
+        let name = want["name"].as_str().unwrap().replace(' ', "_");
+        assert!(item.contains(&format!("contribution={name} ")), "{item}");
+        // mwctl prints 5 decimals.
+        assert!(
+            (field(item, "deg") - num(&want["deg"])).abs() <= 5e-6,
+            "{item} {want}"
+        );
+    }
+    assert!(
+        (field(last, "arm") - num(&v["arm_deg"])).abs() <= 5e-5,
+        "{last} {v}"
+    );
+    assert!(
+        (field(last, "total") - num(&v["total_deg"])).abs() <= 5e-6,
+        "{last} {v}"
+    );
+}

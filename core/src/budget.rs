@@ -1,4 +1,4 @@
-//! Angular error budget, in degrees (DESIGN §9).
+//! Angular error budget, in degrees.
 //!
 //! Each contribution is one standard deviation of the arm angle, in degrees, from one
 //! named cause; independent causes combine as the root sum of squares. Helpers turn the
@@ -23,7 +23,10 @@
 //! ```
 
 use crate::error::{finite, Error, Quantity, Result};
+use crate::goniometer::{self, Mode, Position, Rig, Solution};
+use crate::lattice::{Cell, Miller};
 use crate::math;
+use crate::surface::Face;
 
 /// One named term of a [`Budget`].
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -235,6 +238,125 @@ pub fn sensitivity<F: Fn(f32) -> Result<f32>>(f: F, x: f32, dx: f32) -> Result<f
 /// ```
 pub fn propagate(sens: f32, sigma: f32) -> f32 {
     (sens * sigma).abs()
+}
+
+/// What the arm budget of one aimed beam is computed from, besides the geometry.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct ArmBudgetInputs {
+    /// One standard deviation of the beam energy, eV (0 to 100).
+    pub energy_spread_ev: f32,
+    /// One standard deviation of the arm zero, degrees (0 to 10).
+    pub arm_zero_sigma_deg: f32,
+    /// One standard deviation of the lattice constant a, Å (the crystal table's).
+    pub lattice_sigma_a: f32,
+}
+
+/// The arm budget of one aimed beam: where the arm goes, the model's sensitivities and
+/// the named contributions.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct ArmBudget {
+    /// The nearest reachable solution, as `aim` gives it.
+    pub solution: Solution,
+    /// Arm angle of the beam (the solution's target before step rounding), degrees.
+    pub arm_deg: f32,
+    /// ∂arm/∂E at the sample energy, degrees per eV.
+    pub d_arm_d_energy_deg_per_ev: f32,
+    /// ∂arm/∂a (lattice constant), degrees per Å.
+    pub d_arm_d_lattice_deg_per_a: f32,
+    /// The contributions.
+    pub budget: Budget,
+}
+
+/// The angular budget of the arm aimed at rod `rod` of face `miller` of `cell` at
+/// kinetic energy `energy_ev` (at the sample), tilt `tilt_deg`, in `mode`, from the
+/// position `current` — the one function behind the console's `budget` request and
+/// `mwctl calc budget`.
+///
+/// The solution is [`goniometer::aim`]'s nearest on the real rig. Sensitivities are
+/// central differences of the arm angle on the rig's [`Rig::geometry_only`] copy, aimed
+/// from that solution, so that a small change keeps the same branch: ∂arm/∂E with a step
+/// of max(0.5 % E, 0.05 eV), shrunk tenfold (down to 1 meV) while the beam would not
+/// exist on one side; ∂arm/∂a with a step of 0.1 % of a.
+///
+/// Errors: inputs outside their ranges (`TooLow`/`TooHigh` of `EnergySpread`,
+/// `ArmZeroSigma`, `Length` for the lattice σ); whatever `aim` refuses; a beam so close
+/// to its emergence energy that no energy step fits (`Evanescent`).
+#[allow(clippy::too_many_arguments)]
+pub fn arm_budget(
+    rig: &Rig,
+    cell: &Cell,
+    miller: Miller,
+    rod: [i32; 2],
+    energy_ev: f32,
+    tilt_deg: f32,
+    mode: Mode,
+    current: &Position,
+    inputs: &ArmBudgetInputs,
+) -> Result<ArmBudget> {
+    let spread = finite(inputs.energy_spread_ev, Quantity::EnergySpread)?;
+    range(spread, 100.0, Quantity::EnergySpread)?;
+    let zero = finite(inputs.arm_zero_sigma_deg, Quantity::ArmZeroSigma)?;
+    range(zero, 10.0, Quantity::ArmZeroSigma)?;
+    let sigma_a = finite(inputs.lattice_sigma_a, Quantity::Length)?;
+    range(sigma_a, cell.a_a, Quantity::Length)?;
+    let face = Face::new(cell, miller)?;
+    let mut one = [Solution::EMPTY; 1];
+    goniometer::aim(
+        rig, &face, rod, energy_ev, tilt_deg, mode, current, &mut one,
+    )?;
+    let [solution] = one;
+    let target = |s: &Solution| s.arm.angle_deg + s.arm.residual_deg;
+    let open = rig.geometry_only(matches!(mode, Mode::AtAzimuth(_)));
+    let from = solution.position();
+    let arm_at = |face: &Face, e: f32| -> Result<f32> {
+        let mut one = [Solution::EMPTY; 1];
+        goniometer::aim(&open, face, rod, e, tilt_deg, mode, &from, &mut one)?;
+        one.first().map(target).ok_or(Error::NoReachableSolution)
+    };
+    let mut de = (0.005 * energy_ev).max(0.05);
+    let d_energy = loop {
+        match sensitivity(|x| arm_at(&face, x), energy_ev, de) {
+            Ok(s) => break s,
+            Err(_) if de > 1e-3 => de *= 0.1,
+            Err(_) => return Err(Error::Evanescent),
+        }
+    };
+    let a0 = cell.a_a;
+    let d_lattice = sensitivity(
+        |x| {
+            let cell_x = Cell::new(cell.structure, x, cell.b_a, cell.c_a)?;
+            arm_at(&Face::new(&cell_x, miller)?, energy_ev)
+        },
+        a0,
+        1e-3 * a0,
+    )?;
+    let budget = Budget {
+        energy_spread_deg: propagate(d_energy, spread),
+        lattice_constant_deg: propagate(d_lattice, sigma_a),
+        step_quantisation_deg: quantisation_deg(rig.arm.steps_per_deg)?,
+        detector_acceptance_deg: acceptance_deg(rig.acceptance_deg)?,
+        arm_zero_deg: zero,
+    };
+    Ok(ArmBudget {
+        solution,
+        arm_deg: target(&solution),
+        d_arm_d_energy_deg_per_ev: d_energy,
+        d_arm_d_lattice_deg_per_a: d_lattice,
+        budget,
+    })
+}
+
+/// `Ok` when 0 ≤ x ≤ max.
+fn range(x: f32, max: f32, q: Quantity) -> Result<()> {
+    if x < 0.0 {
+        Err(Error::TooLow(q))
+    } else if x > max {
+        Err(Error::TooHigh(q))
+    } else {
+        Ok(())
+    }
 }
 
 #[cfg(test)]

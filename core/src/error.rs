@@ -32,6 +32,10 @@ pub enum Quantity {
     Index,
     /// A count, step or size parameter.
     Count,
+    /// One standard deviation of the beam energy (eV).
+    EnergySpread,
+    /// One standard deviation of the arm zero (degrees).
+    ArmZeroSigma,
 }
 
 impl Quantity {
@@ -49,6 +53,8 @@ impl Quantity {
             Quantity::Length => "length",
             Quantity::Index => "index",
             Quantity::Count => "count",
+            Quantity::EnergySpread => "energy spread (eV, one standard deviation)",
+            Quantity::ArmZeroSigma => "arm-zero uncertainty (deg, one standard deviation)",
         }
     }
 }
@@ -251,6 +257,8 @@ impl Error {
                 Quantity::Wavelength => "wavelength must be positive (Å)",
                 Quantity::Length => "length must be positive",
                 Quantity::Count => "count or step must be positive",
+                Quantity::EnergySpread => "energy spread negative; accepted 0 to 100 eV",
+                Quantity::ArmZeroSigma => "arm-zero uncertainty negative; accepted 0 to 10 deg",
                 _ => "value below the accepted range",
             },
             Error::TooHigh(q) => match q {
@@ -261,6 +269,8 @@ impl Error {
                 Quantity::Tilt => "tilt beyond ±89.9 deg",
                 Quantity::Wavelength => "wavelength too long: energy would be below 1 eV",
                 Quantity::Count => "too many points or steps",
+                Quantity::EnergySpread => "energy spread above 100 eV; accepted 0 to 100 eV",
+                Quantity::ArmZeroSigma => "arm-zero uncertainty above 10 deg; accepted 0 to 10 deg",
                 _ => "value above the accepted range",
             },
             Error::KineticEnergyTooLow => {

@@ -127,6 +127,40 @@ impl Rig {
         Ok(())
     }
 
+    /// The same rig with geometry only: limits opened to ±720° on non-wrapping axes, no
+    /// zones, no backlash, and — when `need_elevation` — an elevation axis (1000
+    /// steps/deg) if the rig has none. Its [`aim`] solutions are the geometric poses,
+    /// near a given position; for models and sensitivities, never for motion.
+    pub fn geometry_only(&self, need_elevation: bool) -> Rig {
+        let open = |ax: &AxisConfig| {
+            let mut a = *ax;
+            a.zones = [None; crate::axis::MAX_ZONES];
+            a.backlash_deg = 0.0;
+            if !a.wrap {
+                a.min_deg = -720.0;
+                a.max_deg = 720.0;
+            }
+            a
+        };
+        let elevation = match &self.elevation {
+            Some(e) => Some(open(e)),
+            None if need_elevation => {
+                let mut e = AxisConfig::new(AxisId::Elevation, 1000.0);
+                e.min_deg = -720.0;
+                e.max_deg = 720.0;
+                Some(e)
+            }
+            None => None,
+        };
+        Rig {
+            arm: open(&self.arm),
+            elevation,
+            tilt: open(&self.tilt),
+            azimuth: open(&self.azimuth),
+            acceptance_deg: self.acceptance_deg,
+        }
+    }
+
     /// Angles of a position, degrees: (arm, elevation, tilt, azimuth).
     pub fn angles(&self, p: &Position) -> [f32; 4] {
         [

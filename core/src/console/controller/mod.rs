@@ -22,6 +22,7 @@
 //! | `axes.rs` | `axis` and `zone`: the rig as the controller holds it |
 //! | `plan.rs` | `aim` and `plan`: solutions and scan plans |
 //! | `fit.rs` | `pt` and `fit` |
+//! | `budget.rs` | `budget`: the angular error budget of the aimed beam |
 //! | `stream.rs` | the running stream and its items (help, lists, solutions, plan points) |
 //! | `dump.rs` | `dump`: the settings as requests that replay them |
 //!
@@ -29,6 +30,7 @@
 
 mod args;
 mod axes;
+mod budget;
 mod dump;
 mod fit;
 mod motion;
@@ -66,7 +68,7 @@ type Rw<'w, W> = ReplyWriter<'w, W, MAX_REPLY>;
 
 /// Commands with their one-line usage, as `help` lists them (`set` and `get` append
 /// the key names of [`SETTING_KEYS`]).
-pub const COMMANDS: [(&str, &str); 22] = [
+pub const COMMANDS: [(&str, &str); 23] = [
     ("hello", "identify: name, version, protocol"),
     ("help", "this list"),
     ("status", "enabled, interlock, motion, stream"),
@@ -101,6 +103,10 @@ pub const COMMANDS: [(&str, &str); 22] = [
     ),
     ("pt", "pt x= y= [n=] | pt clear: points for fit"),
     ("fit", "fit kind=peak|centroid|armzero|rows|iv [threshold=]"),
+    (
+        "budget",
+        "budget [energy_spread=EV] [arm_zero_sigma=DEG]: angular error budget of the aimed beam",
+    ),
     ("read", "read the detector"),
     ("dump", "settings as commands that replay them"),
     ("reset", "factory settings, motion disabled"),
@@ -348,6 +354,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             "plan" => self.cmd_plan(a),
             "pt" => self.cmd_pt(a, rw),
             "fit" => self.cmd_fit(a, rw),
+            "budget" => self.cmd_budget(a),
             "read" => {
                 none(a)?;
                 self.cmd_read(rw)

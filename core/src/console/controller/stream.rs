@@ -7,6 +7,7 @@ use super::args::miller_text;
 use super::plan::PlanRun;
 use super::settings::{Settings, SETTING_KEYS};
 use super::{Console, Rw, COMMANDS, MAX_SOLUTIONS};
+use crate::budget::ArmBudget;
 use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::error::Result;
 use crate::goniometer::Solution;
@@ -31,6 +32,7 @@ pub(super) enum Stream {
     Beams(BeamIter, u32),
     Aim(u8),
     Plan(PlanRun),
+    Budget(ArmBudget, u8),
     Dump(u8),
 }
 
@@ -151,6 +153,7 @@ impl Stream {
                 }
             }
             Stream::Plan(run) => run.step(&ctx.settings.rig, rw),
+            Stream::Budget(b, i) => super::budget::budget_step(b, i, rw),
             Stream::Dump(i) => loop {
                 match ctx.settings.dump_line(*i, rw) {
                     super::dump::Dump::Line => {
