@@ -12,7 +12,7 @@
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 
-use matterwave_core::axis::{AxisConfig, MAX_ZONES, STEPS_MAX};
+use matterwave_core::axis::{AxisConfig, STEPS_MAX};
 use matterwave_core::beam::{self, Gun};
 use matterwave_core::goniometer::{self, axis_index, InView, Mode, Position, Rig, Solution};
 use matterwave_core::lattice::Cell;
@@ -545,38 +545,6 @@ pub fn axis_reason(rig: &Rig, e: Error) -> String {
     }
 }
 
-/// The rig with limits opened to ±720°, no zones and no backlash, and an elevation axis
-/// when two-circle mode needs one: its solutions are the geometric poses.
-fn relaxed(rig: &Rig, need_elevation: bool) -> Rig {
-    let open = |ax: &AxisConfig| {
-        let mut a = *ax;
-        a.zones = [None; MAX_ZONES];
-        a.backlash_deg = 0.0;
-        if !a.wrap {
-            a.min_deg = -720.0;
-            a.max_deg = 720.0;
-        }
-        a
-    };
-    let elevation = match &rig.elevation {
-        Some(e) => Some(open(e)),
-        None if need_elevation => {
-            let mut e = AxisConfig::new(AxisId::Elevation, 1000.0);
-            e.min_deg = -720.0;
-            e.max_deg = 720.0;
-            Some(e)
-        }
-        None => None,
-    };
-    Rig {
-        arm: open(&rig.arm),
-        elevation,
-        tilt: open(&rig.tilt),
-        azimuth: open(&rig.azimuth),
-        acceptance_deg: rig.acceptance_deg,
-    }
-}
-
 fn target_deg(sp: &matterwave_core::axis::Setpoint) -> f32 {
     sp.angle_deg + sp.residual_deg
 }
@@ -639,7 +607,7 @@ impl AimQuery<'_> {
     /// each, the first axis error that refuses it on the real rig (`None`: reachable).
     fn poses(&self, energy: f32) -> Vec<Pose> {
         let need_elev = matches!(self.mode, Mode::AtAzimuth(_));
-        let open = relaxed(self.rig, need_elev);
+        let open = self.rig.geometry_only(need_elev);
         let mut buf = [Solution::EMPTY; MAX_SOLUTIONS];
         let q = AimQuery {
             rig: &open,
