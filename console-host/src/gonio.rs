@@ -469,22 +469,19 @@ pub fn parse_position(text: Option<&str>, rig: &Rig) -> CliResult<Position> {
             }
             continue;
         };
-        if !ax.wrap && (x < ax.min_deg || x > ax.max_deg) {
-            return Err(bad(format!(
+        let s = ax.position_steps(x).map_err(|e| match e {
+            Error::StepOverflow(_) => bad(format!(
+                "{} {x} deg needs more than ±{STEPS_MAX} microsteps from home",
+                id.name()
+            )),
+            _ => bad(format!(
                 "{} {x} deg lies outside its limits [{}, {}] deg",
                 id.name(),
                 ax.min_deg,
                 ax.max_deg
-            )));
-        }
-        let s = ((x - ax.home_offset_deg) as f64 * ax.steps_per_deg as f64).round();
-        if s.abs() > STEPS_MAX as f64 {
-            return Err(bad(format!(
-                "{} {x} deg needs more than ±{STEPS_MAX} microsteps from home",
-                id.name()
-            )));
-        }
-        pos[axis_index(id)] = s as i32;
+            )),
+        })?;
+        pos[axis_index(id)] = s;
     }
     Ok(pos)
 }

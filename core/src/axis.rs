@@ -208,6 +208,23 @@ impl AxisConfig {
         self.home_offset_deg + steps as f32 / self.steps_per_deg
     }
 
+    /// The step count of a position given as an angle (e.g. where an axis is known to
+    /// stand): within the limits unless the axis wraps (zones are not checked: an axis
+    /// may stand in one), then [`AxisConfig::steps_for_deg`]. Errors: `NotFinite`,
+    /// `BelowLimit`, `AboveLimit`, `StepOverflow`.
+    pub fn position_steps(&self, angle_deg: f32) -> Result<i32> {
+        if !angle_deg.is_finite() {
+            return Err(Error::NotFinite(Quantity::Angle));
+        }
+        if !self.wrap && angle_deg < self.min_deg {
+            return Err(Error::BelowLimit(self.id));
+        }
+        if !self.wrap && angle_deg > self.max_deg {
+            return Err(Error::AboveLimit(self.id));
+        }
+        self.steps_for_deg(angle_deg)
+    }
+
     /// Whether an angle is allowed as a resting position: within limits (unless wrap)
     /// and outside every zone. Returns the error naming the limit or zone.
     pub fn check_angle(&self, angle_deg: f32) -> Result<()> {
@@ -262,7 +279,10 @@ impl AxisConfig {
         Ok(())
     }
 
-    fn steps_for(&self, angle_deg: f32) -> Result<i32> {
+    /// The step count (from home) nearest `angle_deg`, in f32 like every setpoint — the
+    /// one angle → steps conversion. Errors: `StepOverflow` beyond ±[`STEPS_MAX`] or for
+    /// a non-finite angle.
+    pub fn steps_for_deg(&self, angle_deg: f32) -> Result<i32> {
         let x = (angle_deg - self.home_offset_deg) * self.steps_per_deg;
         if !x.is_finite() || math::round(x).abs() > STEPS_MAX as f32 {
             return Err(Error::StepOverflow(self.id));
@@ -321,7 +341,7 @@ impl AxisConfig {
             return Err(Error::StepOverflow(self.id));
         }
         self.check_angle(target)?;
-        let s0 = self.steps_for(target)?;
+        let s0 = self.steps_for_deg(target)?;
         // When rounding lands on a forbidden step, try the nearer neighbour first.
         let exact = (target - self.home_offset_deg) * self.steps_per_deg;
         let up = exact >= s0 as f32;
@@ -432,6 +452,37 @@ impl AxisConfig {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// Angle → steps against the f64 definition round((x − home)·steps/deg), with the
+    /// limits checked (zones not: an axis may stand in one).
+    #[test]
+    fn position_steps_matches_the_f64_definition() {
+        let mut a = AxisConfig::new(AxisId::Arm, 888.888_9);
+        a.home_offset_deg = -0.35;
+        a.min_deg = -170.0;
+        a.max_deg = 170.0;
+        for x in [-170.0f32, -12.5, -0.35, 0.0, 0.001, 40.0, 123.456, 170.0] {
+            let want = ((x as f64 - a.home_offset_deg as f64) * a.steps_per_deg as f64).round();
+            assert_eq!(a.position_steps(x), Ok(want as i32), "{x}");
+        }
+        assert_eq!(
+            a.position_steps(170.01),
+            Err(Error::AboveLimit(AxisId::Arm))
+        );
+        assert_eq!(
+            a.position_steps(-171.0),
+            Err(Error::BelowLimit(AxisId::Arm))
+        );
+        assert_eq!(
+            a.position_steps(f32::NAN),
+            Err(Error::NotFinite(Quantity::Angle))
+        );
+        a.steps_per_deg = 1.0e6;
+        assert_eq!(
+            a.position_steps(100.0),
+            Err(Error::StepOverflow(AxisId::Arm))
+        );
+    }
 
     fn arm() -> AxisConfig {
         let mut a = AxisConfig::new(AxisId::Arm, 100.0);
