@@ -166,6 +166,9 @@ struct Lsq<const N: usize> {
     rows: usize,
 }
 
+// Every index below is a loop variable over 0..N (or 0..=k with k < N) into arrays of
+// length N, so none can go out of bounds.
+#[allow(clippy::indexing_slicing)]
 impl<const N: usize> Lsq<N> {
     fn new() -> Self {
         Lsq {

@@ -158,10 +158,9 @@ pub fn families(cell: &Cell, d_min_a: f32, out: &mut [Reflection]) -> Result<Lis
     let mut s = 1i32;
     loop {
         // Every (hkl) with d ≥ d_cut has max |index| ≤ longest / d_cut.
-        let d_cut = if stored == out.len() {
-            out[stored - 1].d_a.max(d_min)
-        } else {
-            d_min
+        let d_cut = match out.last().filter(|_| stored == out.len()) {
+            Some(last) => last.d_a.max(d_min),
+            None => d_min,
         };
         if s as f32 > longest / d_cut || s > 4096 {
             break;

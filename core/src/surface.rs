@@ -292,16 +292,16 @@ impl Face {
         // Two independent in-plane lattice vectors bound the mesh search.
         let cands = [[m[1], -m[0], 0], [m[2], 0, -m[0]], [0, m[2], -m[1]]];
         let mut lens = [f32::INFINITY; 3];
-        for (i, c) in cands.iter().enumerate() {
+        for (len, c) in lens.iter_mut().zip(cands.iter()) {
             if *c != [0, 0, 0] {
-                lens[i] = math::norm(cell.point([c[0] as f32, c[1] as f32, c[2] as f32]));
+                *len = math::norm(cell.point([c[0] as f32, c[1] as f32, c[2] as f32]));
             }
         }
         let mut bound = 0.0f32;
-        for i in 0..3 {
-            for j in (i + 1)..3 {
-                if icross(cands[i], cands[j]) != [0, 0, 0] {
-                    let l = lens[i].max(lens[j]);
+        for (i, (ci, li)) in cands.iter().zip(lens).enumerate() {
+            for (cj, lj) in cands.iter().zip(lens).skip(i + 1) {
+                if icross(*ci, *cj) != [0, 0, 0] {
+                    let l = li.max(lj);
                     if bound == 0.0 || l < bound {
                         bound = l;
                     }
@@ -313,8 +313,8 @@ impl Face {
         }
         let reach = bound + 1.0 / math::norm(g_hkl);
         let mut n = [0i32; 3];
-        for (i, ni) in n.iter_mut().enumerate() {
-            *ni = (2.0 * reach * math::norm(cell.reciprocal_inv_a[i])) as i32 + 1;
+        for (ni, r) in n.iter_mut().zip(cell.reciprocal_inv_a.iter()) {
+            *ni = (2.0 * reach * math::norm(*r)) as i32 + 1;
         }
 
         // First pass: shortest in-plane vector, and the smallest positive height.
@@ -392,9 +392,9 @@ impl Face {
         let b = reciprocal([a1, a2, a3]);
         let layer_spacing_a = math::dot(a3, normal);
         let mut to_conventional = [[0i32; 3]; 3];
-        for (i, row) in to_conventional.iter_mut().enumerate() {
-            for (j, x) in row.iter_mut().enumerate() {
-                *x = math::round(math::dot(b[j], cell.vectors_a[i])) as i32;
+        for (row, v) in to_conventional.iter_mut().zip(cell.vectors_a.iter()) {
+            for (x, bj) in row.iter_mut().zip(b.iter()) {
+                *x = math::round(math::dot(*bj, *v)) as i32;
             }
         }
         Ok(Face {
@@ -667,11 +667,11 @@ impl Face {
             if !(e >= lo && e <= hi) {
                 continue;
             }
-            if stored == out.len() {
+            let Some(slot) = out.get_mut(stored) else {
                 truncated = true;
                 break;
-            }
-            out[stored] = IvPeak {
+            };
+            *slot = IvPeak {
                 energy_ev: e,
                 order: m - 1,
                 g_hkl: hkl,
@@ -686,8 +686,8 @@ impl Face {
     pub fn conventional(&self, hkm: [i32; 3]) -> [i32; 3] {
         let c = &self.to_conventional;
         let mut r = [0i32; 3];
-        for (i, ri) in r.iter_mut().enumerate() {
-            *ri = c[i][0] * hkm[0] + c[i][1] * hkm[1] + c[i][2] * hkm[2];
+        for (ri, ci) in r.iter_mut().zip(c.iter()) {
+            *ri = ci[0] * hkm[0] + ci[1] * hkm[1] + ci[2] * hkm[2];
         }
         r
     }
