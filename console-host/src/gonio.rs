@@ -1315,27 +1315,6 @@ fn csv_i32(path: &Path, row: &CsvRow, i: usize, column: &str) -> CliResult<i32> 
     })
 }
 
-/// True arm angle (degrees) of rod `rod` in-plane on branch `s` at kinetic energy `e`:
-/// δ = α + asin(sin α + s·λ(E)·|g|), the relation `aim` uses (DESIGN §7).
-pub fn in_plane_arm_deg(
-    face: &Face,
-    rod: [i32; 2],
-    tilt_deg: f32,
-    s: f32,
-    e: f32,
-) -> matterwave_core::Result<f32> {
-    let lambda = beam::wavelength_a(e)?;
-    let g = face.rod_inv_a(rod);
-    let g_len = math::sqrt(g[0] * g[0] + g[1] * g[1]);
-    let sin_out = math::sin(math::rad(tilt_deg)) + s * lambda * g_len;
-    if sin_out.abs() > 1.0 {
-        return Err(Error::Evanescent);
-    }
-    Ok(goniometer::wrap_180(
-        tilt_deg + math::deg(math::asin(sin_out)),
-    ))
-}
-
 /// `mwctl calc fit`.
 pub fn fit_cmd(a: &FitArgs) -> CliResult<Report> {
     let cols = a.kind.columns();
@@ -1517,32 +1496,18 @@ fn fit_arm_zero(a: &FitArgs, rows: &[CsvRow], ctx: &str, r: &mut Report) -> CliR
     for row in rows {
         pts.push((csv_f32(p, row, 0, cols[0])?, csv_f32(p, row, 1, cols[1])?));
     }
-    // Branch: the one whose angles (without offsets) lie nearest the measured ones.
-    let mut best: Option<(f32, f32)> = None;
-    for s in [1.0f32, -1.0] {
-        let mut sum = 0.0f32;
-        for &(e, arm) in &pts {
-            match in_plane_arm_deg(&face, rod, tilt, s, e + wf) {
-                Ok(m) => sum += (goniometer::wrap_180(arm - m)).abs(),
-                Err(_) => sum = f32::INFINITY,
-            }
-        }
-        if best.is_none_or(|(_, b)| sum < b) {
-            best = Some((s, sum));
-        }
-    }
-    let s = best.map_or(1.0, |b| b.0);
-    let model = |e: f32| in_plane_arm_deg(&face, rod, tilt, s, e + wf);
-    let fit = fit::arm_zero_and_energy_offset(model, &pts).map_err(|e| match e {
+    let model_fit = fit::arm_zero_in_plane(&face, rod, tilt, wf, &pts).map_err(|e| match e {
         Error::Evanescent => CliError {
             code: Some(e.code()),
             message: format!(
-                "{ctx}: the beam {} is evanescent at some of the energies on branch {s:+}; check --crystal, --face, --beam and --tilt",
+                "{ctx}: the beam {} is evanescent at some of the energies; check --crystal, --face, --beam and --tilt",
                 rod_text(rod)
             ),
         },
         other => CliError::core(other, ctx),
     })?;
+    let (fit, s) = (model_fit.fit, f32::from(model_fit.branch));
+    let model = |e: f32| goniometer::in_plane_arm_deg(&face, rod, tilt, model_fit.branch, e + wf);
     let [zero, offset] = fit.params;
     crystal_face_fields(r, c, &face);
     r.field("beam", "beam", text(rod_text(rod)));

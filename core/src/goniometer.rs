@@ -275,6 +275,28 @@ pub fn beam_direction_lab(b: &SurfaceBeam, inc: &Incidence) -> Vec3 {
     )
 }
 
+/// The in-plane arm angle δ = α + θ_out, degrees in (−180°, 180°], of rod `rod` of
+/// `face` at tilt `tilt_deg` and kinetic energy `energy_ev` at the sample, on `branch`
+/// (+1: g along +e1, −1: along −e1): sin θ_out = sin α + branch·λ·|g|. The model of the
+/// arm-zero fit. Errors: those of [`beam::wavelength_a`]; `Evanescent` when
+/// |sin θ_out| > 1.
+pub fn in_plane_arm_deg(
+    face: &Face,
+    rod: [i32; 2],
+    tilt_deg: f32,
+    branch: i8,
+    energy_ev: f32,
+) -> Result<f32> {
+    let lambda = beam::wavelength_a(energy_ev)?;
+    let g = face.rod_inv_a(rod);
+    let g_len = math::sqrt(g[0] * g[0] + g[1] * g[1]);
+    let sin_out = math::sin(math::rad(tilt_deg)) + f32::from(branch) * lambda * g_len;
+    if sin_out.abs() > 1.0 {
+        return Err(Error::Evanescent);
+    }
+    Ok(wrap_180(tilt_deg + math::deg(math::asin(sin_out))))
+}
+
 /// Reduces an angle to (−180, 180].
 pub fn wrap_180(x: f32) -> f32 {
     let r = x - 360.0 * math::floor((x + 180.0) / 360.0);

@@ -4,13 +4,10 @@ use embedded_io::Write;
 
 use super::args::{opt_num, parse_int, req_num, tok_err};
 use super::{Console, Point, Rw, Stream, MAX_POINTS};
-use crate::axis::MAX_ZONES;
-use crate::beam::Gun;
 use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::console::wire::token::Args;
 use crate::error::{Error, Result};
 use crate::fit::{self, Sample};
-use crate::goniometer::{self, Mode, Solution};
 
 impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
     pub(super) fn cmd_pt<W: Write>(
@@ -81,50 +78,24 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 for (d, p) in xy.iter_mut().zip(pts) {
                     *d = (p.x, p.y);
                 }
-                let first_arm = pts.first().map_or(0.0, |p| p.y);
-                let gun = s.gun;
-                // True arm angle of the current beam at a nominal energy + offset: the
-                // in-plane solution nearest the first measured angle.
-                let model = |nominal: f32| -> Result<f32> {
-                    let e = Gun {
-                        nominal_ev: nominal,
-                        offset_ev: 0.0,
-                        ..gun
-                    }
-                    .kinetic_energy_ev()?;
-                    let mut out = [Solution::EMPTY; 4];
-                    let mut free = s.rig;
-                    free.arm.zones = [None; MAX_ZONES];
-                    free.arm.min_deg = -180.0;
-                    free.arm.max_deg = 180.0;
-                    let n = goniometer::aim(
-                        &free,
-                        &s.face,
-                        s.beam,
-                        e,
-                        s.tilt_deg,
-                        Mode::InPlane,
-                        &[0; 4],
-                        &mut out,
-                    )?
-                    .stored;
-                    let found = out.get(..n).unwrap_or(&[]);
-                    let mut best = found.first().map_or(0.0, |o| o.arm.angle_deg);
-                    for o in found {
-                        if (o.arm.angle_deg - first_arm).abs() < (best - first_arm).abs() {
-                            best = o.arm.angle_deg;
-                        }
-                    }
-                    Ok(best)
-                };
-                let f = fit::arm_zero_and_energy_offset(model, xy.get(..pts.len()).unwrap_or(&[]))?;
+                // The same model as `mwctl calc fit arm-zero`: in-plane arm angle of the
+                // current beam, contact potential from the gun's work functions.
+                let contact = s.gun.cathode_work_function_ev - s.gun.sample_work_function_ev;
+                let f = fit::arm_zero_in_plane(
+                    &s.face,
+                    s.beam,
+                    s.tilt_deg,
+                    contact,
+                    xy.get(..pts.len()).unwrap_or(&[]),
+                )?;
                 rw.ok()
-                    .field_f32_rt("arm_zero", f.params[0])
-                    .field_f32_rt("arm_zero_sigma", f.sigma[0])
-                    .field_f32_rt("offset", f.params[1])
-                    .field_f32_rt("offset_sigma", f.sigma[1])
-                    .field_f32_rt("rms", f.rms_residual)
-                    .field_i32("used", f.points as i32);
+                    .field_f32_rt("arm_zero", f.fit.params[0])
+                    .field_f32_rt("arm_zero_sigma", f.fit.sigma[0])
+                    .field_f32_rt("offset", f.fit.params[1])
+                    .field_f32_rt("offset_sigma", f.fit.sigma[1])
+                    .field_f32_rt("rms", f.fit.rms_residual)
+                    .field_i32("used", f.fit.points as i32)
+                    .field_i32("branch", f.branch as i32);
             }
             "rows" => {
                 if threshold.is_some() {

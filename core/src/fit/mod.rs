@@ -39,6 +39,9 @@
 //! assert!((c.fwhm_deg - 2.3548 * 0.4).abs() < 2e-3);
 //! ```
 
+mod in_plane;
+pub use in_plane::{arm_zero_in_plane, InPlaneArmFit};
+
 use crate::beam;
 use crate::constants::{HC_EV_A, ME_C2_EV, TWO_ME_C2_EV};
 use crate::error::{finite, Error, Quantity, Result};
@@ -308,22 +311,49 @@ where
 {
     let mut p = start;
     let floor = 16.0 * f32::EPSILON * y_norm;
+    // Sum of squared residuals at `q`, or None where the model cannot be evaluated.
+    let ssr = |q: [f32; 2]| -> Option<f32> {
+        let mut sum = 0.0f32;
+        for i in 0..n {
+            let (_, r) = row(i, q).ok()?;
+            sum += r * r;
+        }
+        sum.is_finite().then_some(sum)
+    };
     for it in 1..=max_iterations {
         let mut lsq = Lsq::<2>::new();
+        let mut here = 0.0f32;
         for i in 0..n {
             let (j, r) = row(i, p)?;
             if !(r.is_finite() && j[0].is_finite() && j[1].is_finite()) {
                 return Err(Error::NoConvergence);
             }
             lsq.add(j, r);
+            here += r * r;
         }
         let step = lsq.solve()?;
-        p = [p[0] + step[0], p[1] + step[1]];
-        if !(p[0].is_finite() && p[1].is_finite()) {
-            return Err(Error::NoConvergence);
-        }
         if lsq.z_norm() <= 1e-3 * math::sqrt(lsq.rss) + floor {
-            return Ok((p, lsq, it));
+            return Ok(([p[0] + step[0], p[1] + step[1]], lsq, it));
+        }
+        // Damped step: halve it (at most 12 times) until the model can be evaluated
+        // everywhere and the residuals do not grow, so a far-off start near a beam's
+        // emergence (where the model is steep and ends) cannot throw the fit away.
+        // The σ then come from the Jacobian at the accepted point.
+        let mut t = 1.0f32;
+        let mut next = None;
+        for _ in 0..12 {
+            let q = [p[0] + t * step[0], p[1] + t * step[1]];
+            if q[0].is_finite() && q[1].is_finite() && ssr(q).is_some_and(|v| v <= here) {
+                next = Some(q);
+                break;
+            }
+            t *= 0.5;
+        }
+        match next {
+            Some(q) => p = q,
+            // No shorter step lowers the residuals either: `p` is the minimum to f32
+            // precision (the step is rounding noise).
+            None => return Ok((p, lsq, it)),
         }
     }
     Err(Error::NoConvergence)
