@@ -45,7 +45,7 @@ use std::fmt;
 use std::fmt::Write as _;
 use std::path::Path;
 
-use matterwave_core::axis::{Approach, AxisConfig, Zone, MAX_ZONES, STEPS_MAX};
+use matterwave_core::axis::{keys, Approach, AxisConfig, Zone, MAX_ZONES, STEPS_MAX};
 use matterwave_core::goniometer::Rig;
 use matterwave_core::{AxisId, Error};
 use toml::{Table, Value};
@@ -65,16 +65,16 @@ const AXIS_FIELDS: &[&str] = &[
     "full_steps",
     "microsteps",
     "gear",
-    "steps_per_deg",
-    "home_offset_deg",
-    "min_deg",
-    "max_deg",
+    keys::STEPS_PER_DEG,
+    keys::HOME_OFFSET_DEG,
+    keys::MIN_DEG,
+    keys::MAX_DEG,
     "zones",
-    "backlash_deg",
-    "approach",
-    "wrap",
-    "max_speed_deg_s",
-    "accel_deg_s2",
+    keys::BACKLASH_DEG,
+    keys::APPROACH,
+    keys::WRAP,
+    keys::MAX_SPEED_DEG_S,
+    keys::ACCEL_DEG_S2,
 ];
 
 /// Accepted full steps per motor revolution, inclusive.
@@ -539,19 +539,22 @@ fn parse_axis(file: &str, id: AxisId, t: &Table) -> Result<AxisConfig, RigError>
     ax.backlash_deg = ctx
         .ranged(t, "backlash_deg", "degrees", BACKLASH_RANGE_DEG, false)?
         .unwrap_or(0.0) as f32;
-    ax.approach = match t.get("approach") {
+    ax.approach = match t.get(keys::APPROACH) {
         None => Approach::FromBelow,
-        Some(Value::String(s)) if s == "from-below" => Approach::FromBelow,
-        Some(Value::String(s)) if s == "from-above" => Approach::FromAbove,
-        Some(other) => {
-            return Err(ctx.field_err(
-                "approach",
-                format!(
-                    "must be \"from-below\" or \"from-above\", got {}",
-                    describe(other)
-                ),
-            ))
-        }
+        Some(v) => match v.as_str().and_then(Approach::from_word) {
+            Some(a) => a,
+            None => {
+                return Err(ctx.field_err(
+                    keys::APPROACH,
+                    format!(
+                        "must be \"{}\" or \"{}\", got {}",
+                        Approach::FromBelow.word(),
+                        Approach::FromAbove.word(),
+                        describe(v)
+                    ),
+                ))
+            }
+        },
     };
     if let Some(v) = ctx.ranged(
         t,
@@ -686,12 +689,9 @@ fn one_line(s: &str) -> String {
     s.split_whitespace().collect::<Vec<_>>().join(" ")
 }
 
-/// The word of an approach direction in rig files.
+/// The word of an approach direction in rig files (the core's one vocabulary).
 pub fn approach_word(a: Approach) -> &'static str {
-    match a {
-        Approach::FromBelow => "from-below",
-        Approach::FromAbove => "from-above",
-    }
+    a.word()
 }
 
 /// Zones as `[[from, to], ...]` (TOML syntax), degrees.

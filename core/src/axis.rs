@@ -92,6 +92,46 @@ pub enum Approach {
     FromAbove,
 }
 
+impl Approach {
+    /// The word rig files and the console use: `from-below` or `from-above`.
+    pub const fn word(self) -> &'static str {
+        match self {
+            Approach::FromBelow => "from-below",
+            Approach::FromAbove => "from-above",
+        }
+    }
+
+    /// The approach a word names ([`Approach::word`]), if any.
+    pub fn from_word(word: &str) -> Option<Approach> {
+        [Approach::FromBelow, Approach::FromAbove]
+            .into_iter()
+            .find(|a| a.word() == word)
+    }
+}
+
+/// The names of an axis's settings, one vocabulary for rig files (`[arm]` tables) and
+/// the console's `axis` request.
+pub mod keys {
+    /// Microsteps per degree.
+    pub const STEPS_PER_DEG: &str = "steps_per_deg";
+    /// Angle at step count 0, degrees.
+    pub const HOME_OFFSET_DEG: &str = "home_offset_deg";
+    /// Lower soft limit, degrees.
+    pub const MIN_DEG: &str = "min_deg";
+    /// Upper soft limit, degrees.
+    pub const MAX_DEG: &str = "max_deg";
+    /// Backlash take-up, degrees.
+    pub const BACKLASH_DEG: &str = "backlash_deg";
+    /// Final approach direction ([`super::Approach::word`]).
+    pub const APPROACH: &str = "approach";
+    /// Whether the axis turns without end.
+    pub const WRAP: &str = "wrap";
+    /// Top speed, degrees per second.
+    pub const MAX_SPEED_DEG_S: &str = "max_speed_deg_s";
+    /// Acceleration, degrees per second squared.
+    pub const ACCEL_DEG_S2: &str = "accel_deg_s2";
+}
+
 /// Configuration of one motor axis.
 #[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]

@@ -119,7 +119,7 @@ const CATALOGUE: &[Case] = &[
     case("DESIGN §10: dwell beyond an hour (406)", &[], b"plan kind=sweep from=20 to=30 step=5 dwell=5000\n", &[406]),
     case("DESIGN §10: unknown words: approach=sideways (407)", &[], b"axis name=arm approach=sideways\n", &[407]),
     case("DESIGN §10: unknown words: beam=1 is not h,k (407)", &[], b"set beam=1\n", &[407]),
-    case("DESIGN §10: unknown words: axis name=gun (407)", &[], b"axis name=gun spd=100\n", &[407]),
+    case("DESIGN §10: unknown words: axis name=gun (407)", &[], b"axis name=gun steps_per_deg=100\n", &[407]),
     case("DESIGN §10: unknown words: fit kind=foo (407)", &[], b"fit kind=foo\n", &[407]),
     case("DESIGN §10: unknown words: plan kind=bar (407)", &[], b"plan kind=bar from=1 to=2 step=1\n", &[407]),
     case("DESIGN §10: unknown words: wrap=maybe (407)", &[], b"axis name=azimuth wrap=maybe\n", &[407]),
@@ -169,14 +169,14 @@ const CATALOGUE: &[Case] = &[
     case("DESIGN §8: a move is all or nothing: a good arm target with a bad tilt moves nothing (302)",
         &["enable"], b"move arm=40 tilt=85\n", &[302]),
     case("DESIGN §8: a one-circle arm has no elevation axis (307)", &["enable"], b"move elevation=10\n", &[307]),
-    case("DESIGN §8: configuring the unfitted elevation axis (307)", &[], b"axis name=elevation min=-10\n", &[307]),
+    case("DESIGN §8: configuring the unfitted elevation axis (307)", &[], b"axis name=elevation min_deg=-10\n", &[307]),
     case("DESIGN §8: with a zone set over the resting position, a move within it is refused (303)",
         &["enable", "move arm=40", "zone name=arm i=1 from=30 to=50"], b"move arm=45\n", &[303]),
-    case("DESIGN §8: bad axis config: steps per degree 0 (305)", &[], b"axis name=arm spd=0\n", &[305]),
-    case("DESIGN §8: bad axis config: min above max (305)", &[], b"axis name=arm min=10 max=5\n", &[305]),
-    case("DESIGN §8: bad axis config: backlash beyond 10 deg (305)", &[], b"axis name=tilt backlash=20\n", &[305]),
+    case("DESIGN §8: bad axis config: steps per degree 0 (305)", &[], b"axis name=arm steps_per_deg=0\n", &[305]),
+    case("DESIGN §8: bad axis config: min above max (305)", &[], b"axis name=arm min_deg=10 max_deg=5\n", &[305]),
+    case("DESIGN §8: bad axis config: backlash beyond 10 deg (305)", &[], b"axis name=tilt backlash_deg=20\n", &[305]),
     case("DESIGN §8: bad axis config: zone with from > to (305)", &[], b"zone name=arm i=1 from=30 to=20\n", &[305]),
-    case("DESIGN §8: bad axis config: negative speed (305)", &[], b"axis name=arm speed=-1\n", &[305]),
+    case("DESIGN §8: bad axis config: negative speed (305)", &[], b"axis name=arm max_speed_deg_s=-1\n", &[305]),
 ];
 
 /// Feeds `bytes` without polling; returns what was written.
@@ -487,9 +487,9 @@ fn dump_replays_as_commands_on_a_fresh_console() {
     let setups: [(&str, &[&str]); 5] = [
         ("factory settings", &[]),
         (
-            // Realistic values: the azimuth line grows to 123 bytes.
+            // Realistic values over three of the four dump lines of an axis.
             "azimuth home, backlash, speed and acceleration",
-            &["axis name=azimuth home=-123.45679 backlash=0.05 speed=20.5 accel=40.25"],
+            &["axis name=azimuth home_offset_deg=-123.45679 backlash_deg=0.05 max_speed_deg_s=20.5 accel_deg_s2=40.25"],
         ),
         (
             // A zone over the home position, set while the axis was elsewhere.
@@ -501,13 +501,15 @@ fn dump_replays_as_commands_on_a_fresh_console() {
             ],
         ),
         (
-            // Extreme but valid (AxisConfig::validate accepts it): the dump item needs
-            // more than the 256-byte reply line and comes out as `- skipped=too-long`.
+            // Extreme but valid (AxisConfig::validate accepts it): the longest numbers
+            // the formatter writes; every dump line still fits one request line.
             "extreme elevation axis",
             &[
                 "axis name=elevation fitted=1",
-                "axis name=elevation spd=0.000100002115 home=-0.000100002115 min=-0.000100002115 max=0.000100002115",
-                "axis name=elevation backlash=0.000100002115 speed=0.000100002115 accel=0.000100002115",
+                "axis name=elevation steps_per_deg=0.000100002115 home_offset_deg=-0.000100002115",
+                "axis name=elevation min_deg=-0.000100002115 max_deg=0.000100002115",
+                "axis name=elevation backlash_deg=0.000100002115 max_speed_deg_s=0.000100002115",
+                "axis name=elevation accel_deg_s2=0.000100002115",
             ],
         ),
         (
@@ -515,7 +517,7 @@ fn dump_replays_as_commands_on_a_fresh_console() {
             "ruthenium two-circle",
             &[
                 "set crystal=ru face=0,0,0,1 azimuth=30 beam=1,0 v0=12.5 energy=150",
-                "axis name=elevation fitted=1 min=-45 max=45",
+                "axis name=elevation fitted=1 min_deg=-45 max_deg=45",
                 "zone name=arm i=1 from=150 to=165",
             ],
         ),

@@ -76,3 +76,26 @@ fn crystal_change_takes_the_crystals_first_table_face() {
     assert_eq!(last(&r), "ok");
     assert_eq!(c.settings().face.miller, [1, 1, 1]);
 }
+
+/// The console's axis keys are the rig file's (docs/RIG.md): `spd=` — which reads as a
+/// speed — is refused and changes nothing; `steps_per_deg=` sets steps per degree.
+#[test]
+fn axis_keys_are_the_rig_file_keys() {
+    let mut c = console();
+    let before = c.settings().rig.arm;
+    let r = request(&mut c, "axis name=arm spd=15");
+    assert!(last(&r).starts_with("err 404"), "{r}");
+    assert_eq!(c.settings().rig.arm, before);
+    let r = request(
+        &mut c,
+        "axis name=arm steps_per_deg=1422.2222 approach=from-above",
+    );
+    assert!(
+        last(&r).starts_with("ok name=arm steps_per_deg=1422.2222 "),
+        "{r}"
+    );
+    assert!(last(&r).contains(" approach=from-above "), "{r}");
+    assert_eq!(c.settings().rig.arm.steps_per_deg, 1422.2222);
+    let r = request(&mut c, "axis name=arm approach=above");
+    assert!(last(&r).starts_with("err 407"), "{r}");
+}

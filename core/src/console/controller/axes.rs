@@ -4,7 +4,7 @@ use embedded_io::Write;
 
 use super::args::{axis_id, opt_num, parse_bool, parse_int, tok_err};
 use super::{Console, Rw, Stream};
-use crate::axis::{Approach, AxisConfig, Zone, MAX_ZONES};
+use crate::axis::{keys, Approach, AxisConfig, Zone, MAX_ZONES};
 use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::console::wire::token::Args;
 use crate::error::{AxisId, Error, Result};
@@ -53,33 +53,38 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             (_, Some(_)) => return Err(Error::BadValue),
             _ => axis_of(&rig, id).copied(),
         };
-        let fields = ["spd", "home", "min", "max", "backlash", "speed", "accel"];
+        let fields = [
+            keys::STEPS_PER_DEG,
+            keys::HOME_OFFSET_DEG,
+            keys::MIN_DEG,
+            keys::MAX_DEG,
+            keys::BACKLASH_DEG,
+            keys::MAX_SPEED_DEG_S,
+            keys::ACCEL_DEG_S2,
+        ];
         let mut changed = fitted.is_some();
-        for f in fields {
+        for (i, f) in fields.into_iter().enumerate() {
             if let Some(v) = opt_num(a, f)? {
                 let c = cfg.as_mut().ok_or(Error::NoSuchAxis(id))?;
-                match f {
-                    "spd" => c.steps_per_deg = v,
-                    "home" => c.home_offset_deg = v,
-                    "min" => c.min_deg = v,
-                    "max" => c.max_deg = v,
-                    "backlash" => c.backlash_deg = v,
-                    "speed" => c.max_speed_deg_s = v,
-                    _ => c.accel_deg_s2 = v,
-                }
+                let slot = match i {
+                    0 => &mut c.steps_per_deg,
+                    1 => &mut c.home_offset_deg,
+                    2 => &mut c.min_deg,
+                    3 => &mut c.max_deg,
+                    4 => &mut c.backlash_deg,
+                    5 => &mut c.max_speed_deg_s,
+                    _ => &mut c.accel_deg_s2,
+                };
+                *slot = v;
                 changed = true;
             }
         }
-        if let Some(v) = a.get("approach") {
+        if let Some(v) = a.get(keys::APPROACH) {
             let c = cfg.as_mut().ok_or(Error::NoSuchAxis(id))?;
-            c.approach = match v {
-                "below" => Approach::FromBelow,
-                "above" => Approach::FromAbove,
-                _ => return Err(Error::BadValue),
-            };
+            c.approach = Approach::from_word(v).ok_or(Error::BadValue)?;
             changed = true;
         }
-        if let Some(v) = a.get("wrap") {
+        if let Some(v) = a.get(keys::WRAP) {
             let c = cfg.as_mut().ok_or(Error::NoSuchAxis(id))?;
             c.wrap = parse_bool(v)?;
             changed = true;
@@ -154,35 +159,35 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
 }
 
 fn axis_fields<W: Write>(rw: &mut Rw<'_, W>, c: &AxisConfig) {
-    axis_fields_geometry(rw, c);
-    motion_fields(rw, c);
-}
-
-/// `name spd home min max`.
-pub(super) fn axis_fields_geometry<W: Write>(rw: &mut Rw<'_, W>, c: &AxisConfig) {
-    rw.field_str("name", c.id.name())
-        .field_f32_rt("spd", c.steps_per_deg)
-        .field_f32_rt("home", c.home_offset_deg)
-        .field_f32_rt("min", c.min_deg)
-        .field_f32_rt("max", c.max_deg);
-}
-
-/// `name backlash approach wrap speed accel`.
-pub(super) fn axis_fields_motion<W: Write>(rw: &mut Rw<'_, W>, c: &AxisConfig) {
     rw.field_str("name", c.id.name());
-    motion_fields(rw, c);
+    for part in 0..AXIS_PARTS {
+        axis_part(rw, c, part);
+    }
 }
 
-fn motion_fields<W: Write>(rw: &mut Rw<'_, W>, c: &AxisConfig) {
-    rw.field_f32_rt("backlash", c.backlash_deg)
-        .field_str(
-            "approach",
-            match c.approach {
-                Approach::FromBelow => "below",
-                Approach::FromAbove => "above",
-            },
-        )
-        .field_i32("wrap", c.wrap as i32)
-        .field_f32_rt("speed", c.max_speed_deg_s)
-        .field_f32_rt("accel", c.accel_deg_s2);
+/// Groups of axis fields, each short enough for one request line when dumped.
+pub(super) const AXIS_PARTS: u8 = 4;
+
+/// Fields of group `part` (0: steps and home, 1: limits, 2: backlash, approach, wrap,
+/// 3: speed and acceleration), named as in rig files ([`keys`]).
+pub(super) fn axis_part<W: Write>(rw: &mut Rw<'_, W>, c: &AxisConfig, part: u8) {
+    match part {
+        0 => {
+            rw.field_f32_rt(keys::STEPS_PER_DEG, c.steps_per_deg)
+                .field_f32_rt(keys::HOME_OFFSET_DEG, c.home_offset_deg);
+        }
+        1 => {
+            rw.field_f32_rt(keys::MIN_DEG, c.min_deg)
+                .field_f32_rt(keys::MAX_DEG, c.max_deg);
+        }
+        2 => {
+            rw.field_f32_rt(keys::BACKLASH_DEG, c.backlash_deg)
+                .field_str(keys::APPROACH, c.approach.word())
+                .field_i32(keys::WRAP, c.wrap as i32);
+        }
+        _ => {
+            rw.field_f32_rt(keys::MAX_SPEED_DEG_S, c.max_speed_deg_s)
+                .field_f32_rt(keys::ACCEL_DEG_S2, c.accel_deg_s2);
+        }
+    }
 }

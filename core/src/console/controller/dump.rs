@@ -1,10 +1,11 @@
 //! `dump`: the settings as requests that replay them onto a factory console — the
-//! setting keys from [`SETTING_KEYS`], then two lines per axis (geometry, motion),
+//! setting keys from [`SETTING_KEYS`], then four lines per axis (steps and home, limits,
+//! backlash and approach, speed),
 //! then one line per zone slot of every fitted axis.
 
 use embedded_io::Write;
 
-use super::axes::{axis_fields_geometry, axis_fields_motion, axis_of};
+use super::axes::{axis_of, axis_part, AXIS_PARTS};
 use super::settings::{Settings, SETTING_DUMP_LINES, SETTING_KEYS};
 use super::Rw;
 use crate::axis::MAX_ZONES;
@@ -20,8 +21,8 @@ pub(super) enum Dump {
     End,
 }
 
-/// Dump lines per axis: geometry, then motion, so that each fits the request limit.
-const AXIS_LINES: usize = 2;
+/// Dump lines per axis: one per field group, so that each fits the request limit.
+const AXIS_LINES: usize = AXIS_PARTS as usize;
 
 impl Settings {
     /// Line `i` of the dump into `rw`.
@@ -41,26 +42,22 @@ impl Settings {
         let k = usize::from(i - SETTING_DUMP_LINES);
         let axis_lines = AxisId::ALL.len() * AXIS_LINES;
         if let Some(&id) = AxisId::ALL.get(k / AXIS_LINES).filter(|_| k < axis_lines) {
-            let second = k % AXIS_LINES == 1;
-            match (axis_of(&self.rig, id), second) {
-                (Some(c), false) => {
-                    rw.item().word("axis");
-                    axis_fields_geometry(rw, c);
-                    if id == AxisId::Elevation {
+            let part = (k % AXIS_LINES) as u8;
+            match (axis_of(&self.rig, id), part) {
+                (Some(c), _) => {
+                    rw.item().word("axis").field_str("name", id.name());
+                    if id == AxisId::Elevation && part == 0 {
                         rw.field_i32("fitted", 1);
                     }
+                    axis_part(rw, c, part);
                 }
-                (Some(c), true) => {
-                    rw.item().word("axis");
-                    axis_fields_motion(rw, c);
-                }
-                (None, false) => {
+                (None, 0) => {
                     rw.item()
                         .word("axis")
                         .field_str("name", id.name())
                         .field_i32("fitted", 0);
                 }
-                (None, true) => return Dump::Skip,
+                (None, _) => return Dump::Skip,
             }
             return Dump::Line;
         }
