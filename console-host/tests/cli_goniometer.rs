@@ -1142,3 +1142,36 @@ fn console_budget_equals_mwctl_budget() {
         "{last} {v}"
     );
 }
+
+/// The core's axis checks refuse, through `mwctl rig check`, a home outside the limits
+/// and overlapping zones, each with its own code (common practice, no source: a rig
+/// whose step 0 lies outside its limits starts every move from a forbidden place).
+#[test]
+fn rig_check_refuses_home_outside_limits_and_overlapping_zones() {
+    let bench = std::fs::read_to_string(BENCH_B).unwrap();
+    let cases = [
+        (
+            "home-outside.toml",
+            bench.replace("home_offset_deg = -0.35", "home_offset_deg = -170"),
+            "E315",
+        ),
+        (
+            "zones-overlap.toml",
+            bench.replace(
+                "zones = [[-11, 11], [120, 128]]",
+                "zones = [[-11, 11], [5, 20]]",
+            ),
+            "E318",
+        ),
+    ];
+    for (name, body, code) in cases {
+        assert_ne!(
+            body, bench,
+            "{name}: the example rig file changed; update the test"
+        );
+        let p = temp_file(name, &body);
+        let (status, _, err) = mwctl(&["rig", "check", p.to_str().unwrap()]);
+        assert_eq!(status, 2, "{name}: {err}");
+        assert!(err.contains(code), "{name}: {err}");
+    }
+}

@@ -238,8 +238,66 @@ impl AxisConfig {
                 return bad;
             }
         }
-        // The whole range must not be forbidden: the home position need not be free,
-        // but some step must be; checked lazily by `setpoint`.
+        self.validate_layout()
+    }
+
+    /// The checks that relate the fields to each other (after each is valid alone):
+    /// home within the limits, the limits within the step counter's reach, zones
+    /// within the limits, no two zones overlapping, and not the whole range forbidden.
+    fn validate_layout(&self) -> Result<()> {
+        let id = self.id;
+        let spd = self.steps_per_deg;
+        if self.wrap {
+            if 360.0 * spd > STEPS_MAX as f32 {
+                return Err(Error::ReachBeyondCounter(id));
+            }
+        } else {
+            let home = self.home_offset_deg;
+            if home < self.min_deg || home > self.max_deg {
+                return Err(Error::HomeOutsideLimits(id));
+            }
+            let reach = (self.max_deg - home).max(home - self.min_deg) * spd;
+            if reach > STEPS_MAX as f32 {
+                return Err(Error::ReachBeyondCounter(id));
+            }
+        }
+        let mut forbidden_deg = 0.0f32;
+        for (i, z) in self.zones.iter().enumerate() {
+            let Some(z) = z else { continue };
+            let index = i as u8;
+            if !self.wrap && (z.from_deg < self.min_deg || z.to_deg > self.max_deg) {
+                return Err(Error::ZoneOutsideLimits(id, index));
+            }
+            let earlier = self.zones.iter().take(i).flatten();
+            if earlier
+                .clone()
+                .any(|e| e.meets(z.from_deg, z.to_deg, self.wrap))
+            {
+                return Err(Error::ZonesOverlap(id, index));
+            }
+            forbidden_deg += z.to_deg - z.from_deg;
+        }
+        // Zones do not overlap, so they cover the range only if their lengths add up to
+        // it and they leave no gap: walk from the lower limit across touching zones.
+        let covered = if self.wrap {
+            forbidden_deg >= 360.0
+        } else {
+            let mut at = self.min_deg;
+            for _ in 0..MAX_ZONES {
+                if let Some(z) = self
+                    .zones
+                    .iter()
+                    .flatten()
+                    .find(|z| z.from_deg <= at && z.to_deg > at)
+                {
+                    at = z.to_deg;
+                }
+            }
+            at >= self.max_deg
+        };
+        if covered {
+            return Err(Error::RangeForbidden(id));
+        }
         Ok(())
     }
 

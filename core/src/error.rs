@@ -193,6 +193,16 @@ pub enum Error {
     ReplyTooLong,
     /// A crystal with no table face was chosen without `face=`.
     FaceNeeded,
+    /// The axis's home (step 0) lies outside its soft limits.
+    HomeOutsideLimits(AxisId),
+    /// The soft limits lie farther from home than the step counter reaches.
+    ReachBeyondCounter(AxisId),
+    /// Forbidden zone `zone` lies (partly) outside the soft limits.
+    ZoneOutsideLimits(AxisId, u8),
+    /// Forbidden zone `zone` overlaps a zone with a lower index.
+    ZonesOverlap(AxisId, u8),
+    /// The zones forbid the whole range of the axis.
+    RangeForbidden(AxisId),
 }
 
 impl Error {
@@ -243,6 +253,11 @@ impl Error {
             Error::BufferFull => 413,
             Error::ReplyTooLong => 420,
             Error::FaceNeeded => 130,
+            Error::HomeOutsideLimits(_) => 315,
+            Error::ReachBeyondCounter(_) => 316,
+            Error::ZoneOutsideLimits(_, _) => 317,
+            Error::ZonesOverlap(_, _) => 318,
+            Error::RangeForbidden(_) => 319,
         }
     }
 
@@ -324,6 +339,15 @@ impl Error {
             Error::BufferFull => "sample buffer full; send pt clear",
             Error::ReplyTooLong => "reply too long; ask for fewer fields",
             Error::FaceNeeded => "this crystal has no table face; give face= with the crystal",
+            Error::HomeOutsideLimits(_) => {
+                "home (step 0) lies outside the soft limits; set home_offset_deg between min_deg and max_deg"
+            }
+            Error::ReachBeyondCounter(_) => {
+                "the limits lie beyond the step counter's reach (2^24 steps from home); narrow them or lower steps_per_deg"
+            }
+            Error::ZoneOutsideLimits(_, _) => "forbidden zone reaches outside the soft limits; keep it within min_deg..max_deg",
+            Error::ZonesOverlap(_, _) => "forbidden zone overlaps another; merge them into one zone",
+            Error::RangeForbidden(_) => "the zones forbid the whole range of the axis; remove or shrink one",
         }
     }
 
@@ -336,7 +360,12 @@ impl Error {
             | Error::PathCrossesZone(a, _)
             | Error::BadAxisConfig(a)
             | Error::StepOverflow(a)
-            | Error::NoSuchAxis(a) => Some(a),
+            | Error::NoSuchAxis(a)
+            | Error::HomeOutsideLimits(a)
+            | Error::ReachBeyondCounter(a)
+            | Error::ZoneOutsideLimits(a, _)
+            | Error::ZonesOverlap(a, _)
+            | Error::RangeForbidden(a) => Some(a),
             _ => None,
         }
     }

@@ -315,7 +315,18 @@ fn gen_spd(r: &mut Rng) -> f32 {
     }
 }
 
+/// A random axis that passes `AxisConfig::validate` (home within the limits, zones
+/// within them and apart, some of the range free): drawn until one does.
 fn gen_axis(r: &mut Rng) -> AxisConfig {
+    loop {
+        let ax = gen_axis_raw(r);
+        if ax.validate().is_ok() {
+            return ax;
+        }
+    }
+}
+
+fn gen_axis_raw(r: &mut Rng) -> AxisConfig {
     let mut ax = AxisConfig::new(AxisId::ALL[r.int(0, 3) as usize], gen_spd(r));
     ax.home_offset_deg = match r.weighted(&[2, 1, 1]) {
         0 => 0.0,
@@ -830,7 +841,17 @@ fn gen_zone(r: &mut Rng, p: f64, from: (f32, f32), width: (f32, f32)) -> Option<
 
 /// A valid rig: one- or two-circle arm with a gun zone (mostly) and maybe a second zone,
 /// tilt, continuous or limited azimuth, random steps, backlash and approach.
+/// A random rig that passes `Rig::validate`: drawn until one does.
 fn gen_rig(r: &mut Rng) -> Rig {
+    loop {
+        let rig = gen_rig_raw(r);
+        if rig.validate().is_ok() {
+            return rig;
+        }
+    }
+}
+
+fn gen_rig_raw(r: &mut Rng) -> Rig {
     let gun = if r.chance(0.9) {
         let z = r.rangef(0.5, 20.0);
         Some(Zone {

@@ -99,3 +99,39 @@ fn axis_keys_are_the_rig_file_keys() {
     let r = request(&mut c, "axis name=arm approach=above");
     assert!(last(&r).starts_with("err 407"), "{r}");
 }
+
+/// The same axis checks on the console: each refused request changes nothing.
+#[test]
+fn axis_and_zone_changes_are_checked_whole() {
+    let mut c = console();
+    for (line, code) in [
+        // Home (step 0) outside the limits.
+        ("axis name=arm home_offset_deg=-170", "err 315"),
+        ("axis name=arm min_deg=10", "err 315"),
+        // A zone reaching beyond the arm's 165° limit.
+        ("zone name=arm i=1 from=150 to=170", "err 317"),
+        // Overlapping the factory gun zone [-12°, 12°].
+        ("zone name=arm i=1 from=5 to=20", "err 318"),
+        // Limits beyond the step counter's reach from home (2^24 steps).
+        ("axis name=arm steps_per_deg=200000", "err 316"),
+    ] {
+        let before = *c.settings();
+        let r = request(&mut c, line);
+        assert!(last(&r).starts_with(code), "{line}: {r}");
+        assert_eq!(*c.settings(), before, "{line} changed the settings");
+    }
+    // A zone over the whole tilt range (limits ±80°) leaves no free step.
+    let before = *c.settings();
+    let r = request(&mut c, "zone name=tilt i=0 from=-80 to=80");
+    assert!(last(&r).starts_with("err 319"), "{r}");
+    assert_eq!(*c.settings(), before);
+    // Zones with gaps between them are accepted.
+    for line in [
+        "zone name=tilt i=0 from=-80 to=0",
+        "zone name=tilt i=1 from=0.5 to=80",
+        "zone name=tilt i=2 from=0.1 to=0.4",
+    ] {
+        let r = request(&mut c, line);
+        assert!(last(&r).starts_with("ok"), "{line}: {r}");
+    }
+}
