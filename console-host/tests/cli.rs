@@ -139,7 +139,7 @@ fn reflections_and_rings_come_in_decreasing_d() {
 
 #[test]
 fn work_functions_correct_the_energy() {
-    // E = e·V + φ_cathode − φ_sample (DESIGN §4).
+    // E = e·V + φ_cathode − φ_sample (beam rules).
     let v = json(&[
         "calc",
         "wavelength",

@@ -3,9 +3,9 @@
 //! with exit status 2 and one line naming the axis, zone, field or CSV line on bad
 //! input.
 //!
-//! Synthetic fit data are generated here in f64 from the formulas of DESIGN §4, §6, §7
+//! Synthetic fit data are generated here in f64 from the formulas of beam rules, §6, §7
 //! and §9 with parameters chosen in the test (said beside each); the fits must recover
-//! them. Physical constants: CODATA 2018 (NIST), as in DESIGN §3.
+//! them. Physical constants: CODATA 2018 (NIST), as in units rules.
 
 mod common;
 
@@ -51,12 +51,12 @@ fn bench_b_with_arm_max(max: u32) -> PathBuf {
     temp_file(&format!("arm-max-{max}.toml"), &text)
 }
 
-// --- f64 physics for synthetic data (CODATA 2018, DESIGN §3–4) ---------------------
+// --- f64 physics for synthetic data (CODATA 2018, the units and beam conventions) ---------------------
 
 const HC_EV_A: f64 = 12398.419843320;
 const MC2_EV: f64 = 510998.95000;
 
-/// Relativistic wavelength, Å (DESIGN §4).
+/// Relativistic wavelength, Å (beam rules).
 fn lambda(e: f64) -> f64 {
     HC_EV_A / (e * (e + 2.0 * MC2_EV)).sqrt()
 }
@@ -66,7 +66,7 @@ fn energy_of_k(k: f64) -> f64 {
     ((HC_EV_A * k).powi(2) + MC2_EV * MC2_EV).sqrt() - MC2_EV
 }
 
-/// In-plane arm angle (DESIGN §7): δ = α + asin(sin α + s·λ/d_row), degrees.
+/// In-plane arm angle (geometry rules): δ = α + asin(sin α + s·λ/d_row), degrees.
 fn arm_in_plane(tilt: f64, s: f64, e: f64, d_row: f64) -> f64 {
     let a = tilt.to_radians();
     tilt + (a.sin() + s * lambda(e) / d_row).asin().to_degrees()
@@ -169,7 +169,7 @@ fn peak_csv() -> PathBuf {
 
 /// Synthetic arm positions of Cu(100) beam (1,0) at tilt 10°, branch +1, with arm zero
 /// δ0 = 0.3° and gun offset ΔE = −2 eV (chosen in the test). Row spacing of the (1,0)
-/// rod of fcc(100): the square mesh a/√2 (DESIGN §6), a = 3.615 Å as in the table.
+/// rod of fcc(100): the square mesh a/√2 (surface rules), a = 3.615 Å as in the table.
 fn arm_zero_csv() -> PathBuf {
     let d_row = 3.615 / 2f64.sqrt();
     let mut s = String::from("nominal_ev,arm_deg,note\n");
@@ -297,8 +297,8 @@ fn aim_lists_setpoints_with_stable_keys() {
     ] {
         assert!(s.get(k).is_some(), "solution lacks {k}: {s}");
     }
-    // δ = α + asin(sin α + λ/d_row) on branch +1 (DESIGN §7), Cu a = 3.615 Å, fcc(100)
-    // mesh a/√2 (DESIGN §6); f32 against f64, and the step of the built-in arm
+    // δ = α + asin(sin α + λ/d_row) on branch +1 (geometry rules), Cu a = 3.615 Å, fcc(100)
+    // mesh a/√2 (surface rules); f32 against f64, and the step of the built-in arm
     // (888.9 steps/deg) bounds the reached angle.
     let want = arm_in_plane(10.0, 1.0, 100.0, 3.615 / 2f64.sqrt());
     assert!((num(&s["arm_deg"]) - want).abs() < 2e-3, "{s} vs {want}");
@@ -313,7 +313,7 @@ fn aim_lists_setpoints_with_stable_keys() {
 
 #[test]
 fn aim_specular_sits_at_twice_the_tilt() {
-    // DESIGN §7 invariant: the specular beam is at δ = 2α at every energy.
+    // geometry rules invariant: the specular beam is at δ = 2α at every energy.
     for (e, t) in [("40", "20"), ("150", "20"), ("500", "35"), ("120", "-25")] {
         let v = json(&[
             "calc",
@@ -403,7 +403,7 @@ fn aim_at_an_evanescent_beam_says_evanescent() {
     ]);
     assert!(err.contains("E201") && err.contains("evanescent"), "{err}");
     // In-plane, the beam first emerges on the branch against k∥: λ = (1 + sin α)·d_row
-    // (DESIGN §6–7), d_row = a/(3√2) for rod (3,0) of fcc(100), a = 3.615 Å.
+    // (the surface and geometry conventions), d_row = a/(3√2) for rod (3,0) of fcc(100), a = 3.615 Å.
     let d_row = 3.615 / (3.0 * 2f64.sqrt());
     let l = (1.0 + 10f64.to_radians().sin()) * d_row;
     let e = energy_of_k(1.0 / l);
@@ -633,7 +633,7 @@ fn track_estimate_adds_the_dwell() {
 fn sweep_lists_the_beams_crossed() {
     let v = json(SWEEP);
     // Cu(100) at 100 eV, tilt 10°: the specular beam at 2α = 20° and (1,0) at 50.8°
-    // (DESIGN §7) lie in 15–80°.
+    // (geometry rules) lie in 15–80°.
     let beams = v["beams"].as_array().unwrap();
     let rods: Vec<(i64, i64)> = beams
         .iter()

@@ -1,6 +1,6 @@
 //! Motor axes: microsteps ↔ degrees, home offset, soft limits, forbidden zones, backlash
 //! with a fixed approach direction, wrap for continuous axes, and trapezoidal move
-//! times (DESIGN §8).
+//! times (axis rules).
 //!
 //! The one promise of this module: **no function returns a setpoint outside the soft
 //! limits or inside a forbidden zone.** An unreachable target is an [`Error`] naming the

@@ -1,7 +1,7 @@
 //! The electron beam: gun settings → kinetic energy at the sample → wavelength, momentum,
 //! velocity and wavevector, outside and inside the crystal.
 //!
-//! Kinetic energy at the sample (contact-potential correction, DESIGN §4):
+//! Kinetic energy at the sample (contact-potential correction, beam rules):
 //! E = e·V_acc + φ_cathode − φ_sample + ΔE_cal. Wavelength, relativistic:
 //! λ = hc / √(E(E + 2mc²)). Inside the crystal the electron gains the inner potential:
 //! E_in = E + V0.

@@ -1,4 +1,4 @@
-//! Instrument geometry in the lab frame (DESIGN §7): where a beam goes, how to point
+//! Instrument geometry in the lab frame (geometry rules): where a beam goes, how to point
 //! the arm (and turn the sample) at it, and what the detector is looking at.
 //!
 //! Lab frame: origin at the beam spot, z vertical (the axis of the arm and of the sample

@@ -2,7 +2,7 @@
 //! an energy and incidence, their emergence energies, and kinematic I-V peak energies
 //! with refraction by the inner potential.
 //!
-//! ## Conventions (DESIGN §6–7)
+//! ## Conventions (the surface and geometry conventions)
 //!
 //! A face (h k l) is given in conventional-cell Miller indices (reduced by their common
 //! divisor). Its outward normal n̂ points along G(hkl). The mesh (a1, a2) is found by a
@@ -803,7 +803,7 @@ mod tests {
 
     #[test]
     fn meshes_of_design_section_6() {
-        // Bulk-terminated meshes (common practice, no source; DESIGN §6).
+        // Bulk-terminated meshes (common practice, no source; surface rules).
         let a = 3.6;
         let r2 = 2f32.sqrt();
         let f = face(Structure::Fcc, a, a, [1, 0, 0]);

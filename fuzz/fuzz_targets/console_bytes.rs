@@ -7,7 +7,7 @@
 //! * bits 3–4: stream polls after each byte — 0, 1, 3 or up to 10 000 (that is: to the
 //!   end of any stream), so that requests arrive both between and during streams.
 //!
-//! Invariants checked after every byte and every poll (DESIGN §8, §10):
+//! Invariants checked after every byte and every poll (axis rules, §10):
 //!
 //! 1. nothing panics, and writing a reply never fails;
 //! 2. every reply line is printable ASCII, at most `MAX_REPLY` (256) bytes including an

@@ -1,4 +1,4 @@
-//! Property tests of motor axes and aiming (DESIGN §8: "no function ever returns a
+//! Property tests of motor axes and aiming (axis rules: "no function ever returns a
 //! setpoint outside the limits or inside a forbidden zone"), run in the normal test run.
 //!
 //! * `setpoints_obey_limits_zones_and_paths`: 500,000 random valid axes (steps/deg

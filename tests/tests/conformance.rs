@@ -140,7 +140,7 @@ fn first_powder_lines_follow_extinction_rules() {
 
 #[test]
 fn surface_meshes() {
-    // 1×1 surface mesh constants, Å, from the bulk lattice constant (DESIGN §6 relations;
+    // 1×1 surface mesh constants, Å, from the bulk lattice constant (surface rules relations;
     // commonly quoted values, from memory): Cu(100) 2.556, Ni(111) 2.49, W(110) 2.74,
     // W(100) 3.165, Fe(111) 4.05, Si(111) 3.84, Ru(0001) 2.706.
     let checks = [
@@ -196,7 +196,7 @@ fn interlayer_spacings() {
 
 #[test]
 fn fcc100_specular_iv_example() {
-    // DESIGN §6 worked example: fcc(100), specular beam, normal incidence, peaks where
+    // surface rules worked example: fcc(100), specular beam, normal incidence, peaks where
     // λ_in = 2d/n with d = a/2 (kinematic Bragg condition on the specular rod).
     let a = 3.524f32; // Ni, Kittel Table 1.3 (from memory)
     let f = Face::new(&Cell::new(Structure::Fcc, a, a, a).unwrap(), [1, 0, 0]).unwrap();

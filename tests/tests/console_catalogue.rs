@@ -9,7 +9,9 @@
 //! gives the same reply again.
 //!
 //! Codes are those of `core/src/error.rs` (1xx input values, 2xx physics, 3xx axes, 4xx
-//! protocol). "DESIGN §N" is /work/shared/DESIGN.md, section N.
+//! protocol). Each case names the project rule it checks: "protocol rules" are those of
+//! docs/PROTOCOL.md, "axis rules" those of core/src/axis.rs, "geometry rules" those of
+//! core/src/goniometer.rs, "fit rules" those of docs/FITS.md.
 
 use matterwave_core::console::sim::{SimAxes, SimDetector, SimInterlock};
 use matterwave_core::console::Console;
@@ -73,110 +75,110 @@ const FILL_POINTS: [&str; 64] = {
 
 const CATALOGUE: &[Case] = &[
     // ---- 4xx: the line itself -------------------------------------------------------
-    case("DESIGN §10: overlong lines (130 bytes > 120) get a clear error (400)", &[],
+    case("protocol rules: overlong lines (130 bytes > 120) get a clear error (400)", &[],
         b"get xxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxx\n",
         &[400]),
-    case("DESIGN §10: the documented maximum is 120 bytes: 121 is too long (400)", &[],
+    case("protocol rules: the documented maximum is 120 bytes: 121 is too long (400)", &[],
         b"get                                                                                                                      \n",
         &[400]),
-    case("DESIGN §10: non-ASCII bytes (UTF-8 e-acute) are refused (401)", &[], b"set crystal=\xc3\xa9\n", &[401]),
-    case("DESIGN §10: a NUL byte is refused (401)", &[], b"get\x00 energy\n", &[401]),
-    case("DESIGN §10: control bytes (ESC, DEL) are refused (401)", &[], b"get \x1b[A\x7f\n", &[401]),
-    case("DESIGN §10: 0xFF is refused (401); the first problem in a line wins over length", &[],
+    case("protocol rules: non-ASCII bytes (UTF-8 e-acute) are refused (401)", &[], b"set crystal=\xc3\xa9\n", &[401]),
+    case("protocol rules: a NUL byte is refused (401)", &[], b"get\x00 energy\n", &[401]),
+    case("protocol rules: control bytes (ESC, DEL) are refused (401)", &[], b"get \x1b[A\x7f\n", &[401]),
+    case("protocol rules: 0xFF is refused (401); the first problem in a line wins over length", &[],
         b"\xffxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxx\n",
         &[401]),
-    case("DESIGN §10: optional per-line checksum: a wrong one is refused (402)", &[], b"get*0000\n", &[402]),
-    case("DESIGN §10: a malformed checksum (*12) is refused (402)", &[], b"get*12\n", &[402]),
-    case("DESIGN §10: a checksum of non-hex digits is refused (402)", &[], b"get energy*zz1G\n", &[402]),
-    case("DESIGN §10: a bare star is a malformed checksum (402)", &[], b"set energy=120*\n", &[402]),
-    case("DESIGN §10: unknown words: unknown command (403)", &[], b"frobnicate\n", &[403]),
-    case("DESIGN §10: command words are lower case: HELP is unknown (403)", &[], b"HELP\n", &[403]),
-    case("DESIGN §10: a line without a command word (=5) is unknown (403)", &[], b"=5 energy\n", &[403]),
-    case("DESIGN §10: unknown words: unknown key (404)", &[], b"set colour=red\n", &[404]),
-    case("DESIGN §10: unknown words: unknown get key (404)", &[], b"get nonsense\n", &[404]),
-    case("DESIGN §10: an extra positional argument is refused (404)", &[], b"hello there\n", &[404]),
-    case("DESIGN §10: stop with an argument is refused (404), nothing stopped", &[], b"stop now\n", &[404]),
-    case("DESIGN §10: more than 12 arguments are refused (404)", &[],
+    case("protocol rules: optional per-line checksum: a wrong one is refused (402)", &[], b"get*0000\n", &[402]),
+    case("protocol rules: a malformed checksum (*12) is refused (402)", &[], b"get*12\n", &[402]),
+    case("protocol rules: a checksum of non-hex digits is refused (402)", &[], b"get energy*zz1G\n", &[402]),
+    case("protocol rules: a bare star is a malformed checksum (402)", &[], b"set energy=120*\n", &[402]),
+    case("protocol rules: unknown words: unknown command (403)", &[], b"frobnicate\n", &[403]),
+    case("protocol rules: command words are lower case: HELP is unknown (403)", &[], b"HELP\n", &[403]),
+    case("protocol rules: a line without a command word (=5) is unknown (403)", &[], b"=5 energy\n", &[403]),
+    case("protocol rules: unknown words: unknown key (404)", &[], b"set colour=red\n", &[404]),
+    case("protocol rules: unknown words: unknown get key (404)", &[], b"get nonsense\n", &[404]),
+    case("protocol rules: an extra positional argument is refused (404)", &[], b"hello there\n", &[404]),
+    case("protocol rules: stop with an argument is refused (404), nothing stopped", &[], b"stop now\n", &[404]),
+    case("protocol rules: more than 12 arguments are refused (404)", &[],
         b"set a=1 b=2 c=3 d=4 e=5 f=6 g=7 h=8 i=9 j=10 k=11 l=12 m=13\n", &[404]),
-    case("DESIGN §10: move takes sol= or angles, not both (404)", &["enable"], b"move sol=0 arm=40\n", &[404]),
-    case("DESIGN §10: peak fits take no threshold (404)", &["pt x=1 y=1"], b"fit kind=peak threshold=1\n", &[404]),
-    case("DESIGN §10: zone off takes no from/to (404)", &[], b"zone name=arm i=1 off from=3\n", &[404]),
-    case("DESIGN §10: missing argument: set with nothing to set (405)", &[], b"set\n", &[405]),
-    case("DESIGN §10: missing argument: move with no target (405)", &["enable"], b"move\n", &[405]),
-    case("DESIGN §10: missing argument: plan without step (405)", &[], b"plan kind=track from=50 to=60\n", &[405]),
-    case("DESIGN §10: missing argument: key= with an empty value (405)", &[], b"set energy=\n", &[405]),
-    case("DESIGN §10: missing argument: pt without y (405)", &[], b"pt x=1\n", &[405]),
-    case("DESIGN §10: missing argument: zone without i (405)", &[], b"zone name=arm from=1 to=2\n", &[405]),
-    case("DESIGN §10: NaN gets a clear error (406)", &[], b"set energy=nan\n", &[406]),
-    case("DESIGN §10: inf gets a clear error (406)", &[], b"set energy=inf\n", &[406]),
-    case("DESIGN §10: -Infinity gets a clear error (406)", &[], b"set tilt=-Infinity\n", &[406]),
-    case("DESIGN §10: out-of-range numbers: 1e39 overflows f32 (406)", &[], b"set energy=1e39\n", &[406]),
-    case("DESIGN §10: text where a number goes (406)", &[], b"set tilt=abc\n", &[406]),
-    case("DESIGN §10: hex is not a decimal number (406)", &[], b"set energy=0x10\n", &[406]),
-    case("DESIGN §10: NaN as a move target (406), nothing moves", &["enable"], b"move arm=nan\n", &[406]),
-    case("DESIGN §10: an index beyond i32 (406)", &[], b"pt x=1 y=2 n=2147483648\n", &[406]),
-    case("DESIGN §10: a fractional index (406)", &[], b"zone name=arm i=1.5 from=1 to=2\n", &[406]),
-    case("DESIGN §10: dwell beyond an hour (406)", &[], b"plan kind=sweep from=20 to=30 step=5 dwell=5000\n", &[406]),
-    case("DESIGN §10: unknown words: approach=sideways (407)", &[], b"axis name=arm approach=sideways\n", &[407]),
-    case("DESIGN §10: unknown words: beam=1 is not h,k (407)", &[], b"set beam=1\n", &[407]),
-    case("DESIGN §10: unknown words: axis name=gun (407)", &[], b"axis name=gun steps_per_deg=100\n", &[407]),
-    case("DESIGN §10: unknown words: fit kind=foo (407)", &[], b"fit kind=foo\n", &[407]),
-    case("DESIGN §10: unknown words: plan kind=bar (407)", &[], b"plan kind=bar from=1 to=2 step=1\n", &[407]),
-    case("DESIGN §10: unknown words: wrap=maybe (407)", &[], b"axis name=azimuth wrap=maybe\n", &[407]),
-    case("DESIGN §10: the same key twice (407)", &[], b"set energy=100 energy=200\n", &[407]),
-    case("DESIGN §8: zone index beyond the 4 slots (407)", &[], b"zone name=arm i=4 from=1 to=2\n", &[407]),
-    case("DESIGN §8: only the elevation axis can be fitted or removed (407)", &[], b"axis name=tilt fitted=0\n", &[407]),
-    case("DESIGN §10: motion only when enabled (408)", &[], b"move arm=40\n", &[408]),
-    case("DESIGN §10: motion only when enabled: disable forbids it again (408)", &["enable", "disable"], b"move tilt=10\n", &[408]),
-    unsafe_case("DESIGN §10: enable refuses while the interlock reports unsafe (409)", &[], b"enable\n", &[409]),
-    case("DESIGN §10: motion only when the interlock reports safe (409)", &["enable", "!open"], b"move arm=40\n", &[409]),
-    case("DESIGN §10: interlock open, move by solution refused (409)", &["enable", "aim", "!open"], b"move sol=0\n", &[409]),
-    case("DESIGN §10: a request while a stream runs is busy (410); the stream goes on", &["!stream help"], b"get\n", &[410]),
-    case("DESIGN §10: busy even for a valid move (410), nothing moves", &["enable", "!stream dump"], b"move arm=40\n", &[410]),
-    case("DESIGN §10: stop works in every state: mid-stream, 411 ends the stream, then ok", &["!stream help"], b"stop\n", &[411, OK]),
-    case("DESIGN §10: stop mid-stream keeps the stream request's checksum setting", &["!stream dump*27FA"], b"stop\n", &[411, OK]),
-    case("DESIGN §7: move sol=N needs a stored solution (412)", &["enable"], b"move sol=9\n", &[412]),
-    case("DESIGN §7: a negative solution index (412)", &["enable", "aim"], b"move sol=-1\n", &[412]),
-    case("DESIGN §7: solutions are forgotten when settings change (412)", &["enable", "aim", "set energy=120"], b"move sol=0\n", &[412]),
-    case("DESIGN §9: the fixed-size point buffer: 65th point refused (413)", &FILL_POINTS, b"pt x=1 y=1\n", &[413]),
+    case("protocol rules: move takes sol= or angles, not both (404)", &["enable"], b"move sol=0 arm=40\n", &[404]),
+    case("protocol rules: peak fits take no threshold (404)", &["pt x=1 y=1"], b"fit kind=peak threshold=1\n", &[404]),
+    case("protocol rules: zone off takes no from/to (404)", &[], b"zone name=arm i=1 off from=3\n", &[404]),
+    case("protocol rules: missing argument: set with nothing to set (405)", &[], b"set\n", &[405]),
+    case("protocol rules: missing argument: move with no target (405)", &["enable"], b"move\n", &[405]),
+    case("protocol rules: missing argument: plan without step (405)", &[], b"plan kind=track from=50 to=60\n", &[405]),
+    case("protocol rules: missing argument: key= with an empty value (405)", &[], b"set energy=\n", &[405]),
+    case("protocol rules: missing argument: pt without y (405)", &[], b"pt x=1\n", &[405]),
+    case("protocol rules: missing argument: zone without i (405)", &[], b"zone name=arm from=1 to=2\n", &[405]),
+    case("protocol rules: NaN gets a clear error (406)", &[], b"set energy=nan\n", &[406]),
+    case("protocol rules: inf gets a clear error (406)", &[], b"set energy=inf\n", &[406]),
+    case("protocol rules: -Infinity gets a clear error (406)", &[], b"set tilt=-Infinity\n", &[406]),
+    case("protocol rules: out-of-range numbers: 1e39 overflows f32 (406)", &[], b"set energy=1e39\n", &[406]),
+    case("protocol rules: text where a number goes (406)", &[], b"set tilt=abc\n", &[406]),
+    case("protocol rules: hex is not a decimal number (406)", &[], b"set energy=0x10\n", &[406]),
+    case("protocol rules: NaN as a move target (406), nothing moves", &["enable"], b"move arm=nan\n", &[406]),
+    case("protocol rules: an index beyond i32 (406)", &[], b"pt x=1 y=2 n=2147483648\n", &[406]),
+    case("protocol rules: a fractional index (406)", &[], b"zone name=arm i=1.5 from=1 to=2\n", &[406]),
+    case("protocol rules: dwell beyond an hour (406)", &[], b"plan kind=sweep from=20 to=30 step=5 dwell=5000\n", &[406]),
+    case("protocol rules: unknown words: approach=sideways (407)", &[], b"axis name=arm approach=sideways\n", &[407]),
+    case("protocol rules: unknown words: beam=1 is not h,k (407)", &[], b"set beam=1\n", &[407]),
+    case("protocol rules: unknown words: axis name=gun (407)", &[], b"axis name=gun steps_per_deg=100\n", &[407]),
+    case("protocol rules: unknown words: fit kind=foo (407)", &[], b"fit kind=foo\n", &[407]),
+    case("protocol rules: unknown words: plan kind=bar (407)", &[], b"plan kind=bar from=1 to=2 step=1\n", &[407]),
+    case("protocol rules: unknown words: wrap=maybe (407)", &[], b"axis name=azimuth wrap=maybe\n", &[407]),
+    case("protocol rules: the same key twice (407)", &[], b"set energy=100 energy=200\n", &[407]),
+    case("axis rules: zone index beyond the 4 slots (407)", &[], b"zone name=arm i=4 from=1 to=2\n", &[407]),
+    case("axis rules: only the elevation axis can be fitted or removed (407)", &[], b"axis name=tilt fitted=0\n", &[407]),
+    case("protocol rules: motion only when enabled (408)", &[], b"move arm=40\n", &[408]),
+    case("protocol rules: motion only when enabled: disable forbids it again (408)", &["enable", "disable"], b"move tilt=10\n", &[408]),
+    unsafe_case("protocol rules: enable refuses while the interlock reports unsafe (409)", &[], b"enable\n", &[409]),
+    case("protocol rules: motion only when the interlock reports safe (409)", &["enable", "!open"], b"move arm=40\n", &[409]),
+    case("protocol rules: interlock open, move by solution refused (409)", &["enable", "aim", "!open"], b"move sol=0\n", &[409]),
+    case("protocol rules: a request while a stream runs is busy (410); the stream goes on", &["!stream help"], b"get\n", &[410]),
+    case("protocol rules: busy even for a valid move (410), nothing moves", &["enable", "!stream dump"], b"move arm=40\n", &[410]),
+    case("protocol rules: stop works in every state: mid-stream, 411 ends the stream, then ok", &["!stream help"], b"stop\n", &[411, OK]),
+    case("protocol rules: stop mid-stream keeps the stream request's checksum setting", &["!stream dump*27FA"], b"stop\n", &[411, OK]),
+    case("geometry rules: move sol=N needs a stored solution (412)", &["enable"], b"move sol=9\n", &[412]),
+    case("geometry rules: a negative solution index (412)", &["enable", "aim"], b"move sol=-1\n", &[412]),
+    case("geometry rules: solutions are forgotten when settings change (412)", &["enable", "aim", "set energy=120"], b"move sol=0\n", &[412]),
+    case("fit rules: the fixed-size point buffer: 65th point refused (413)", &FILL_POINTS, b"pt x=1 y=1\n", &[413]),
     // ---- 1xx: values out of range ---------------------------------------------------
-    case("DESIGN §10: out-of-range numbers: energy 0 (102)", &[], b"set energy=0\n", &[102]),
-    case("DESIGN §10: out-of-range numbers: energy -5 (102)", &[], b"set energy=-5\n", &[102]),
-    case("DESIGN §10: out-of-range numbers: energy 4e5 > 300 keV (103)", &[], b"set energy=4e5\n", &[103]),
-    case("DESIGN §4: kinetic energy below 1 eV after corrections (104)", &[], b"set energy=0.5\n", &[104]),
-    case("DESIGN §4: negative cathode work function (102)", &[], b"set cathode=-1\n", &[102]),
-    case("DESIGN §4: inner potential above 100 eV (103)", &[], b"set v0=150\n", &[103]),
-    case("DESIGN §7: tilt 95 deg beyond +-89.9 (103)", &[], b"set tilt=95\n", &[103]),
-    case("DESIGN §7: azimuth beyond +-360 deg (103)", &[], b"set azimuth=400\n", &[103]),
-    case("DESIGN §7: detector acceptance 0 (102)", &[], b"set acceptance=0\n", &[102]),
-    case("DESIGN §5: face 0,0,0 names no plane (110)", &[], b"set face=0,0,0\n", &[110]),
-    case("DESIGN §5: beam indices beyond the supported range (111)", &[], b"set beam=100,0\n", &[111]),
-    case("DESIGN §5: bad hex indices 1,1,1,1 on ru: i != -(h+k) (112)", &[], b"set crystal=ru face=1,1,1,1\n", &[112]),
-    case("DESIGN §5: four-index face on a cubic crystal (113)", &[], b"set face=1,1,-2,0\n", &[113]),
-    case("DESIGN §5: unknown crystal id (115)", &[], b"set crystal=unobtainium\n", &[115]),
-    case("DESIGN §5: face 1.5,0,0 is not integer indices (116)", &[], b"set face=1.5,0,0\n", &[116]),
-    case("DESIGN §5: two indices are not a face (116)", &[], b"set face=1,0\n", &[116]),
-    case("DESIGN §8: plan step 0 (102)", &[], b"plan kind=sweep from=20 to=30 step=0\n", &[102]),
-    case("DESIGN §9: a peak fit needs points (250)", &[], b"fit kind=peak\n", &[250]),
+    case("protocol rules: out-of-range numbers: energy 0 (102)", &[], b"set energy=0\n", &[102]),
+    case("protocol rules: out-of-range numbers: energy -5 (102)", &[], b"set energy=-5\n", &[102]),
+    case("protocol rules: out-of-range numbers: energy 4e5 > 300 keV (103)", &[], b"set energy=4e5\n", &[103]),
+    case("beam rules: kinetic energy below 1 eV after corrections (104)", &[], b"set energy=0.5\n", &[104]),
+    case("beam rules: negative cathode work function (102)", &[], b"set cathode=-1\n", &[102]),
+    case("beam rules: inner potential above 100 eV (103)", &[], b"set v0=150\n", &[103]),
+    case("geometry rules: tilt 95 deg beyond +-89.9 (103)", &[], b"set tilt=95\n", &[103]),
+    case("geometry rules: azimuth beyond +-360 deg (103)", &[], b"set azimuth=400\n", &[103]),
+    case("geometry rules: detector acceptance 0 (102)", &[], b"set acceptance=0\n", &[102]),
+    case("lattice rules: face 0,0,0 names no plane (110)", &[], b"set face=0,0,0\n", &[110]),
+    case("lattice rules: beam indices beyond the supported range (111)", &[], b"set beam=100,0\n", &[111]),
+    case("lattice rules: bad hex indices 1,1,1,1 on ru: i != -(h+k) (112)", &[], b"set crystal=ru face=1,1,1,1\n", &[112]),
+    case("lattice rules: four-index face on a cubic crystal (113)", &[], b"set face=1,1,-2,0\n", &[113]),
+    case("lattice rules: unknown crystal id (115)", &[], b"set crystal=unobtainium\n", &[115]),
+    case("lattice rules: face 1.5,0,0 is not integer indices (116)", &[], b"set face=1.5,0,0\n", &[116]),
+    case("lattice rules: two indices are not a face (116)", &[], b"set face=1,0\n", &[116]),
+    case("axis rules: plan step 0 (102)", &[], b"plan kind=sweep from=20 to=30 step=0\n", &[102]),
+    case("fit rules: a peak fit needs points (250)", &[], b"fit kind=peak\n", &[250]),
     // ---- 2xx: physics ---------------------------------------------------------------
-    case("DESIGN §6: aim at an evanescent beam (201)", &["set energy=5"], b"aim beam=3,0\n", &[201]),
+    case("surface rules: aim at an evanescent beam (201)", &["set energy=5"], b"aim beam=3,0\n", &[201]),
     // ---- 3xx: axes ------------------------------------------------------------------
-    case("DESIGN §8: the arm never enters the gun's shadow: move into the zone (303)", &["enable"], b"move arm=5\n", &[303]),
-    case("DESIGN §8: ... nor crosses it: 40 -> -40 (304)", &["enable", "move arm=40"], b"move arm=-40\n", &[304]),
-    case("DESIGN §8: soft limits: arm 170 > 165 (302)", &["enable"], b"move arm=170\n", &[302]),
-    case("DESIGN §8: soft limits: arm -170 < -165 (301)", &["enable", "move arm=-40"], b"move arm=-170\n", &[301]),
-    case("DESIGN §8: soft limits: tilt 85 > 80 (302)", &["enable"], b"move tilt=85\n", &[302]),
-    case("DESIGN §8: a move is all or nothing: a good arm target with a bad tilt moves nothing (302)",
+    case("axis rules: the arm never enters the gun's shadow: move into the zone (303)", &["enable"], b"move arm=5\n", &[303]),
+    case("axis rules: ... nor crosses it: 40 -> -40 (304)", &["enable", "move arm=40"], b"move arm=-40\n", &[304]),
+    case("axis rules: soft limits: arm 170 > 165 (302)", &["enable"], b"move arm=170\n", &[302]),
+    case("axis rules: soft limits: arm -170 < -165 (301)", &["enable", "move arm=-40"], b"move arm=-170\n", &[301]),
+    case("axis rules: soft limits: tilt 85 > 80 (302)", &["enable"], b"move tilt=85\n", &[302]),
+    case("axis rules: a move is all or nothing: a good arm target with a bad tilt moves nothing (302)",
         &["enable"], b"move arm=40 tilt=85\n", &[302]),
-    case("DESIGN §8: a one-circle arm has no elevation axis (307)", &["enable"], b"move elevation=10\n", &[307]),
-    case("DESIGN §8: configuring the unfitted elevation axis (307)", &[], b"axis name=elevation min_deg=-10\n", &[307]),
-    case("DESIGN §8: with a zone set over the resting position, a move within it is refused (303)",
+    case("axis rules: a one-circle arm has no elevation axis (307)", &["enable"], b"move elevation=10\n", &[307]),
+    case("axis rules: configuring the unfitted elevation axis (307)", &[], b"axis name=elevation min_deg=-10\n", &[307]),
+    case("axis rules: with a zone set over the resting position, a move within it is refused (303)",
         &["enable", "move arm=40", "zone name=arm i=1 from=30 to=50"], b"move arm=45\n", &[303]),
-    case("DESIGN §8: bad axis config: steps per degree 0 (305)", &[], b"axis name=arm steps_per_deg=0\n", &[305]),
-    case("DESIGN §8: bad axis config: min above max (305)", &[], b"axis name=arm min_deg=10 max_deg=5\n", &[305]),
-    case("DESIGN §8: bad axis config: backlash beyond 10 deg (305)", &[], b"axis name=tilt backlash_deg=20\n", &[305]),
-    case("DESIGN §8: bad axis config: zone with from > to (305)", &[], b"zone name=arm i=1 from=30 to=20\n", &[305]),
-    case("DESIGN §8: bad axis config: negative speed (305)", &[], b"axis name=arm max_speed_deg_s=-1\n", &[305]),
+    case("axis rules: bad axis config: steps per degree 0 (305)", &[], b"axis name=arm steps_per_deg=0\n", &[305]),
+    case("axis rules: bad axis config: min above max (305)", &[], b"axis name=arm min_deg=10 max_deg=5\n", &[305]),
+    case("axis rules: bad axis config: backlash beyond 10 deg (305)", &[], b"axis name=tilt backlash_deg=20\n", &[305]),
+    case("axis rules: bad axis config: zone with from > to (305)", &[], b"zone name=arm i=1 from=30 to=20\n", &[305]),
+    case("axis rules: bad axis config: negative speed (305)", &[], b"axis name=arm max_speed_deg_s=-1\n", &[305]),
 ];
 
 /// Feeds `bytes` without polling; returns what was written.
@@ -367,7 +369,7 @@ fn every_malformed_input_gets_its_code_and_changes_nothing() {
 
 #[test]
 fn the_same_input_gives_the_same_output() {
-    // DESIGN §10 (a firmware is a deterministic machine): every case, run twice on fresh
+    // protocol rules (a firmware is a deterministic machine): every case, run twice on fresh
     // consoles, writes byte-identical transcripts.
     for k in CATALOGUE {
         let a = std::panic::catch_unwind(|| run(k));
@@ -380,7 +382,7 @@ fn the_same_input_gives_the_same_output() {
 
 #[test]
 fn minus_zero_is_accepted_as_zero() {
-    // DESIGN §10 (numbers): -0 is a number, read as 0, and never shown as "-0".
+    // protocol rules (numbers): -0 is a number, read as 0, and never shown as "-0".
     let mut c = Console::new(
         SimAxes::default(),
         SimDetector::default(),
@@ -419,18 +421,18 @@ fn boundary_controls_are_accepted() {
         SimInterlock { safe: true },
     )
     .expect("factory settings");
-    // DESIGN §10: exactly 120 bytes is accepted ("get" and 117 blanks).
+    // protocol rules: exactly 120 bytes is accepted ("get" and 117 blanks).
     let line = format!("get{}", " ".repeat(117));
     assert_eq!(line.len(), 120);
     assert!(request(&mut c, &line).starts_with("ok energy="));
-    // DESIGN §10: CR, CRLF and LF all end a line; tabs separate.
+    // protocol rules: CR, CRLF and LF all end a line; tabs separate.
     assert_eq!(
         feed(&mut c, b"get\tenergy\r\nget energy\rget energy\n")
             .lines()
             .count(),
         3
     );
-    // DESIGN §10: a correct checksum (lower-case hex too) is accepted and answered with one.
+    // protocol rules: a correct checksum (lower-case hex too) is accepted and answered with one.
     let r = request(&mut c, "get energy*0c3b");
     assert!(r.starts_with("ok energy=100*"), "{r}");
     // Energy and tilt at the edges of their ranges.
@@ -480,7 +482,7 @@ fn replay_problems(dump: &str) -> Vec<String> {
 
 #[test]
 fn dump_replays_as_commands_on_a_fresh_console() {
-    // DESIGN §10: "a config dump that replays as commands"; docs/PROTOCOL.md `dump`:
+    // protocol rules: "a config dump that replays as commands"; docs/PROTOCOL.md `dump`:
     // each item without its leading `- ` is a request, and sending them in order
     // restores the settings. A controller restoring its configuration after power-up
     // (axes at home, step count 0) is the fresh console here.

@@ -133,7 +133,7 @@ proptest! {
 
 #[test]
 fn line_assembler_protocol_limit_is_120() {
-    // DESIGN.md §10 asks for a documented maximum; the protocol documents 120 bytes.
+    // protocol rules asks for a documented maximum; the protocol documents 120 bytes.
     assert_eq!(MAX_LINE, 120);
     let mut long = vec![b'x'; 120];
     long.push(b'\n');

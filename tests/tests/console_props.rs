@@ -2,7 +2,7 @@
 //! simulated controller (feature `sim`): random byte streams, and random request lines
 //! built from the real command words and keys with random values.
 //!
-//! Rules checked (DESIGN.md §10 "Serial protocol principles", §8 "Axes and setpoints"):
+//! Rules checked (protocol rules "Serial protocol principles", §8 "Axes and setpoints"):
 //!
 //! * the firmware never panics on input, and writing a reply never fails;
 //! * every request gets exactly one final status line (`ok …` / `err NNN …`); a
@@ -105,7 +105,7 @@ fn with_crc(line: &str) -> String {
     format!("{line}*{:04X}", crc16_ref(line.as_bytes()))
 }
 
-/// How a completed input line should be treated (DESIGN §10: LF, CR or CRLF ends a
+/// How a completed input line should be treated (protocol rules: LF, CR or CRLF ends a
 /// line; a documented maximum length, 120; printable ASCII and tab only; the first
 /// problem in a line wins).
 #[derive(Debug)]
@@ -314,7 +314,7 @@ impl Session {
         split_crc(line).is_some()
     }
 
-    /// Checks the motions started since `before` (DESIGN §8, §10).
+    /// Checks the motions started since `before` (axis rules, §10).
     fn check_motion(&mut self, before: &State, answered_ok: bool, what: &str) {
         let starts = std::mem::take(&mut self.c.axes.starts);
         let rig = self.c.settings().rig;

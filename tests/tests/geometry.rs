@@ -1,7 +1,7 @@
-//! Goniometer geometry (DESIGN §5–7) against its own invariants, the independent f64
+//! Goniometer geometry (the lattice and geometry conventions) against its own invariants, the independent f64
 //! oracle (`matterwave_console::oracle`) and published worked values.
 //!
-//! Every check value names its source beside it. "DESIGN §7 invariant" marks the lab
+//! Every check value names its source beside it. "geometry rules invariant" marks the lab
 //! frame conventions; "from memory" marks recalled handbook values; expectations derived
 //! from a formula are computed here (in f64) and the number is stated in a comment.
 //!
@@ -119,7 +119,7 @@ fn step_deg(ax: &AxisConfig) -> f64 {
 
 #[test]
 fn specular_beam_sits_at_twice_the_tilt() {
-    // DESIGN §7 invariant: in in-plane mode the specular beam sits at δ = 2α at every
+    // geometry rules invariant: in in-plane mode the specular beam sits at δ = 2α at every
     // energy. Tilts with |2α| beyond the default rig's ±12° gun zone.
     let rig = Rig::bench_default();
     let faces = table_faces();
@@ -161,8 +161,8 @@ fn specular_beam_sits_at_twice_the_tilt() {
 
 #[test]
 fn normal_incidence_exit_is_asin_lambda_over_row_spacing() {
-    // DESIGN §6: at normal incidence sin θ = λ/d_row, d_row = 1/|g| = row_spacing_a(rod);
-    // DESIGN §7: in-plane δ = α + θ_out, so at α = 0 the arm sits at ±θ (branch s).
+    // surface rules: at normal incidence sin θ = λ/d_row, d_row = 1/|g| = row_spacing_a(rod);
+    // geometry rules: in-plane δ = α + θ_out, so at α = 0 the arm sits at ±θ (branch s).
     let faces = table_faces();
     let open = open_rig();
     let bench = Rig::bench_default();
@@ -236,7 +236,7 @@ fn normal_incidence_exit_is_asin_lambda_over_row_spacing() {
 
 #[test]
 fn oblique_in_plane_both_branches() {
-    // DESIGN §7 in-plane mode: sin θ_out = sin α + s·λ·|g| (s = ±1), δ = α + θ_out, and
+    // geometry rules in-plane mode: sin θ_out = sin α + s·λ·|g| (s = ±1), δ = α + θ_out, and
     // the chosen azimuth turns g onto s·e1 (the beam stays in the scattering plane).
     let rig = open_rig();
     let faces = table_faces();
@@ -336,9 +336,9 @@ fn scattering_angle_deg(arm: f32, elev: f32) -> f64 {
 
 #[test]
 fn bragg_arm_and_ring_points() {
-    // DESIGN §7: a bulk Bragg reflection in the scattering plane has 2θ_B = 180° − δ.
-    // DESIGN §5: nλ = 2d sin θ_B. Detector direction d̂(δ, ν) = (−cos δ cos ν,
-    // −sin δ cos ν, sin ν) (DESIGN §7 invariant): the scattering angle of a detector
+    // geometry rules: a bulk Bragg reflection in the scattering plane has 2θ_B = 180° − δ.
+    // lattice rules: nλ = 2d sin θ_B. Detector direction d̂(δ, ν) = (−cos δ cos ν,
+    // −sin δ cos ν, sin ν) (geometry rules invariant): the scattering angle of a detector
     // direction is its angle from k_in = +x, and the +y side of the plane has δ < 0.
     let mut buf = [Reflection::EMPTY; 48];
     let mut rng = Rng(0xb7a9);
@@ -427,7 +427,7 @@ fn seen(face: &Face, e: f32, s: &Solution, rod: [i32; 2]) -> Option<InView> {
 
 #[test]
 fn beams_in_view_inverts_aim_in_plane() {
-    // DESIGN §7: looking at (δ, 0) from the solution's tilt and azimuth shows the beam
+    // geometry rules: looking at (δ, 0) from the solution's tilt and azimuth shows the beam
     // that was aimed at. Exit angles ≤ 80°: beyond, the quantised tilt and azimuth
     // (≤ half a step from the request) move a grazing beam by more than 0.01°.
     let rig = Rig::bench_default();
@@ -470,7 +470,7 @@ fn beams_in_view_inverts_aim_in_plane() {
 
 #[test]
 fn beams_in_view_inverts_aim_two_circle() {
-    // As above, two-circle mode (DESIGN §7): azimuth given, δ and ν from k̂_out.
+    // As above, two-circle mode (geometry rules): azimuth given, δ and ν from k̂_out.
     let rig = two_circle_rig();
     let mut rng = Rng(0x2c1c);
     let faces = random_faces(&mut rng, 40);
@@ -643,7 +643,7 @@ fn two_circle_aim_agrees_with_oracle() {
 #[test]
 fn cu100_first_order_beam_at_100_ev() {
     // Cu a = 3.615 Å (CRC Handbook of Chemistry and Physics — from memory); fcc(100)
-    // rows a/√2 = 2.5562 Å (DESIGN §6). λ(100 eV) = 1.2264 Å (textbook value — from
+    // rows a/√2 = 2.5562 Å (surface rules). λ(100 eV) = 1.2264 Å (textbook value — from
     // memory; CODATA 2018 gives 1.22637 Å). Expectation computed here from
     // sin θ = λ/d_row: asin(1.22637 / 2.55619) = 28.670°.
     let f = Face::new(
@@ -659,7 +659,7 @@ fn cu100_first_order_beam_at_100_ev() {
         let b = f.beam(rod, &Incidence::normal(100.0).unwrap()).unwrap();
         assert!((b.exit_deg - 28.670).abs() < 2e-3, "{rod:?} {b:?}");
     }
-    // Default rig, tilt 0: the arm goes to ±28.670° (DESIGN §7, δ = α + θ_out).
+    // Default rig, tilt 0: the arm goes to ±28.670° (geometry rules, δ = α + θ_out).
     let rig = Rig::bench_default();
     let mut out = [Solution::EMPTY; 8];
     let l = goniometer::aim(
@@ -712,7 +712,7 @@ fn transmission_rings_au_al() {
     // Au a = 4.0782 Å, Al a = 4.0495 Å (CRC Handbook — from memory). λ(100 kV) =
     // 0.037014 Å, λ(200 kV) = 0.025079 Å (International Tables Vol. C, Table 4.3.1.1 —
     // from memory). Camera length L = 1000 mm. Expectations computed here (f64, CODATA
-    // 2018 λ) from R = L·tan 2θ_B, nλ = 2d sin θ_B (DESIGN §5). The camera-constant
+    // 2018 λ) from R = L·tan 2θ_B, nλ = 2d sin θ_B (lattice rules). The camera-constant
     // approximation R·d ≈ λL (Williams & Carter, Transmission Electron Microscopy, ch. 9
     // — from memory) holds to (3/2)θ_B² relative, < 5e-4 here.
     // (crystal, a Å, energy eV, hkl, 2θ_B deg, R mm)
@@ -747,7 +747,7 @@ fn transmission_rings_au_al() {
             "{id} {hkl:?} {} {camera}",
             ring.radius
         );
-        // The arm of the in-plane reflection: δ = 180° − 2θ_B (DESIGN §7).
+        // The arm of the in-plane reflection: δ = 180° − 2θ_B (geometry rules).
         let th = reflections::bragg_deg(d, lam, 1).unwrap();
         assert!((goniometer::bragg_arm_deg(th) as f64 - (180.0 - two_theta)).abs() < 1e-4);
     }
@@ -824,7 +824,7 @@ fn scan_estimate_sums_trapezoidal_moves() {
 #[test]
 fn aim_uses_the_reached_tilt() {
     // A coarse tilt axis (1 step per degree): 20.4° is reached as 20°. The specular
-    // beam is then at 2 × 20° = 40° (DESIGN §7 invariant), but aim puts the arm at
+    // beam is then at 2 × 20° = 40° (geometry rules invariant), but aim puts the arm at
     // 40.8°, and the detector (acceptance 0.5°) sees nothing there.
     let mut rig = Rig::bench_default();
     rig.tilt.steps_per_deg = 1.0;

@@ -41,9 +41,9 @@ fn low_energy_rule_of_thumb_and_speed() {
     assert!(rel(velocity_m_s(100.0), 5.93e6, 2e-3));
     // 100 eV gives λ ≈ 1.2 Å (common practice, no source).
     assert!(close(wavelength_a(100.0), 1.2, 0.05));
-    // Non-relativistic limit agrees at low energy (DESIGN §4 formulas).
+    // Non-relativistic limit agrees at low energy (beam rules formulas).
     assert!(rel(wavelength_nonrel_a(1.0), wavelength_a(1.0), 1e-6));
-    // v = βc with β = sqrt(1 − (mc²/(E + mc²))²) (DESIGN §4), direct form.
+    // v = βc with β = sqrt(1 − (mc²/(E + mc²))²) (beam rules), direct form.
     let e = 300e3;
     let beta = (1.0 - (MC2_EV / (e + MC2_EV)).powi(2)).sqrt();
     assert!(rel(velocity_m_s(e), beta * C_M_S, 1e-12));
@@ -51,7 +51,7 @@ fn low_energy_rule_of_thumb_and_speed() {
 
 #[test]
 fn energy_inverts_wavelength() {
-    // Inverse of λ(E) (DESIGN §4 formula), 1 eV – 300 keV.
+    // Inverse of λ(E) (beam rules formula), 1 eV – 300 keV.
     let mut e = 1.0;
     while e <= 300e3 {
         let back = energy_from_wavelength_ev(wavelength_a(e));
@@ -111,7 +111,7 @@ fn d_spacings() {
 fn extinctions() {
     use OStructure::*;
     let c = |s| OCell::cubic(s, 4.0);
-    // DESIGN §5 extinction rules.
+    // lattice rules extinction rules.
     assert!(!c(Fcc).allowed([1, 0, 0]));
     assert!(c(Fcc).allowed([1, 1, 1]));
     assert!(!c(Bcc).allowed([1, 0, 0]));
@@ -136,7 +136,7 @@ fn extinctions() {
     assert!(!gr.allowed([0, 0, 1]));
     assert!(gr.allowed([0, 0, 2]));
     assert!(!c(Sc).allowed([0, 0, 0]));
-    // Structure factor agrees with the DESIGN §5 parity rules over a box.
+    // Structure factor agrees with the lattice rules parity rules over a box.
     for h in -4..=4 {
         for k in -4..=4 {
             for l in -4..=4 {
@@ -182,7 +182,7 @@ fn meshes() {
     let dia = OCell::cubic(Diamond, A_SI);
     let hcp = OCell::with_ac(Hcp, 2.5, 4.06);
     let gamma_bcc110 = (1.0f64 / 3.0).acos().to_degrees(); // 70.53°
-                                                           // (cell, face, |a1|, |a2|, γ, layer spacing) — DESIGN §6 examples; layer
+                                                           // (cell, face, |a1|, |a2|, γ, layer spacing) — surface rules examples; layer
                                                            // spacings from cubic/hexagonal geometry.
     let cases: [(OCell, [i32; 3], f64, f64, f64, f64); 10] = [
         (fcc, [1, 0, 0], a / s2, a / s2, 90.0, a / 2.0),
@@ -251,7 +251,7 @@ fn meshes() {
 
 #[test]
 fn rotation_is_proper_and_azimuth_sense() {
-    // DESIGN §7: (e1, e2, n̂) right-handed; φ = 0 puts a1 along e1; positive φ is
+    // geometry rules: (e1, e2, n̂) right-handed; φ = 0 puts a1 along e1; positive φ is
     // counter-clockwise about +n̂.
     let fcc = OCell::cubic(OStructure::Fcc, A_FCC);
     let (a1, _a2, n) = mesh_of(&fcc, [1, 1, 1]);
@@ -287,7 +287,7 @@ fn rotation_is_proper_and_azimuth_sense() {
 
 #[test]
 fn specular_arm_is_twice_tilt() {
-    // DESIGN §7 invariant: specular beam at δ = 2α at every energy.
+    // geometry rules invariant: specular beam at δ = 2α at every energy.
     let fcc = OCell::cubic(OStructure::Fcc, A_FCC);
     let (a1, a2, n) = mesh_of(&fcc, [1, 1, 1]);
     for tilt in [0.0, 5.0, 20.0, 35.5, -25.0, 60.0] {
@@ -306,7 +306,7 @@ fn specular_arm_is_twice_tilt() {
 #[test]
 fn normal_incidence_rods() {
     // Grating condition at normal incidence: sin θ = λ/d_row, d_row = 1/|g|
-    // (DESIGN §6).
+    // (surface rules).
     let fcc = OCell::cubic(OStructure::Fcc, A_FCC);
     for face in [[1, 0, 0], [1, 1, 1], [1, 1, 0]] {
         let (a1, a2, n) = mesh_of(&fcc, face);
@@ -327,7 +327,7 @@ fn normal_incidence_rods() {
                     None => assert!(lam > d_row),
                 }
             }
-            // Emergence at normal incidence: λ = d_row (DESIGN §6).
+            // Emergence at normal incidence: λ = d_row (surface rules).
             let e_em = emergence_energy_ev(a1, a2, n, rod, 0.0, 12.0).unwrap();
             let want = energy_from_wavelength_ev(d_row);
             assert!(rel(e_em, want, 1e-10), "{face:?} {rod:?} {e_em} {want}");
@@ -342,7 +342,7 @@ fn normal_incidence_rods() {
 
 #[test]
 fn in_plane_mode() {
-    // DESIGN §7 in-plane mode: g along +e1 gives sin θ_out = sin α + λ|g| and
+    // geometry rules in-plane mode: g along +e1 gives sin θ_out = sin α + λ|g| and
     // δ = α + θ_out.
     let fcc = OCell::cubic(OStructure::Fcc, A_FCC);
     let (a1, a2, n) = mesh_of(&fcc, [1, 0, 0]);
@@ -378,7 +378,7 @@ fn in_plane_mode() {
 
 #[test]
 fn tilted_emergence() {
-    // Emergence: |k∥,in + g| = 1/λ (DESIGN §6), checked at the solved energy.
+    // Emergence: |k∥,in + g| = 1/λ (surface rules), checked at the solved energy.
     let fcc = OCell::cubic(OStructure::Fcc, A_FCC);
     let (a1, a2, n) = mesh_of(&fcc, [1, 1, 1]);
     for (rod, tilt, phi) in [
@@ -397,7 +397,7 @@ fn tilted_emergence() {
 
 #[test]
 fn iv_fcc100_specular() {
-    // DESIGN §6 example: fcc(100), specular, normal incidence, λ_in = 2d/n with
+    // surface rules example: fcc(100), specular, normal incidence, λ_in = 2d/n with
     // d = a/2, i.e. E_n = E(λ = a/n). Bulk G = (2n, 0, 0)/a (fcc: only even
     // indices along the normal are allowed), so every order n = 1, 2, 3, …
     // appears, each from G = (2n, 0, 0).
@@ -438,7 +438,7 @@ fn iv_fcc100_specular() {
 #[test]
 fn iv_tilted_specular_bragg() {
     // Specular at tilt α, V0 = 0: 2 cos α/λ = m/d_layer, i.e. Bragg's law
-    // mλ = 2 d cos α for the layer planes (DESIGN §5–6).
+    // mλ = 2 d cos α for the layer planes (the lattice and surface conventions).
     let fcc = OCell::cubic(OStructure::Fcc, A_FCC);
     let (a1, a2, n) = mesh_of(&fcc, [1, 1, 1]);
     let d = A_FCC / 3f64.sqrt();
@@ -456,7 +456,7 @@ fn iv_tilted_specular_bragg() {
 #[test]
 fn iv_off_specular_condition() {
     // K⊥,in + K⊥,out = G·n̂ at each reported energy, with G allowed and its
-    // in-plane part equal to g (DESIGN §6), and the beam emerged.
+    // in-plane part equal to g (surface rules), and the beam emerged.
     let fcc = OCell::cubic(OStructure::Fcc, A_FCC);
     let (a1, a2, n) = mesh_of(&fcc, [1, 1, 1]);
     let (tilt, phi, v0) = (10.0, 25.0, 9.0);
@@ -486,7 +486,7 @@ fn iv_off_specular_condition() {
 
 #[test]
 fn bragg_and_rings() {
-    // nλ = 2d sin θ_B and R = L tan 2θ_B (DESIGN §5).
+    // nλ = 2d sin θ_B and R = L tan 2θ_B (lattice rules).
     let d = 2.0;
     let e = 100e3;
     let lam = wavelength_a(e);
@@ -496,7 +496,7 @@ fn bragg_and_rings() {
     assert!(rel(th3, (3.0 * lam / (2.0 * d)).asin().to_degrees(), 1e-14));
     let r = ring_radius_mm(d, e, 500.0).unwrap();
     assert!(rel(r, 500.0 * (2.0 * th).to_radians().tan(), 1e-14));
-    // Camera constant R·d ≈ λ·L at small angles (DESIGN §5).
+    // Camera constant R·d ≈ λ·L at small angles (lattice rules).
     assert!(rel(r * d, lam * 500.0, 1e-3));
     // λ > 2d: no reflection. 2θ ≥ 90°: no ring.
     assert_eq!(bragg_deg(0.5, 10.0, 1), None);

@@ -1,4 +1,4 @@
-//! Calibration fits and peak centring on fixed-size sample sets (DESIGN §9).
+//! Calibration fits and peak centring on fixed-size sample sets (fit rules).
 //!
 //! Everything works on caller-owned slices and fixed-size arrays: no allocation, f32
 //! throughout, and every failure is an [`Error`] value:
