@@ -435,7 +435,11 @@ impl Session {
                     assert_eq!(own.len(), 1);
                     assert_eq!(own[0].0, Kind::Ok, "{line}");
                     assert!(!self.c.streaming(), "stop left the stream running");
-                    assert_eq!(before, self.state(), "stop changed state");
+                    // `stop` latches: motion is disabled until a new `enable`;
+                    // nothing else changes.
+                    let mut want = before;
+                    want.enabled = false;
+                    assert_eq!(want, self.state(), "stop changed more than `enabled`");
                     self.stats.aborted += 1;
                     self.stats.ok += 1;
                     answered = Some(Kind::Ok);

@@ -135,3 +135,23 @@ fn axis_and_zone_changes_are_checked_whole() {
         assert!(last(&r).starts_with("ok"), "{line}: {r}");
     }
 }
+
+/// `stop` latches: after it, motion needs a new `enable` (common practice, no source:
+/// an emergency stop must not be undone by the next queued move).
+#[test]
+fn stop_latches_until_enable() {
+    let mut c = console();
+    assert!(last(&request(&mut c, "enable")).starts_with("ok"));
+    assert!(last(&request(&mut c, "move arm=40")).starts_with("ok"));
+    assert!(last(&request(&mut c, "stop")).starts_with("ok"));
+    assert!(!c.enabled());
+    let r = request(&mut c, "move arm=50");
+    assert!(last(&r).starts_with("err 408"), "{r}");
+    assert!(last(&request(&mut c, "enable")).starts_with("ok"));
+    assert!(last(&request(&mut c, "move arm=50")).starts_with("ok"));
+    let stops = c.axes.stops;
+    assert!(last(&request(&mut c, "disable")).starts_with("ok"));
+    assert_eq!(c.axes.stops, stops + 1, "disable stops motion first");
+    assert!(last(&request(&mut c, "reset")).starts_with("ok"));
+    assert_eq!(c.axes.stops, stops + 2, "reset stops motion first");
+}

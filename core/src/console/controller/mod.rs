@@ -242,6 +242,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         if self.streaming() {
             if args.command() == "stop" && args.is_empty() {
                 self.axes.stop();
+                self.enabled = false;
                 let stream_crc = self.stream_crc;
                 self.stream = Stream::Idle;
                 {
@@ -365,6 +366,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             }
             "reset" => {
                 none(a)?;
+                self.axes.stop();
                 let s = Settings::defaults()?;
                 self.settings = s;
                 self.enabled = false;

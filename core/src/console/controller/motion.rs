@@ -88,6 +88,8 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
     }
     pub(super) fn cmd_stop<W: Write>(&mut self, rw: &mut Rw<'_, W>) -> Result<Option<Stream>> {
         self.axes.stop();
+        // `stop` latches: no motion until a new `enable`.
+        self.enabled = false;
         rw.ok().field_str("stopped", "motion");
         Ok(None)
     }
@@ -117,6 +119,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
     }
 
     pub(super) fn cmd_disable<W: Write>(&mut self, rw: &mut Rw<'_, W>) -> Result<Option<Stream>> {
+        self.axes.stop();
         self.enabled = false;
         rw.ok().field_i32("enabled", 0);
         Ok(None)
