@@ -583,16 +583,7 @@ impl AimQuery<'_> {
     /// The emergence energy (at the sample) of the beam, for the evanescent message.
     fn emergence_ev(&self, energy: f32) -> Option<f32> {
         match self.mode {
-            Mode::InPlane => {
-                let g = self.face.rod_inv_a(self.rod);
-                let g_len = math::sqrt(g[0] * g[0] + g[1] * g[1]);
-                let s = math::sin(math::rad(self.tilt)).abs();
-                if g_len > 0.0 {
-                    beam::energy_from_wavelength_ev((1.0 + s) / g_len).ok()
-                } else {
-                    None
-                }
-            }
+            Mode::InPlane => goniometer::in_plane_emergence_ev(&self.face, self.rod, self.tilt),
             Mode::AtAzimuth(az) => {
                 let inc = Incidence::new(energy, self.tilt, az).ok()?;
                 self.face.emergence_ev(self.rod, &inc)

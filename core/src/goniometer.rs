@@ -297,6 +297,20 @@ pub fn in_plane_arm_deg(
     Ok(wrap_180(tilt_deg + math::deg(math::asin(sin_out))))
 }
 
+/// The kinetic energy at the sample, eV, above which rod `rod` of `face` emerges in
+/// in-plane mode at tilt `tilt_deg` on the branch that emerges first (at the lowest
+/// energy): where λ·|g| = 1 + |sin α|. `None` for the specular rod (it always exists)
+/// or when that energy is below 1 eV or above 300 keV.
+pub fn in_plane_emergence_ev(face: &Face, rod: [i32; 2], tilt_deg: f32) -> Option<f32> {
+    let g = face.rod_inv_a(rod);
+    let g_len = math::sqrt(g[0] * g[0] + g[1] * g[1]);
+    if g_len <= 0.0 {
+        return None;
+    }
+    let s = math::sin(math::rad(tilt_deg)).abs();
+    beam::energy_from_wavelength_ev((1.0 + s) / g_len).ok()
+}
+
 /// Reduces an angle to (−180, 180].
 pub fn wrap_180(x: f32) -> f32 {
     let r = x - 360.0 * math::floor((x + 180.0) / 360.0);
@@ -538,6 +552,29 @@ pub fn ring_point_deg(two_theta_deg: f32, ring_azimuth_deg: f32) -> (f32, f32) {
 
 #[cfg(test)]
 mod tests {
+
+    /// Against the f64 inversion of λ = hc/√(E(E + 2mc²)) (CODATA 2018 hc and mc²) at
+    /// λ = (1 + sin α)/|g|, Cu(100) (a = 3.615 Å, from memory) rod (1,0): |g| = √2/a.
+    #[test]
+    fn in_plane_emergence_matches_the_f64_inverse() {
+        let f = Face::new(
+            &Cell::new(Structure::Fcc, 3.615, 0.0, 0.0).unwrap(),
+            [1, 0, 0],
+        )
+        .unwrap();
+        for tilt in [0.0f64, 10.0, -25.0, 60.0] {
+            let lambda = (1.0 + tilt.to_radians().sin().abs()) * 3.615 / 2f64.sqrt();
+            let (hc, mc2) = (12398.419843320f64, 510998.95f64);
+            let want = ((hc / lambda).powi(2) + mc2 * mc2).sqrt() - mc2;
+            let got = in_plane_emergence_ev(&f, [1, 0], tilt as f32).unwrap() as f64;
+            assert!(
+                (got / want - 1.0).abs() < 1e-5,
+                "tilt {tilt}: {got} vs {want}"
+            );
+        }
+        assert_eq!(in_plane_emergence_ev(&f, [0, 0], 10.0), None);
+    }
+
     use super::*;
     use crate::lattice::{Cell, Structure};
 
