@@ -192,7 +192,40 @@ pub fn families(cell: &Cell, d_min_a: f32, out: &mut [Reflection]) -> Result<Lis
         }
         s += 1;
     }
+    // The search stopped early because the buffer was full: the families it did not
+    // reach all have d below the last one kept. Any of them with d ≥ d_min means the
+    // listing is truncated; look for the first one.
+    if !truncated && stored == out.len() {
+        truncated = any_family_from_shell(cell, d_min, s, longest);
+    }
     Ok(Listing { stored, truncated })
+}
+
+/// Whether an allowed family with d ≥ `d_min` has a largest index of `first_shell` or
+/// more (the shells a full-buffer search did not reach).
+fn any_family_from_shell(cell: &Cell, d_min: f32, first_shell: i32, longest: f32) -> bool {
+    let system = cell.structure.system();
+    let mut s = first_shell;
+    while s as f32 <= longest / d_min && s <= 4096 {
+        for h in 0..=s {
+            for k in 0..=s {
+                for l in 0..=s {
+                    if h != s && k != s && l != s {
+                        continue;
+                    }
+                    let hkl = [h, k, l];
+                    if is_representative(system, hkl)
+                        && cell.allowed(hkl)
+                        && 1.0 / math::sqrt(cell.inv_d2(hkl)) >= d_min
+                    {
+                        return true;
+                    }
+                }
+            }
+        }
+        s += 1;
+    }
+    false
 }
 
 /// Decreasing d; equal d: larger indices first.
@@ -265,6 +298,31 @@ pub fn ring(d_a: f32, lambda_a: f32, screen: f32) -> Result<Ring> {
 
 #[cfg(test)]
 mod tests {
+
+    /// A short buffer keeps the first families of the full list, and says it is
+    /// truncated exactly when the full list is longer — for every buffer size.
+    #[test]
+    fn short_buffers_keep_the_head_and_flag_truncation() {
+        for (structure, a, c, d_min) in [
+            (Structure::Fcc, 3.615f32, 0.0f32, 0.8f32),
+            (Structure::Bcc, 3.165, 0.0, 0.9),
+            (Structure::Diamond, 5.431, 0.0, 1.0),
+            (Structure::Hcp, 2.706, 4.282, 0.9),
+        ] {
+            let cell = Cell::new(structure, a, a, c).unwrap();
+            let mut all = [Reflection::EMPTY; 256];
+            let full = families(&cell, d_min, &mut all).unwrap();
+            assert!(!full.truncated && full.stored > 3, "{structure:?}");
+            for n in 1..=full.stored + 1 {
+                let mut buf = [Reflection::EMPTY; 256];
+                let l = families(&cell, d_min, &mut buf[..n]).unwrap();
+                assert_eq!(l.stored, n.min(full.stored), "{structure:?} n={n}");
+                assert_eq!(buf[..l.stored], all[..l.stored], "{structure:?} n={n}");
+                assert_eq!(l.truncated, full.stored > n, "{structure:?} n={n}");
+            }
+        }
+    }
+
     use super::*;
     use crate::lattice::Structure;
 
