@@ -386,6 +386,98 @@ fn aim_beyond_a_limit_names_the_limit() {
 }
 
 #[test]
+fn aim_names_every_refusal_and_honours_the_branch() {
+    let rig = bench_b_with_arm_max(40);
+    let base = [
+        "calc",
+        "aim",
+        "--crystal",
+        "cu",
+        "--face",
+        "100",
+        "--beam",
+        "1,0",
+        "--energy",
+        "100",
+        "--tilt",
+        "10",
+        "--rig",
+    ];
+    let mut args: Vec<&str> = base.to_vec();
+    args.push(rig.to_str().unwrap());
+    // Both poses of the example above, each with its axis and amount: +1 at 50.8° is
+    // 10.8° above 40°; −1 at −7.8° lies 3.2° inside [-11, 11] from its nearer edge.
+    let err = fails(&args);
+    let plus = err
+        .find("branch +1: arm 50.")
+        .unwrap_or_else(|| panic!("{err}"));
+    let minus = err
+        .find("branch -1: arm -7.")
+        .unwrap_or_else(|| panic!("{err}"));
+    assert!(plus < minus, "{err}");
+    assert!(err.contains("(by 10.8"), "{err}");
+    assert!(err.contains("(by 3.1") || err.contains("(by 3.2"), "{err}");
+    // Held on one branch, only that branch is named.
+    let mut one = args.clone();
+    one.extend(["--branch", "-1"]);
+    let err = fails(&one);
+    assert!(
+        err.contains("branch -1: arm -7.") && !err.contains("branch +1"),
+        "{err}"
+    );
+    // On the built-in rig each branch gives its own solution: δ = α + asin(sin α ± λ|g|)
+    // (geometry rules), λ from the f64 relation above, |g| = √2/a, a = 3.615 Å.
+    for (b, sign) in [("+1", 1.0), ("-1", -1.0)] {
+        let v = json(&[
+            "calc",
+            "aim",
+            "--crystal",
+            "cu",
+            "--face",
+            "100",
+            "--beam",
+            "1,0",
+            "--energy",
+            "150",
+            "--tilt",
+            "20",
+            "--branch",
+            b,
+        ]);
+        let sols = v["solutions"].as_array().unwrap();
+        assert!(!sols.is_empty(), "{v}");
+        let s = (20f64.to_radians().sin() + sign * lambda(150.0) * 2f64.sqrt() / 3.615).asin();
+        let want = 20.0 + s.to_degrees();
+        for sol in sols {
+            assert_eq!(num(&sol["branch"]), sign, "{v}");
+            let arm = num(&sol["arm_deg"]) + num(&sol["arm_residual_deg"]);
+            assert!((arm - want).abs() < 0.01, "branch {b}: {arm} vs {want}");
+        }
+        assert_eq!(v["branch"], b, "{v}");
+    }
+    // A branch in two-circle mode is refused, not ignored.
+    let err = fails(&[
+        "calc",
+        "aim",
+        "--crystal",
+        "cu",
+        "--face",
+        "100",
+        "--beam",
+        "1,0",
+        "--energy",
+        "150",
+        "--tilt",
+        "20",
+        "--azimuth",
+        "0",
+        "--branch",
+        "+1",
+    ]);
+    assert!(err.contains("E131") && err.contains("--branch +1"), "{err}");
+}
+
+#[test]
 fn aim_at_an_evanescent_beam_says_evanescent() {
     let err = fails(&[
         "calc",

@@ -23,8 +23,8 @@
 //! ```
 
 use crate::error::{finite, Error, Quantity, Result};
-use crate::goniometer::{self, Mode, Position, Rig, Solution};
-use crate::lattice::{Cell, Miller};
+use crate::goniometer::{self, AimRequest, Branch, Mode, Position, Rig, Solution};
+use crate::lattice::Cell;
 use crate::math;
 use crate::surface::Face;
 
@@ -269,29 +269,22 @@ pub struct ArmBudget {
     pub budget: Budget,
 }
 
-/// The angular budget of the arm aimed at rod `rod` of face `miller` of `cell` at
-/// kinetic energy `energy_ev` (at the sample), tilt `tilt_deg`, in `mode`, from the
-/// position `current` — the one function behind the console's `budget` request and
-/// `mwctl calc budget`.
+/// The angular budget of the arm aimed as `req` asks (its face, beam, energy at the
+/// sample, tilt, mode and branch), from the position `current` — the one function
+/// behind the console's `budget` request and `mwctl calc budget`.
 ///
 /// The solution is [`goniometer::aim`]'s nearest on the real rig. Sensitivities are
 /// central differences of the arm angle on the rig's [`Rig::geometry_only`] copy, aimed
 /// from that solution, so that a small change keeps the same branch: ∂arm/∂E with a step
 /// of max(0.5 % E, 0.05 eV), shrunk tenfold (down to 1 meV) while the beam would not
-/// exist on one side; ∂arm/∂a with a step of 0.1 % of a.
+/// exist on one side; ∂arm/∂a with a step of 0.1 % of the face's lattice constant a.
 ///
 /// Errors: inputs outside their ranges (`TooLow`/`TooHigh` of `EnergySpread`,
 /// `ArmZeroSigma`, `Length` for the lattice σ); whatever `aim` refuses; a beam so close
 /// to its emergence energy that no energy step fits (`Evanescent`).
-#[allow(clippy::too_many_arguments)]
 pub fn arm_budget(
     rig: &Rig,
-    cell: &Cell,
-    miller: Miller,
-    rod: [i32; 2],
-    energy_ev: f32,
-    tilt_deg: f32,
-    mode: Mode,
+    req: &AimRequest<'_>,
     current: &Position,
     inputs: &ArmBudgetInputs,
 ) -> Result<ArmBudget> {
@@ -300,24 +293,36 @@ pub fn arm_budget(
     let zero = finite(inputs.arm_zero_sigma_deg, Quantity::ArmZeroSigma)?;
     range(zero, 10.0, Quantity::ArmZeroSigma)?;
     let sigma_a = finite(inputs.lattice_sigma_a, Quantity::Length)?;
+    let cell = &req.face.cell;
+    let miller = req.face.miller;
+    let energy_ev = req.energy_ev;
     range(sigma_a, cell.a_a, Quantity::Length)?;
-    let face = Face::new(cell, miller)?;
     let mut one = [Solution::EMPTY; 1];
-    goniometer::aim(
-        rig, &face, rod, energy_ev, tilt_deg, mode, current, &mut one,
-    )?;
+    goniometer::aim(rig, req, current, &mut one)?;
     let [solution] = one;
     let target = |s: &Solution| s.arm.angle_deg + s.arm.residual_deg;
-    let open = rig.geometry_only(matches!(mode, Mode::AtAzimuth(_)));
+    let open = rig.geometry_only(matches!(req.mode, Mode::AtAzimuth(_)));
     let from = solution.position();
+    // Near the solution, on its branch.
+    let branch = match solution.branch {
+        1 => Branch::Plus,
+        -1 => Branch::Minus,
+        _ => req.branch,
+    };
     let arm_at = |face: &Face, e: f32| -> Result<f32> {
         let mut one = [Solution::EMPTY; 1];
-        goniometer::aim(&open, face, rod, e, tilt_deg, mode, &from, &mut one)?;
+        let r = AimRequest {
+            face,
+            energy_ev: e,
+            branch,
+            ..*req
+        };
+        goniometer::aim(&open, &r, &from, &mut one)?;
         one.first().map(target).ok_or(Error::NoReachableSolution)
     };
     let mut de = (0.005 * energy_ev).max(0.05);
     let d_energy = loop {
-        match sensitivity(|x| arm_at(&face, x), energy_ev, de) {
+        match sensitivity(|x| arm_at(req.face, x), energy_ev, de) {
             Ok(s) => break s,
             Err(_) if de > 1e-3 => de *= 0.1,
             Err(_) => return Err(Error::Evanescent),

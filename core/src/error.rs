@@ -193,6 +193,9 @@ pub enum Error {
     ReplyTooLong,
     /// A crystal with no table face was chosen without `face=`.
     FaceNeeded,
+    /// A branch preference of +1 or −1 was given for two-circle aiming (at a fixed
+    /// azimuth), where the azimuth, not a branch, decides the pose.
+    BranchNeedsInPlane,
     /// The axis's home (step 0) lies outside its soft limits.
     HomeOutsideLimits(AxisId),
     /// The soft limits lie farther from home than the step counter reaches.
@@ -253,6 +256,7 @@ impl Error {
             Error::BufferFull => 413,
             Error::ReplyTooLong => 420,
             Error::FaceNeeded => 130,
+            Error::BranchNeedsInPlane => 131,
             Error::HomeOutsideLimits(_) => 315,
             Error::ReachBeyondCounter(_) => 316,
             Error::ZoneOutsideLimits(_, _) => 317,
@@ -339,6 +343,9 @@ impl Error {
             Error::BufferFull => "sample buffer full; send pt clear",
             Error::ReplyTooLong => "reply too long; ask for fewer fields",
             Error::FaceNeeded => "this crystal has no table face; give face= with the crystal",
+            Error::BranchNeedsInPlane => {
+                "branch +1 or -1 applies to in-plane aiming only; set the azimuth free or use branch nearest"
+            }
             Error::HomeOutsideLimits(_) => {
                 "home (step 0) lies outside the soft limits; set home_offset_deg between min_deg and max_deg"
             }

@@ -7,13 +7,13 @@
 //!
 //! ```
 //! use matterwave_core::beam::Gun;
-//! use matterwave_core::goniometer::{Mode, Rig};
+//! use matterwave_core::goniometer::{Branch, Mode, Rig};
 //! use matterwave_core::lattice::{Cell, Structure};
 //! use matterwave_core::scan::TrackPlan;
 //! use matterwave_core::surface::Face;
 //! let face = Face::new(&Cell::new(Structure::Fcc, 3.615, 0.0, 0.0).unwrap(), [1, 0, 0]).unwrap();
-//! let plan = TrackPlan::new(Rig::bench_default(), face, [1, 0], Gun::plain(0.0), 30.0, 200.0, 10.0, 10.0, Mode::InPlane)
-//!     .unwrap();
+//! let plan = TrackPlan::new(Rig::bench_default(), face, [1, 0], Gun::plain(0.0), 30.0, 200.0, 10.0, 10.0, Mode::InPlane,
+//!     Branch::Nearest).unwrap();
 //! assert_eq!(plan.len(), 18);
 //! let first = plan.iter([0; 4]).next().unwrap();
 //! // Nearest solution from the home position: g along −e1, δ = α + asin(sin α − λ|g|).
@@ -25,7 +25,7 @@
 
 use crate::beam::Gun;
 use crate::error::{finite, Error, Quantity, Result};
-use crate::goniometer::{self, InView, Mode, Position, Rig, Solution};
+use crate::goniometer::{self, AimRequest, Branch, InView, Mode, Position, Rig, Solution};
 use crate::listing::{insert_sorted, Listing};
 use crate::math;
 use crate::surface::{Face, Incidence, IvPeak};
@@ -72,6 +72,9 @@ pub struct TrackPlan {
     pub tilt_deg: f32,
     /// Aiming mode.
     pub mode: Mode,
+    /// Branch preference: `Plus` or `Minus` holds the track on one branch over the
+    /// whole range; `Nearest` follows the solution nearest the previous point.
+    pub branch: Branch,
     count: u32,
 }
 
@@ -90,7 +93,8 @@ pub struct TrackPoint {
 
 impl TrackPlan {
     /// A sweep from `from_ev` to `to_ev` (nominal, inclusive where the step lands on
-    /// it) in steps of `step_ev`.
+    /// it) in steps of `step_ev`, aiming in `mode` on `branch`. Errors: the rig's
+    /// validation, the tilt, the point count, `BranchNeedsInPlane`.
     #[allow(clippy::too_many_arguments)]
     pub fn new(
         rig: Rig,
@@ -102,9 +106,13 @@ impl TrackPlan {
         step_ev: f32,
         tilt_deg: f32,
         mode: Mode,
+        branch: Branch,
     ) -> Result<TrackPlan> {
         rig.validate()?;
         crate::surface::check_tilt(tilt_deg)?;
+        if matches!(mode, Mode::AtAzimuth(_)) && branch != Branch::Nearest {
+            return Err(Error::BranchNeedsInPlane);
+        }
         let count = count_points(from_ev, to_ev, step_ev, Quantity::Energy)?;
         Ok(TrackPlan {
             rig,
@@ -115,6 +123,7 @@ impl TrackPlan {
             step_ev,
             tilt_deg,
             mode,
+            branch,
             count,
         })
     }
@@ -154,17 +163,10 @@ impl TrackPlan {
         let (energy, result) = match gun.kinetic_energy_ev() {
             Ok(e) => {
                 let mut one = [Solution::EMPTY; 1];
-                let r = goniometer::aim(
-                    &self.rig,
-                    &self.face,
-                    self.rod,
-                    e,
-                    self.tilt_deg,
-                    self.mode,
-                    from,
-                    &mut one,
-                )
-                .map(|_| one[0]);
+                let req = AimRequest::new(&self.face, self.rod, e, self.tilt_deg)
+                    .with_mode(self.mode)
+                    .with_branch(self.branch);
+                let r = goniometer::aim(&self.rig, &req, from, &mut one).map(|_| one[0]);
                 (e, r)
             }
             Err(err) => (f32::NAN, Err(err)),
@@ -522,6 +524,7 @@ mod tests {
             20.0,
             10.0,
             Mode::InPlane,
+            Branch::Nearest,
         )
         .unwrap();
         // Start with the arm at +30°, on the far side of the gun's shadow from the −1
@@ -553,6 +556,7 @@ mod tests {
             10.0,
             20.0,
             Mode::InPlane,
+            Branch::Nearest,
         )
         .unwrap();
         let t0 = estimate_s(&rig, [0; 4], plan.iter([0; 4]).map(|p| p.result.ok()), 0.0);
@@ -573,6 +577,7 @@ mod tests {
             1.0,
             15.0,
             Mode::InPlane,
+            Branch::Nearest,
         )
         .unwrap();
         let iv = IvPlan::new(plan, 10.0, [0; 4]).unwrap();

@@ -28,7 +28,7 @@ use std::sync::OnceLock;
 use matterwave_core::axis::{
     Approach, AxisConfig, Setpoint, Zone, MAX_ZONES, STEPS_MAX, WRAP_RANGE_DEG,
 };
-use matterwave_core::goniometer::{self, Mode, Position, Rig, Solution};
+use matterwave_core::goniometer::{self, AimRequest, Mode, Position, Rig, Solution};
 use matterwave_core::lattice::System;
 use matterwave_core::surface::Face;
 use matterwave_core::{table, AxisId, Error, Quantity};
@@ -1009,8 +1009,18 @@ fn aim_solutions_obey_every_axis() {
             let (e, tilt, mode, current, len) = (c.energy_ev, c.tilt_deg, c.mode, c.current, c.len);
             let mut big = [Solution::EMPTY; 32];
             let mut small = [Solution::EMPTY; 8];
-            let rb = goniometer::aim(rig, face, c.rod, e, tilt, mode, &current, &mut big);
-            let rs = goniometer::aim(rig, face, c.rod, e, tilt, mode, &current, &mut small[..len]);
+            let rb = goniometer::aim(
+                rig,
+                &AimRequest::new(face, c.rod, e, tilt).with_mode(mode),
+                &current,
+                &mut big,
+            );
+            let rs = goniometer::aim(
+                rig,
+                &AimRequest::new(face, c.rod, e, tilt).with_mode(mode),
+                &current,
+                &mut small[..len],
+            );
             let lb = match (rb, rs) {
                 (Err(a), Err(b)) => {
                     stats.error(a, true);

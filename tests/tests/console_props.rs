@@ -266,6 +266,8 @@ struct Session {
     model: LineModel,
     out: Vec<u8>,
     stream_crc: bool,
+    /// Whether the running stream is an `aim`'s (which may end with `err`).
+    refusing: bool,
     /// The chunk being fed (for failure messages of the byte-stream test).
     last_input: Vec<u8>,
     /// Final lines seen, by class, for the report at the end of the test.
@@ -295,6 +297,7 @@ impl Session {
             model: LineModel::default(),
             out: Vec::new(),
             stream_crc: false,
+            refusing: false,
             last_input: Vec::new(),
             stats: Stats::default(),
         }
@@ -457,6 +460,7 @@ impl Session {
                 } else if self.c.streaming() {
                     assert!(self.out.is_empty(), "stream start wrote output: {line}");
                     self.stream_crc = crc_on;
+                    self.refusing = line.starts_with("aim");
                     self.stats.streams += 1;
                 } else {
                     let k = reply_lines(&self.out, crc_on);
@@ -499,11 +503,17 @@ impl Session {
             if more {
                 assert_eq!(k[0].0, Kind::Item, "{}", k[0].1);
                 assert!(self.c.streaming());
+            } else if matches!(k[0].0, Kind::Err(_)) {
+                // Only a refused `aim` ends its stream (of `- refused` items) with `err`.
+                assert!(self.refusing, "a stream ended with err: {}", k[0].1);
+                assert!(!self.c.streaming());
+                self.stats.err += 1;
             } else {
                 assert_eq!(k[0].0, Kind::Ok, "a stream ends with ok: {}", k[0].1);
                 assert!(!self.c.streaming());
                 self.stats.ok += 1;
             }
+
             assert_eq!(before, self.state(), "a stream line changed state");
             self.check_motion(&before, false, "poll");
         }

@@ -10,7 +10,7 @@
 
 use matterwave_console::oracle::{self, OCell};
 use matterwave_core::axis::{Approach, AxisConfig};
-use matterwave_core::goniometer::{self, InView, Mode, Rig, Solution};
+use matterwave_core::goniometer::{self, AimRequest, InView, Mode, Rig, Solution};
 use matterwave_core::lattice::{Cell, Structure, System};
 use matterwave_core::reflections::{self, Reflection};
 use matterwave_core::scan;
@@ -134,8 +134,13 @@ fn specular_beam_sits_at_twice_the_tilt() {
         let tilt = (rng.sign() * rng.range(6.05, 79.9)) as f32;
         let az_steps = rng.int(-200_000, 200_000);
         let cur = [0, 0, 0, az_steps];
-        let l = goniometer::aim(&rig, f, [0, 0], e, tilt, Mode::InPlane, &cur, &mut out)
-            .unwrap_or_else(|err| panic!("{} {:?} E={e} tilt={tilt}: {err:?}", c.id, f.miller));
+        let l = goniometer::aim(
+            &rig,
+            &AimRequest::new(f, [0, 0], e, tilt).with_mode(Mode::InPlane),
+            &cur,
+            &mut out,
+        )
+        .unwrap_or_else(|err| panic!("{} {:?} E={e} tilt={tilt}: {err:?}", c.id, f.miller));
         // One branch; the azimuth wraps; the arm's ±360° copies lie beyond ±165°.
         assert_eq!(l.stored, 1, "{} {:?} E={e} tilt={tilt}", c.id, f.miller);
         let s = &out[0];
@@ -200,9 +205,13 @@ fn normal_incidence_exit_is_asin_lambda_over_row_spacing() {
                         b.exit_deg
                     );
                     // In-plane at tilt 0: both branches, arm = exit angle = s·θ.
-                    let l =
-                        goniometer::aim(&open, f, rod, e, 0.0, Mode::InPlane, &[0; 4], &mut out)
-                            .unwrap();
+                    let l = goniometer::aim(
+                        &open,
+                        &AimRequest::new(f, rod, e, 0.0).with_mode(Mode::InPlane),
+                        &[0; 4],
+                        &mut out,
+                    )
+                    .unwrap();
                     assert_eq!(l.stored, 2, "{} {rod:?} E={e}", c.id);
                     for s in &out[..l.stored] {
                         let want = s.branch as f64 * theta;
@@ -214,8 +223,12 @@ fn normal_incidence_exit_is_asin_lambda_over_row_spacing() {
                     }
                     assert_ne!(out[0].branch, out[1].branch);
                     // The default rig: the ±12° gun zone refuses small exit angles.
-                    let r =
-                        goniometer::aim(&bench, f, rod, e, 0.0, Mode::InPlane, &[0; 4], &mut out);
+                    let r = goniometer::aim(
+                        &bench,
+                        &AimRequest::new(f, rod, e, 0.0).with_mode(Mode::InPlane),
+                        &[0; 4],
+                        &mut out,
+                    );
                     if theta > 12.01 {
                         assert_eq!(r.map(|l| l.stored), Ok(2), "{} {rod:?} E={e}", c.id);
                     } else if theta < 11.99 {
@@ -257,7 +270,12 @@ fn oblique_in_plane_both_branches() {
         let lam = oracle::wavelength_a(e as f64);
         let g = 1.0 / f.row_spacing_a(rod).unwrap() as f64;
         let sa = (tilt as f64).to_radians().sin();
-        let r = goniometer::aim(&rig, f, rod, e, tilt, Mode::InPlane, &[0; 4], &mut out);
+        let r = goniometer::aim(
+            &rig,
+            &AimRequest::new(f, rod, e, tilt).with_mode(Mode::InPlane),
+            &[0; 4],
+            &mut out,
+        );
         let sols: &[Solution] = match &r {
             Ok(l) => &out[..l.stored],
             Err(Error::Evanescent) => &[],
@@ -440,7 +458,12 @@ fn beams_in_view_inverts_aim_in_plane() {
         let rod = rng.rod();
         let e = rng.energy(5.0, 1500.0);
         let tilt = rng.range(-75.0, 75.0) as f32;
-        let Ok(l) = goniometer::aim(&rig, f, rod, e, tilt, Mode::InPlane, &[0; 4], &mut out) else {
+        let Ok(l) = goniometer::aim(
+            &rig,
+            &AimRequest::new(f, rod, e, tilt).with_mode(Mode::InPlane),
+            &[0; 4],
+            &mut out,
+        ) else {
             continue;
         };
         for s in &out[..l.stored] {
@@ -484,11 +507,7 @@ fn beams_in_view_inverts_aim_two_circle() {
         let az = rng.range(-180.0, 180.0) as f32;
         let Ok(l) = goniometer::aim(
             &rig,
-            f,
-            rod,
-            e,
-            tilt,
-            Mode::AtAzimuth(az),
+            &AimRequest::new(f, rod, e, tilt).with_mode(Mode::AtAzimuth(az)),
             &[0; 4],
             &mut out,
         ) else {
@@ -556,11 +575,7 @@ fn two_circle_aim_agrees_with_oracle() {
         let o = oracle::beam_exit(a1, a2, nrm, rod, e as f64, tilt as f64, az as f64);
         let r = goniometer::aim(
             &rig,
-            f,
-            rod,
-            e,
-            tilt,
-            Mode::AtAzimuth(az),
+            &AimRequest::new(f, rod, e, tilt).with_mode(Mode::AtAzimuth(az)),
             &[0; 4],
             &mut out,
         );
@@ -664,11 +679,7 @@ fn cu100_first_order_beam_at_100_ev() {
     let mut out = [Solution::EMPTY; 8];
     let l = goniometer::aim(
         &rig,
-        &f,
-        [1, 0],
-        100.0,
-        0.0,
-        Mode::InPlane,
+        &AimRequest::new(&f, [1, 0], 100.0, 0.0).with_mode(Mode::InPlane),
         &[0; 4],
         &mut out,
     )
@@ -685,11 +696,7 @@ fn cu100_first_order_beam_at_100_ev() {
     // default ±12° gun zone, so the reached arm must be above 12°.
     let l = goniometer::aim(
         &rig,
-        &f,
-        [1, 0],
-        100.0,
-        20.0,
-        Mode::InPlane,
+        &AimRequest::new(&f, [1, 0], 100.0, 20.0).with_mode(Mode::InPlane),
         &[0; 4],
         &mut out,
     )
@@ -836,11 +843,7 @@ fn aim_uses_the_reached_tilt() {
     let mut out = [Solution::EMPTY; 4];
     let l = goniometer::aim(
         &rig,
-        &f,
-        [0, 0],
-        100.0,
-        20.4,
-        Mode::InPlane,
+        &AimRequest::new(&f, [0, 0], 100.0, 20.4).with_mode(Mode::InPlane),
         &[0; 4],
         &mut out,
     )

@@ -7,7 +7,7 @@ use super::Rw;
 use crate::console::wire::num;
 use crate::console::wire::token::{Args, TokenError};
 use crate::error::{AxisId, Error, Result};
-use crate::goniometer::Rig;
+use crate::goniometer::{Branch, Refusal, Rig};
 use crate::lattice::Miller;
 
 pub(super) fn tok_err(e: TokenError) -> Error {
@@ -29,6 +29,11 @@ pub(super) fn opt_num(a: &mut Args<'_>, key: &str) -> Result<Option<f32>> {
 
 pub(super) fn req_num(a: &mut Args<'_>, key: &str) -> Result<f32> {
     opt_num(a, key)?.ok_or(Error::MissingArgument)
+}
+
+/// A branch preference word (`nearest`, `+1`, `-1`).
+pub(super) fn parse_branch(s: &str) -> Result<Branch> {
+    Branch::from_word(s).ok_or(Error::BadValue)
 }
 
 pub(super) fn parse_int(s: &str) -> Result<i32> {
@@ -95,6 +100,37 @@ pub(super) fn write_err<W: Write>(rw: &mut Rw<'_, W>, e: Error, rig: &Rig) {
         }
     }
     rw.text("-").text(e.message());
+}
+
+/// `- refused branch=… axis=… target=… err=… [min=|max=|zone= from= to=] [by=]`: one
+/// axis of one pose that refuses an `aim`.
+pub(super) fn write_refusal<W: Write>(rw: &mut Rw<'_, W>, r: &Refusal, rig: &Rig) {
+    rw.item()
+        .word("refused")
+        .field_i32("branch", i32::from(r.branch))
+        .field_str("axis", r.axis.name())
+        .field_f32_rt("target", r.target_deg)
+        .field_i32("err", i32::from(r.error.code()));
+    let cfg = axis_of(rig, r.axis);
+    match (r.error, cfg) {
+        (Error::BelowLimit(_), Some(c)) => {
+            rw.field_f32_rt("min", c.min_deg);
+        }
+        (Error::AboveLimit(_), Some(c)) => {
+            rw.field_f32_rt("max", c.max_deg);
+        }
+        (Error::InZone(_, z) | Error::PathCrossesZone(_, z), c) => {
+            rw.field_i32("zone", i32::from(z));
+            if let Some(Some(zone)) = c.and_then(|c| c.zones.get(usize::from(z))) {
+                rw.field_f32_rt("from", zone.from_deg)
+                    .field_f32_rt("to", zone.to_deg);
+            }
+        }
+        _ => {}
+    }
+    if let Some(d) = r.by_deg {
+        rw.field_f32_rt("by", d);
+    }
 }
 
 pub(super) fn write_point_error<W: Write>(rw: &mut Rw<'_, W>, e: Error) {

@@ -28,12 +28,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         let e = s.gun.kinetic_energy_ev()?;
         let b = budget::arm_budget(
             &s.rig,
-            &s.crystal.cell()?,
-            s.face.miller,
-            s.beam,
-            e,
-            s.tilt_deg,
-            s.mode(),
+            &s.aim_request(s.beam, e, s.branch),
             &pos,
             &ArmBudgetInputs {
                 energy_spread_ev: spread,

@@ -46,7 +46,7 @@ use super::wire::line::{LineAssembler, LineEvent, MAX_LINE};
 use super::wire::reply::{ReplyError, ReplyWriter};
 use super::wire::token::Args;
 use crate::error::{AxisId, Error, Result};
-use crate::goniometer::{axis_index, Position, Solution};
+use crate::goniometer::{axis_index, Position, Refusals, Solution};
 
 use args::{tok_err, write_err};
 pub use settings::{SettingKey, Settings, SETTING_KEYS};
@@ -79,7 +79,7 @@ pub const COMMANDS: [(&str, &str); 23] = [
     ("beams", "list the beams at the current settings"),
     (
         "aim",
-        "aim [beam=h,k]: solutions for the beam, nearest first",
+        "aim [beam=h,k] [branch=nearest|+1|-1]: solutions for the beam, nearest first; on failure every refusal, then err",
     ),
     (
         "move",
@@ -99,7 +99,7 @@ pub const COMMANDS: [(&str, &str); 23] = [
     ),
     (
         "plan",
-        "plan kind=track|iv|sweep from= to= step= [dwell=]: streamed points",
+        "plan kind=track|iv|sweep from= to= step= [dwell=] [branch=nearest|+1|-1]: streamed points",
     ),
     ("pt", "pt x= y= [n=] | pt clear: points for fit"),
     ("fit", "fit kind=peak|centroid|armzero|rows|iv [threshold=]"),
@@ -132,6 +132,8 @@ pub struct Console<A: AxisDriver, D: Detector, I: Interlock> {
     settings: Settings,
     enabled: bool,
     solutions: heapless::Vec<Solution, MAX_SOLUTIONS>,
+    /// Why the last `aim` found no solution (streamed before its `err` line).
+    refusals: Refusals,
     points: heapless::Vec<Point, MAX_POINTS>,
     stream: Stream,
     stream_crc: bool,
@@ -153,6 +155,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             settings: Settings::defaults()?,
             enabled: false,
             solutions: heapless::Vec::new(),
+            refusals: Refusals::default(),
             points: heapless::Vec::new(),
             stream: Stream::Idle,
             stream_crc: false,
@@ -394,6 +397,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         let ctx = stream::Context {
             settings: &self.settings,
             solutions: &self.solutions,
+            refusals: &self.refusals,
         };
         let more = self.stream.step(&ctx, &mut rw);
         if rw.overflowed() {

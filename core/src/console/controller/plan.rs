@@ -3,7 +3,7 @@
 
 use embedded_io::Write;
 
-use super::args::{opt_num, parse_rod, req_num, tok_err, write_point_error};
+use super::args::{opt_num, parse_branch, parse_rod, req_num, tok_err, write_point_error};
 use super::{Console, Rw, Stream, MAX_SOLUTIONS};
 use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::console::wire::token::Args;
@@ -37,26 +37,37 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
     pub(super) fn cmd_aim(&mut self, a: &mut Args<'_>) -> Result<Option<Stream>> {
         // Any `aim` that fails leaves no stale solutions behind for `move sol=`.
         self.solutions.clear();
+        self.refusals.clear();
         let rod = match a.get("beam") {
             Some(v) => parse_rod(v)?,
             None => self.settings.beam,
+        };
+        let branch = match a.get("branch") {
+            Some(v) => parse_branch(v)?,
+            None => self.settings.branch,
         };
         a.check_all_used().map_err(tok_err)?;
         let s = &self.settings;
         let e = s.gun.kinetic_energy_ev()?;
         let pos = self.position();
         let s = &self.settings;
+        let req = s.aim_request(rod, e, branch);
         let mut out = [Solution::EMPTY; MAX_SOLUTIONS];
-        let l = goniometer::aim(
-            &s.rig,
-            &s.face,
-            rod,
-            e,
-            s.tilt_deg,
-            s.mode(),
-            &pos,
-            &mut out,
-        )?;
+        let l = match goniometer::aim(&s.rig, &req, &pos, &mut out) {
+            Ok(l) => l,
+            Err(e)
+                if e == Error::Evanescent
+                    || e.axis().is_some()
+                    || e == Error::NoReachableSolution =>
+            {
+                // Say everything that stands in the way, then the error.
+                let r = goniometer::refusals(&s.rig, &req, &pos)?;
+                self.refusals = r;
+                self.errors = self.errors.saturating_add(1);
+                return Ok(Some(Stream::Refused(0)));
+            }
+            Err(e) => return Err(e),
+        };
         for sol in out.iter().take(l.stored) {
             // Cannot fail: `out` has the vector's capacity.
             let _ = self.solutions.push(*sol);
@@ -70,6 +81,10 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         let to = req_num(a, "to")?;
         let step = req_num(a, "step")?;
         let dwell = opt_num(a, "dwell")?.unwrap_or(0.0);
+        let branch = match a.get("branch") {
+            Some(v) => parse_branch(v)?,
+            None => self.settings.branch,
+        };
         a.check_all_used().map_err(tok_err)?;
         if !(0.0..=3600.0).contains(&dwell) {
             return Err(Error::BadNumber);
@@ -88,6 +103,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                     step,
                     s.tilt_deg,
                     s.mode(),
+                    branch,
                 )?;
                 if kind == "iv" {
                     Plan::Iv(IvPlan::new(t, s.inner_potential(), pos)?)

@@ -3,13 +3,13 @@
 
 use embedded_io::Write;
 
-use super::args::{miller_text, parse_num, parse_rod, rod_text, tok_err};
+use super::args::{miller_text, parse_branch, parse_num, parse_rod, rod_text, tok_err};
 use super::{Console, Rw, Stream};
 use crate::beam::{self, Gun};
 use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::console::wire::token::Args;
 use crate::error::{Error, Quantity, Result};
-use crate::goniometer::{Mode, Rig};
+use crate::goniometer::{AimRequest, Branch, Mode, Rig};
 use crate::lattice::{parse_miller, Miller, System};
 use crate::surface::Face;
 use crate::table::{self, Crystal};
@@ -33,6 +33,8 @@ pub struct Settings {
     pub beam: [i32; 2],
     /// Axes and detector acceptance.
     pub rig: Rig,
+    /// Branch preference of `aim`, `budget` and the plans.
+    pub branch: Branch,
 }
 
 impl Settings {
@@ -49,11 +51,33 @@ impl Settings {
             azimuth_deg: None,
             beam: [0, 0],
             rig: Rig::bench_default(),
+            branch: Branch::Nearest,
         })
     }
 
     pub(super) fn mode(&self) -> Mode {
         self.azimuth_deg.map_or(Mode::InPlane, Mode::AtAzimuth)
+    }
+
+    /// A branch of +1 or −1 needs in-plane aiming (`azimuth=free`).
+    pub(super) fn check_branch(&self) -> Result<()> {
+        if self.azimuth_deg.is_some() && self.branch != Branch::Nearest {
+            return Err(Error::BranchNeedsInPlane);
+        }
+        Ok(())
+    }
+
+    /// The aiming request for `rod` at the current settings and the energy at the
+    /// sample `energy_ev`, on `branch`.
+    pub(super) fn aim_request(
+        &self,
+        rod: [i32; 2],
+        energy_ev: f32,
+        branch: Branch,
+    ) -> AimRequest<'_> {
+        AimRequest::new(&self.face, rod, energy_ev, self.tilt_deg)
+            .with_mode(self.mode())
+            .with_branch(branch)
     }
 
     /// The inner potential in use, eV: the set value, else the table's for the face,
@@ -94,6 +118,8 @@ pub enum Key {
     Beam,
     /// Detector acceptance half-angle, degrees.
     Acceptance,
+    /// Branch preference: `nearest`, `+1` or `-1`.
+    Branch,
 }
 
 /// One setting key as the protocol names it.
@@ -120,7 +146,7 @@ const fn k(name: &'static str, key: Key, settable: bool, dump_line: u8) -> Setti
 
 /// Every setting key, in the order `get` prints them and `set` applies them (the
 /// crystal before the face it is read against).
-pub const SETTING_KEYS: [SettingKey; 13] = [
+pub const SETTING_KEYS: [SettingKey; 14] = [
     k("energy", Key::Energy, true, 0),
     k("kinetic", Key::Kinetic, false, 0),
     k("wavelength", Key::Wavelength, false, 0),
@@ -134,6 +160,7 @@ pub const SETTING_KEYS: [SettingKey; 13] = [
     k("azimuth", Key::Azimuth, true, 1),
     k("beam", Key::Beam, true, 1),
     k("acceptance", Key::Acceptance, true, 1),
+    k("branch", Key::Branch, true, 1),
 ];
 
 /// Lines of the dump that [`SETTING_KEYS`] fill.
@@ -184,6 +211,7 @@ fn apply(s: &mut Settings, notes: &mut SetNotes, key: Key, v: &str) -> Result<()
         }
         Key::Beam => s.beam = parse_rod(v)?,
         Key::Acceptance => s.rig.acceptance_deg = parse_num(v)?,
+        Key::Branch => s.branch = parse_branch(v)?,
         Key::Kinetic | Key::Wavelength => return Err(Error::UnknownArgument),
     }
     Ok(())
@@ -228,6 +256,7 @@ impl Settings {
                 rw.field_str(n, rod_text(self.beam, &mut b))
             }
             Key::Acceptance => rw.field_f32_rt(n, self.rig.acceptance_deg),
+            Key::Branch => rw.field_str(n, self.branch.word()),
         };
         Ok(())
     }
@@ -270,6 +299,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         }
         s.gun.kinetic_energy_ev()?;
         s.rig.validate()?;
+        s.check_branch()?;
         self.settings = s;
         self.solutions.clear();
         rw.ok();

@@ -3,14 +3,14 @@
 
 use embedded_io::Write;
 
-use super::args::miller_text;
+use super::args::{miller_text, write_err, write_refusal};
 use super::plan::PlanRun;
 use super::settings::{Settings, SETTING_KEYS};
 use super::{Console, Rw, COMMANDS, MAX_SOLUTIONS};
 use crate::budget::ArmBudget;
 use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::error::Result;
-use crate::goniometer::Solution;
+use crate::goniometer::{Refusals, Solution};
 use crate::lattice::System;
 use crate::surface::{BeamIter, Incidence};
 use crate::table;
@@ -19,6 +19,7 @@ use crate::table;
 pub(super) struct Context<'a> {
     pub(super) settings: &'a Settings,
     pub(super) solutions: &'a [Solution],
+    pub(super) refusals: &'a Refusals,
 }
 
 /// The one stream a console runs at a time.
@@ -31,6 +32,7 @@ pub(super) enum Stream {
     Faces(u8),
     Beams(BeamIter, u32),
     Aim(u8),
+    Refused(u8),
     Plan(PlanRun),
     Budget(ArmBudget, u8),
     Dump(u8),
@@ -149,6 +151,23 @@ impl Stream {
                     true
                 } else {
                     rw.ok().field_i32("count", ctx.solutions.len() as i32);
+                    false
+                }
+            }
+            Stream::Refused(i) => {
+                let r = ctx.refusals;
+                if let Some(x) = r.list.get(usize::from(*i)) {
+                    write_refusal(rw, x, &ctx.settings.rig);
+                    *i = i.saturating_add(1);
+                    true
+                } else {
+                    write_err(rw, r.first_error(), &ctx.settings.rig);
+                    if let Some(e) = r.emerges_ev {
+                        let mut b = [0u8; crate::console::wire::num::NUM_BUF_LEN];
+                        rw.text("(emerges above")
+                            .text(crate::console::wire::num::format_f32_roundtrip(e, &mut b))
+                            .text("eV at the sample)");
+                    }
                     false
                 }
             }

@@ -13,15 +13,14 @@
 //! azimuth is given and (δ, ν) follow from k̂_out.
 //!
 //! ```
-//! use matterwave_core::goniometer::{self, Mode, Rig, Solution};
+//! use matterwave_core::goniometer::{self, AimRequest, Rig, Solution};
 //! use matterwave_core::lattice::{Cell, Structure};
 //! use matterwave_core::surface::Face;
 //! let face = Face::new(&Cell::new(Structure::Fcc, 3.615, 0.0, 0.0).unwrap(), [1, 0, 0]).unwrap();
 //! let rig = Rig::bench_default();
 //! let mut out = [Solution::EMPTY; 8];
-//! let n = goniometer::aim(&rig, &face, [0, 0], 100.0, 20.0, Mode::InPlane, &[0; 4], &mut out)
-//!     .unwrap()
-//!     .stored;
+//! let req = AimRequest::new(&face, [0, 0], 100.0, 20.0); // in-plane, nearest branch
+//! let n = goniometer::aim(&rig, &req, &[0; 4], &mut out).unwrap().stored;
 //! assert!(n >= 1);
 //! assert!((out[0].arm.angle_deg - 40.0).abs() < 0.01); // specular at 2α
 //! ```
@@ -30,8 +29,12 @@ use crate::axis::{Approach, AxisConfig, Setpoint, Zone};
 use crate::beam;
 use crate::error::{finite, AxisId, Error, Quantity, Result};
 use crate::listing::{insert_sorted, Listing};
+
+mod resolve;
+
 use crate::math::{self, Vec3};
 use crate::surface::{Face, Incidence, SurfaceBeam};
+pub use resolve::{aim, refusals, AimRequest, Branch, Refusal, Refusals, MAX_REFUSALS};
 
 /// Index of each axis in a step-count array `[i32; 4]`.
 pub const fn axis_index(id: AxisId) -> usize {
@@ -321,155 +324,6 @@ pub fn wrap_180(x: f32) -> f32 {
     }
 }
 
-/// Every way to put the detector on rod `rod` of `face` at kinetic energy `energy_ev`
-/// and tilt `tilt_deg`, within the rig's limits and zones, nearest to `current`
-/// (least total travel) first.
-///
-/// The tilt is set first; the geometry then uses the tilt the axis really reaches, and
-/// the arm (and elevation) follow from the beam direction at the azimuth the azimuth
-/// axis really reaches, so quantisation of the sample axes does not throw the detector
-/// off the beam. In-plane mode tries both branches (g along ±e1) and, on non-wrapping
-/// axes, the ±360° copies of azimuth and arm. The specular beam has one branch and keeps
-/// the current azimuth. When no solution survives, the error says why: `Evanescent`
-/// when the beam does not exist, else the first limit or zone that rejected a solution.
-#[allow(clippy::too_many_arguments)]
-pub fn aim(
-    rig: &Rig,
-    face: &Face,
-    rod: [i32; 2],
-    energy_ev: f32,
-    tilt_deg: f32,
-    mode: Mode,
-    current: &Position,
-    out: &mut [Solution],
-) -> Result<Listing> {
-    if out.is_empty() {
-        return Err(Error::EmptyBuffer);
-    }
-    let e = beam::check_energy(energy_ev)?;
-    crate::surface::check_tilt(tilt_deg)?;
-    if rod[0].abs() > 4096 || rod[1].abs() > 4096 {
-        return Err(Error::IndicesTooLarge);
-    }
-    let tilt_sp = rig.tilt.setpoint(tilt_deg, current[2])?;
-    let tilt = tilt_sp.angle_deg;
-    // Wanted azimuths with their branch and signed in-plane exit angle.
-    let mut wanted: [Option<(f32, i8, f32)>; 2] = [None; 2];
-    match mode {
-        Mode::InPlane => {
-            let inc = Incidence::new(e, tilt, 0.0)?;
-            let lambda = 1.0 / inc.k_inv_a;
-            let g = face.rod_inv_a(rod);
-            let g_len = math::sqrt(g[0] * g[0] + g[1] * g[1]);
-            let psi = math::deg(math::atan2(g[1], g[0]));
-            let s_alpha = math::sin(math::rad(tilt));
-            let current_az = rig.azimuth.steps_to_deg(current[3]);
-            let branches: &[i8] = if g_len == 0.0 { &[1] } else { &[1, -1] };
-            for (slot, &br) in wanted.iter_mut().zip(branches) {
-                let sin_out = s_alpha + br as f32 * lambda * g_len;
-                if sin_out.abs() > 1.0 {
-                    continue;
-                }
-                let az = if g_len == 0.0 {
-                    current_az
-                } else if br > 0 {
-                    wrap_180(-psi)
-                } else {
-                    wrap_180(180.0 - psi)
-                };
-                *slot = Some((az, br, math::deg(math::asin(sin_out))));
-            }
-        }
-        Mode::AtAzimuth(az) => {
-            let inc = Incidence::new(e, tilt, az)?;
-            let b = face.beam(rod, &inc)?;
-            wanted[0] = Some((inc.azimuth_deg, 0, b.exit_deg));
-        }
-    }
-    if wanted.iter().all(Option::is_none) {
-        return Err(Error::Evanescent);
-    }
-    let mut stored = 0usize;
-    let mut truncated = false;
-    let mut first_err = None;
-    let cur = rig.angles(current);
-    let copies = |ax: &AxisConfig| -> &'static [f32] {
-        if ax.wrap {
-            &[0.0]
-        } else {
-            &[0.0, 360.0, -360.0]
-        }
-    };
-    for &(az_want, branch, exit) in wanted.iter().flatten() {
-        for az_off in copies(&rig.azimuth) {
-            let az_sp = match rig.azimuth.setpoint(az_want + az_off, current[3]) {
-                Ok(s) => s,
-                Err(err) => {
-                    if *az_off == 0.0 {
-                        first_err.get_or_insert(err);
-                    }
-                    continue;
-                }
-            };
-            // The beam as the sample really sits.
-            let inc = Incidence::new(e, tilt, az_sp.angle_deg)?;
-            let b = match face.beam(rod, &inc) {
-                Ok(b) => b,
-                Err(err) => {
-                    first_err.get_or_insert(err);
-                    continue;
-                }
-            };
-            let (arm_deg, elev_deg) = arm_elevation_deg(beam_direction_lab(&b, &inc));
-            let elev_sp = match &rig.elevation {
-                Some(ax) => match ax.setpoint(elev_deg, current[1]) {
-                    Ok(s) => Some(s),
-                    Err(err) => {
-                        first_err.get_or_insert(err);
-                        continue;
-                    }
-                },
-                None if elev_deg.abs() > rig.acceptance_deg => {
-                    first_err.get_or_insert(Error::NoSuchAxis(AxisId::Elevation));
-                    continue;
-                }
-                None => None,
-            };
-            for arm_off in copies(&rig.arm) {
-                let arm_sp = match rig.arm.setpoint(arm_deg + arm_off, current[0]) {
-                    Ok(s) => s,
-                    Err(err) => {
-                        if *arm_off == 0.0 {
-                            first_err.get_or_insert(err);
-                        }
-                        continue;
-                    }
-                };
-                let travel = (arm_sp.angle_deg - cur[0]).abs()
-                    + elev_sp.map_or(0.0, |s| (s.angle_deg - cur[1]).abs())
-                    + (tilt_sp.angle_deg - cur[2]).abs()
-                    + (az_sp.angle_deg - cur[3]).abs();
-                let sol = Solution {
-                    azimuth: az_sp,
-                    arm: arm_sp,
-                    elevation: elev_sp,
-                    tilt: tilt_sp,
-                    branch,
-                    // Two-circle: the polar exit at the reached azimuth.
-                    exit_deg: if branch == 0 { b.exit_deg } else { exit },
-                    travel_deg: travel,
-                };
-                truncated |=
-                    insert_sorted(out, &mut stored, sol, |a, b| a.travel_deg < b.travel_deg);
-            }
-        }
-    }
-    if stored == 0 {
-        return Err(first_err.unwrap_or(Error::NoReachableSolution));
-    }
-    Ok(Listing { stored, truncated })
-}
-
 /// A beam the detector sees.
 #[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
@@ -589,7 +443,7 @@ mod tests {
         let mut out = [Solution::EMPTY; 8];
         for e in [20.0, 75.0, 300.0, 2000.0] {
             for t in [10.0f32, 25.0, 60.0] {
-                aim(&rig, &f, [0, 0], e, t, Mode::InPlane, &[0; 4], &mut out).unwrap();
+                aim(&rig, &AimRequest::new(&f, [0, 0], e, t), &[0; 4], &mut out).unwrap();
                 assert!((out[0].arm.angle_deg - 2.0 * t).abs() < 1e-3);
             }
         }
@@ -607,11 +461,7 @@ mod tests {
         let mut b = [Solution::EMPTY; 8];
         let n = aim(
             &rig,
-            &f,
-            [1, 1],
-            150.0,
-            15.0,
-            Mode::InPlane,
+            &AimRequest::new(&f, [1, 1], 150.0, 15.0).with_mode(Mode::InPlane),
             &[0; 4],
             &mut a,
         )
@@ -620,11 +470,8 @@ mod tests {
         for s in &a[..n] {
             let m = aim(
                 &rig,
-                &f,
-                [1, 1],
-                150.0,
-                15.0,
-                Mode::AtAzimuth(s.azimuth.angle_deg),
+                &AimRequest::new(&f, [1, 1], 150.0, 15.0)
+                    .with_mode(Mode::AtAzimuth(s.azimuth.angle_deg)),
                 &[0; 4],
                 &mut b,
             )
@@ -649,11 +496,7 @@ mod tests {
         // Specular at tilt 3°: δ = 6°, inside the ±12° shadow.
         let e = aim(
             &rig,
-            &f,
-            [0, 0],
-            100.0,
-            3.0,
-            Mode::InPlane,
+            &AimRequest::new(&f, [0, 0], 100.0, 3.0).with_mode(Mode::InPlane),
             &[0; 4],
             &mut out,
         );
@@ -667,11 +510,7 @@ mod tests {
         let mut out = [Solution::EMPTY; 8];
         let n = aim(
             &rig,
-            &f,
-            [1, 0],
-            120.0,
-            20.0,
-            Mode::InPlane,
+            &AimRequest::new(&f, [1, 0], 120.0, 20.0).with_mode(Mode::InPlane),
             &[0; 4],
             &mut out,
         )

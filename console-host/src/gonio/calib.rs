@@ -1,0 +1,341 @@
+//! `mwctl calc fit`: calibration fits of measured CSV data with the core's models.
+
+use super::*;
+
+// ---------------------------------------------------------------------------------------
+// fit
+
+/// One data line of a CSV file: its 1-based line number and the required columns' text.
+pub(super) struct CsvRow {
+    line: usize,
+    cells: Vec<String>,
+}
+
+/// Reads a CSV with a header row, keeping the `required` columns in that order.
+pub(super) fn read_csv(path: &Path, required: &[&str]) -> CliResult<Vec<CsvRow>> {
+    let name = path.display();
+    let body = std::fs::read_to_string(path)
+        .map_err(|e| CliError::new(format!("--input {name}: cannot read it: {e}")))?;
+    let mut lines = body
+        .lines()
+        .enumerate()
+        .map(|(i, l)| (i + 1, l.trim()))
+        .filter(|(_, l)| !l.is_empty() && !l.starts_with('#'));
+    let want = required.join(",");
+    let Some((hline, header)) = lines.next() else {
+        return Err(CliError::new(format!(
+            "--input {name}: no header row; the first line must name the columns {want}"
+        )));
+    };
+    let heads: Vec<String> = header
+        .split(',')
+        .map(|h| h.trim().trim_start_matches('\u{feff}').to_ascii_lowercase())
+        .collect();
+    let mut idx = Vec::new();
+    for r in required {
+        let found: Vec<usize> = heads
+            .iter()
+            .enumerate()
+            .filter(|(_, h)| h == r)
+            .map(|(i, _)| i)
+            .collect();
+        match found.as_slice() {
+            [i] => idx.push(*i),
+            [] => {
+                return Err(CliError::new(format!(
+                    "--input {name} line {hline}: the header lacks column \"{r}\"; this fit needs the columns {want}"
+                )))
+            }
+            _ => {
+                return Err(CliError::new(format!(
+                    "--input {name} line {hline}: column \"{r}\" appears twice in the header"
+                )))
+            }
+        }
+    }
+    let mut rows = Vec::new();
+    for (line, l) in lines {
+        let cells: Vec<&str> = l.split(',').map(str::trim).collect();
+        if cells.len() != heads.len() {
+            return Err(CliError::new(format!(
+                "--input {name} line {line}: {} fields, but the header has {}",
+                cells.len(),
+                heads.len()
+            )));
+        }
+        rows.push(CsvRow {
+            line,
+            cells: idx.iter().map(|&i| cells[i].to_string()).collect(),
+        });
+    }
+    Ok(rows)
+}
+
+pub(super) fn csv_f32(path: &Path, row: &CsvRow, i: usize, column: &str) -> CliResult<f32> {
+    let t = &row.cells[i];
+    match t.parse::<f32>() {
+        Ok(x) if x.is_finite() => Ok(x),
+        _ => Err(CliError::new(format!(
+            "--input {} line {}, column \"{column}\": not a finite number: {t:?}",
+            path.display(),
+            row.line
+        ))),
+    }
+}
+
+pub(super) fn csv_i32(path: &Path, row: &CsvRow, i: usize, column: &str) -> CliResult<i32> {
+    let t = &row.cells[i];
+    t.parse::<i32>().map_err(|_| {
+        CliError::new(format!(
+            "--input {} line {}, column \"{column}\": not a whole number: {t:?}",
+            path.display(),
+            row.line
+        ))
+    })
+}
+
+/// `mwctl calc fit`.
+pub fn fit_cmd(a: &FitArgs) -> CliResult<Report> {
+    let cols = a.kind.columns();
+    let rows = read_csv(&a.input, cols)?;
+    let p = a.input.as_path();
+    let mut r = Report::default();
+    r.field("kind", "fit", text(a.kind.name()));
+    r.field("input", "input", text(p.display().to_string()));
+    let ctx = format!("fit {} (--input {})", a.kind.name(), p.display());
+    match a.kind {
+        FitKind::Peak => {
+            let mut samples = Vec::with_capacity(rows.len());
+            for row in &rows {
+                samples.push(matterwave_core::fit::Sample {
+                    angle_deg: csv_f32(p, row, 0, cols[0])?,
+                    current: csv_f32(p, row, 1, cols[1])?,
+                });
+            }
+            let (c, threshold) = match a.method {
+                PeakMethod::Parabola => (
+                    matterwave_core::fit::parabola_log(&samples).ctx(&ctx)?,
+                    None,
+                ),
+                PeakMethod::Centroid => {
+                    let t = match a.threshold {
+                        Some(t) => t,
+                        None => samples
+                            .iter()
+                            .map(|s| s.current)
+                            .fold(f32::INFINITY, f32::min),
+                    };
+                    (
+                        matterwave_core::fit::centroid(&samples, t).ctx(&ctx)?,
+                        Some(t),
+                    )
+                }
+            };
+            r.field(
+                "method",
+                "method",
+                text(match a.method {
+                    PeakMethod::Parabola => "parabola",
+                    PeakMethod::Centroid => "centroid",
+                }),
+            );
+            r.field("threshold", "threshold", Value::opt(threshold, 4));
+            r.field("angle_deg", "peak angle (deg)", f(c.angle_deg, 4));
+            r.field("angle_sigma_deg", "σ angle (deg)", f(c.uncertainty_deg, 4));
+            r.field("fwhm_deg", "FWHM (deg)", f(c.fwhm_deg, 4));
+            r.field("peak_current", "peak current", f(c.peak_current, 4));
+            r.field(
+                "points_used",
+                "points used",
+                Value::Int(c.points_used.into()),
+            );
+            r.field("points", "points", Value::Int(samples.len() as i64));
+        }
+        FitKind::ArmZero => fit_arm_zero(a, &rows, &ctx, &mut r)?,
+        FitKind::RowSpacing => {
+            let mut pts = Vec::with_capacity(rows.len());
+            for row in &rows {
+                pts.push((
+                    csv_f32(p, row, 0, cols[0])?,
+                    csv_i32(p, row, 1, cols[1])?,
+                    csv_f32(p, row, 2, cols[2])?,
+                ));
+            }
+            let fit = matterwave_core::fit::row_spacing(&pts).ctx(&ctx)?;
+            r.field("row_spacing_a", "row spacing d (Å)", f(fit.value, 5));
+            r.field("row_spacing_sigma_a", "σ d (Å)", f(fit.sigma, 5));
+            r.field(
+                "rms_residual_deg",
+                "rms exit-angle residual (deg)",
+                f(fit.rms_residual, 4),
+            );
+            r.field("points", "points", Value::Int(fit.points.into()));
+            let mut list = List {
+                key: "residuals",
+                columns: vec![
+                    col("energy_ev", "energy (eV)"),
+                    col("order", "n"),
+                    col("exit_deg", "exit (deg)"),
+                    col("fitted_deg", "fitted (deg)"),
+                    col("residual_deg", "residual (deg)"),
+                ],
+                rows: Vec::new(),
+            };
+            for &(e, n, exit) in &pts {
+                let lambda = beam::wavelength_a(e).ctx(&ctx)?;
+                let pred = math::deg(math::asin_clamped(n as f32 * lambda / fit.value));
+                list.rows.push(vec![
+                    f(e, 3),
+                    Value::Int(n.into()),
+                    f(exit, 4),
+                    f(pred, 4),
+                    f(exit - pred, 4),
+                ]);
+            }
+            r.list = Some(list);
+        }
+        FitKind::Iv => {
+            let mut pts = Vec::with_capacity(rows.len());
+            for row in &rows {
+                pts.push((csv_i32(p, row, 0, cols[0])?, csv_f32(p, row, 1, cols[1])?));
+            }
+            let fit = matterwave_core::fit::inner_potential_and_spacing(&pts).ctx(&ctx)?;
+            r.field(
+                "inner_potential_ev",
+                "inner potential V0 (eV)",
+                f(fit.inner_potential_ev, 3),
+            );
+            r.field(
+                "inner_potential_sigma_ev",
+                "σ V0 (eV)",
+                f(fit.inner_potential_sigma_ev, 3),
+            );
+            r.field(
+                "layer_spacing_a",
+                "layer spacing d (Å)",
+                f(fit.layer_spacing_a, 5),
+            );
+            r.field(
+                "layer_spacing_sigma_a",
+                "σ d (Å)",
+                f(fit.layer_spacing_sigma_a, 5),
+            );
+            r.field(
+                "rms_residual_ev",
+                "rms energy residual (eV)",
+                f(fit.rms_residual_ev, 3),
+            );
+            r.field("points", "points", Value::Int(fit.points.into()));
+            let mut list = List {
+                key: "residuals",
+                columns: vec![
+                    col("order", "n"),
+                    col("energy_ev", "energy (eV)"),
+                    col("fitted_ev", "fitted (eV)"),
+                    col("residual_ev", "residual (eV)"),
+                ],
+                rows: Vec::new(),
+            };
+            for &(n, e) in &pts {
+                let pred = beam::energy_from_wavenumber_ev(n as f32 / (2.0 * fit.layer_spacing_a))
+                    - fit.inner_potential_ev;
+                list.rows.push(vec![
+                    Value::Int(n.into()),
+                    f(e, 3),
+                    f(pred, 3),
+                    f(e - pred, 3),
+                ]);
+            }
+            r.list = Some(list);
+        }
+    }
+    Ok(r)
+}
+
+pub(super) fn fit_arm_zero(
+    a: &FitArgs,
+    rows: &[CsvRow],
+    ctx: &str,
+    r: &mut Report,
+) -> CliResult<()> {
+    let p = a.input.as_path();
+    let (Some(crystal), Some(face_t), Some(beam_t)) = (&a.crystal, &a.face, &a.beam) else {
+        return Err(CliError::new(
+            "fit arm-zero needs the beam's model: give --crystal ID --face HKL --beam H,K (and --tilt DEG)",
+        ));
+    };
+    let c = calc::crystal(crystal)?;
+    let (_, face) = calc::face_of(c, face_t)?;
+    let rod = calc::parse_rod(beam_t)?;
+    let tilt = check_angle(a.tilt, "tilt", TILT_MAX_DEG)?;
+    for (name, x) in [
+        ("cathode-work-function", a.cathode_work_function),
+        ("sample-work-function", a.sample_work_function),
+    ] {
+        beam::check_work_function(x).ctx(format_args!("--{name} {x}"))?;
+    }
+    let wf = a.cathode_work_function - a.sample_work_function;
+    if face.rod_inv_a(rod) == [0.0, 0.0] {
+        return Err(CliError::new(format!(
+            "fit arm-zero --beam {}: the specular beam sits at twice the tilt at every energy, so it cannot fix the gun offset; measure a diffracted beam",
+            rod_text(rod)
+        )));
+    }
+    let cols = a.kind.columns();
+    let mut pts = Vec::with_capacity(rows.len());
+    for row in rows {
+        pts.push((csv_f32(p, row, 0, cols[0])?, csv_f32(p, row, 1, cols[1])?));
+    }
+    let model_fit = matterwave_core::fit::arm_zero_in_plane(&face, rod, tilt, wf, &pts).map_err(|e| match e {
+        Error::Evanescent => CliError {
+            code: Some(e.code()),
+            message: format!(
+                "{ctx}: the beam {} is evanescent at some of the energies; check --crystal, --face, --beam and --tilt",
+                rod_text(rod)
+            ),
+        },
+        other => CliError::core(other, ctx),
+    })?;
+    let (fit, s) = (model_fit.fit, f32::from(model_fit.branch));
+    let model = |e: f32| goniometer::in_plane_arm_deg(&face, rod, tilt, model_fit.branch, e + wf);
+    let [zero, offset] = fit.params;
+    crystal_face_fields(r, c, &face);
+    r.field("beam", "beam", text(rod_text(rod)));
+    r.field("tilt_deg", "tilt (deg)", f(tilt, 3));
+    r.field("branch", "branch", Value::Int(s as i64));
+    if wf != 0.0 {
+        r.field("contact_potential_ev", "φcathode − φsample (eV)", f(wf, 3));
+    }
+    r.field("arm_zero_deg", "arm zero δ0 (deg)", f(zero, 4));
+    r.field("arm_zero_sigma_deg", "σ δ0 (deg)", f(fit.sigma[0], 4));
+    r.field("energy_offset_ev", "gun offset ΔE (eV)", f(offset, 3));
+    r.field("energy_offset_sigma_ev", "σ ΔE (eV)", f(fit.sigma[1], 3));
+    r.field(
+        "rms_residual_deg",
+        "rms arm residual (deg)",
+        f(fit.rms_residual, 4),
+    );
+    r.field("points", "points", Value::Int(fit.points.into()));
+    r.field(
+        "iterations",
+        "iterations",
+        Value::Int(fit.iterations.into()),
+    );
+    let mut list = List {
+        key: "residuals",
+        columns: vec![
+            col("nominal_ev", "nominal (eV)"),
+            col("arm_deg", "arm (deg)"),
+            col("fitted_deg", "fitted (deg)"),
+            col("residual_deg", "residual (deg)"),
+        ],
+        rows: Vec::new(),
+    };
+    for &(e, arm) in &pts {
+        let pred = model(e + offset).ctx(ctx)? + zero;
+        list.rows
+            .push(vec![f(e, 3), f(arm, 4), f(pred, 4), f(arm - pred, 4)]);
+    }
+    r.list = Some(list);
+    Ok(())
+}

@@ -1,0 +1,251 @@
+//! `mwctl calc sweep` and `mwctl calc where`: arm sweeps and the beams in view.
+
+use super::*;
+
+// ---------------------------------------------------------------------------------------
+// sweep
+
+/// The output of `sweep`: the beams crossed, and optionally the sweep points.
+#[derive(Clone, Debug)]
+pub struct SweepOutput {
+    /// Fields and the beams crossed.
+    pub beams: Report,
+    /// The sweep points (with `--points`).
+    pub points: Option<List>,
+}
+
+impl SweepOutput {
+    /// Renders: JSON holds both lists (`beams`, `sweep_points`); CSV prints the sweep
+    /// points when they were asked for, else the beams; the table prints both.
+    pub fn render(&self, format: Format) -> String {
+        let Some(points) = &self.points else {
+            return self.beams.render(format);
+        };
+        let extra = Report {
+            list: Some(points.clone()),
+            ..Report::default()
+        };
+        match format {
+            Format::Json => {
+                let mut j = self.beams.to_json();
+                if let (Some(m), serde_json::Value::Object(e)) =
+                    (j.as_object_mut(), extra.to_json())
+                {
+                    m.extend(e);
+                }
+                json_text(&j)
+            }
+            Format::Csv => extra.render(format),
+            Format::Table => {
+                let mut s = self.beams.render(format);
+                let _ = write!(s, "\nsweep points:\n{}", extra.render(format));
+                s
+            }
+        }
+    }
+}
+
+/// `mwctl calc sweep`.
+pub fn sweep(a: &SweepArgs) -> CliResult<SweepOutput> {
+    let rf = a.rig.load()?;
+    let rig = &rf.rig;
+    let c = calc::crystal(&a.crystal)?;
+    let (_, face) = calc::face_of(c, &a.face)?;
+    let e = a.gun.kinetic_ev()?;
+    let tilt = check_angle(a.tilt, "tilt", TILT_MAX_DEG)?;
+    let azimuth = check_angle(a.azimuth, "azimuth", 360.0)?;
+    let elevation = check_angle(a.elevation, "elevation", 90.0)?;
+    let dwell = check_dwell(a.dwell)?;
+    let start = parse_position(a.position.position.as_deref(), rig)?;
+    let within = |name: &str, ax: &AxisConfig, x: f32| {
+        ax.check_angle(x).map_err(|er| CliError {
+            code: Some(er.code()),
+            message: format!("--{name} {x}: {}", axis_reason(rig, er)),
+        })
+    };
+    match &rig.elevation {
+        None if elevation != 0.0 => return Err(no_elevation_axis(elevation)),
+        Some(ax) => within("elevation", ax, elevation)?,
+        None => {}
+    }
+    within("tilt", &rig.tilt, tilt)?;
+    within("azimuth", &rig.azimuth, azimuth)?;
+    let inc = Incidence::new(e, tilt, azimuth).ctx("incidence")?;
+    let plan = SweepPlan::new(*rig, face, inc, elevation, a.arm_from, a.arm_to, a.step)
+        .map_err(|er| plan_error(er, ("arm-from", a.arm_from), ("arm-to", a.arm_to), a.step))?;
+    let mut unreachable = 0i64;
+    let mut statuses: Vec<String> = Vec::with_capacity(plan.len() as usize);
+    let mut point_rows = Vec::new();
+    for p in plan.iter(start[0]) {
+        let status = match &p.setpoint {
+            Ok(_) => "reachable".to_string(),
+            Err(er) => {
+                unreachable += 1;
+                status_word(*er)
+            }
+        };
+        if a.points {
+            let iv = p.in_view;
+            point_rows.push(vec![
+                Value::Int(p.index.into()),
+                f(p.arm_deg, 4),
+                p.setpoint
+                    .as_ref()
+                    .map_or(Value::Missing, |s| Value::Int(s.steps.into())),
+                text(status.clone()),
+                iv.map_or(Value::Missing, |v| Value::Int(v.beam.rod[0].into())),
+                iv.map_or(Value::Missing, |v| Value::Int(v.beam.rod[1].into())),
+                iv.map_or(Value::Missing, |v| f(v.offset_deg, 4)),
+            ]);
+        }
+        statuses.push(status);
+    }
+    let mut buf = vec![InView::EMPTY; MAX_BEAMS];
+    let l = plan.beams_crossed(&mut buf).ctx("beams crossed")?;
+    let mut beam_rows = Vec::new();
+    for b in &buf[..l.stored] {
+        // The status of the sweep point nearest the beam: can the sweep get there?
+        let i = ((b.arm_deg - plan.from_deg) / plan.step_deg)
+            .round()
+            .max(0.0) as usize;
+        let status = statuses
+            .get(i.min(statuses.len().saturating_sub(1)))
+            .cloned()
+            .unwrap_or_default();
+        beam_rows.push(vec![
+            Value::Int(b.beam.rod[0].into()),
+            Value::Int(b.beam.rod[1].into()),
+            f(b.arm_deg, 4),
+            f(b.elevation_deg, 4),
+            f(b.beam.exit_deg, 4),
+            f(b.beam.exit_azimuth_deg, 3),
+            text(status),
+        ]);
+    }
+    let est = scan::estimate_sweep_s(&plan, start[0], dwell);
+    let mut r = Report::default();
+    crystal_face_fields(&mut r, c, &face);
+    a.gun.fields(&mut r, e);
+    r.field("tilt_deg", "tilt (deg)", f(tilt, 3));
+    r.field("azimuth_deg", "azimuth (deg)", f(azimuth, 3));
+    r.field("elevation_deg", "elevation (deg)", f(elevation, 3));
+    rig_field(&mut r, &rf);
+    r.field("points", "sweep points", Value::Int(plan.len().into()));
+    r.field(
+        "unreachable_points",
+        "unreachable points",
+        Value::Int(unreachable),
+    );
+    r.field("dwell_s", "dwell per point (s)", f(dwell, 3));
+    r.field("estimate_s", "estimated time (s)", f(est, 1));
+    r.field(
+        "truncated",
+        "more beams than listed",
+        text(l.truncated.to_string()),
+    );
+    r.list = Some(List {
+        key: "beams",
+        columns: vec![
+            col("h", "h"),
+            col("k", "k"),
+            col("arm_deg", "arm (deg)"),
+            col("elevation_deg", "elevation (deg)"),
+            col("exit_deg", "exit (deg)"),
+            col("exit_azimuth_deg", "exit azimuth (deg)"),
+            col("status", "sweep status"),
+        ],
+        rows: beam_rows,
+    });
+    let points = a.points.then(|| List {
+        key: "sweep_points",
+        columns: vec![
+            col("index", "#"),
+            col("arm_deg", "arm (deg)"),
+            col("arm_steps", "arm steps"),
+            col("status", "status"),
+            col("h", "h"),
+            col("k", "k"),
+            col("offset_deg", "offset (deg)"),
+        ],
+        rows: point_rows,
+    });
+    Ok(SweepOutput { beams: r, points })
+}
+
+// ---------------------------------------------------------------------------------------
+// where
+
+/// `mwctl calc where`.
+pub fn where_(a: &WhereArgs) -> CliResult<Report> {
+    let rf = a.rig.load()?;
+    let rig = &rf.rig;
+    let c = calc::crystal(&a.crystal)?;
+    let (_, face) = calc::face_of(c, &a.face)?;
+    let e = a.gun.kinetic_ev()?;
+    let tilt = check_angle(a.tilt, "tilt", TILT_MAX_DEG)?;
+    let azimuth = check_angle(a.azimuth, "azimuth", 360.0)?;
+    let arm = check_angle(a.arm, "arm", 360.0)?;
+    let elevation = check_angle(a.elevation, "elevation", 90.0)?;
+    if rig.elevation.is_none() && elevation != 0.0 {
+        return Err(no_elevation_axis(elevation));
+    }
+    let acceptance = match a.acceptance {
+        None => rig.acceptance_deg,
+        Some(x) if x.is_finite() && x > 0.0 && x <= 90.0 => x,
+        Some(x) => {
+            return Err(CliError::new(format!(
+                "--acceptance {x}: give a half-angle in degrees above 0, up to 90"
+            )))
+        }
+    };
+    let inc = Incidence::new(e, tilt, azimuth).ctx("incidence")?;
+    let mut buf = vec![InView::EMPTY; MAX_BEAMS];
+    let l = goniometer::beams_in_view(&face, &inc, arm, elevation, acceptance, &mut buf)
+        .ctx("beams in view")?;
+    let arm_status = match rig.arm.check_angle(arm) {
+        Ok(()) => "allowed".to_string(),
+        Err(er) => status_word(er),
+    };
+    let mut r = Report::default();
+    crystal_face_fields(&mut r, c, &face);
+    a.gun.fields(&mut r, e);
+    r.field("tilt_deg", "tilt (deg)", f(tilt, 3));
+    r.field("azimuth_deg", "azimuth (deg)", f(azimuth, 3));
+    r.field("arm_deg", "arm (deg)", f(arm, 4));
+    r.field("elevation_deg", "elevation (deg)", f(elevation, 4));
+    r.field(
+        "acceptance_deg",
+        "acceptance half-angle (deg)",
+        f(acceptance, 3),
+    );
+    rig_field(&mut r, &rf);
+    r.field("arm_status", "arm position on this rig", text(arm_status));
+    r.field("count", "beams in view", Value::Int(l.stored as i64));
+    r.list = Some(List {
+        key: "beams",
+        columns: vec![
+            col("h", "h"),
+            col("k", "k"),
+            col("offset_deg", "offset (deg)"),
+            col("arm_deg", "arm (deg)"),
+            col("elevation_deg", "elevation (deg)"),
+            col("exit_deg", "exit (deg)"),
+            col("exit_azimuth_deg", "exit azimuth (deg)"),
+        ],
+        rows: buf[..l.stored]
+            .iter()
+            .map(|b| {
+                vec![
+                    Value::Int(b.beam.rod[0].into()),
+                    Value::Int(b.beam.rod[1].into()),
+                    f(b.offset_deg, 4),
+                    f(b.arm_deg, 4),
+                    f(b.elevation_deg, 4),
+                    f(b.beam.exit_deg, 4),
+                    f(b.beam.exit_azimuth_deg, 3),
+                ]
+            })
+            .collect(),
+    });
+    Ok(r)
+}
