@@ -1,9 +1,12 @@
-//! The firmware table `core/src/table/data.rs` must be exactly what the generator makes
-//! from `tables/crystals.toml`, the compiled core table must agree row by row with the
-//! TOML, and the generator's list of structures with the core's.
+//! The two files generated from `tables/crystals.toml` must be exactly what the
+//! generator makes of it: the firmware's table `core/src/table/data.rs` and the
+//! console's citation table `console-host/src/table_sources.rs`. The compiled tables
+//! must agree with the TOML row by row, and the generator's list of structures with
+//! the core's.
 
 use std::path::Path;
 
+use matterwave_console::tables as host;
 use matterwave_core::lattice::{Structure, MAX_INDEX};
 use matterwave_core::table;
 use matterwave_gen_tables::structure::{self, STRUCTURES};
@@ -33,9 +36,16 @@ fn assert_fresh(file: &Generated) {
 
 #[test]
 fn data_rs_matches_generator() {
-    let [core] = generate(&toml_rows());
+    let [core, _] = generate(&toml_rows());
     assert_eq!(core.path, "core/src/table/data.rs");
     assert_fresh(&core);
+}
+
+#[test]
+fn table_sources_rs_matches_generator() {
+    let [_, sources] = generate(&toml_rows());
+    assert_eq!(sources.path, "console-host/src/table_sources.rs");
+    assert_fresh(&sources);
 }
 
 /// The generator's own list of structures (it does not link the core) names the core's
@@ -116,6 +126,63 @@ fn core_rows_equal_toml_rows() {
             );
         }
         assert_eq!(table::find(&r.id).map(|x| x.id), Ok(c.id), "{what}");
+    }
+}
+
+/// A value and its source as the console holds them, as the TOML row's pair of fields.
+fn pair(s: Option<host::Sourced>) -> (Option<f64>, Option<String>) {
+    (s.map(|s| s.value), s.map(|s| s.source.to_string()))
+}
+
+#[test]
+fn host_rows_equal_toml_rows() {
+    let rows = toml_rows();
+    let hosted = host::all();
+    assert_eq!(
+        hosted.len(),
+        rows.len(),
+        "console table has {} rows, TOML has {}; run `{REGENERATE}`",
+        hosted.len(),
+        rows.len()
+    );
+    for (h, r) in hosted.iter().zip(&rows) {
+        let what = format!("console row {:?}; run `{REGENERATE}`", r.id);
+        assert_eq!(h.id, r.id, "{what}");
+        assert_eq!(h.name, r.name, "{what}");
+        assert_eq!(h.structure.name(), r.structure.name, "{what}");
+        // f64 text -> f64 literal: exactly the same value.
+        assert_eq!(h.a_a, r.a_a, "a: {what}");
+        assert_eq!(h.b_a, r.b_a, "b: {what}");
+        assert_eq!(h.c_a, r.c_a, "c: {what}");
+        assert_eq!(h.a_uncertainty_a, r.a_uncertainty_a, "uncertainty: {what}");
+        assert_eq!(h.temperature_k, r.temperature_k, "temperature: {what}");
+        assert_eq!(h.lattice_source, r.lattice_source, "lattice source: {what}");
+        assert_eq!(
+            pair(h.work_function_ev),
+            (r.work_function_ev, r.work_function_source.clone()),
+            "work function: {what}"
+        );
+        assert_eq!(
+            pair(h.inner_potential_ev),
+            (r.inner_potential_ev, r.inner_potential_source.clone()),
+            "inner potential: {what}"
+        );
+        assert_eq!(h.faces.len(), r.faces.len(), "faces: {what}");
+        for (k, (hf, rf)) in h.faces.iter().zip(&r.faces).enumerate() {
+            let what = format!("face #{}, {what}", k + 1);
+            assert_eq!(hf.miller, rf.miller, "{what}");
+            assert_eq!(
+                pair(hf.work_function_ev),
+                (rf.work_function_ev, rf.work_function_source.clone()),
+                "work function: {what}"
+            );
+            assert_eq!(
+                pair(hf.inner_potential_ev),
+                (rf.inner_potential_ev, rf.inner_potential_source.clone()),
+                "inner potential: {what}"
+            );
+        }
+        assert_eq!(host::find(&r.id).map(|x| x.id), Some(h.id), "{what}");
     }
 }
 

@@ -1,10 +1,17 @@
 //! matterwave-gen-tables: the one reader of the crystal table `tables/crystals.toml`.
 //!
-//! It parses and validates the table ([`parse`]) and renders the firmware's fixed f32
-//! table `core/src/table/data.rs` from it ([`render_core_table`]), which is checked in.
-//! The `gen-tables` binary writes it ([`REGENERATE`]) or checks it ([`CHECK`]); the
-//! `table_drift` test in `tests/` runs the same check and compares the compiled table
-//! with the TOML row by row.
+//! It parses and validates the table ([`parse`]) and renders the two files built from
+//! it, both checked in:
+//!
+//! | file | what | renderer |
+//! |---|---|---|
+//! | `core/src/table/data.rs` | the firmware's fixed f32 table, without sources | [`render_core_table`] |
+//! | `console-host/src/table_sources.rs` | the console's f64 values with the source of every number | [`render_sources_table`] |
+//!
+//! Nothing else reads the TOML: the firmware and `mwctl` compile the generated files.
+//! The `gen-tables` binary writes them ([`REGENERATE`]) or checks them ([`CHECK`]);
+//! the `table_drift` test in `tests/` runs the same check and compares the compiled
+//! tables with the TOML row by row.
 //!
 //! [`parse`] checks every row and every face and stops at the first problem with a
 //! [`TableError`] that names the row (1-based position and id), the face where there is
@@ -24,8 +31,9 @@
 //! let cu = rows.iter().find(|r| r.id == "cu").unwrap();
 //! assert_eq!(cu.name, "copper");
 //! assert!((cu.a_a - 3.615).abs() < 0.01);
-//! let [core] = generate(&rows);
+//! let [core, sources] = generate(&rows);
 //! assert_eq!(core.path, "core/src/table/data.rs");
+//! assert!(sources.text.contains(&cu.lattice_source));
 //! ```
 //!
 //! The generator does not link `matterwave-core`: it must build and run while the core's
@@ -37,6 +45,7 @@ pub mod check;
 mod parse;
 mod render;
 pub mod render_core;
+pub mod render_sources;
 pub mod row;
 pub mod structure;
 #[cfg(test)]
@@ -44,15 +53,18 @@ mod testdata;
 
 pub use parse::parse;
 pub use render_core::render_core_table;
+pub use render_sources::render_sources_table;
 pub use row::{CrystalRow, FaceRow, TableError};
 
 /// The crystal table, relative to the workspace root.
 pub const TOML_PATH: &str = "tables/crystals.toml";
 /// The firmware's generated table, relative to the workspace root.
 pub const CORE_TABLE_PATH: &str = "core/src/table/data.rs";
-/// The command that rewrites the generated files.
+/// The console's generated citation table, relative to the workspace root.
+pub const SOURCES_TABLE_PATH: &str = "console-host/src/table_sources.rs";
+/// The command that rewrites both generated files.
 pub const REGENERATE: &str = "cargo run -p matterwave-gen-tables";
-/// The command that checks the generated files and writes nothing.
+/// The command that checks both generated files and writes nothing.
 pub const CHECK: &str = "cargo run -p matterwave-gen-tables -- --check";
 
 /// The workspace root (this crate sits at `tools/gen-tables`).
@@ -92,12 +104,18 @@ impl Generated {
     }
 }
 
-/// The generated files for these rows.
-pub fn generate(rows: &[CrystalRow]) -> [Generated; 1] {
-    [Generated {
-        path: CORE_TABLE_PATH,
-        text: render_core_table(rows),
-    }]
+/// Both generated files for these rows: the core's table, then the console's.
+pub fn generate(rows: &[CrystalRow]) -> [Generated; 2] {
+    [
+        Generated {
+            path: CORE_TABLE_PATH,
+            text: render_core_table(rows),
+        },
+        Generated {
+            path: SOURCES_TABLE_PATH,
+            text: render_sources_table(rows),
+        },
+    ]
 }
 
 #[cfg(test)]
@@ -124,10 +142,12 @@ mod tests {
     }
 
     #[test]
-    fn generate_renders_the_core_table() {
+    fn generate_renders_both_files() {
         let rows = parse(testdata::GOOD).unwrap();
-        let [core] = generate(&rows);
+        let [core, sources] = generate(&rows);
         assert_eq!(core.path, CORE_TABLE_PATH);
         assert_eq!(core.text, render_core_table(&rows));
+        assert_eq!(sources.path, SOURCES_TABLE_PATH);
+        assert_eq!(sources.text, render_sources_table(&rows));
     }
 }

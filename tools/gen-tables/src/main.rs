@@ -1,4 +1,5 @@
-//! `gen-tables`: writes `core/src/table/data.rs` from `tables/crystals.toml`.
+//! `gen-tables`: writes `core/src/table/data.rs` and `console-host/src/table_sources.rs`
+//! from `tables/crystals.toml`.
 //!
 //! ```text
 //! cargo run -p matterwave-gen-tables             # write the files that are stale
@@ -12,7 +13,7 @@
 use std::process::ExitCode;
 
 use matterwave_gen_tables::{
-    generate, parse, workspace_root, CORE_TABLE_PATH, REGENERATE, TOML_PATH,
+    generate, parse, workspace_root, CORE_TABLE_PATH, REGENERATE, SOURCES_TABLE_PATH, TOML_PATH,
 };
 
 fn main() -> ExitCode {
@@ -22,9 +23,10 @@ fn main() -> ExitCode {
             "--check" => check = true,
             "-h" | "--help" => {
                 println!(
-                    "gen-tables: writes {CORE_TABLE_PATH} from {TOML_PATH}\n\n\
+                    "gen-tables: writes {CORE_TABLE_PATH} and {SOURCES_TABLE_PATH}\n\
+                     from {TOML_PATH}\n\n\
                      usage: gen-tables [--check]\n\n  \
-                     --check  write nothing; exit 1 if a generated file differs from what the\n           \
+                     --check  write nothing; exit 1 if either file differs from what the\n           \
                      generator would write"
                 );
                 return ExitCode::SUCCESS;

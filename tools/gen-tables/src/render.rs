@@ -33,6 +33,11 @@ pub(crate) fn opt_lit(x: Option<f64>) -> String {
     }
 }
 
+/// A string literal (Rust escapes, so it reads back as the same text).
+pub(crate) fn str_lit(s: &str) -> String {
+    format!("{s:?}")
+}
+
 /// Writes `&[Name { .. }, ..]` for `items`, the opening on the current line, the
 /// closing bracket at `indent`, without a trailing `,` or `;`. rustfmt hugs a
 /// one-element array of a struct literal onto the brackets, `&[Name { .. }]`, hence the
@@ -164,5 +169,11 @@ pub(crate) mod tests {
         assert_eq!(float_lit(1e-7), "1.0e-7");
         assert_eq!(opt_lit(None), "None");
         assert_eq!(opt_lit(Some(4.0)), "Some(4.0)");
+    }
+
+    #[test]
+    fn string_literals_escape() {
+        assert_eq!(str_lit("Hölzl"), "\"Hölzl\"");
+        assert_eq!(str_lit("a \"b\" \\ c"), "\"a \\\"b\\\" \\\\ c\"");
     }
 }
