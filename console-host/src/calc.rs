@@ -3,6 +3,7 @@
 
 use crate::error::{CliError, CliResult, Context};
 use crate::output::{col, Column, List, Report, Value};
+use crate::tables;
 use matterwave_core::beam::{self, Beam, Gun};
 use matterwave_core::lattice::{parse_miller, Cell, Miller, System};
 use matterwave_core::reflections::{self, Reflection};
@@ -143,7 +144,6 @@ fn miller_text(m: Miller, hex: bool) -> String {
 
 /// `mwctl crystals`.
 pub fn crystals() -> CliResult<Report> {
-    let rows = crate::tables::load().map_err(|e| CliError::new(e.to_string()))?;
     let mut list = List {
         key: "crystals",
         columns: vec![
@@ -168,10 +168,8 @@ pub fn crystals() -> CliResult<Report> {
             .iter()
             .map(|f| miller_text(f.miller, hex).replace(' ', ""))
             .collect();
-        let src = rows
-            .iter()
-            .find(|r| r.id == c.id)
-            .map(|r| r.lattice_source.clone())
+        let src = tables::find(c.id)
+            .map(|r| r.lattice_source)
             .unwrap_or_default();
         let sys = c.structure.system();
         list.rows.push(vec![
@@ -193,7 +191,7 @@ pub fn crystals() -> CliResult<Report> {
             Value::opt(c.work_function_ev, 2),
             Value::opt(c.inner_potential_ev, 1),
             Value::Text(faces.join(" ")),
-            Value::Text(src),
+            Value::Text(src.into()),
         ]);
     }
     Ok(Report {

@@ -1,7 +1,7 @@
 //! matterwave-console: the bench side of matterwave.
 //!
-//! A library with a thin CLI (`mwctl`): crystal-table parsing, the independent f64
-//! oracle, output formats and the command implementations. Every computation goes
+//! A library with a thin CLI (`mwctl`): the crystal table's sources, the independent
+//! f64 oracle, output formats and the command implementations. Every computation goes
 //! through `matterwave-core`, the same f32 code the controller runs; only [`oracle`] is
 //! a separate, double-precision formulation used to check it.
 
@@ -13,5 +13,7 @@ pub mod gonio;
 pub mod oracle;
 pub mod output;
 pub mod rig;
+mod table_sources;
 pub mod tables;
 pub mod talk;
+mod toml_value;

@@ -2,8 +2,8 @@
 //! [`Rig`].
 //!
 //! The format is described in `docs/RIG.md`; `docs/rigs/bench-b.toml` is a documented
-//! example. [`parse`] walks the TOML by hand (like [`crate::tables`]) so that every
-//! problem names the file, the section, the field and, for zones, the entry:
+//! example. [`parse`] walks the TOML by hand so that every problem names the file, the
+//! section, the field and, for zones, the entry:
 //!
 //! ```text
 //! rig file bench.toml: axis "arm": field "zones"[1]: from must be below to, got [20, 15]
@@ -52,7 +52,7 @@ use toml::{Table, Value};
 
 use crate::error::{CliError, CliResult};
 use crate::output::{col, List, Report, Value as Cell};
-use crate::tables::{describe, finite_number};
+use crate::toml_value::{describe, finite_number};
 
 /// Top-level keys of a rig file.
 const TOP_FIELDS: &[&str] = &["name", "detector", "arm", "elevation", "tilt", "azimuth"];

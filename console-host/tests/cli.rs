@@ -116,6 +116,11 @@ fn json_keys_are_stable() {
     let c = json(COMMANDS[0]);
     assert!(c["crystals"].as_array().is_some_and(|a| a.len() >= 30));
     assert!(c["crystals"][0].get("id").is_some());
+    // Every crystal shows its lattice source, from the compiled citation table.
+    for row in c["crystals"].as_array().unwrap() {
+        let source = row["source"].as_str().unwrap_or_default();
+        assert!(!source.trim().is_empty(), "no lattice source: {row}");
+    }
 }
 
 #[test]

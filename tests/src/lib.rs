@@ -1,5 +1,5 @@
-//! Cross-crate conformance and end-to-end tests (see `tests/tests/`), the table
-//! generator (`src/bin/gen-tables.rs`), and what the tests share.
+//! Cross-crate conformance and end-to-end tests (see `tests/tests/`), and what the
+//! tests share.
 
 /// SplitMix64: a small deterministic generator, so every failure reproduces from its
 /// seed. Shared by the randomised tests.

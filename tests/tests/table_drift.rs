@@ -1,21 +1,68 @@
-//! The firmware table `core/src/table/data.rs` must be exactly what the generator makes
-//! from `tables/crystals.toml`, and the compiled core table must agree row by row with
-//! the TOML.
+//! The two files generated from `tables/crystals.toml` must be exactly what the
+//! generator makes of it: the firmware's table `core/src/table/data.rs` and the
+//! console's citation table `console-host/src/table_sources.rs`. The compiled tables
+//! must agree with the TOML row by row, and the generator's list of structures with
+//! the core's.
 
 use std::path::Path;
 
-use matterwave_console::tables::{self, CrystalRow};
+use matterwave_console::tables as host;
+use matterwave_core::lattice::{Structure, MAX_INDEX};
 use matterwave_core::table;
+use matterwave_gen_tables::structure::{self, STRUCTURES};
+use matterwave_gen_tables::{generate, CrystalRow, Generated, REGENERATE, TOML_PATH};
 
-const REGENERATE: &str = "cargo run -p matterwave-tests --bin gen-tables";
+fn root() -> &'static Path {
+    Path::new(concat!(env!("CARGO_MANIFEST_DIR"), "/.."))
+}
 
 fn toml_rows() -> Vec<CrystalRow> {
-    // Read from disk (not the copy compiled into the console) so that an edit to the
-    // TOML without regenerating is caught even before the console is rebuilt.
-    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../tables/crystals.toml");
+    // Read from disk at run time, so that an edit to the TOML without regenerating is
+    // caught even before anything is rebuilt.
+    let path = root().join(TOML_PATH);
     let text = std::fs::read_to_string(&path)
         .unwrap_or_else(|e| panic!("cannot read {}: {e}", path.display()));
-    tables::parse(&text).unwrap_or_else(|e| panic!("{}: {e}", path.display()))
+    matterwave_gen_tables::parse(&text).unwrap_or_else(|e| panic!("{TOML_PATH}: {e}"))
+}
+
+/// Fails, naming the file, the first line that differs and the command to run, when
+/// the generated file on disk is not what the generator writes.
+fn assert_fresh(file: &Generated) {
+    let on_disk = std::fs::read_to_string(root().join(file.path)).ok();
+    if let Some(why) = file.staleness(on_disk.as_deref()) {
+        panic!("{why}; run `{REGENERATE}`");
+    }
+}
+
+#[test]
+fn data_rs_matches_generator() {
+    let [core, _] = generate(&toml_rows());
+    assert_eq!(core.path, "core/src/table/data.rs");
+    assert_fresh(&core);
+}
+
+#[test]
+fn table_sources_rs_matches_generator() {
+    let [_, sources] = generate(&toml_rows());
+    assert_eq!(sources.path, "console-host/src/table_sources.rs");
+    assert_fresh(&sources);
+}
+
+/// The generator's own list of structures (it does not link the core) names the core's
+/// structures in the core's order, with the core's variant and crystal system.
+#[test]
+fn generator_structures_are_the_cores() {
+    assert_eq!(STRUCTURES.len(), Structure::ALL.len());
+    for (g, c) in STRUCTURES.iter().zip(Structure::ALL) {
+        assert_eq!(g.name, c.name(), "{c:?}");
+        assert_eq!(g.variant, format!("{c:?}"), "{c:?}");
+        assert_eq!(
+            format!("{:?}", g.system),
+            format!("{:?}", c.system()),
+            "{c:?}"
+        );
+    }
+    assert_eq!(structure::MAX_INDEX, MAX_INDEX);
 }
 
 /// Same f32 value, allowing one unit of rounding (f64 text -> f32 directly in the core,
@@ -34,26 +81,6 @@ fn same_opt(core: Option<f32>, toml: Option<f64>) -> bool {
 }
 
 #[test]
-fn data_rs_matches_generator() {
-    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../core/src/table/data.rs");
-    let on_disk = std::fs::read_to_string(&path)
-        .unwrap_or_else(|e| panic!("cannot read {}: {e}", path.display()));
-    let expected = tables::render_core_table(&toml_rows());
-    if on_disk != expected {
-        let line = on_disk
-            .lines()
-            .zip(expected.lines())
-            .position(|(a, b)| a != b)
-            .map(|i| i + 1)
-            .unwrap_or_else(|| on_disk.lines().count().min(expected.lines().count()) + 1);
-        panic!(
-            "core/src/table/data.rs differs from tables/crystals.toml (first difference at \
-             line {line}); run `{REGENERATE}`"
-        );
-    }
-}
-
-#[test]
 fn core_rows_equal_toml_rows() {
     let rows = toml_rows();
     let core = table::all();
@@ -65,10 +92,10 @@ fn core_rows_equal_toml_rows() {
         rows.len()
     );
     for (c, r) in core.iter().zip(&rows) {
-        let what = format!("row {:?}; run `{REGENERATE}`", r.id);
+        let what = format!("core row {:?}; run `{REGENERATE}`", r.id);
         assert_eq!(c.id, r.id, "{what}");
         assert_eq!(c.name, r.name, "{what}");
-        assert_eq!(c.structure, r.structure, "{what}");
+        assert_eq!(c.structure.name(), r.structure.name, "{what}");
         assert!(same_f32(c.a_a, r.a_a), "a: {} vs {}, {what}", c.a_a, r.a_a);
         assert!(
             same_f32(c.b_a, r.b_or_a()),
@@ -99,6 +126,63 @@ fn core_rows_equal_toml_rows() {
             );
         }
         assert_eq!(table::find(&r.id).map(|x| x.id), Ok(c.id), "{what}");
+    }
+}
+
+/// A value and its source as the console holds them, as the TOML row's pair of fields.
+fn pair(s: Option<host::Sourced>) -> (Option<f64>, Option<String>) {
+    (s.map(|s| s.value), s.map(|s| s.source.to_string()))
+}
+
+#[test]
+fn host_rows_equal_toml_rows() {
+    let rows = toml_rows();
+    let hosted = host::all();
+    assert_eq!(
+        hosted.len(),
+        rows.len(),
+        "console table has {} rows, TOML has {}; run `{REGENERATE}`",
+        hosted.len(),
+        rows.len()
+    );
+    for (h, r) in hosted.iter().zip(&rows) {
+        let what = format!("console row {:?}; run `{REGENERATE}`", r.id);
+        assert_eq!(h.id, r.id, "{what}");
+        assert_eq!(h.name, r.name, "{what}");
+        assert_eq!(h.structure.name(), r.structure.name, "{what}");
+        // f64 text -> f64 literal: exactly the same value.
+        assert_eq!(h.a_a, r.a_a, "a: {what}");
+        assert_eq!(h.b_a, r.b_a, "b: {what}");
+        assert_eq!(h.c_a, r.c_a, "c: {what}");
+        assert_eq!(h.a_uncertainty_a, r.a_uncertainty_a, "uncertainty: {what}");
+        assert_eq!(h.temperature_k, r.temperature_k, "temperature: {what}");
+        assert_eq!(h.lattice_source, r.lattice_source, "lattice source: {what}");
+        assert_eq!(
+            pair(h.work_function_ev),
+            (r.work_function_ev, r.work_function_source.clone()),
+            "work function: {what}"
+        );
+        assert_eq!(
+            pair(h.inner_potential_ev),
+            (r.inner_potential_ev, r.inner_potential_source.clone()),
+            "inner potential: {what}"
+        );
+        assert_eq!(h.faces.len(), r.faces.len(), "faces: {what}");
+        for (k, (hf, rf)) in h.faces.iter().zip(&r.faces).enumerate() {
+            let what = format!("face #{}, {what}", k + 1);
+            assert_eq!(hf.miller, rf.miller, "{what}");
+            assert_eq!(
+                pair(hf.work_function_ev),
+                (rf.work_function_ev, rf.work_function_source.clone()),
+                "work function: {what}"
+            );
+            assert_eq!(
+                pair(hf.inner_potential_ev),
+                (rf.inner_potential_ev, rf.inner_potential_source.clone()),
+                "inner potential: {what}"
+            );
+        }
+        assert_eq!(host::find(&r.id).map(|x| x.id), Some(h.id), "{what}");
     }
 }
 

@@ -1,9 +1,8 @@
 //! The fixed crystal table, generated from `tables/crystals.toml`.
 //!
-//! `data.rs` is written by `cargo run -p matterwave-tests --bin gen-tables`; never edit
-//! it by hand (the `table_drift` test fails when it differs from the generator's
-//! output). Sources for every number are in `tables/crystals.toml`; the firmware does
-//! not carry them.
+//! `data.rs` is written by `cargo run -p matterwave-gen-tables`; never edit it by hand
+//! (the `table_drift` test fails when it differs from the generator's output). Sources
+//! for every number are in `tables/crystals.toml`; the firmware does not carry them.
 //!
 //! ```
 //! use matterwave_core::table;
