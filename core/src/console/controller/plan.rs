@@ -3,11 +3,12 @@
 
 use embedded_io::Write;
 
-use super::args::{opt_num, parse_rod, req_num, tok_err, write_point_error};
+use super::args::{keyed, parse_num, parse_rod, req_num, req_word, write_point_error};
+use super::fault::{check_used, Accepted, Fault, Result};
 use super::{Console, Rw, Stream, MAX_SOLUTIONS};
 use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::console::wire::token::Args;
-use crate::error::{Error, Result};
+use crate::error::Error;
 use crate::goniometer::{self, Position, Rig, Solution};
 use crate::scan::{self, IvPlan, SweepPlan, TrackPlan};
 use crate::surface::Incidence;
@@ -37,11 +38,8 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
     pub(super) fn cmd_aim(&mut self, a: &mut Args<'_>) -> Result<Option<Stream>> {
         // Any `aim` that fails leaves no stale solutions behind for `move sol=`.
         self.solutions.clear();
-        let rod = match a.get("beam") {
-            Some(v) => parse_rod(v)?,
-            None => self.settings.beam,
-        };
-        a.check_all_used().map_err(tok_err)?;
+        let rod = keyed(a, "beam", parse_rod)?.unwrap_or(self.settings.beam);
+        check_used(a)?;
         let s = &self.settings;
         let e = s.gun.kinetic_energy_ev()?;
         let pos = self.position();
@@ -65,15 +63,20 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
     }
 
     pub(super) fn cmd_plan(&mut self, a: &mut Args<'_>) -> Result<Option<Stream>> {
-        let kind = a.get("kind").ok_or(Error::MissingArgument)?;
+        let kind = req_word(a, "kind")?;
         let from = req_num(a, "from")?;
         let to = req_num(a, "to")?;
         let step = req_num(a, "step")?;
-        let dwell = opt_num(a, "dwell")?.unwrap_or(0.0);
-        a.check_all_used().map_err(tok_err)?;
-        if !(0.0..=3600.0).contains(&dwell) {
-            return Err(Error::BadNumber);
-        }
+        let dwell = keyed(a, "dwell", |v| {
+            let s = parse_num(v)?;
+            if (0.0..=3600.0).contains(&s) {
+                Ok(s)
+            } else {
+                Err(Fault::from(Error::BadNumber).because("dwell accepted 0 to 3600 s"))
+            }
+        })?
+        .unwrap_or(0.0);
+        check_used(a)?;
         let pos = self.position();
         let s = &self.settings;
         let plan = match kind {
@@ -101,7 +104,12 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 let inc = Incidence::new(e, s.tilt_deg, s.azimuth_deg.unwrap_or(ang[3]))?;
                 Plan::Sweep(SweepPlan::new(s.rig, s.face, inc, ang[1], from, to, step)?)
             }
-            _ => return Err(Error::BadValue),
+            _ => {
+                return Err(Fault::from(Error::BadValue)
+                    .at("kind", kind)
+                    .because("no such plan")
+                    .accepting(Accepted::usage_of("plan")))
+            }
         };
         Ok(Some(Stream::Plan(PlanRun {
             plan,

@@ -4,12 +4,12 @@
 use embedded_io::Write;
 
 use super::args::miller_text;
+use super::fault::Result;
 use super::plan::PlanRun;
 use super::settings::{Settings, SETTING_KEYS};
 use super::{Console, Rw, COMMANDS, MAX_SOLUTIONS};
 use crate::budget::ArmBudget;
 use crate::console::board::{AxisDriver, Detector, Interlock};
-use crate::error::Result;
 use crate::goniometer::Solution;
 use crate::lattice::System;
 use crate::surface::{BeamIter, Incidence};
