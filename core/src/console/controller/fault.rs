@@ -86,7 +86,7 @@ pub(super) enum Accepted {
 
 impl Accepted {
     /// Word `i` of the list (`None` past its end, and for [`Accepted::Usage`]).
-    fn word(self, i: usize) -> Option<&'static str> {
+    pub(super) fn word(self, i: usize) -> Option<&'static str> {
         match self {
             Accepted::Nothing | Accepted::Usage(_) => None,
             Accepted::SetKeys => SETTING_KEYS
@@ -102,12 +102,25 @@ impl Accepted {
         }
     }
 
-    /// The usage line of `command` (nothing for a command not in [`COMMANDS`]).
+    /// The keys a command takes where a table lists them: `set` and `axis` (`help`
+    /// lists them after the usage line).
+    pub(super) fn keys_of(command: &str) -> Option<Accepted> {
+        match command {
+            "set" => Some(Accepted::SetKeys),
+            "axis" => Some(Accepted::AxisKeys),
+            _ => None,
+        }
+    }
+
+    /// What `command` accepts: its keys ([`Accepted::keys_of`]), else its usage line
+    /// (nothing for a command not in [`COMMANDS`]).
     pub(super) fn usage_of(command: &str) -> Accepted {
-        COMMANDS
-            .iter()
-            .find(|(c, _)| *c == command)
-            .map_or(Accepted::Nothing, |(_, u)| Accepted::Usage(u))
+        Accepted::keys_of(command).unwrap_or_else(|| {
+            COMMANDS
+                .iter()
+                .find(|(c, _)| *c == command)
+                .map_or(Accepted::Nothing, |(_, u)| Accepted::Usage(u))
+        })
     }
 }
 

@@ -68,8 +68,8 @@ pub const MAX_POINTS: usize = 64;
 
 type Rw<'w, W> = ReplyWriter<'w, W, MAX_REPLY>;
 
-/// Commands with their one-line usage, as `help` lists them (`set` and `get` append
-/// the key names of [`SETTING_KEYS`]).
+/// Commands with their one-line usage, as `help` lists them (`set` appends the key names
+/// of [`SETTING_KEYS`] it takes, `axis` the rig file's axis keys).
 pub const COMMANDS: [(&str, &str); 23] = [
     ("hello", "identify: name, version, protocol"),
     ("help", "this list"),
@@ -91,10 +91,7 @@ pub const COMMANDS: [(&str, &str); 23] = [
     ("pos", "axis positions"),
     ("enable", "allow motion (interlock must report safe)"),
     ("disable", "forbid motion"),
-    (
-        "axis",
-        "axis name=A [spd= home= min= max= backlash= approach= wrap= speed= accel= fitted=]",
-    ),
+    ("axis", "axis name=A [key=value ...]:"),
     (
         "zone",
         "zone name=A i=N from=DEG to=DEG | zone name=A i=N off",

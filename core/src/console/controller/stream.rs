@@ -4,9 +4,10 @@
 use embedded_io::Write;
 
 use super::args::miller_text;
+use super::fault::Accepted;
 use super::fault::Result;
 use super::plan::PlanRun;
-use super::settings::{Settings, SETTING_KEYS};
+use super::settings::Settings;
 use super::{Console, Rw, COMMANDS, MAX_SOLUTIONS};
 use crate::budget::ArmBudget;
 use crate::console::board::{AxisDriver, Detector, Interlock};
@@ -54,9 +55,11 @@ impl Stream {
             Stream::Help(i) => match COMMANDS.get(*i as usize) {
                 Some((c, u)) => {
                     rw.item().field_str("cmd", c).text(u);
-                    if *c == "set" {
-                        for k in SETTING_KEYS.iter().filter(|k| k.settable) {
-                            rw.text(k.name);
+                    if let Some(keys) = Accepted::keys_of(c) {
+                        let mut k = 0;
+                        while let Some(name) = keys.word(k) {
+                            rw.text(name);
+                            k += 1;
                         }
                     }
                     *i += 1;
