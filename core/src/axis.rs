@@ -93,6 +93,9 @@ pub enum Approach {
 }
 
 impl Approach {
+    /// Every approach, in the order rig files and the console list their words.
+    pub const ALL: [Approach; 2] = [Approach::FromBelow, Approach::FromAbove];
+
     /// The word rig files and the console use: `from-below` or `from-above`.
     pub const fn word(self) -> &'static str {
         match self {
@@ -103,9 +106,7 @@ impl Approach {
 
     /// The approach a word names ([`Approach::word`]), if any.
     pub fn from_word(word: &str) -> Option<Approach> {
-        [Approach::FromBelow, Approach::FromAbove]
-            .into_iter()
-            .find(|a| a.word() == word)
+        Approach::ALL.into_iter().find(|a| a.word() == word)
     }
 }
 

@@ -32,8 +32,8 @@
 
 use libfuzzer_sys::fuzz_target;
 use matterwave_core::axis::AxisConfig;
+use matterwave_core::console::controller::MAX_REPLY;
 use matterwave_core::console::crc;
-use matterwave_core::console::exec::MAX_REPLY;
 use matterwave_core::console::line::MAX_LINE;
 use matterwave_core::console::sim::{SimAxes, SimDetector, SimInterlock};
 use matterwave_core::console::{AxisDriver, Console, Settings};

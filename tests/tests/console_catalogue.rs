@@ -1,6 +1,10 @@
 //! A catalogue of malformed and refused requests for the serial console
-//! (`core/src/console/exec.rs`), each with the error code it must get and the rule it
+//! (`core/src/console/controller/`), each with the error code it must get and the rule it
 //! checks, on a fresh simulated controller (feature `sim`).
+//!
+//! A second table (`DETAILS`) checks the detail of the err line: every token and number
+//! error kind gives its code and names the key, value or word at fault with the reason;
+//! unknown keys list what the command reads; garbage is quoted back cut and escaped.
 //!
 //! For every case: the input's final lines carry exactly the expected codes; the state
 //! a technician can see — `get`, `dump`, `pos` and `status` without its request/error
@@ -562,4 +566,494 @@ fn dump_replays_as_commands_on_a_fresh_console() {
         "dump does not replay:\n{}",
         failures.join("\n")
     );
+}
+
+// ---------------------------------------------------------------------------------
+// Error detail: the err line names what is wrong, not only its kind
+// ---------------------------------------------------------------------------------
+
+/// One failing request: its code, and what the err line says after `err <code> `: the
+/// subject it starts with (the key, `key="value"` or the quoted word) and a word of the
+/// reason.
+struct Detail {
+    /// Which error kind the case is (the token or number error of the wire layer).
+    kind: &'static str,
+    /// Setup lines (each answered `ok`).
+    setup: &'static [&'static str],
+    input: &'static str,
+    code: u16,
+    /// The start of the text after `err <code> `.
+    subject: &'static str,
+    /// Part of the reason.
+    reason: &'static str,
+}
+
+const fn detail(
+    kind: &'static str,
+    input: &'static str,
+    code: u16,
+    subject: &'static str,
+    reason: &'static str,
+) -> Detail {
+    Detail {
+        kind,
+        setup: &[],
+        input,
+        code,
+        subject,
+        reason,
+    }
+}
+
+/// protocol rules (docs/PROTOCOL.md, Replies): an error about one argument names the key,
+/// the value as sent or the word at fault, the reason, and what is accepted; the code is
+/// the same as before (the error code table).
+const DETAILS: &[Detail] = &[
+    // TokenError::NoCommand: an empty body with a correct checksum (CRC of nothing).
+    detail(
+        "token: no command",
+        "*FFFF",
+        403,
+        "no command word",
+        "send help",
+    ),
+    detail(
+        "token: bad command word",
+        "HELP",
+        403,
+        "\"HELP\" - ",
+        "lower case",
+    ),
+    detail(
+        "token: bad command word",
+        "=5 energy",
+        403,
+        "\"=5\" - ",
+        "not a command word",
+    ),
+    detail(
+        "unknown command word",
+        "jump",
+        403,
+        "\"jump\" - ",
+        "unknown command",
+    ),
+    detail(
+        "token: bad key",
+        "set Tilt=3",
+        407,
+        "\"Tilt=3\" - ",
+        "bad key",
+    ),
+    detail(
+        "token: bad key",
+        "set tilt=1 =2",
+        407,
+        "\"=2\" - ",
+        "bad key",
+    ),
+    detail(
+        "token: empty value",
+        "set tilt=",
+        405,
+        "tilt - ",
+        "empty value",
+    ),
+    detail(
+        "token: empty value",
+        "plan kind=sweep from=",
+        405,
+        "from - ",
+        "empty value",
+    ),
+    detail(
+        "token: duplicate key",
+        "set tilt=1 tilt=2",
+        407,
+        "tilt=\"2\" - ",
+        "key given twice",
+    ),
+    detail(
+        "token: too many",
+        "set a=1 b=2 c=3 d=4 e=5 f=6 g=7 h=8 i=9 j=10 k=11 l=12 m=13 n=14",
+        404,
+        "\"m=13\" - ",
+        "at most 12",
+    ),
+    detail(
+        "token: unused key",
+        "set colour=red",
+        404,
+        "colour=\"red\" - ",
+        "unknown key; accepted: energy ",
+    ),
+    detail(
+        "token: unused key",
+        "axis name=arm spd=15",
+        404,
+        "spd=\"15\" - ",
+        "accepted: name steps_per_deg ",
+    ),
+    detail(
+        "token: unused key",
+        "plan kind=sweep from=1 to=2 step=1 speed=2",
+        404,
+        "speed=\"2\" - ",
+        "usage: plan kind=",
+    ),
+    detail(
+        "token: unused key, read only",
+        "set kinetic=90",
+        404,
+        "kinetic=\"90\" - ",
+        "read-only",
+    ),
+    detail(
+        "token: unused word",
+        "hello there",
+        404,
+        "\"there\" - ",
+        "takes no arguments",
+    ),
+    detail(
+        "token: unused word",
+        "get tilt energy",
+        404,
+        "\"energy\" - ",
+        "extra argument; usage: get",
+    ),
+    detail(
+        "unknown setting",
+        "get colour",
+        404,
+        "\"colour\" - ",
+        "unknown setting; accepted: energy kinetic",
+    ),
+    detail(
+        "missing key",
+        "plan kind=track from=50 to=60",
+        405,
+        "step - ",
+        "required argument missing",
+    ),
+    detail("missing key", "pt x=1", 405, "y - ", "usage: pt x="),
+    detail(
+        "number: syntax",
+        "set tilt=abc",
+        406,
+        "tilt=\"abc\" - ",
+        "not a decimal number",
+    ),
+    detail(
+        "number: syntax (hex)",
+        "set energy=0x10",
+        406,
+        "energy=\"0x10\" - ",
+        "not a decimal number",
+    ),
+    detail(
+        "number: syntax (integer)",
+        "pt x=1 y=2 n=2.5",
+        406,
+        "n=\"2.5\" - ",
+        "not an integer",
+    ),
+    detail(
+        "number: syntax (integer)",
+        "zone name=arm i=one from=1 to=2",
+        406,
+        "i=\"one\" - ",
+        "not an integer",
+    ),
+    detail(
+        "number: syntax (beam index)",
+        "set beam=1.5,0",
+        406,
+        "beam=\"1.5,0\" - ",
+        "not an integer",
+    ),
+    detail(
+        "number: not finite",
+        "set energy=nan",
+        406,
+        "energy=\"nan\" - ",
+        "NaN and infinity",
+    ),
+    detail(
+        "number: not finite",
+        "move arm=-Infinity",
+        406,
+        "arm=\"-Infinity\" - ",
+        "NaN and infinity",
+    ),
+    detail(
+        "number: out of f32 range",
+        "set energy=1e39",
+        406,
+        "energy=\"1e39\" - ",
+        "f32 range",
+    ),
+    detail(
+        "number: out of i32 range",
+        "pt x=1 y=2 n=2147483648",
+        406,
+        "n=\"2147483648\" - ",
+        "integer beyond",
+    ),
+    detail(
+        "number: out of i32 range",
+        "move sol=-2147483649",
+        406,
+        "sol=\"-2147483649\" - ",
+        "integer beyond",
+    ),
+    detail(
+        "number: dwell range",
+        "plan kind=sweep from=20 to=30 step=5 dwell=5000",
+        406,
+        "dwell=\"5000\" - ",
+        "0 to 3600",
+    ),
+    detail("value range", "set tilt=95", 103, "tilt=\"95\" - ", "89.9"),
+    detail(
+        "value range",
+        "set v0=150",
+        103,
+        "v0=\"150\" - ",
+        "inner potential above 100 eV",
+    ),
+    detail(
+        "word value",
+        "axis name=gun",
+        407,
+        "name=\"gun\" - ",
+        "accepted: arm elevation tilt azimuth",
+    ),
+    detail(
+        "word value",
+        "axis name=arm approach=sideways",
+        407,
+        "approach=\"sideways\" - ",
+        "accepted: from-below from-above",
+    ),
+    detail(
+        "word value",
+        "axis name=azimuth wrap=maybe",
+        407,
+        "wrap=\"maybe\" - ",
+        "accepted: 1 on yes 0 off no",
+    ),
+    detail(
+        "word value",
+        "fit kind=foo",
+        407,
+        "kind=\"foo\" - ",
+        "usage: fit kind=peak|",
+    ),
+    detail(
+        "word value",
+        "set beam=1",
+        407,
+        "beam=\"1\" - ",
+        "two integers h,k",
+    ),
+    detail(
+        "table value",
+        "set crystal=unobtainium",
+        115,
+        "crystal=\"unobtainium\" - ",
+        "unknown crystal id",
+    ),
+];
+
+/// The final line of a reply, checksum suffix removed; panics unless there is exactly one.
+fn final_line(reply: &str) -> String {
+    let f = finals(reply);
+    assert_eq!(f.len(), 1, "{reply}");
+    f[0].to_string()
+}
+
+fn fresh() -> Con {
+    Console::new(
+        SimAxes::default(),
+        SimDetector::default(),
+        SimInterlock { safe: true },
+    )
+    .expect("factory settings")
+}
+
+#[test]
+fn every_token_and_number_error_gives_its_code_and_names_what_is_wrong() {
+    let mut failures = Vec::new();
+    for d in DETAILS {
+        let mut c = fresh();
+        for s in d.setup {
+            assert_eq!(code_of(&final_line(&request(&mut c, s))), OK, "{s}");
+        }
+        let before = observe(&mut c);
+        let reply = request(&mut c, d.input);
+        let line = final_line(&reply);
+        let want_start = format!("err {} {}", d.code, d.subject);
+        if !line.starts_with(&want_start) || !line.contains(d.reason) {
+            failures.push(format!(
+                "{}: {:?}\n  got  {line}\n  want {want_start}… with {:?}",
+                d.kind, d.input, d.reason
+            ));
+        }
+        assert!(reply.len() <= matterwave_core::console::controller::MAX_REPLY + 1);
+        assert!(reply.trim_end().bytes().all(|b| (0x20..0x7F).contains(&b)));
+        assert_eq!(before, observe(&mut c), "{}: state changed", d.input);
+    }
+    assert!(failures.is_empty(), "{}", failures.join("\n"));
+    // Every kind of the wire layer's token and number errors has a case.
+    for kind in [
+        "token: no command",
+        "token: bad command word",
+        "token: bad key",
+        "token: empty value",
+        "token: duplicate key",
+        "token: too many",
+        "token: unused key",
+        "token: unused word",
+        "number: syntax",
+        "number: not finite",
+        "number: out of f32 range",
+        "number: out of i32 range",
+    ] {
+        assert!(DETAILS.iter().any(|d| d.kind == kind), "no case for {kind}");
+    }
+}
+
+/// The words after `; accepted: ` in an err line.
+fn accepted(line: &str) -> Vec<String> {
+    line.split_once("; accepted: ")
+        .unwrap_or_else(|| panic!("no accepted list: {line}"))
+        .1
+        .split(' ')
+        .map(str::to_string)
+        .collect()
+}
+
+#[test]
+fn unknown_keys_list_the_keys_the_command_reads() {
+    use matterwave_core::console::controller::SETTING_KEYS;
+    let mut c = fresh();
+    // set: the settable keys of the one setting table, in its order...
+    let listed = accepted(&final_line(&request(&mut c, "set colour=red")));
+    let settable: Vec<String> = SETTING_KEYS
+        .iter()
+        .filter(|k| k.settable)
+        .map(|k| k.name.to_string())
+        .collect();
+    assert_eq!(listed, settable);
+    // ...each of which set reads: a bad value is refused for its value, never as unknown.
+    for k in &listed {
+        let line = final_line(&request(&mut c, &format!("set {k}=zz")));
+        assert_ne!(code_of(&line), 404, "{line}");
+        assert!(line.contains(&format!("{k}=\"zz\"")), "{line}");
+    }
+    // get: every setting key, each of which get answers.
+    let listed = accepted(&final_line(&request(&mut c, "get colour")));
+    assert_eq!(listed.len(), SETTING_KEYS.len());
+    for k in &listed {
+        let r = request(&mut c, &format!("get {k}"));
+        assert!(r.starts_with(&format!("ok {k}=")), "{r}");
+    }
+    // axis: the rig file's keys, each of which axis reads (a bad value is refused for
+    // its value; name= twice is a duplicate).
+    let listed = accepted(&final_line(&request(&mut c, "axis name=arm colour=red")));
+    assert!(listed.len() >= 10, "{listed:?}");
+    for k in &listed {
+        let line = final_line(&request(&mut c, &format!("axis name=arm {k}=zz")));
+        assert_ne!(code_of(&line), 404, "{line}");
+        assert!(line.contains(&format!("{k}=\"zz\"")), "{line}");
+    }
+    // help lists the same keys for set and axis.
+    let help = request(&mut c, "help");
+    let axis_help = help
+        .lines()
+        .find(|l| l.starts_with("- cmd=axis "))
+        .unwrap_or_default();
+    assert!(
+        axis_help.ends_with(&format!(": {}", listed.join(" "))),
+        "{axis_help}"
+    );
+}
+
+/// Printable garbage that is one token: every printable ASCII byte but space and `*`
+/// (which the wire would take for a checksum), cycled, `n` bytes.
+fn printable_garbage(n: usize) -> String {
+    (b'!'..=b'~')
+        .filter(|&b| b != b'*')
+        .map(char::from)
+        .cycle()
+        .take(n)
+        .collect()
+}
+
+#[test]
+fn garbage_values_are_cut_and_escaped() {
+    use matterwave_core::console::reply::Echo;
+    let mut c = fresh();
+    // The longest value a request line can carry: 109 bytes after `set energy=`.
+    let value = format!("\"{}", printable_garbage(108));
+    let line = format!("set energy={value}");
+    assert_eq!(line.len(), 120);
+    let got = final_line(&request(&mut c, &line));
+    // 24 characters quoted back, `"` as `?`, then `...` for the rest.
+    let shown: String = value
+        .chars()
+        .take(24)
+        .map(|ch| if ch == '"' { '?' } else { ch })
+        .collect();
+    assert_eq!(
+        got,
+        format!("err 406 energy=\"{shown}\"... - not a decimal number")
+    );
+    assert_eq!(got.matches('"').count(), 2, "{got}");
+    // A key as long as a line allows is cut the same way.
+    let key = format!("k{}", "x".repeat(100));
+    let got = final_line(&request(&mut c, &format!("set {key}=1")));
+    assert!(
+        got.starts_with("err 404 kxxxxxxxxxxxxxxx...=\"1\" - unknown key"),
+        "{got}"
+    );
+    // The same with a checksum: the reply carries one, and no stray `*`.
+    let body = "set tilt=\"abc\"";
+    let sum = matterwave_core::console::crc::suffix_for(body.as_bytes());
+    let r = request(
+        &mut c,
+        &format!("{body}{}", std::str::from_utf8(&sum).unwrap()),
+    );
+    assert!(
+        r.starts_with("err 406 tilt=\"?abc?\" - not a decimal number*"),
+        "{r}"
+    );
+    assert_eq!(r.matches('*').count(), 1, "{r}");
+
+    // A 200-byte garbage value: no request line holds one (120 bytes at most), so the
+    // line is refused whole and nothing of it is quoted back...
+    let mut g200 = String::from("set energy=");
+    g200.push_str(&printable_garbage(200));
+    let r = feed(&mut c, format!("{g200}\n").as_bytes());
+    assert_eq!(
+        r,
+        "err 400 line too long; at most 120 bytes before the line end\n"
+    );
+    let mut bytes = g200.clone().into_bytes();
+    bytes[20] = 0xC3; // é, as UTF-8
+    bytes[21] = 0xA9;
+    bytes.push(b'\n');
+    let r = feed(&mut c, &bytes);
+    assert!(r.starts_with("err 401 ") && !r.contains("energy"), "{r}");
+    // ...and the echo the err writer quotes through cuts and escapes one all the same:
+    // blanks, controls, non-ASCII characters (one `?` each), `"` and `*`.
+    let nasty: String = "é\t\u{0}\u{1b}☃\"*x".chars().cycle().take(200).collect();
+    assert!(nasty.len() >= 200);
+    let e = Echo::<24>::new(&nasty);
+    assert!(e.is_cut());
+    assert_eq!(e.as_str(), "???????x???????x???????x");
+    let e = Echo::<24>::new(&printable_garbage(200));
+    assert!(e.is_cut());
+    assert_eq!(e.as_str(), &printable_garbage(24).replace('"', "?"));
 }

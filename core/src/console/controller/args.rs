@@ -3,103 +3,110 @@
 use embedded_io::Write;
 
 use super::axes::axis_of;
+use super::fault::{Accepted, Fault, Result};
 use super::Rw;
 use crate::console::wire::num;
-use crate::console::wire::token::{Args, TokenError};
-use crate::error::{AxisId, Error, Result};
+use crate::console::wire::token::Args;
+use crate::error::{AxisId, Error};
 use crate::goniometer::{Branch, Refusal, Rig};
 use crate::lattice::Miller;
 
-pub(super) fn tok_err(e: TokenError) -> Error {
-    match e {
-        TokenError::NoCommand | TokenError::BadCommand => Error::UnknownCommand,
-        TokenError::EmptyValue => Error::MissingArgument,
-        TokenError::Unused | TokenError::TooMany => Error::UnknownArgument,
-        TokenError::BadKey | TokenError::DuplicateKey => Error::BadValue,
-    }
+/// The words of a 0/1 switch (`wrap=`, `fitted=`) and what they mean.
+pub(super) const BOOL_WORDS: [(&str, bool); 6] = [
+    ("1", true),
+    ("on", true),
+    ("yes", true),
+    ("0", false),
+    ("off", false),
+    ("no", false),
+];
+
+/// The value of `key` read with `parse`, marking it used; a fault names the key and
+/// value.
+pub(super) fn keyed<'a, T>(
+    a: &mut Args<'a>,
+    key: &str,
+    parse: impl FnOnce(&'a str) -> Result<T>,
+) -> Result<Option<T>> {
+    a.get(key)
+        .map(|v| parse(v).map_err(|f| f.at(key, v)))
+        .transpose()
+}
+
+/// `Err` for a required `key` that was not given: names it, with the usage line.
+pub(super) fn missing(a: &Args<'_>, key: &str) -> Fault {
+    Fault::from(Error::MissingArgument)
+        .on_key(key)
+        .because("required argument missing")
+        .accepting(Accepted::usage_of(a.command()))
+}
+
+/// The value of a required `key`.
+pub(super) fn req_word<'a>(a: &mut Args<'a>, key: &str) -> Result<&'a str> {
+    a.get(key).ok_or_else(|| missing(a, key))
 }
 
 pub(super) fn parse_num(s: &str) -> Result<f32> {
-    num::parse_f32(s).map_err(|_| Error::BadNumber)
+    num::parse_f32(s).map_err(|e| Fault::number(e, false))
 }
 
 pub(super) fn opt_num(a: &mut Args<'_>, key: &str) -> Result<Option<f32>> {
-    a.get(key).map(parse_num).transpose()
+    keyed(a, key, parse_num)
 }
 
 pub(super) fn req_num(a: &mut Args<'_>, key: &str) -> Result<f32> {
-    opt_num(a, key)?.ok_or(Error::MissingArgument)
+    opt_num(a, key)?.ok_or_else(|| missing(a, key))
 }
 
 /// A branch preference word (`nearest`, `+1`, `-1`).
 pub(super) fn parse_branch(s: &str) -> Result<Branch> {
-    Branch::from_word(s).ok_or(Error::BadValue)
+    Branch::from_word(s).ok_or_else(|| {
+        Fault::from(Error::BadValue)
+            .because("not a branch")
+            .accepting(Accepted::Branch)
+    })
 }
 
 pub(super) fn parse_int(s: &str) -> Result<i32> {
-    num::parse_i32(s).map_err(|_| Error::BadNumber)
+    num::parse_i32(s).map_err(|e| Fault::number(e, true))
+}
+
+pub(super) fn opt_int(a: &mut Args<'_>, key: &str) -> Result<Option<i32>> {
+    keyed(a, key, parse_int)
 }
 
 pub(super) fn parse_rod(s: &str) -> Result<[i32; 2]> {
+    let shape = || Fault::from(Error::BadValue).because("a beam is two integers h,k");
     let mut it = s.split(',');
-    let h = parse_int(it.next().ok_or(Error::BadValue)?)?;
-    let k = parse_int(it.next().ok_or(Error::BadValue)?)?;
+    let h = parse_int(it.next().ok_or_else(shape)?)?;
+    let k = parse_int(it.next().ok_or_else(shape)?)?;
     if it.next().is_some() {
-        return Err(Error::BadValue);
+        return Err(shape());
     }
     if h.abs() > 99 || k.abs() > 99 {
-        return Err(Error::IndicesTooLarge);
+        return Err(Error::IndicesTooLarge.into());
     }
     Ok([h, k])
 }
 
 pub(super) fn parse_bool(s: &str) -> Result<bool> {
-    match s {
-        "1" | "on" | "yes" => Ok(true),
-        "0" | "off" | "no" => Ok(false),
-        _ => Err(Error::BadValue),
-    }
+    BOOL_WORDS
+        .iter()
+        .find(|(w, _)| *w == s)
+        .map(|(_, b)| *b)
+        .ok_or_else(|| {
+            Fault::from(Error::BadValue)
+                .because("not a switch")
+                .accepting(Accepted::Bool)
+        })
 }
 
 pub(super) fn axis_id(s: &str) -> Result<AxisId> {
-    AxisId::from_name(s).ok_or(Error::BadValue)
-}
-
-/// `err <code> [<axis> <limit or zone>:] <message>`: axis errors name the axis, the
-/// limit value or the zone and its range.
-pub(super) fn write_err<W: Write>(rw: &mut Rw<'_, W>, e: Error, rig: &Rig) {
-    let Some(id) = e.axis() else {
-        rw.err(e.code(), e.message());
-        return;
-    };
-    let mut nb = [0u8; num::NUM_BUF_LEN];
-    let mut nc = [0u8; num::NUM_BUF_LEN];
-    rw.err(e.code(), id.name());
-    let cfg = axis_of(rig, id);
-    match (e, cfg) {
-        (Error::BelowLimit(_), Some(c)) => {
-            rw.text("min")
-                .text(num::format_f32_roundtrip(c.min_deg, &mut nb));
-        }
-        (Error::AboveLimit(_), Some(c)) => {
-            rw.text("max")
-                .text(num::format_f32_roundtrip(c.max_deg, &mut nb));
-        }
-        (Error::InZone(_, z) | Error::PathCrossesZone(_, z), Some(c)) => {
-            rw.text("zone").text(num::format_i32(z as i32, &mut nb));
-            if let Some(Some(zone)) = c.zones.get(z as usize) {
-                rw.text("from")
-                    .text(num::format_f32_roundtrip(zone.from_deg, &mut nc));
-                let mut nd = [0u8; num::NUM_BUF_LEN];
-                rw.text("to")
-                    .text(num::format_f32_roundtrip(zone.to_deg, &mut nd));
-            }
-        }
-        _ => {
-            rw.text("axis");
-        }
-    }
-    rw.text("-").text(e.message());
+    AxisId::from_name(s).ok_or_else(|| {
+        Fault::from(Error::BadValue)
+            .because("no such axis")
+            .accepting(Accepted::AxisNames)
+    })
 }
 
 /// `- refused branch=… axis=… target=… err=… [min=|max=|zone= from= to=] [by=]`: one

@@ -2,13 +2,40 @@
 
 use embedded_io::Write;
 
-use super::args::{axis_id, opt_num, parse_bool, parse_int, tok_err};
+use super::args::{axis_id, keyed, missing, opt_num, parse_bool, parse_int};
+use super::fault::{check_used, check_used_or, Accepted, Fault, Result};
 use super::{Console, Rw, Stream};
 use crate::axis::{keys, Approach, AxisConfig, Zone, MAX_ZONES};
 use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::console::wire::token::Args;
-use crate::error::{AxisId, Error, Result};
+use crate::error::{AxisId, Error};
 use crate::goniometer::Rig;
+
+/// The numeric fields `axis` sets, named as in rig files ([`keys`]).
+const NUMBER_FIELDS: [&str; 7] = [
+    keys::STEPS_PER_DEG,
+    keys::HOME_OFFSET_DEG,
+    keys::MIN_DEG,
+    keys::MAX_DEG,
+    keys::BACKLASH_DEG,
+    keys::MAX_SPEED_DEG_S,
+    keys::ACCEL_DEG_S2,
+];
+
+/// Every key `axis` takes, in the order `help` and error replies list them.
+pub(super) const AXIS_KEYS: [&str; 11] = [
+    "name",
+    keys::STEPS_PER_DEG,
+    keys::HOME_OFFSET_DEG,
+    keys::MIN_DEG,
+    keys::MAX_DEG,
+    keys::BACKLASH_DEG,
+    keys::APPROACH,
+    keys::WRAP,
+    keys::MAX_SPEED_DEG_S,
+    keys::ACCEL_DEG_S2,
+    "fitted",
+];
 
 /// The configuration slot of an axis in a rig.
 pub(super) fn axis_of(rig: &Rig, id: AxisId) -> Option<&AxisConfig> {
@@ -38,32 +65,31 @@ fn set_axis(rig: &mut Rig, id: AxisId, cfg: Option<AxisConfig>) {
     }
 }
 
+/// The axis a required `name=` names.
+fn read_axis_name(a: &mut Args<'_>) -> Result<AxisId> {
+    keyed(a, "name", axis_id)?.ok_or_else(|| missing(a, "name"))
+}
+
 impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
     pub(super) fn cmd_axis<W: Write>(
         &mut self,
         a: &mut Args<'_>,
         rw: &mut Rw<'_, W>,
     ) -> Result<Option<Stream>> {
-        let id = axis_id(a.get("name").ok_or(Error::MissingArgument)?)?;
+        let id = read_axis_name(a)?;
         let mut rig = self.settings.rig;
-        let fitted = a.get("fitted").map(parse_bool).transpose()?;
-        let mut cfg = match (id, fitted) {
-            (AxisId::Elevation, Some(false)) => None,
-            (AxisId::Elevation, Some(true)) => Some(rig.elevation.unwrap_or(default_elevation())),
-            (_, Some(_)) => return Err(Error::BadValue),
-            _ => axis_of(&rig, id).copied(),
+        let fitted = keyed(a, "fitted", |v| match (parse_bool(v)?, id) {
+            (f, AxisId::Elevation) => Ok(f),
+            _ => Err(Fault::from(Error::BadValue)
+                .because("only the elevation axis can be fitted or removed")),
+        })?;
+        let mut cfg = match fitted {
+            Some(false) => None,
+            Some(true) => Some(rig.elevation.unwrap_or(default_elevation())),
+            None => axis_of(&rig, id).copied(),
         };
-        let fields = [
-            keys::STEPS_PER_DEG,
-            keys::HOME_OFFSET_DEG,
-            keys::MIN_DEG,
-            keys::MAX_DEG,
-            keys::BACKLASH_DEG,
-            keys::MAX_SPEED_DEG_S,
-            keys::ACCEL_DEG_S2,
-        ];
         let mut changed = fitted.is_some();
-        for (i, f) in fields.into_iter().enumerate() {
+        for (i, f) in NUMBER_FIELDS.into_iter().enumerate() {
             if let Some(v) = opt_num(a, f)? {
                 let c = cfg.as_mut().ok_or(Error::NoSuchAxis(id))?;
                 let slot = match i {
@@ -79,20 +105,27 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 changed = true;
             }
         }
-        if let Some(v) = a.get(keys::APPROACH) {
+        let approach = keyed(a, keys::APPROACH, |v| {
+            Approach::from_word(v).ok_or_else(|| {
+                Fault::from(Error::BadValue)
+                    .because("no such approach")
+                    .accepting(Accepted::Approach)
+            })
+        })?;
+        if let Some(ap) = approach {
             let c = cfg.as_mut().ok_or(Error::NoSuchAxis(id))?;
-            c.approach = Approach::from_word(v).ok_or(Error::BadValue)?;
+            c.approach = ap;
             changed = true;
         }
-        if let Some(v) = a.get(keys::WRAP) {
+        if let Some(w) = keyed(a, keys::WRAP, parse_bool)? {
             let c = cfg.as_mut().ok_or(Error::NoSuchAxis(id))?;
-            c.wrap = parse_bool(v)?;
+            c.wrap = w;
             changed = true;
         }
-        a.check_all_used().map_err(tok_err)?;
+        check_used_or(a, Accepted::AxisKeys)?;
         if changed {
             if self.enabled && self.axes.busy() {
-                return Err(Error::Busy);
+                return Err(Error::Busy.into());
             }
             if let Some(c) = &cfg {
                 c.validate()?;
@@ -119,20 +152,27 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         a: &mut Args<'_>,
         rw: &mut Rw<'_, W>,
     ) -> Result<Option<Stream>> {
-        let id = axis_id(a.get("name").ok_or(Error::MissingArgument)?)?;
-        let i = parse_int(a.get("i").ok_or(Error::MissingArgument)?)?;
-        let idx = usize::try_from(i)
-            .ok()
-            .filter(|&i| i < MAX_ZONES)
-            .ok_or(Error::BadValue)?;
+        let id = read_axis_name(a)?;
+        let idx = keyed(a, "i", |v| {
+            usize::try_from(parse_int(v)?)
+                .ok()
+                .filter(|&i| i < MAX_ZONES)
+                .ok_or_else(|| Fault::from(Error::BadValue).because("zone slots are 0 to 3"))
+        })?
+        .ok_or_else(|| missing(a, "i"))?;
         let off = match a.positional(0) {
             Some("off") => true,
-            Some(_) => return Err(Error::BadValue),
+            Some(w) => {
+                return Err(Fault::from(Error::BadValue)
+                    .quoting(w)
+                    .because("the only word zone takes is off")
+                    .accepting(Accepted::usage_of("zone")))
+            }
             None => false,
         };
         let from = opt_num(a, "from")?;
         let to = opt_num(a, "to")?;
-        a.check_all_used().map_err(tok_err)?;
+        check_used(a)?;
         let mut rig = self.settings.rig;
         let mut cfg = *axis_of(&rig, id).ok_or(Error::NoSuchAxis(id))?;
         let zone = match (off, from, to) {
@@ -141,15 +181,22 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 from_deg: f,
                 to_deg: t,
             }),
-            (true, _, _) => return Err(Error::UnknownArgument),
-            _ => return Err(Error::MissingArgument),
+            (true, _, _) => {
+                return Err(Fault::from(Error::UnknownArgument)
+                    .on_key(if from.is_some() { "from" } else { "to" })
+                    .because("zone off takes no from= or to="))
+            }
+            (false, None, _) => return Err(missing(a, "from")),
+            (false, Some(_), None) => return Err(missing(a, "to")),
         };
         *cfg.zones.get_mut(idx).ok_or(Error::BadValue)? = zone;
         cfg.validate()?;
         set_axis(&mut rig, id, Some(cfg));
         self.settings.rig = rig;
         self.solutions.clear();
-        rw.ok().field_str("name", id.name()).field_i32("i", i);
+        rw.ok()
+            .field_str("name", id.name())
+            .field_i32("i", idx as i32);
         if let Some(z) = zone {
             rw.field_f32_rt("from", z.from_deg)
                 .field_f32_rt("to", z.to_deg);

@@ -3,12 +3,12 @@
 
 use embedded_io::Write;
 
-use super::args::{opt_num, tok_err};
+use super::args::opt_num;
+use super::fault::{check_used, Result};
 use super::{Console, Rw, Stream};
 use crate::budget::{self, ArmBudget, ArmBudgetInputs};
 use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::console::wire::token::Args;
-use crate::error::Result;
 
 /// Default energy spread, eV (one σ; a thermionic cathode's is a few tenths of an eV,
 /// common practice, no source).
@@ -22,7 +22,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
     pub(super) fn cmd_budget(&mut self, a: &mut Args<'_>) -> Result<Option<Stream>> {
         let spread = opt_num(a, "energy_spread")?.unwrap_or(DEFAULT_ENERGY_SPREAD_EV);
         let zero = opt_num(a, "arm_zero_sigma")?.unwrap_or(DEFAULT_ARM_ZERO_SIGMA_DEG);
-        a.check_all_used().map_err(tok_err)?;
+        check_used(a)?;
         let pos = self.position();
         let s = &self.settings;
         let e = s.gun.kinetic_energy_ev()?;

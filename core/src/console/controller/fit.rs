@@ -2,11 +2,12 @@
 
 use embedded_io::Write;
 
-use super::args::{opt_num, parse_int, req_num, tok_err};
+use super::args::{opt_int, opt_num, req_num, req_word};
+use super::fault::{check_used, Accepted, Fault, Result};
 use super::{Console, Point, Rw, Stream, MAX_POINTS};
 use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::console::wire::token::Args;
-use crate::error::{Error, Result};
+use crate::error::Error;
 use crate::fit::{self, Sample};
 
 impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
@@ -16,18 +17,18 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         rw: &mut Rw<'_, W>,
     ) -> Result<Option<Stream>> {
         if a.positional(0) == Some("clear") {
-            a.check_all_used().map_err(tok_err)?;
+            check_used(a)?;
             self.points.clear();
             rw.ok().field_i32("points", 0);
             return Ok(None);
         }
         let x = req_num(a, "x")?;
         let y = req_num(a, "y")?;
-        let n = a.get("n").map(parse_int).transpose()?.unwrap_or(0);
-        a.check_all_used().map_err(tok_err)?;
+        let n = opt_int(a, "n")?.unwrap_or(0);
+        check_used(a)?;
         self.points
             .push(Point { x, y, n })
-            .map_err(|_| Error::BufferFull)?;
+            .map_err(|_| Fault::from(Error::BufferFull))?;
         rw.ok().field_i32("points", self.points.len() as i32);
         Ok(None)
     }
@@ -37,9 +38,14 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         a: &mut Args<'_>,
         rw: &mut Rw<'_, W>,
     ) -> Result<Option<Stream>> {
-        let kind = a.get("kind").ok_or(Error::MissingArgument)?;
+        let kind = req_word(a, "kind")?;
         let threshold = opt_num(a, "threshold")?;
-        a.check_all_used().map_err(tok_err)?;
+        check_used(a)?;
+        let no_threshold = || {
+            Fault::from(Error::UnknownArgument)
+                .on_key("threshold")
+                .because("only kind=centroid takes threshold=")
+        };
         let pts: &[Point] = &self.points;
         match kind {
             "peak" | "centroid" => {
@@ -56,7 +62,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 let smp = samples.get(..pts.len()).unwrap_or(&[]);
                 let c = if kind == "peak" {
                     if threshold.is_some() {
-                        return Err(Error::UnknownArgument);
+                        return Err(no_threshold());
                     }
                     fit::parabola_log(smp)?
                 } else {
@@ -71,7 +77,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             }
             "armzero" => {
                 if threshold.is_some() {
-                    return Err(Error::UnknownArgument);
+                    return Err(no_threshold());
                 }
                 let s = &self.settings;
                 let mut xy = [(0.0f32, 0.0f32); MAX_POINTS];
@@ -99,7 +105,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             }
             "rows" => {
                 if threshold.is_some() {
-                    return Err(Error::UnknownArgument);
+                    return Err(no_threshold());
                 }
                 let mut v = [(0.0f32, 0i32, 0.0f32); MAX_POINTS];
                 for (d, p) in v.iter_mut().zip(pts) {
@@ -114,7 +120,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             }
             "iv" => {
                 if threshold.is_some() {
-                    return Err(Error::UnknownArgument);
+                    return Err(no_threshold());
                 }
                 let mut v = [(0i32, 0.0f32); MAX_POINTS];
                 for (d, p) in v.iter_mut().zip(pts) {
@@ -129,7 +135,12 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                     .field_f32_rt("rms", f.rms_residual_ev)
                     .field_i32("used", f.points as i32);
             }
-            _ => return Err(Error::BadValue),
+            _ => {
+                return Err(Fault::from(Error::BadValue)
+                    .at("kind", kind)
+                    .because("no such fit")
+                    .accepting(Accepted::usage_of("fit")))
+            }
         }
         Ok(None)
     }

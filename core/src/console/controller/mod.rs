@@ -17,6 +17,7 @@
 //! |---|---|
 //! | `mod.rs` | the [`Console`], byte intake, request dispatch, `poll` |
 //! | `args.rs` | argument readers and the small text helpers replies share |
+//! | `fault.rs` | a failed request's error and detail (key, value, reason, what is accepted), and the one `err` line writer |
 //! | `settings.rs` | [`Settings`] and the one table of setting keys ([`SETTING_KEYS`]) that drives `set`, `get`, `dump` and `help` |
 //! | `motion.rs` | `move`, `stop`, `pos`, `enable`, `disable`, `read` |
 //! | `axes.rs` | `axis` and `zone`: the rig as the controller holds it |
@@ -32,6 +33,7 @@ mod args;
 mod axes;
 mod budget;
 mod dump;
+mod fault;
 mod fit;
 mod motion;
 mod plan;
@@ -45,10 +47,10 @@ use super::wire::crc;
 use super::wire::line::{LineAssembler, LineEvent, MAX_LINE};
 use super::wire::reply::{ReplyError, ReplyWriter};
 use super::wire::token::Args;
-use crate::error::{AxisId, Error, Result};
+use crate::error::{AxisId, Error};
 use crate::goniometer::{axis_index, Position, Refusals, Solution};
 
-use args::{tok_err, write_err};
+use fault::{no_args, write_err, Fault, Result};
 pub use settings::{SettingKey, Settings, SETTING_KEYS};
 use stream::Stream;
 
@@ -66,8 +68,8 @@ pub const MAX_POINTS: usize = 64;
 
 type Rw<'w, W> = ReplyWriter<'w, W, MAX_REPLY>;
 
-/// Commands with their one-line usage, as `help` lists them (`set` and `get` append
-/// the key names of [`SETTING_KEYS`]).
+/// Commands with their one-line usage, as `help` lists them (`set` appends the key names
+/// of [`SETTING_KEYS`] it takes, `axis` the rig file's axis keys).
 pub const COMMANDS: [(&str, &str); 23] = [
     ("hello", "identify: name, version, protocol"),
     ("help", "this list"),
@@ -89,10 +91,7 @@ pub const COMMANDS: [(&str, &str); 23] = [
     ("pos", "axis positions"),
     ("enable", "allow motion (interlock must report safe)"),
     ("disable", "forbid motion"),
-    (
-        "axis",
-        "axis name=A [spd= home= min= max= backlash= approach= wrap= speed= accel= fitted=]",
-    ),
+    ("axis", "axis name=A [key=value ...]:"),
     (
         "zone",
         "zone name=A i=N from=DEG to=DEG | zone name=A i=N off",
@@ -146,7 +145,7 @@ pub type WriteResult<E> = core::result::Result<(), ReplyError<E>>;
 
 impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
     /// A console with factory settings and motion disabled.
-    pub fn new(axes: A, detector: D, interlock: I) -> Result<Self> {
+    pub fn new(axes: A, detector: D, interlock: I) -> crate::error::Result<Self> {
         Ok(Console {
             axes,
             detector,
@@ -198,8 +197,8 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         let mut buf = [0u8; MAX_LINE];
         let len = match self.lines.push(byte) {
             None | Some(LineEvent::Empty) => return Ok(()),
-            Some(LineEvent::TooLong) => return self.reject(out, Error::LineTooLong, false),
-            Some(LineEvent::BadByte) => return self.reject(out, Error::BadByte, false),
+            Some(LineEvent::TooLong) => return self.reject(out, Error::LineTooLong.into(), false),
+            Some(LineEvent::BadByte) => return self.reject(out, Error::BadByte.into(), false),
             Some(LineEvent::Line(s)) => {
                 let n = s.len().min(MAX_LINE);
                 if let (Some(dst), Some(src)) = (buf.get_mut(..n), s.as_bytes().get(..n)) {
@@ -225,22 +224,22 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         Ok(())
     }
 
-    fn reject<W: Write>(&mut self, out: &mut W, e: Error, crc_on: bool) -> WriteResult<W::Error> {
+    fn reject<W: Write>(&mut self, out: &mut W, f: Fault, crc_on: bool) -> WriteResult<W::Error> {
         self.requests = self.requests.saturating_add(1);
         self.errors = self.errors.saturating_add(1);
         let mut rw = Rw::with_line_length(out, crc_on);
-        rw.err(e.code(), e.message());
+        write_err(&mut rw, &f, &self.settings.rig);
         rw.finish()
     }
 
     fn request<W: Write>(&mut self, line: &str, out: &mut W) -> WriteResult<W::Error> {
         let (body, crc_on) = match crc::verify(line) {
             Ok(v) => v,
-            Err(_) => return self.reject(out, Error::BadChecksum, line.contains('*')),
+            Err(_) => return self.reject(out, Error::BadChecksum.into(), line.contains('*')),
         };
-        let mut args = match Args::parse(body) {
+        let mut args = match Args::parse_detailed(body) {
             Ok(a) => a,
-            Err(e) => return self.reject(out, tok_err(e), crc_on),
+            Err(f) => return self.reject(out, Fault::token(f), crc_on),
         };
         if self.streaming() {
             if args.command() == "stop" && args.is_empty() {
@@ -258,7 +257,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 rw.ok().field_str("stopped", "stream");
                 return rw.finish();
             }
-            return self.reject(out, Error::Busy, crc_on);
+            return self.reject(out, Error::Busy.into(), crc_on);
         }
         self.requests = self.requests.saturating_add(1);
         let mut rw = Rw::with_line_length(out, crc_on);
@@ -276,10 +275,10 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 self.stream_crc = crc_on;
                 Ok(())
             }
-            Err(e) => {
+            Err(f) => {
                 self.errors = self.errors.saturating_add(1);
                 rw.clear();
-                write_err(&mut rw, e, &self.settings.rig);
+                write_err(&mut rw, &f, &self.settings.rig);
                 rw.finish()
             }
         }
@@ -291,11 +290,10 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         rw: &mut Rw<'_, W>,
     ) -> Result<Option<Stream>> {
         let cmd = a.command();
-        // Commands without arguments check that none were given.
-        let none = |a: &Args<'_>| a.check_all_used().map_err(tok_err);
+        // Commands without arguments check that none were given (`no_args`).
         match cmd {
             "hello" => {
-                none(a)?;
+                no_args(a)?;
                 rw.ok()
                     .field_str("name", "matterwave")
                     .field_str("version", crate::VERSION)
@@ -304,11 +302,11 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 Ok(None)
             }
             "help" => {
-                none(a)?;
+                no_args(a)?;
                 Ok(Some(Stream::Help(0)))
             }
             "status" => {
-                none(a)?;
+                no_args(a)?;
                 let safe = self.interlock.safe();
                 let busy = self.axes.busy();
                 rw.ok()
@@ -324,33 +322,33 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             "set" => self.cmd_set(a, rw),
             "get" => self.cmd_get(a, rw),
             "crystals" => {
-                none(a)?;
+                no_args(a)?;
                 Ok(Some(Stream::Crystals(0)))
             }
             "faces" => {
-                none(a)?;
+                no_args(a)?;
                 Ok(Some(Stream::Faces(0)))
             }
             "beams" => {
-                none(a)?;
+                no_args(a)?;
                 self.start_beams()
             }
             "aim" => self.cmd_aim(a),
             "move" => self.cmd_move(a, rw),
             "stop" => {
-                none(a)?;
+                no_args(a)?;
                 self.cmd_stop(rw)
             }
             "pos" => {
-                none(a)?;
+                no_args(a)?;
                 self.cmd_pos(rw)
             }
             "enable" => {
-                none(a)?;
+                no_args(a)?;
                 self.cmd_enable(rw)
             }
             "disable" => {
-                none(a)?;
+                no_args(a)?;
                 self.cmd_disable(rw)
             }
             "axis" => self.cmd_axis(a, rw),
@@ -360,15 +358,15 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             "fit" => self.cmd_fit(a, rw),
             "budget" => self.cmd_budget(a),
             "read" => {
-                none(a)?;
+                no_args(a)?;
                 self.cmd_read(rw)
             }
             "dump" => {
-                none(a)?;
+                no_args(a)?;
                 Ok(Some(Stream::Dump(0)))
             }
             "reset" => {
-                none(a)?;
+                no_args(a)?;
                 self.axes.stop();
                 let s = Settings::defaults()?;
                 self.settings = s;
@@ -378,7 +376,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 rw.ok().field_i32("enabled", 0);
                 Ok(None)
             }
-            _ => Err(Error::UnknownCommand),
+            _ => Err(Fault::from(Error::UnknownCommand).quoting(cmd)),
         }
     }
 

@@ -3,12 +3,13 @@
 
 use embedded_io::Write;
 
-use super::args::{opt_num, parse_int, tok_err};
+use super::args::{opt_int, opt_num};
 use super::axes::axis_of;
+use super::fault::{check_used, Accepted, Fault, Result};
 use super::{Console, Rw, Stream};
 use crate::console::board::{AxisDriver, Detector, Interlock, Scene};
 use crate::console::wire::token::Args;
-use crate::error::{AxisId, Error, Result};
+use crate::error::{AxisId, Error};
 use crate::goniometer::axis_index;
 use crate::surface::Incidence;
 
@@ -18,19 +19,27 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         a: &mut Args<'_>,
         rw: &mut Rw<'_, W>,
     ) -> Result<Option<Stream>> {
-        let sol = a.get("sol").map(parse_int).transpose()?;
+        let sol = opt_int(a, "sol")?;
         let targets = [
             (AxisId::Arm, opt_num(a, "arm")?),
             (AxisId::Elevation, opt_num(a, "elevation")?),
             (AxisId::Tilt, opt_num(a, "tilt")?),
             (AxisId::Azimuth, opt_num(a, "azimuth")?),
         ];
-        a.check_all_used().map_err(tok_err)?;
+        check_used(a)?;
         let raw = targets.iter().any(|t| t.1.is_some());
         let mut goal: [Option<f32>; 4] = [None; 4];
         match (sol, raw) {
-            (Some(_), true) => return Err(Error::UnknownArgument),
-            (None, false) => return Err(Error::MissingArgument),
+            (Some(_), true) => {
+                return Err(Fault::from(Error::UnknownArgument)
+                    .on_key("sol")
+                    .because("give sol= or axis angles, not both"))
+            }
+            (None, false) => {
+                return Err(Fault::from(Error::MissingArgument)
+                    .because("give sol= or at least one axis angle")
+                    .accepting(Accepted::usage_of("move")))
+            }
             (Some(n), false) => {
                 let s = usize::try_from(n)
                     .ok()
@@ -52,10 +61,10 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             }
         }
         if !self.enabled {
-            return Err(Error::NotEnabled);
+            return Err(Error::NotEnabled.into());
         }
         if !self.interlock.safe() {
-            return Err(Error::InterlockOpen);
+            return Err(Error::InterlockOpen.into());
         }
         // Every setpoint is computed (limits, zones, path from where the axis is now)
         // before any axis moves.
@@ -111,7 +120,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
 
     pub(super) fn cmd_enable<W: Write>(&mut self, rw: &mut Rw<'_, W>) -> Result<Option<Stream>> {
         if !self.interlock.safe() {
-            return Err(Error::InterlockOpen);
+            return Err(Error::InterlockOpen.into());
         }
         self.enabled = true;
         rw.ok().field_i32("enabled", 1);
@@ -140,7 +149,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         };
         let v = self.detector.read(&scene);
         if !v.is_finite() {
-            return Err(Error::NotFinite(crate::error::Quantity::Count));
+            return Err(Error::NotFinite(crate::error::Quantity::Count).into());
         }
         rw.ok().field_f32_rt("current", v);
         Ok(None)

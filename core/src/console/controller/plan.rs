@@ -3,11 +3,14 @@
 
 use embedded_io::Write;
 
-use super::args::{opt_num, parse_branch, parse_rod, req_num, tok_err, write_point_error};
+use super::args::{
+    keyed, parse_branch, parse_num, parse_rod, req_num, req_word, write_point_error,
+};
+use super::fault::{check_used, Accepted, Fault, Result};
 use super::{Console, Rw, Stream, MAX_SOLUTIONS};
 use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::console::wire::token::Args;
-use crate::error::{Error, Result};
+use crate::error::Error;
 use crate::goniometer::{self, Position, Rig, Solution};
 use crate::scan::{self, IvPlan, SweepPlan, TrackPlan};
 use crate::surface::Incidence;
@@ -38,15 +41,9 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         // Any `aim` that fails leaves no stale solutions behind for `move sol=`.
         self.solutions.clear();
         self.refusals.clear();
-        let rod = match a.get("beam") {
-            Some(v) => parse_rod(v)?,
-            None => self.settings.beam,
-        };
-        let branch = match a.get("branch") {
-            Some(v) => parse_branch(v)?,
-            None => self.settings.branch,
-        };
-        a.check_all_used().map_err(tok_err)?;
+        let rod = keyed(a, "beam", parse_rod)?.unwrap_or(self.settings.beam);
+        let branch = keyed(a, "branch", parse_branch)?.unwrap_or(self.settings.branch);
+        check_used(a)?;
         let s = &self.settings;
         let e = s.gun.kinetic_energy_ev()?;
         let pos = self.position();
@@ -66,7 +63,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 self.errors = self.errors.saturating_add(1);
                 return Ok(Some(Stream::Refused(0)));
             }
-            Err(e) => return Err(e),
+            Err(e) => return Err(e.into()),
         };
         for sol in out.iter().take(l.stored) {
             // Cannot fail: `out` has the vector's capacity.
@@ -76,19 +73,21 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
     }
 
     pub(super) fn cmd_plan(&mut self, a: &mut Args<'_>) -> Result<Option<Stream>> {
-        let kind = a.get("kind").ok_or(Error::MissingArgument)?;
+        let kind = req_word(a, "kind")?;
         let from = req_num(a, "from")?;
         let to = req_num(a, "to")?;
         let step = req_num(a, "step")?;
-        let dwell = opt_num(a, "dwell")?.unwrap_or(0.0);
-        let branch = match a.get("branch") {
-            Some(v) => parse_branch(v)?,
-            None => self.settings.branch,
-        };
-        a.check_all_used().map_err(tok_err)?;
-        if !(0.0..=3600.0).contains(&dwell) {
-            return Err(Error::BadNumber);
-        }
+        let dwell = keyed(a, "dwell", |v| {
+            let s = parse_num(v)?;
+            if (0.0..=3600.0).contains(&s) {
+                Ok(s)
+            } else {
+                Err(Fault::from(Error::BadNumber).because("dwell accepted 0 to 3600 s"))
+            }
+        })?
+        .unwrap_or(0.0);
+        let branch = keyed(a, "branch", parse_branch)?.unwrap_or(self.settings.branch);
+        check_used(a)?;
         let pos = self.position();
         let s = &self.settings;
         let plan = match kind {
@@ -117,7 +116,12 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 let inc = Incidence::new(e, s.tilt_deg, s.azimuth_deg.unwrap_or(ang[3]))?;
                 Plan::Sweep(SweepPlan::new(s.rig, s.face, inc, ang[1], from, to, step)?)
             }
-            _ => return Err(Error::BadValue),
+            _ => {
+                return Err(Fault::from(Error::BadValue)
+                    .at("kind", kind)
+                    .because("no such plan")
+                    .accepting(Accepted::usage_of("plan")))
+            }
         };
         Ok(Some(Stream::Plan(PlanRun {
             plan,

@@ -3,12 +3,13 @@
 
 use embedded_io::Write;
 
-use super::args::{miller_text, parse_branch, parse_num, parse_rod, rod_text, tok_err};
+use super::args::{miller_text, parse_branch, parse_num, parse_rod, rod_text};
+use super::fault::{check_used, check_used_or, Accepted, Fault, Result};
 use super::{Console, Rw, Stream};
 use crate::beam::{self, Gun};
 use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::console::wire::token::Args;
-use crate::error::{Error, Quantity, Result};
+use crate::error::{Error, Quantity};
 use crate::goniometer::{AimRequest, Branch, Mode, Rig};
 use crate::lattice::{parse_miller, Miller, System};
 use crate::surface::Face;
@@ -39,7 +40,7 @@ pub struct Settings {
 
 impl Settings {
     /// Factory settings: Cu(100), 100 eV, tilt 20°, specular beam, the default rig.
-    pub fn defaults() -> Result<Settings> {
+    pub fn defaults() -> crate::error::Result<Settings> {
         let crystal = table::find("cu")?;
         let face = Face::new(&crystal.cell()?, [1, 0, 0])?;
         Ok(Settings {
@@ -62,7 +63,7 @@ impl Settings {
     /// A branch of +1 or −1 needs in-plane aiming (`azimuth=free`).
     pub(super) fn check_branch(&self) -> Result<()> {
         if self.azimuth_deg.is_some() && self.branch != Branch::Nearest {
-            return Err(Error::BranchNeedsInPlane);
+            return Err(Error::BranchNeedsInPlane.into());
         }
         Ok(())
     }
@@ -204,7 +205,7 @@ fn apply(s: &mut Settings, notes: &mut SetNotes, key: Key, v: &str) -> Result<()
             } else {
                 let x = parse_num(v)?;
                 if x.abs() > 360.0 {
-                    return Err(Error::TooHigh(Quantity::Azimuth));
+                    return Err(Error::TooHigh(Quantity::Azimuth).into());
                 }
                 Some(x)
             }
@@ -212,7 +213,7 @@ fn apply(s: &mut Settings, notes: &mut SetNotes, key: Key, v: &str) -> Result<()
         Key::Beam => s.beam = parse_rod(v)?,
         Key::Acceptance => s.rig.acceptance_deg = parse_num(v)?,
         Key::Branch => s.branch = parse_branch(v)?,
-        Key::Kinetic | Key::Wavelength => return Err(Error::UnknownArgument),
+        Key::Kinetic | Key::Wavelength => return Err(Error::UnknownArgument.into()),
     }
     Ok(())
 }
@@ -272,16 +273,27 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         rw: &mut Rw<'_, W>,
     ) -> Result<Option<Stream>> {
         if a.is_empty() {
-            return Err(Error::MissingArgument);
+            return Err(Fault::from(Error::MissingArgument)
+                .because("nothing to set: give key=value")
+                .accepting(Accepted::SetKeys));
         }
         let mut s = self.settings;
         let mut notes = SetNotes::default();
         for key in SETTING_KEYS.iter().filter(|k| k.settable) {
             if let Some(v) = a.get(key.name) {
-                apply(&mut s, &mut notes, key.key, v)?;
+                apply(&mut s, &mut notes, key.key, v).map_err(|f| f.at(key.name, v))?;
             }
         }
-        a.check_all_used().map_err(tok_err)?;
+        // A key `get` knows but `set` does not take is read only, not unknown.
+        if let Some((k, v)) = a.first_unused().and_then(|t| t.split_once('=')) {
+            if SETTING_KEYS.iter().any(|sk| sk.name == k && !sk.settable) {
+                return Err(Fault::from(Error::UnknownArgument)
+                    .at(k, v)
+                    .because("read-only setting")
+                    .accepting(Accepted::SetKeys));
+            }
+        }
+        check_used_or(a, Accepted::SetKeys)?;
         let from_table = notes.crystal && notes.miller.is_none();
         let miller = match (notes.miller, from_table) {
             (Some(m), _) => Some(m),
@@ -319,10 +331,13 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         rw: &mut Rw<'_, W>,
     ) -> Result<Option<Stream>> {
         let want = a.positional(0);
-        a.check_all_used().map_err(tok_err)?;
+        check_used(a)?;
         if let Some(w) = want {
             if !SETTING_KEYS.iter().any(|k| k.name == w) {
-                return Err(Error::UnknownArgument);
+                return Err(Fault::from(Error::UnknownArgument)
+                    .quoting(w)
+                    .because("unknown setting")
+                    .accepting(Accepted::GetKeys));
             }
         }
         let s = self.settings;

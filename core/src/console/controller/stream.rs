@@ -3,13 +3,15 @@
 
 use embedded_io::Write;
 
-use super::args::{miller_text, write_err, write_refusal};
+use super::args::{miller_text, write_refusal};
+use super::fault::Accepted;
+use super::fault::Result;
+use super::fault::{write_err, Fault};
 use super::plan::PlanRun;
-use super::settings::{Settings, SETTING_KEYS};
+use super::settings::Settings;
 use super::{Console, Rw, COMMANDS, MAX_SOLUTIONS};
 use crate::budget::ArmBudget;
 use crate::console::board::{AxisDriver, Detector, Interlock};
-use crate::error::Result;
 use crate::goniometer::{Refusals, Solution};
 use crate::lattice::System;
 use crate::surface::{BeamIter, Incidence};
@@ -56,9 +58,11 @@ impl Stream {
             Stream::Help(i) => match COMMANDS.get(*i as usize) {
                 Some((c, u)) => {
                     rw.item().field_str("cmd", c).text(u);
-                    if *c == "set" {
-                        for k in SETTING_KEYS.iter().filter(|k| k.settable) {
-                            rw.text(k.name);
+                    if let Some(keys) = Accepted::keys_of(c) {
+                        let mut k = 0;
+                        while let Some(name) = keys.word(k) {
+                            rw.text(name);
+                            k += 1;
                         }
                     }
                     *i += 1;
@@ -161,7 +165,7 @@ impl Stream {
                     *i = i.saturating_add(1);
                     true
                 } else {
-                    write_err(rw, r.first_error(), &ctx.settings.rig);
+                    write_err(rw, &Fault::from(r.first_error()), &ctx.settings.rig);
                     if let Some(e) = r.emerges_ev {
                         let mut b = [0u8; crate::console::wire::num::NUM_BUF_LEN];
                         rw.text("(emerges above")

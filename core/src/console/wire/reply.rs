@@ -28,6 +28,12 @@
 //! `_`, so a value stays one token; in free text ([`ReplyWriter::text`], the message of
 //! [`ReplyWriter::err`]) they become spaces.
 //!
+//! Request text quoted back in a reply (the key or value an error is about) is first
+//! copied into an [`Echo`]: cut to a fixed length, printable ASCII only, with `"` and `*`
+//! replaced, so that it can neither break the line nor pass for the reply's own text.
+//! [`ReplyWriter::text_cut`] appends text that may be cut to fit, for details that must
+//! never push a line over its limit.
+//!
 //! ```
 //! use matterwave_core::console::reply::ReplyWriter;
 //! let mut wire = [0u8; 64];
@@ -222,6 +228,64 @@ impl<'w, W: Write, const N: usize> ReplyWriter<'w, W, N> {
         self.piece(&[(text, Mode::Text)])
     }
 
+    /// Append free text as far as it fits on the line: when it does not fit whole, it is
+    /// cut after the last character that leaves room for `...`, which ends it. Never
+    /// marks the line overflowed. Returns whether all of `text` was appended; on an
+    /// overflowed line, or one without room for even a space and `...`, nothing is.
+    ///
+    /// ```
+    /// # use matterwave_core::console::reply::ReplyWriter;
+    /// let mut wire = [0u8; 32];
+    /// let mut port = &mut wire[..];
+    /// let mut rw = ReplyWriter::<_, 30>::with_line_length(&mut port, false);
+    /// rw.err(404, "x");
+    /// assert!(rw.text_cut("ok"));
+    /// assert!(!rw.text_cut("accepted: a b c d e f"));
+    /// assert_eq!(rw.line(), "err 404 x ok accepted:..."); // 25 = 30 - 5 bytes
+    /// assert!(!rw.overflowed());
+    /// assert_eq!(rw.remaining(), 0);
+    /// ```
+    pub fn text_cut(&mut self, text: &str) -> bool {
+        const ELLIPSIS: &[u8] = b"...";
+        if self.overflow {
+            return false;
+        }
+        if text.is_empty() {
+            return true;
+        }
+        let cap = self.capacity();
+        let start = self.len;
+        if self.len > 0 && !self.push(b' ', cap) {
+            return false;
+        }
+        // The last place to cut: after a whole character, with room for the ellipsis.
+        let room = |len: usize| len + ELLIPSIS.len() <= cap;
+        let mut cut = room(self.len).then_some(self.len);
+        for ch in text.chars() {
+            if !self.push_char(ch, Mode::Text, cap) {
+                match cut {
+                    Some(at) => {
+                        self.len = at;
+                        for &b in ELLIPSIS {
+                            self.push(b, cap);
+                        }
+                    }
+                    None => self.len = start,
+                }
+                return false;
+            }
+            if room(self.len) {
+                cut = Some(self.len);
+            }
+        }
+        true
+    }
+
+    /// Content bytes still free on the line (0 once it is full).
+    pub fn remaining(&self) -> usize {
+        self.capacity().saturating_sub(self.len)
+    }
+
     /// Append `key=value`.
     pub fn field_str(&mut self, key: &str, value: &str) -> &mut Self {
         self.piece(&[(key, Mode::Token), ("=", Mode::Token), (value, Mode::Token)])
@@ -357,6 +421,73 @@ impl<'w, W: Write, const N: usize> ReplyWriter<'w, W, N> {
     }
 }
 
+/// Request text held for a reply: at most `N` characters of it, made safe to quote.
+///
+/// Printable ASCII (`!` to `~`) is kept, except `"` (which would end a quotation) and
+/// `*` (reserved for the checksum); every other character — blanks, controls, each
+/// non-ASCII character — becomes one `?`. Text longer than `N` characters is cut, and
+/// [`Echo::is_cut`] says so. Fixed-size and `Copy`: it outlives the request line it was
+/// taken from.
+///
+/// ```
+/// use matterwave_core::console::reply::Echo;
+/// let e = Echo::<8>::new("ab\"c*d\tλ");
+/// assert_eq!((e.as_str(), e.is_cut()), ("ab?c?d??", false));
+/// let e = Echo::<4>::new("0x10abc");
+/// assert_eq!((e.as_str(), e.is_cut()), ("0x10", true));
+/// ```
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Echo<const N: usize> {
+    buf: [u8; N],
+    len: usize,
+    cut: bool,
+}
+
+impl<const N: usize> Echo<N> {
+    /// No text.
+    pub const EMPTY: Self = Echo {
+        buf: [0; N],
+        len: 0,
+        cut: false,
+    };
+
+    /// The first `N` characters of `text`, made safe (see the [type docs](Echo)).
+    pub fn new(text: &str) -> Self {
+        let mut e = Self::EMPTY;
+        for ch in text.chars() {
+            let Some(slot) = e.buf.get_mut(e.len) else {
+                e.cut = true;
+                break;
+            };
+            *slot = match ch {
+                '"' | '*' => b'?',
+                c if c.is_ascii_graphic() => c as u8,
+                _ => b'?',
+            };
+            e.len += 1;
+        }
+        e
+    }
+
+    /// The text kept.
+    pub fn as_str(&self) -> &str {
+        self.buf
+            .get(..self.len)
+            .and_then(|b| core::str::from_utf8(b).ok())
+            .unwrap_or("")
+    }
+
+    /// Whether the text was longer than `N` characters and cut.
+    pub fn is_cut(&self) -> bool {
+        self.cut
+    }
+
+    /// Whether no text is held.
+    pub fn is_empty(&self) -> bool {
+        self.len == 0
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -480,6 +611,62 @@ mod tests {
         let mut rw = ReplyWriter::<_, 0>::with_line_length(&mut sink, true);
         rw.ok();
         assert_eq!(rw.finish(), Err(ReplyError::TooLong));
+    }
+
+    #[test]
+    fn cut_text_never_overflows() {
+        let mut sink = Sink::new();
+        let mut rw = ReplyWriter::<_, 20>::with_line_length(&mut sink, false);
+        // Fits whole.
+        rw.err(407, "k");
+        assert!(rw.text_cut("- ok"));
+        assert_eq!(rw.line(), "err 407 k - ok");
+        assert!(rw.text_cut(""));
+        assert_eq!(rw.line(), "err 407 k - ok");
+        // A spelling is never split: "°" is "deg", of which only "d" would fit.
+        rw.err(407, "k");
+        assert!(!rw.text_cut("1234°"));
+        assert_eq!(rw.line(), "err 407 k 12...");
+        assert!(!rw.overflowed());
+        assert!(!rw.text_cut("x")); // full: nothing more, not even a space
+        assert_eq!(rw.line(), "err 407 k 12...");
+        rw.err(407, "k");
+        assert!(!rw.text_cut("ab±cd"));
+        assert_eq!(rw.line(), "err 407 k ab...");
+        assert_eq!(rw.remaining(), 0);
+        rw.finish().unwrap();
+        // Exactly full without the ellipsis still fits whole.
+        rw.err(407, "k");
+        assert!(rw.text_cut("12345"));
+        assert_eq!(rw.line().len(), 15);
+        assert!(!rw.text_cut("1")); // no room for a space
+        assert_eq!(rw.line(), "err 407 k 12345");
+        rw.finish().unwrap();
+        // An overflowed line takes nothing.
+        rw.ok().word("0123456789abcdef");
+        assert!(rw.overflowed());
+        assert!(!rw.text_cut("x"));
+        assert_eq!(rw.finish(), Err(ReplyError::TooLong));
+        assert_eq!(sink.text(), "err 407 k ab...\nerr 407 k 12345\n");
+        // Zero capacity never panics.
+        let mut sink = Sink::new();
+        let mut rw = ReplyWriter::<_, 0>::with_line_length(&mut sink, false);
+        assert!(!rw.text_cut("x"));
+        assert_eq!(rw.remaining(), 0);
+    }
+
+    #[test]
+    fn echoes_are_safe_and_cut() {
+        let e = Echo::<4>::new("");
+        assert!(e.is_empty() && !e.is_cut());
+        assert_eq!(Echo::<4>::new("abcd").as_str(), "abcd");
+        assert!(!Echo::<4>::new("abcd").is_cut());
+        let e = Echo::<4>::new("abcde");
+        assert_eq!((e.as_str(), e.is_cut()), ("abcd", true));
+        // One `?` per character, whatever its UTF-8 length.
+        assert_eq!(Echo::<8>::new("é☃\u{0}\u{7f} \r\n").as_str(), "???????");
+        assert_eq!(Echo::<0>::new("x").as_str(), "");
+        assert!(Echo::<0>::new("x").is_cut());
     }
 
     #[test]

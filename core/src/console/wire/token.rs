@@ -12,7 +12,9 @@
 //! The command word and keys are *words*: lower-case ASCII letters, digits, `_` and `-`,
 //! starting with a letter; they are case-sensitive (`Pos` is not `pos`). Positional and
 //! keyed arguments may be interleaved; positional indices count positional arguments
-//! only. At most [`MAX_ARGS`] arguments; a key may appear only once.
+//! only. At most [`MAX_ARGS`] arguments; a key may appear only once. A line that breaks
+//! these rules is a [`TokenError`]; [`Args::parse_detailed`] also names the token at
+//! fault ([`TokenFault`]), so that the error reply can quote it.
 //!
 //! Reading an argument ([`Args::get`], [`Args::positional`]) marks it used; after reading
 //! what it understands, a command calls [`Args::check_all_used`] to reject unknown or
@@ -65,6 +67,42 @@ impl TokenError {
             TokenError::DuplicateKey => "the same key is given twice",
             TokenError::Unused => "unknown or extra argument",
         }
+    }
+}
+
+/// A [`TokenError`] of [`Args::parse_detailed`] and the token it is about, borrowed from
+/// the line, so that a reply can name it.
+///
+/// The token is the one at fault, as written: the command word for
+/// [`TokenError::BadCommand`], the whole `key=value` token for [`TokenError::BadKey`],
+/// [`TokenError::EmptyValue`] and [`TokenError::DuplicateKey`] (its second occurrence),
+/// the first argument beyond [`MAX_ARGS`] for [`TokenError::TooMany`], and the empty
+/// string for [`TokenError::NoCommand`].
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct TokenFault<'a> {
+    /// What is wrong.
+    pub error: TokenError,
+    /// The token at fault (see the type's docs).
+    pub token: &'a str,
+}
+
+impl<'a> TokenFault<'a> {
+    /// The key of a `key=value` token (the part before the first `=`), if it has one.
+    ///
+    /// ```
+    /// # use matterwave_core::console::token::{Args, TokenError};
+    /// let f = Args::parse_detailed("set energy=1 energy=2").unwrap_err();
+    /// assert_eq!(f.error, TokenError::DuplicateKey);
+    /// assert_eq!((f.token, f.key(), f.value()), ("energy=2", Some("energy"), Some("2")));
+    /// ```
+    pub fn key(&self) -> Option<&'a str> {
+        self.token.split_once('=').map(|(k, _)| k)
+    }
+
+    /// The value of a `key=value` token (the part after the first `=`), if it has one.
+    pub fn value(&self) -> Option<&'a str> {
+        self.token.split_once('=').map(|(_, v)| v)
     }
 }
 
@@ -121,10 +159,24 @@ impl<'a> Args<'a> {
     /// assert_eq!(Args::parse("go =1").err(), Some(TokenError::BadKey));
     /// ```
     pub fn parse(line: &'a str) -> Result<Self, TokenError> {
+        Self::parse_detailed(line).map_err(|f| f.error)
+    }
+
+    /// [`Args::parse`], and on failure the token at fault beside the error.
+    ///
+    /// ```
+    /// # use matterwave_core::console::token::{Args, TokenError, TokenFault};
+    /// let f = Args::parse_detailed("go Arm=1").unwrap_err();
+    /// assert_eq!(f, TokenFault { error: TokenError::BadKey, token: "Arm=1" });
+    /// let f = Args::parse_detailed("go 1 2 3 4 5 6 7 8 9 10 11 12 13 14").unwrap_err();
+    /// assert_eq!(f, TokenFault { error: TokenError::TooMany, token: "13" });
+    /// ```
+    pub fn parse_detailed(line: &'a str) -> Result<Self, TokenFault<'a>> {
+        let fault = |error, token| TokenFault { error, token };
         let mut tokens = line.split([' ', '\t']).filter(|t| !t.is_empty());
-        let command = tokens.next().ok_or(TokenError::NoCommand)?;
+        let command = tokens.next().ok_or(fault(TokenError::NoCommand, ""))?;
         if !is_word(command) {
-            return Err(TokenError::BadCommand);
+            return Err(fault(TokenError::BadCommand, command));
         }
         let mut args = [Arg::Positional(""); MAX_ARGS];
         let mut raw = [""; MAX_ARGS];
@@ -134,23 +186,23 @@ impl<'a> Args<'a> {
                 None => Arg::Positional(token),
                 Some((key, value)) => {
                     if !is_word(key) {
-                        return Err(TokenError::BadKey);
+                        return Err(fault(TokenError::BadKey, token));
                     }
                     if value.is_empty() {
-                        return Err(TokenError::EmptyValue);
+                        return Err(fault(TokenError::EmptyValue, token));
                     }
                     let seen = args.iter().take(len).any(|a| match a {
                         Arg::Keyed { key: k, .. } => *k == key,
                         Arg::Positional(_) => false,
                     });
                     if seen {
-                        return Err(TokenError::DuplicateKey);
+                        return Err(fault(TokenError::DuplicateKey, token));
                     }
                     Arg::Keyed { key, value }
                 }
             };
             let (Some(slot), Some(raw_slot)) = (args.get_mut(len), raw.get_mut(len)) else {
-                return Err(TokenError::TooMany);
+                return Err(fault(TokenError::TooMany, token));
             };
             *slot = arg;
             *raw_slot = token;
@@ -294,6 +346,33 @@ mod tests {
             Args::parse("go k=1 j=2 k=3").err(),
             Some(TokenError::DuplicateKey)
         );
+    }
+
+    #[test]
+    fn faults_name_their_token() {
+        let f = |l| Args::parse_detailed(l).unwrap_err();
+        assert_eq!(f(" \t").token, "");
+        assert_eq!(f("x=1 y").token, "x=1");
+        assert_eq!(f("go a=1 =2").token, "=2");
+        assert_eq!(f("go a=1 b=").token, "b=");
+        assert_eq!(f("go b=").key(), Some("b"));
+        assert_eq!(f("go b=").value(), Some(""));
+        assert_eq!(f("go a=1 b a=x=y").token, "a=x=y");
+        assert_eq!(f("go a=1 b a=x=y").value(), Some("x=y"));
+        assert_eq!(f("Go").key(), None);
+        // A line over the limit names the first argument that did not fit.
+        assert_eq!(f("go 1 2 3 4 5 6 7 8 9 10 11 12 x=13 14").token, "x=13");
+        // Whatever `parse_detailed` says, `parse` says the same kind.
+        for l in [
+            "",
+            "Go",
+            "go A=1",
+            "go a=",
+            "go a=1 a=1",
+            "go 1 2 3 4 5 6 7 8 9 10 11 12 13",
+        ] {
+            assert_eq!(Args::parse(l).err(), Some(f(l).error), "{l}");
+        }
     }
 
     #[test]
