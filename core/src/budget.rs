@@ -22,6 +22,7 @@
 //! assert!(b.total_deg() > b.detector_acceptance_deg && b.total_deg() < 0.5);
 //! ```
 
+use crate::constants::{ENERGY_MAX_EV, ENERGY_MIN_EV};
 use crate::error::{finite, Error, Quantity, Result};
 use crate::goniometer::{self, AimRequest, Branch, Mode, Position, Rig, Solution};
 use crate::lattice::Cell;
@@ -277,7 +278,9 @@ pub struct ArmBudget {
 /// central differences of the arm angle on the rig's [`Rig::geometry_only`] copy, aimed
 /// from that solution, so that a small change keeps the same branch: ∂arm/∂E with a step
 /// of max(0.5 % E, 0.05 eV), shrunk tenfold (down to 1 meV) while the beam would not
-/// exist on one side; ∂arm/∂a with a step of 0.1 % of the face's lattice constant a.
+/// exist on one side (within `de` of the ends of the 1 eV–300 keV range the difference
+/// is centred `de` inside it); ∂arm/∂a with a step of 0.1 % of the face's lattice
+/// constant a.
 ///
 /// Errors: inputs outside their ranges (`TooLow`/`TooHigh` of `EnergySpread`,
 /// `ArmZeroSigma`, `Length` for the lattice σ); whatever `aim` refuses; a beam so close
@@ -322,7 +325,9 @@ pub fn arm_budget(
     };
     let mut de = (0.005 * energy_ev).max(0.05);
     let d_energy = loop {
-        match sensitivity(|x| arm_at(req.face, x), energy_ev, de) {
+        // At the ends of the energy range the difference is taken just inside it.
+        let centre = energy_ev.clamp(ENERGY_MIN_EV + de, ENERGY_MAX_EV - de);
+        match sensitivity(|x| arm_at(req.face, x), centre, de) {
             Ok(s) => break s,
             Err(_) if de > 1e-3 => de *= 0.1,
             Err(_) => return Err(Error::Evanescent),

@@ -296,7 +296,15 @@ impl SweepPlan {
         let inc = &self.incidence;
         let mut stored = 0usize;
         let mut truncated = false;
-        for b in self.face.beams_iter(inc) {
+        // Elevation ν of a beam: sin ν = k∥,y/k (e2 is the lab's vertical), so the band
+        // of elevations within the acceptance is a strip of k∥,y.
+        let acc = self.rig.acceptance_deg;
+        let band = |x: f32| inc.k_inv_a * math::sin(math::rad(x.clamp(-90.0, 90.0)));
+        let (ky_lo, ky_hi) = (
+            band(self.elevation_deg - acc),
+            band(self.elevation_deg + acc),
+        );
+        for b in self.face.beams_in_band(inc, ky_lo, ky_hi) {
             let (arm, elev) =
                 goniometer::arm_elevation_deg(goniometer::beam_direction_lab(&b, inc));
             let off = (elev - self.elevation_deg).abs();
@@ -345,18 +353,15 @@ impl SweepPlan {
         let p = self;
         let arm = p.from_deg + i as f32 * p.step_deg;
         let sp = p.rig.arm.setpoint(arm, from_steps);
-        let mut one = [InView::EMPTY; 1];
-        let in_view = match goniometer::beams_in_view(
+        let in_view = goniometer::nearest_in_view(
             &p.face,
             &p.incidence,
             arm,
             p.elevation_deg,
             p.rig.acceptance_deg,
-            &mut one,
-        ) {
-            Ok(l) if l.stored > 0 => Some(one[0]),
-            _ => None,
-        };
+        )
+        .ok()
+        .flatten();
         SweepPoint {
             index: i,
             arm_deg: arm,

@@ -349,7 +349,9 @@ impl InView {
 }
 
 /// "What is the detector looking at": every beam of `face` at `inc` within
-/// `acceptance_deg` of the detector axis at (arm, elevation), nearest first.
+/// `acceptance_deg` of the detector axis at (arm, elevation), nearest first. Only the
+/// rods whose k∥ can lie within the acceptance are visited, so the work is bounded by
+/// the acceptance, not by the energy.
 pub fn beams_in_view(
     face: &Face,
     inc: &Incidence,
@@ -365,10 +367,15 @@ pub fn beams_in_view(
         return Err(Error::EmptyBuffer);
     }
     let d = detector_direction(arm, elev);
-    let cos_acc = math::cos(math::rad(acc.clamp(0.0, 90.0)));
+    let acc = acc.clamp(0.0, 90.0);
+    let cos_acc = math::cos(math::rad(acc));
+    let (centre, radius) = view_disk(inc, d, acc);
     let mut stored = 0usize;
     let mut truncated = false;
-    for b in face.beams_iter(inc) {
+    if radius < 0.0 {
+        return Ok(Listing { stored, truncated });
+    }
+    for b in face.beams_near(inc, centre, radius) {
         let k = beam_direction_lab(&b, inc);
         let c = math::dot(k, d);
         if c < cos_acc {
@@ -386,6 +393,85 @@ pub fn beams_in_view(
         truncated |= insert_sorted(out, &mut stored, item, |a, b| a.offset_deg < b.offset_deg);
     }
     Ok(Listing { stored, truncated })
+}
+
+/// The disk of k∥ (surface frame of `inc`, 1/Å: centre and radius) that holds every
+/// beam within `acc_deg` of the unit direction `d`; a negative radius when none can be.
+///
+/// A beam's unit direction k̂ = (k∥/k, k⊥ ≥ 0) within θ of d has |k̂ − d| ≤ 2·sin(θ/2),
+/// and |k̂ − d|² ≥ |k∥/k − d∥|² + min(d⊥, 0)² (k⊥ ≥ 0): so |k∥ − k·d∥| ≤
+/// k·√(4·sin²(θ/2) − min(d⊥, 0)²).
+fn view_disk(inc: &Incidence, d: Vec3, acc_deg: f32) -> ([f32; 2], f32) {
+    let [e1, e2, n] = surface_frame_lab(inc.tilt_deg);
+    let u = inc.k_inv_a;
+    let centre = [u * math::dot(d, e1), u * math::dot(d, e2)];
+    let chord = 2.0 * math::sin(math::rad(0.5 * acc_deg));
+    let behind = math::dot(d, n).min(0.0);
+    let r2 = chord * chord - behind * behind;
+    if r2 < 0.0 {
+        return (centre, -1.0);
+    }
+    (centre, u * math::sqrt(r2) * (1.0 + 1.0e-4) + 1.0e-6)
+}
+
+/// The beam of `face` at `inc` nearest the detector axis at (arm, elevation), degrees,
+/// if one lies within `acceptance_deg` — the first of [`beams_in_view`], found with
+/// work bounded however dense the beams are: the rods next to the nearest lattice point
+/// give a first candidate at offset θ, and only the disk of k∥ within 2k·sin(θ/2) of the
+/// detector's (where every nearer beam must lie) is searched.
+pub fn nearest_in_view(
+    face: &Face,
+    inc: &Incidence,
+    arm_deg: f32,
+    elevation_deg: f32,
+    acceptance_deg: f32,
+) -> Result<Option<InView>> {
+    let arm = finite(arm_deg, Quantity::Angle)?;
+    let elev = finite(elevation_deg, Quantity::Angle)?;
+    let acc = finite(acceptance_deg, Quantity::Angle)?.clamp(0.0, 90.0);
+    let d = detector_direction(arm, elev);
+    let cos_acc = math::cos(math::rad(acc));
+    let (centre, radius0) = view_disk(inc, d, acc);
+    if radius0 < 0.0 {
+        return Ok(None);
+    }
+    let view = |b: SurfaceBeam| -> Option<InView> {
+        let k = beam_direction_lab(&b, inc);
+        let c = math::dot(k, d);
+        if c < cos_acc {
+            return None;
+        }
+        let (ba, be) = arm_elevation_deg(k);
+        Some(InView {
+            beam: b,
+            offset_deg: math::deg(math::atan2(math::norm(math::cross(k, d)), c)),
+            arm_deg: ba,
+            elevation_deg: be,
+        })
+    };
+    let seed = face.rod_nearest(inc, centre);
+    let mut best_deg = acc;
+    for dh in -1..=1 {
+        for dk in -1..=1 {
+            let rod = [seed[0].saturating_add(dh), seed[1].saturating_add(dk)];
+            if let Some(v) = face.beam(rod, inc).ok().and_then(view) {
+                best_deg = best_deg.min(v.offset_deg);
+            }
+        }
+    }
+    // Every beam at least as near as the best seed lies in this disk.
+    let radius = if best_deg < acc {
+        view_disk(inc, d, best_deg).1 * (1.0 + 1.0e-4) + 1.0e-6
+    } else {
+        radius0
+    };
+    let mut best: Option<InView> = None;
+    for v in face.beams_near(inc, centre, radius).filter_map(view) {
+        if best.is_none_or(|b| v.offset_deg < b.offset_deg) {
+            best = Some(v);
+        }
+    }
+    Ok(best)
 }
 
 /// Arm angle (degrees) of a bulk Bragg reflection in the scattering plane:
@@ -501,6 +587,78 @@ mod tests {
             &mut out,
         );
         assert_eq!(e, Err(Error::InZone(AxisId::Arm, 0)));
+    }
+
+    /// The bounded search of `beams_in_view` against every beam of the face tested
+    /// one by one (the angle between the beam's and the detector's directions).
+    #[test]
+    fn beams_in_view_finds_every_beam_within_the_acceptance() {
+        extern crate std;
+        use std::vec::Vec;
+        let mut n_seen = 0;
+        for m in [[1, 0, 0], [1, 1, 1], [3, 2, 1]] {
+            let f = cu(m);
+            for (e, tilt, az) in [
+                (120.0, 10.0, 0.0),
+                (900.0, 40.0, 25.0),
+                (5000.0, -20.0, 100.0),
+            ] {
+                let inc = Incidence::new(e, tilt, az).unwrap();
+                for (arm, elev, acc) in [(30.0, 0.0, 2.0), (-50.0, 10.0, 5.0), (95.0, -3.0, 20.0)] {
+                    let d = detector_direction(arm, elev);
+                    let mut want: Vec<[i32; 2]> = f
+                        .beams_iter(&inc)
+                        .filter(|b| {
+                            let k = beam_direction_lab(b, &inc);
+                            math::dot(k, d) >= math::cos(math::rad(acc))
+                        })
+                        .map(|b| b.rod)
+                        .collect();
+                    let mut out = [InView::EMPTY; 4096];
+                    let l = beams_in_view(&f, &inc, arm, elev, acc, &mut out).unwrap();
+                    assert!(!l.truncated);
+                    let mut got: Vec<[i32; 2]> =
+                        out[..l.stored].iter().map(|v| v.beam.rod).collect();
+                    want.sort();
+                    got.sort();
+                    assert_eq!(got, want, "{m:?} {e} eV arm {arm} elev {elev} acc {acc}");
+                    n_seen += got.len();
+                }
+            }
+        }
+        assert!(n_seen >= 50, "{n_seen} beams in view over all cases");
+    }
+
+    /// The bounded nearest search against the first of the full list, at energies
+    /// from sparse (100 eV) to dense (300 keV: thousands of beams within a degree).
+    #[test]
+    fn nearest_in_view_is_the_first_in_view() {
+        let mut found = 0;
+        for m in [[1, 0, 0], [3, 2, 1], [7, 5, 3]] {
+            let f = cu(m);
+            for (e, tilt, az) in [
+                (100.0, 10.0, 0.0),
+                (3000.0, 40.0, 25.0),
+                (300_000.0, 30.0, 0.0),
+            ] {
+                let inc = Incidence::new(e, tilt, az).unwrap();
+                for i in 0..40 {
+                    let arm = -150.0 + 7.3 * i as f32;
+                    let elev = 0.3 * (i % 5) as f32;
+                    let mut one = [InView::EMPTY; 1];
+                    let l = beams_in_view(&f, &inc, arm, elev, 1.0, &mut one).unwrap();
+                    let want = (l.stored > 0).then_some(one[0]);
+                    let got = nearest_in_view(&f, &inc, arm, elev, 1.0).unwrap();
+                    assert_eq!(
+                        got.map(|v| v.beam.rod),
+                        want.map(|v| v.beam.rod),
+                        "{m:?} {e} eV arm {arm} elev {elev}: {got:?} vs {want:?}"
+                    );
+                    found += usize::from(got.is_some());
+                }
+            }
+        }
+        assert!(found >= 60, "{found} points with a beam in view");
     }
 
     #[test]

@@ -32,7 +32,8 @@ pub(super) enum Stream {
     Help(u8),
     Crystals(u8),
     Faces(u8),
-    Beams(BeamIter, u32),
+    /// The beams, the count so far, and the |g| limit when it cuts the list.
+    Beams(BeamIter, u32, Option<f32>),
     Aim(u8),
     Refused(u8),
     Plan(PlanRun),
@@ -41,14 +42,23 @@ pub(super) enum Stream {
 }
 
 impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
-    /// Starts the `beams` list at the current settings.
+    /// Starts the `beams` list at the current settings: every beam with |g| up to the
+    /// radius of a disk of about [`BEAM_LIST_RODS`] rods (all of them at low energy).
     pub(super) fn start_beams(&self) -> Result<Option<Stream>> {
         let s = &self.settings;
         let e = s.gun.kinetic_energy_ev()?;
         let inc = Incidence::new(e, s.tilt_deg, s.azimuth_deg.unwrap_or(0.0))?;
-        Ok(Some(Stream::Beams(s.face.beams_iter(&inc), 0)))
+        let f = &s.face;
+        let g_max =
+            crate::math::sqrt(BEAM_LIST_RODS as f32 / (core::f32::consts::PI * f.area_a2()));
+        let cut = (!f.covers_all(&inc, g_max)).then_some(g_max);
+        Ok(Some(Stream::Beams(f.beams_within(&inc, g_max), 0, cut)))
     }
 }
+
+/// About how many rods the `beams` list searches: the disk of |g| it lists has this
+/// many mesh cells of the reciprocal lattice.
+pub const BEAM_LIST_RODS: u32 = 400;
 
 impl Stream {
     /// Fills `rw` with the next line; false when that line is the final one.
@@ -117,7 +127,7 @@ impl Stream {
                     }
                 }
             }
-            Stream::Beams(iter, n) => match iter.next() {
+            Stream::Beams(iter, n, cut) => match iter.next() {
                 Some(b) => {
                     rw.item()
                         .field_i32("h", b.rod[0])
@@ -135,6 +145,9 @@ impl Stream {
                 }
                 None => {
                     rw.ok().field_i32("count", *n as i32);
+                    if let Some(g) = cut {
+                        rw.field_i32("truncated", 1).field_f32_rt("g_max", *g);
+                    }
                     false
                 }
             },

@@ -30,8 +30,12 @@
 use crate::beam;
 use crate::error::{finite, Error, Quantity, Result};
 use crate::lattice::{check_indices, reciprocal, Cell, Miller};
-use crate::listing::{insert_sorted, Listing};
+use crate::listing::Listing;
 use crate::math::{self, Vec3};
+
+mod rods;
+
+pub use rods::BeamIter;
 
 /// Largest |tilt| accepted, degrees.
 pub const TILT_MAX_DEG: f32 = 89.9;
@@ -476,7 +480,7 @@ impl Face {
     }
 
     /// Rod vector turned by the incidence's azimuth, in the surface frame, 1/Å.
-    fn rod_turned(&self, rod: [i32; 2], inc: &Incidence) -> [f32; 2] {
+    pub(crate) fn rod_turned(&self, rod: [i32; 2], inc: &Incidence) -> [f32; 2] {
         let g = self.rod_inv_a(rod);
         [
             g[0] * inc.cos_az - g[1] * inc.sin_az,
@@ -504,7 +508,12 @@ impl Face {
         self.beam_from(rod, g, inc).ok_or(Error::Evanescent)
     }
 
-    fn beam_from(&self, rod: [i32; 2], g: [f32; 2], inc: &Incidence) -> Option<SurfaceBeam> {
+    pub(crate) fn beam_from(
+        &self,
+        rod: [i32; 2],
+        g: [f32; 2],
+        inc: &Incidence,
+    ) -> Option<SurfaceBeam> {
         let u = inc.k_inv_a;
         let kin = inc.sin_tilt * u;
         let kx = kin + g[0];
@@ -534,47 +543,6 @@ impl Face {
     pub fn emergence_ev(&self, rod: [i32; 2], inc: &Incidence) -> Option<f32> {
         let g = self.rod_turned(rod, inc);
         emergence_from(g, g[0] * g[0] + g[1] * g[1], inc.sin_tilt)
-    }
-
-    /// Iterator over every beam at `inc`, in rod-index order (no buffer needed). The
-    /// iterator holds its own copy of the face, so it can be kept across calls (e.g. to
-    /// stream a list one line at a time).
-    pub fn beams_iter(&self, inc: &Incidence) -> BeamIter {
-        let reach = inc.k_inv_a * (1.0 + inc.sin_tilt.abs());
-        let bound = |len: f32| ((reach * len) as i32).min(4096);
-        let hmax = bound(self.a1_len_a());
-        let kmax = bound(self.a2_len_a());
-        BeamIter {
-            face: *self,
-            inc: *inc,
-            hmax,
-            kmax,
-            h: -hmax,
-            k: -kmax,
-        }
-    }
-
-    /// Every beam at `inc`, sorted by |g| (specular first; equal |g| by rod indices,
-    /// descending), into `out`. When `out` is short, the smallest |g| are kept.
-    ///
-    /// ```
-    /// use matterwave_core::lattice::{Cell, Structure};
-    /// use matterwave_core::surface::{Face, Incidence, SurfaceBeam};
-    /// let f = Face::new(&Cell::new(Structure::Fcc, 3.615, 0.0, 0.0).unwrap(), [1, 1, 1]).unwrap();
-    /// let mut out = [SurfaceBeam::EMPTY; 32];
-    /// let list = f.beams(&Incidence::normal(200.0).unwrap(), &mut out).unwrap();
-    /// assert_eq!(list.stored, 19); // specular + three rings of six
-    /// ```
-    pub fn beams(&self, inc: &Incidence, out: &mut [SurfaceBeam]) -> Result<Listing> {
-        if out.is_empty() {
-            return Err(Error::EmptyBuffer);
-        }
-        let mut stored = 0usize;
-        let mut truncated = false;
-        for b in self.beams_iter(inc) {
-            truncated |= insert_sorted(out, &mut stored, b, beam_before);
-        }
-        Ok(Listing { stored, truncated })
     }
 
     /// Kinematic I-V peak energies (outside, eV) on rod (h, k) between `from_ev` and
@@ -753,38 +721,6 @@ fn beam_before(a: &SurfaceBeam, b: &SurfaceBeam) -> bool {
         false
     } else {
         a.rod > b.rod
-    }
-}
-
-/// Iterator over the beams of a face at one incidence (see [`Face::beams_iter`]).
-#[derive(Clone, Copy, Debug)]
-pub struct BeamIter {
-    face: Face,
-    inc: Incidence,
-    hmax: i32,
-    kmax: i32,
-    h: i32,
-    k: i32,
-}
-
-impl Iterator for BeamIter {
-    type Item = SurfaceBeam;
-
-    fn next(&mut self) -> Option<SurfaceBeam> {
-        while self.h <= self.hmax {
-            let rod = [self.h, self.k];
-            if self.k < self.kmax {
-                self.k += 1;
-            } else {
-                self.k = -self.kmax;
-                self.h += 1;
-            }
-            let g = self.face.rod_turned(rod, &self.inc);
-            if let Some(b) = self.face.beam_from(rod, g, &self.inc) {
-                return Some(b);
-            }
-        }
-        None
     }
 }
 
