@@ -268,6 +268,8 @@ struct Session {
     stream_crc: bool,
     /// Whether the running stream is an `aim`'s (which may end with `err`).
     refusing: bool,
+    /// The `err` a refused `aim`'s stream ended with, until taken.
+    stream_end: Option<Kind>,
     /// The chunk being fed (for failure messages of the byte-stream test).
     last_input: Vec<u8>,
     /// Final lines seen, by class, for the report at the end of the test.
@@ -298,6 +300,7 @@ impl Session {
             out: Vec::new(),
             stream_crc: false,
             refusing: false,
+            stream_end: None,
             last_input: Vec::new(),
             stats: Stats::default(),
         }
@@ -508,6 +511,7 @@ impl Session {
                 assert!(self.refusing, "a stream ended with err: {}", k[0].1);
                 assert!(!self.c.streaming());
                 self.stats.err += 1;
+                self.stream_end = Some(k[0].0);
             } else {
                 assert_eq!(k[0].0, Kind::Ok, "a stream ends with ok: {}", k[0].1);
                 assert!(!self.c.streaming());
@@ -1068,6 +1072,10 @@ fn generators_reach_every_outcome() {
             codes.insert(c);
         }
         s.finish_stream();
+        // A refused `aim` streams its refusals and ends with the err.
+        if let Some(Kind::Err(c)) = s.stream_end.take() {
+            codes.insert(c);
+        }
     }
     let st = s.stats;
     assert!(st.ok > 300 && st.err > 300, "{st:?}");
