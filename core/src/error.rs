@@ -196,6 +196,8 @@ pub enum Error {
     /// A branch preference of +1 or −1 was given for two-circle aiming (at a fixed
     /// azimuth), where the azimuth, not a branch, decides the pose.
     BranchNeedsInPlane,
+    /// `table` was asked for a per-face value the crystal table does not have.
+    NoTableValue(Quantity),
     /// The axis's home (step 0) lies outside its soft limits.
     HomeOutsideLimits(AxisId),
     /// The soft limits lie farther from home than the step counter reaches.
@@ -257,6 +259,7 @@ impl Error {
             Error::ReplyTooLong => 420,
             Error::FaceNeeded => 130,
             Error::BranchNeedsInPlane => 131,
+            Error::NoTableValue(_) => 132,
             Error::HomeOutsideLimits(_) => 315,
             Error::ReachBeyondCounter(_) => 316,
             Error::ZoneOutsideLimits(_, _) => 317,
@@ -343,6 +346,9 @@ impl Error {
             Error::BufferFull => "sample buffer full; send pt clear",
             Error::ReplyTooLong => "reply too long; ask for fewer fields",
             Error::FaceNeeded => "this crystal has no table face; give face= with the crystal",
+            Error::NoTableValue(_) => {
+                "the crystal table has no value for this face; give a number instead of table"
+            }
             Error::BranchNeedsInPlane => {
                 "branch +1 or -1 applies to in-plane aiming only; set the azimuth free or use branch nearest"
             }

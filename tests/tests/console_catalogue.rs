@@ -164,6 +164,7 @@ const CATALOGUE: &[Case] = &[
     case("lattice rules: two indices are not a face (116)", &[], b"set face=1,0\n", &[116]),
     case("axis rules: plan step 0 (102)", &[], b"plan kind=sweep from=20 to=30 step=0\n", &[102]),
     case("fit rules: a peak fit needs points (250)", &[], b"fit kind=peak\n", &[250]),
+    case("table rules: no table work function for this face (132)", &["set crystal=kcl"], b"set sample=table\n", &[132]),
     case("aim rules: a branch is +1, -1 or nearest (407)", &[], b"set branch=left\n", &[407]),
     case("aim rules: ... also as an aim argument (407)", &[], b"aim branch=2\n", &[407]),
     case("aim rules: a branch needs in-plane aiming (131)", &[], b"set azimuth=30 branch=+1\n", &[131]),

@@ -210,3 +210,27 @@ fn beams_at_300_kev_are_bounded_and_say_where_they_stop() {
         "{end}"
     );
 }
+
+/// `sample=table` takes the table's work function for the face (tables/crystals.toml,
+/// each value with its cited source) and follows the face when it changes; `dump`
+/// replays it as `table`.
+#[test]
+fn sample_work_function_from_the_table_follows_the_face() {
+    let mut c = console();
+    let cu = table::find("cu").unwrap();
+    let get = |c: &mut Con| -> f32 {
+        let r = request(c, "get sample");
+        last(&r)
+            .strip_prefix("ok sample=")
+            .and_then(|v| v.parse().ok())
+            .unwrap_or_else(|| panic!("{r}"))
+    };
+    assert!(last(&request(&mut c, "set crystal=cu face=1,0,0 sample=table")).starts_with("ok"));
+    assert_eq!(get(&mut c), cu.work_function_for([1, 0, 0]).unwrap());
+    assert!(last(&request(&mut c, "set face=1,1,1")).starts_with("ok"));
+    assert_eq!(get(&mut c), cu.work_function_for([1, 1, 1]).unwrap());
+    assert!(request(&mut c, "dump").contains(" sample=table"));
+    assert!(last(&request(&mut c, "set sample=4.0")).starts_with("ok"));
+    assert_eq!(get(&mut c), 4.0);
+    assert!(!request(&mut c, "dump").contains(" sample=table"));
+}

@@ -22,6 +22,8 @@ pub struct Settings {
     pub gun: Gun,
     /// Inner potential, eV; `None` = the table's value for the face.
     pub inner_potential_ev: Option<f32>,
+    /// Whether the sample work function follows the table's value for the face.
+    pub sample_from_table: bool,
     /// The crystal.
     pub crystal: &'static Crystal,
     /// The face (computed from the crystal and the Miller indices).
@@ -46,6 +48,7 @@ impl Settings {
         Ok(Settings {
             gun: Gun::plain(100.0),
             inner_potential_ev: None,
+            sample_from_table: false,
             crystal,
             face,
             tilt_deg: 20.0,
@@ -181,7 +184,12 @@ fn apply(s: &mut Settings, notes: &mut SetNotes, key: Key, v: &str) -> Result<()
     match key {
         Key::Energy => s.gun.nominal_ev = parse_num(v)?,
         Key::Cathode => s.gun.cathode_work_function_ev = beam::check_work_function(parse_num(v)?)?,
-        Key::Sample => s.gun.sample_work_function_ev = beam::check_work_function(parse_num(v)?)?,
+        Key::Sample => {
+            s.sample_from_table = v == "table";
+            if !s.sample_from_table {
+                s.gun.sample_work_function_ev = beam::check_work_function(parse_num(v)?)?;
+            }
+        }
         Key::Offset => s.gun.offset_ev = parse_num(v)?,
         Key::InnerPotential => {
             s.inner_potential_ev = if v == "table" {
@@ -235,6 +243,7 @@ impl Settings {
                 rw.field_f32_rt(n, beam::wavelength_a(self.gun.kinetic_energy_ev()?)?)
             }
             Key::Cathode => rw.field_f32_rt(n, self.gun.cathode_work_function_ev),
+            Key::Sample if for_dump && self.sample_from_table => rw.field_str(n, "table"),
             Key::Sample => rw.field_f32_rt(n, self.gun.sample_work_function_ev),
             Key::Offset => rw.field_f32_rt(n, self.gun.offset_ev),
             Key::InnerPotential => match (for_dump, self.inner_potential_ev) {
@@ -308,6 +317,12 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         };
         if let Some(m) = miller {
             s.face = Face::new(&s.crystal.cell()?, m)?;
+        }
+        if s.sample_from_table {
+            s.gun.sample_work_function_ev = s
+                .crystal
+                .work_function_for(s.face.miller)
+                .ok_or(Error::NoTableValue(Quantity::WorkFunction))?;
         }
         s.gun.kinetic_energy_ev()?;
         s.rig.validate()?;
