@@ -375,24 +375,31 @@ pub fn beams_in_view(
     if radius < 0.0 {
         return Ok(Listing { stored, truncated });
     }
-    for b in face.beams_near(inc, centre, radius) {
-        let k = beam_direction_lab(&b, inc);
-        let c = math::dot(k, d);
-        if c < cos_acc {
-            continue;
-        }
-        // Angle from the cross product's length for accuracy near zero.
-        let off = math::deg(math::atan2(math::norm(math::cross(k, d)), c));
-        let (ba, be) = arm_elevation_deg(k);
-        let item = InView {
-            beam: b,
-            offset_deg: off,
-            arm_deg: ba,
-            elevation_deg: be,
-        };
+    for item in face
+        .beams_near(inc, centre, radius)
+        .filter_map(|b| seen_from(b, inc, d, cos_acc))
+    {
         truncated |= insert_sorted(out, &mut stored, item, |a, b| a.offset_deg < b.offset_deg);
     }
     Ok(Listing { stored, truncated })
+}
+
+/// Beam `b` at `inc` as the detector looking along the unit direction `d` sees it, if
+/// it lies within the cone whose half-angle has cosine `cos_acc`.
+fn seen_from(b: SurfaceBeam, inc: &Incidence, d: Vec3, cos_acc: f32) -> Option<InView> {
+    let k = beam_direction_lab(&b, inc);
+    let c = math::dot(k, d);
+    if c < cos_acc {
+        return None;
+    }
+    let (arm_deg, elevation_deg) = arm_elevation_deg(k);
+    Some(InView {
+        beam: b,
+        // The angle from the cross product's length, for accuracy near zero.
+        offset_deg: math::deg(math::atan2(math::norm(math::cross(k, d)), c)),
+        arm_deg,
+        elevation_deg,
+    })
 }
 
 /// The disk of k∥ (surface frame of `inc`, 1/Å: centre and radius) that holds every
@@ -435,20 +442,7 @@ pub fn nearest_in_view(
     if radius0 < 0.0 {
         return Ok(None);
     }
-    let view = |b: SurfaceBeam| -> Option<InView> {
-        let k = beam_direction_lab(&b, inc);
-        let c = math::dot(k, d);
-        if c < cos_acc {
-            return None;
-        }
-        let (ba, be) = arm_elevation_deg(k);
-        Some(InView {
-            beam: b,
-            offset_deg: math::deg(math::atan2(math::norm(math::cross(k, d)), c)),
-            arm_deg: ba,
-            elevation_deg: be,
-        })
-    };
+    let view = |b: SurfaceBeam| seen_from(b, inc, d, cos_acc);
     let seed = face.rod_nearest(inc, centre);
     let mut best_deg = acc;
     for dh in -1..=1 {
