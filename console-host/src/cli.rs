@@ -4,7 +4,7 @@
 
 use crate::calc::{self, GunArgs, IvArgs};
 use crate::error::CliResult;
-use crate::gonio::{self, AimArgs, BudgetArgs, FitArgs, RigArgs, SweepArgs, TrackArgs, WhereArgs};
+use crate::gonio::{self, AimArgs, BudgetArgs, FitArgs, RigArgs, SweepArgs, TrackArgs, ViewArgs};
 use crate::output::Format;
 use crate::rig;
 use clap::{Parser, Subcommand};
@@ -193,7 +193,7 @@ pub enum Calc {
     /// What the detector sees at an arm (and elevation) angle: beams within the
     /// acceptance, nearest first.
     #[command(allow_negative_numbers = true)]
-    Where(WhereArgs),
+    View(ViewArgs),
     /// Calibration fits from a CSV file: peak centre, arm zero and gun offset, row
     /// spacing, inner potential and layer spacing.
     #[command(allow_negative_numbers = true, after_help = gonio::FIT_HELP)]
@@ -281,7 +281,7 @@ pub fn run(cli: &Cli) -> CliResult<String> {
             Calc::Aim(a) => gonio::aim(a)?,
             Calc::Track(a) => gonio::track(a)?,
             Calc::Sweep(a) => return Ok(gonio::sweep(a)?.render(f)),
-            Calc::Where(a) => gonio::where_(a)?,
+            Calc::View(a) => gonio::view(a)?,
             Calc::Fit(a) => gonio::fit_cmd(a)?,
             Calc::Budget(a) => gonio::budget_cmd(a)?,
         },

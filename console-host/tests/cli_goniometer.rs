@@ -124,7 +124,7 @@ const SWEEP: &[&str] = &[
 ];
 const WHERE: &[&str] = &[
     "calc",
-    "where",
+    "view",
     "--crystal",
     "cu",
     "--face",
@@ -553,7 +553,7 @@ fn two_circle_aim_uses_the_elevation() {
 }
 
 #[test]
-fn where_inverts_aim() {
+fn view_inverts_aim() {
     for (face, beam, e, t) in [
         ("100", "1,0", "100", "10"),
         ("110", "1,0", "120", "20"),
@@ -580,7 +580,7 @@ fn where_inverts_aim() {
             let (az, arm, tilt) = (arg("azimuth_deg"), arg("arm_deg"), arg("tilt_deg"));
             let w = json(&[
                 "calc",
-                "where",
+                "view",
                 "--crystal",
                 "cu",
                 "--face",
@@ -606,10 +606,10 @@ fn where_inverts_aim() {
 }
 
 #[test]
-fn where_with_nothing_in_view_is_an_empty_list() {
+fn view_with_nothing_in_view_is_an_empty_list() {
     let v = json(&[
         "calc",
-        "where",
+        "view",
         "--crystal",
         "cu",
         "--face",
@@ -1140,7 +1140,7 @@ fn bad_goniometer_input_exits_2() {
         ],
         &[
             "calc",
-            "where",
+            "view",
             "--crystal",
             "cu",
             "--face",

@@ -15,7 +15,7 @@
 //! Codes are those of `core/src/error.rs` (1xx input values, 2xx physics, 3xx axes, 4xx
 //! protocol). Each case names the project rule it checks: "protocol rules" are those of
 //! docs/PROTOCOL.md, "axis rules" those of core/src/axis.rs, "geometry rules" those of
-//! core/src/goniometer/, "fit rules" those of docs/FITS.md.
+//! core/src/goniometer/, "fit rules" those of docs/CALIBRATION.md.
 
 use matterwave_core::console::sim::{SimAxes, SimDetector, SimInterlock};
 use matterwave_core::console::Console;

@@ -73,7 +73,7 @@ fn field(line: &str, key: &str) -> f64 {
         .unwrap()
 }
 
-/// The documented example (docs/FITS.md): the console now fits it, with the values the
+/// The documented example (docs/CALIBRATION.md): the console now fits it, with the values the
 /// page states (δ0 = 0.251 ± 0.002°, ΔE = −1.503 ± 0.007 eV).
 #[test]
 fn documented_example_fits_on_the_console() {

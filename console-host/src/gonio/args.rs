@@ -188,9 +188,9 @@ pub struct SweepArgs {
     pub position: PositionArgs,
 }
 
-/// Arguments of `mwctl calc where`.
+/// Arguments of `mwctl calc view`.
 #[derive(Clone, Debug, clap::Args)]
-pub struct WhereArgs {
+pub struct ViewArgs {
     /// Crystal id.
     #[arg(long, value_name = "ID")]
     pub crystal: String,
@@ -278,7 +278,7 @@ ignored). Lines starting with # and blank lines are skipped. No quoting: plain n
   iv           order,energy_ev            specular I-V peak order n and energy (eV) at
                                           normal incidence: fits V0 and layer spacing d
 
-See docs/FITS.md.";
+See docs/CALIBRATION.md.";
 
 /// Arguments of `mwctl calc fit`.
 #[derive(Clone, Debug, clap::Args)]

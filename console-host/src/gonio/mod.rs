@@ -46,7 +46,7 @@ mod track;
 pub use aim::{aim, budget_cmd};
 pub use args::*;
 pub use calib::fit_cmd;
-pub use sweep::{sweep, where_, SweepOutput};
+pub use sweep::{sweep, view, SweepOutput};
 pub use track::track;
 
 pub(super) type Target = (&'static Crystal, Cell, Face, [i32; 2]);

@@ -1,4 +1,4 @@
-//! `mwctl calc sweep` and `mwctl calc where`: arm sweeps and the beams in view.
+//! `mwctl calc sweep` and `mwctl calc view`: arm sweeps and the beams in view.
 
 use super::*;
 
@@ -175,8 +175,8 @@ pub fn sweep(a: &SweepArgs) -> CliResult<SweepOutput> {
 // ---------------------------------------------------------------------------------------
 // where
 
-/// `mwctl calc where`.
-pub fn where_(a: &WhereArgs) -> CliResult<Report> {
+/// `mwctl calc view`.
+pub fn view(a: &ViewArgs) -> CliResult<Report> {
     let rf = a.rig.load()?;
     let rig = &rf.rig;
     let c = calc::crystal(&a.crystal)?;

@@ -168,7 +168,7 @@ fn nearest_in_view_is_the_first_in_view() {
 }
 
 #[test]
-fn where_inverts_aim() {
+fn beams_in_view_inverts_aim() {
     let rig = Rig::bench_default();
     let f = cu([1, 1, 0]);
     let mut out = [Solution::EMPTY; 8];
