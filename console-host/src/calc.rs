@@ -190,7 +190,7 @@ pub fn crystals() -> CliResult<Report> {
             Value::F32(c.temperature_k, 0),
             Value::opt(c.work_function_ev, 2),
             Value::opt(c.inner_potential_ev, 1),
-            Value::Text(faces.join(" ")),
+            Value::List(faces.into_iter().map(Value::Text).collect()),
             Value::Text(src.into()),
         ]);
     }
@@ -271,11 +271,7 @@ fn family_list(cell: &Cell, d_min: f32, max: usize) -> CliResult<(Vec<Reflection
 
 /// The `truncated` field: whether more rows than `--max` exist.
 fn truncated_field(r: &mut Report, truncated: bool) {
-    r.field(
-        "truncated",
-        "more beyond --max",
-        Value::Text(truncated.to_string()),
-    );
+    r.field("truncated", "more beyond --max", Value::Bool(truncated));
 }
 
 /// What `reflections` and `rings` start with: the crystal's cell, the wavelength at the

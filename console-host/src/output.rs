@@ -31,6 +31,10 @@ pub enum Value {
     Int(i64),
     /// Text.
     Text(String),
+    /// A yes/no (JSON boolean, `true`/`false` in CSV and tables).
+    Bool(bool),
+    /// A list (JSON array; items joined by spaces in CSV and tables).
+    List(Vec<Value>),
     /// No value (JSON null, empty in CSV, `-` in tables).
     Missing,
 }
@@ -48,6 +52,8 @@ impl Value {
                 .map_or(serde_json::Value::Null, serde_json::Value::Number),
             Value::Int(i) => serde_json::Value::from(*i),
             Value::Text(s) => serde_json::Value::from(s.as_str()),
+            Value::Bool(b) => serde_json::Value::Bool(*b),
+            Value::List(v) => serde_json::Value::Array(v.iter().map(Value::json).collect()),
             Value::Missing => serde_json::Value::Null,
         }
     }
@@ -58,6 +64,8 @@ impl Value {
             Value::F64(x, _) => format!("{x}"),
             Value::Int(i) => i.to_string(),
             Value::Text(s) => s.clone(),
+            Value::Bool(b) => b.to_string(),
+            Value::List(v) => join_items(v, Value::plain),
             Value::Missing => String::new(),
         }
     }
@@ -68,13 +76,31 @@ impl Value {
             Value::F64(x, d) => format!("{x:.d$}", d = *d),
             Value::Int(i) => i.to_string(),
             Value::Text(s) => s.clone(),
+            Value::Bool(b) => b.to_string(),
+            Value::List(v) => join_items(v, Value::shown),
             Value::Missing => "-".to_string(),
         }
     }
 
     fn is_text(&self) -> bool {
-        matches!(self, Value::Text(_))
+        matches!(self, Value::Text(_) | Value::Bool(_) | Value::List(_))
     }
+}
+
+/// The items of a list joined by spaces; an item that is itself a list is bracketed
+/// (`[-12, 12] [120, 128]`).
+fn join_items(items: &[Value], each: fn(&Value) -> String) -> String {
+    items
+        .iter()
+        .map(|v| match v {
+            Value::List(inner) => {
+                let parts: Vec<String> = inner.iter().map(each).collect();
+                format!("[{}]", parts.join(", "))
+            }
+            other => each(other),
+        })
+        .collect::<Vec<_>>()
+        .join(" ")
 }
 
 /// Shortest decimal that reads back to the same f32, as a JSON number.

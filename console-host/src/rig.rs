@@ -705,6 +705,17 @@ pub fn zones_text(ax: &AxisConfig) -> String {
     format!("[{}]", parts.join(", "))
 }
 
+/// The zones of an axis as a list of `[from, to]` pairs, degrees.
+fn zones_value(ax: &AxisConfig) -> Cell {
+    Cell::List(
+        ax.zones
+            .iter()
+            .flatten()
+            .map(|z| Cell::List(vec![Cell::F32(z.from_deg, 3), Cell::F32(z.to_deg, 3)]))
+            .collect(),
+    )
+}
+
 /// The rig as a complete rig file that [`parse`] reads back to the same rig (steps per
 /// degree are written directly).
 pub fn to_toml(r: &RigFile) -> String {
@@ -788,8 +799,8 @@ pub fn report(r: &RigFile) -> Report {
             Cell::F32(ax.home_offset_deg, 3),
             min,
             max,
-            Cell::Text(ax.wrap.to_string()),
-            Cell::Text(zones_text(ax)),
+            Cell::Bool(ax.wrap),
+            zones_value(ax),
             Cell::F32(ax.backlash_deg, 3),
             Cell::Text(approach_word(ax.approach).to_string()),
             Cell::F32(ax.max_speed_deg_s, 2),

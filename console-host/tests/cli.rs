@@ -372,3 +372,57 @@ fn demo_runs() {
     assert_eq!(code, 0, "{err}");
     assert!(out.contains("ag") && out.contains("I-V"));
 }
+
+/// Machine output is typed: flags are JSON booleans, lists are arrays (common practice
+/// for JSON consumers, no source).
+#[test]
+fn json_flags_are_booleans_and_lists_are_arrays() {
+    let v = json(&[
+        "calc",
+        "reflections",
+        "--crystal",
+        "cu",
+        "--energy",
+        "100",
+        "--max",
+        "1",
+    ]);
+    assert_eq!(v["truncated"], serde_json::Value::Bool(true), "{v}");
+    let v = json(&[
+        "calc",
+        "reflections",
+        "--crystal",
+        "cu",
+        "--energy",
+        "100",
+        "--max",
+        "10000",
+    ]);
+    assert_eq!(v["truncated"], serde_json::Value::Bool(false), "{v}");
+    let v = json(&["rig", "show"]);
+    let arm = &v["axes"][0];
+    assert_eq!(arm["axis"], "arm", "{v}");
+    assert_eq!(arm["wrap"], serde_json::Value::Bool(false), "{v}");
+    assert_eq!(arm["zones"], serde_json::json!([[-12.0, 12.0]]), "{v}");
+    let az = v["axes"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|a| a["axis"] == "azimuth")
+        .unwrap();
+    assert_eq!(az["wrap"], serde_json::Value::Bool(true), "{v}");
+    let v = json(&["crystals"]);
+    let cu = v["crystals"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["id"] == "cu")
+        .unwrap();
+    let faces: Vec<&str> = cu["faces"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|f| f.as_str().unwrap())
+        .collect();
+    assert!(faces.contains(&"(100)") && faces.contains(&"(111)"), "{cu}");
+}

@@ -141,7 +141,7 @@ pub fn sweep(a: &SweepArgs) -> CliResult<SweepOutput> {
     r.field(
         "truncated",
         "more beams than listed",
-        text(l.truncated.to_string()),
+        Value::Bool(l.truncated),
     );
     r.list = Some(List {
         key: "beams",
