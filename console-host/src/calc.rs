@@ -4,7 +4,7 @@
 use crate::error::{CliError, CliResult, Context};
 use crate::output::{col, Column, List, Report, Value};
 use crate::tables;
-use matterwave_core::beam::{self, Beam, Gun};
+use matterwave_core::beam::{self, Beam, Gun, GunInput};
 use matterwave_core::lattice::{parse_miller, Cell, Miller, System};
 use matterwave_core::reflections::{self, Reflection};
 use matterwave_core::surface::{Face, Incidence, IvPeak, SurfaceBeam};
@@ -38,11 +38,35 @@ impl GunArgs {
         }
     }
 
-    /// Kinetic energy at the sample, eV.
+    /// Kinetic energy at the sample, eV; an error names the option at fault (the sum
+    /// names every option that went into it).
     pub fn kinetic_ev(&self) -> CliResult<f32> {
-        self.gun()
-            .kinetic_energy_ev()
-            .ctx(format_args!("--energy {}", self.energy))
+        self.gun().kinetic_energy_at().map_err(|(input, e)| {
+            let flag = match input {
+                GunInput::Nominal => format!("--energy {}", self.energy),
+                GunInput::CathodeWorkFunction => {
+                    format!("--cathode-work-function {}", self.cathode_work_function)
+                }
+                GunInput::SampleWorkFunction => {
+                    format!("--sample-work-function {}", self.sample_work_function)
+                }
+                GunInput::Offset => format!("--energy-offset {}", self.energy_offset),
+                GunInput::Sum => {
+                    let mut s = format!("--energy {}", self.energy);
+                    for (name, x) in [
+                        ("--cathode-work-function", self.cathode_work_function),
+                        ("--sample-work-function", self.sample_work_function),
+                        ("--energy-offset", self.energy_offset),
+                    ] {
+                        if x != 0.0 {
+                            s.push_str(&format!(" {name} {x}"));
+                        }
+                    }
+                    s
+                }
+            };
+            CliError::core(e, flag)
+        })
     }
 
     /// The correction added to a nominal energy to get the kinetic energy, eV.

@@ -426,3 +426,47 @@ fn json_flags_are_booleans_and_lists_are_arrays() {
         .collect();
     assert!(faces.contains(&"(100)") && faces.contains(&"(111)"), "{cu}");
 }
+
+/// A bad gun input is reported against its own option, and the sum names every
+/// correction that went into it.
+#[test]
+fn gun_errors_name_the_option_at_fault() {
+    let cases: [(&[&str], &str, &str); 5] = [
+        (
+            &["--energy", "100", "--sample-work-function=-3"],
+            "E102",
+            "--sample-work-function -3:",
+        ),
+        (
+            &["--energy", "100", "--cathode-work-function", "50"],
+            "E103",
+            "--cathode-work-function 50:",
+        ),
+        (
+            &["--energy", "100", "--energy-offset", "1e6"],
+            "E103",
+            "--energy-offset 1000000:",
+        ),
+        (
+            &["--energy", "0.5"],
+            "E102",
+            "--energy 0.5: energy below 1 eV",
+        ),
+        (
+            &["--energy", "3", "--sample-work-function", "4.5"],
+            "E104",
+            "--energy 3 --sample-work-function 4.5:",
+        ),
+    ];
+    for (args, code, text) in cases {
+        let mut a = vec!["calc", "wavelength"];
+        a.extend_from_slice(args);
+        let (rc, _, err) = mwctl(&a);
+        assert_eq!(rc, 2, "{a:?}: {err}");
+        assert!(
+            err.starts_with(&format!("mwctl: error: {code}: {text}")),
+            "{a:?}: {err}"
+        );
+        assert_eq!(err.trim_end().lines().count(), 1, "{a:?}: {err}");
+    }
+}

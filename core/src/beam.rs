@@ -81,24 +81,30 @@ pub fn kinetic_energy_ev(
     sample_wf_ev: f32,
     offset_ev: f32,
 ) -> Result<f32> {
-    let n = finite(nominal_ev, Quantity::Energy)?;
-    if n <= 0.0 {
-        return Err(Error::TooLow(Quantity::Energy));
+    Gun {
+        nominal_ev,
+        cathode_work_function_ev: cathode_wf_ev,
+        sample_work_function_ev: sample_wf_ev,
+        offset_ev,
     }
-    if n > ENERGY_MAX_EV {
-        return Err(Error::TooHigh(Quantity::Energy));
-    }
-    let c = check_work_function(cathode_wf_ev)?;
-    let s = check_work_function(sample_wf_ev)?;
-    let o = finite(offset_ev, Quantity::EnergyOffset)?;
-    if o.abs() > OFFSET_MAX_EV {
-        return Err(Error::TooHigh(Quantity::EnergyOffset));
-    }
-    let e = n + c - s + o;
-    if e < ENERGY_MIN_EV {
-        return Err(Error::KineticEnergyTooLow);
-    }
-    check_energy(e)
+    .kinetic_energy_at()
+    .map_err(|(_, e)| e)
+}
+
+/// Which gun input an error is about (see [`Gun::kinetic_energy_at`]).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum GunInput {
+    /// The nominal energy.
+    Nominal,
+    /// The cathode work function.
+    CathodeWorkFunction,
+    /// The sample work function.
+    SampleWorkFunction,
+    /// The energy offset.
+    Offset,
+    /// Their sum, the kinetic energy at the sample.
+    Sum,
 }
 
 /// Gun settings: nominal energy and the corrections that turn it into the kinetic
@@ -129,12 +135,40 @@ impl Gun {
 
     /// Kinetic energy at the sample, eV (see [`kinetic_energy_ev`]).
     pub fn kinetic_energy_ev(&self) -> Result<f32> {
-        kinetic_energy_ev(
-            self.nominal_ev,
-            self.cathode_work_function_ev,
-            self.sample_work_function_ev,
-            self.offset_ev,
-        )
+        self.kinetic_energy_at().map_err(|(_, e)| e)
+    }
+
+    /// Kinetic energy at the sample, eV, or the error with the input it is about. The
+    /// inputs are checked in the order nominal energy (finite, above 0, at most
+    /// 300 keV), cathode and sample work functions (0–10 eV), offset (±1000 eV), then
+    /// their sum (1 eV–300 keV).
+    pub fn kinetic_energy_at(&self) -> core::result::Result<f32, (GunInput, Error)> {
+        let at = |i: GunInput| move |e: Error| (i, e);
+        let n = finite(self.nominal_ev, Quantity::Energy).map_err(at(GunInput::Nominal))?;
+        if n <= 0.0 {
+            return Err((GunInput::Nominal, Error::TooLow(Quantity::Energy)));
+        }
+        if n > ENERGY_MAX_EV {
+            return Err((GunInput::Nominal, Error::TooHigh(Quantity::Energy)));
+        }
+        let c = check_work_function(self.cathode_work_function_ev)
+            .map_err(at(GunInput::CathodeWorkFunction))?;
+        let s = check_work_function(self.sample_work_function_ev)
+            .map_err(at(GunInput::SampleWorkFunction))?;
+        let o = finite(self.offset_ev, Quantity::EnergyOffset).map_err(at(GunInput::Offset))?;
+        if o.abs() > OFFSET_MAX_EV {
+            return Err((GunInput::Offset, Error::TooHigh(Quantity::EnergyOffset)));
+        }
+        let e = n + c - s + o;
+        if e < ENERGY_MIN_EV {
+            // Without corrections the nominal energy itself is too low.
+            return Err(if c == 0.0 && s == 0.0 && o == 0.0 {
+                (GunInput::Nominal, Error::TooLow(Quantity::Energy))
+            } else {
+                (GunInput::Sum, Error::KineticEnergyTooLow)
+            });
+        }
+        check_energy(e).map_err(at(GunInput::Sum))
     }
 }
 

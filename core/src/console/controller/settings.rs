@@ -6,7 +6,7 @@ use embedded_io::Write;
 use super::args::{miller_text, parse_branch, parse_num, parse_rod, rod_text};
 use super::fault::{check_used, check_used_or, Accepted, Fault, Result};
 use super::{Console, Rw, Stream};
-use crate::beam::{self, Gun};
+use crate::beam::{self, Gun, GunInput};
 use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::console::wire::token::Args;
 use crate::error::{Error, Quantity};
@@ -324,7 +324,15 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 .work_function_for(s.face.miller)
                 .ok_or(Error::NoTableValue(Quantity::WorkFunction))?;
         }
-        s.gun.kinetic_energy_ev()?;
+        // A bad gun setting names its key (the sum: the energy, which it starts from).
+        s.gun.kinetic_energy_at().map_err(|(input, e)| {
+            Fault::from(e).on_key(match input {
+                GunInput::Nominal | GunInput::Sum => "energy",
+                GunInput::CathodeWorkFunction => "cathode",
+                GunInput::SampleWorkFunction => "sample",
+                GunInput::Offset => "offset",
+            })
+        })?;
         s.rig.validate()?;
         s.check_branch()?;
         self.settings = s;
