@@ -87,9 +87,12 @@ impl Value {
     }
 }
 
-/// The items of a list joined by spaces; an item that is itself a list is bracketed
-/// (`[-12, 12] [120, 128]`).
+/// The items of a list joined by spaces (by `; ` when an item has a space of its own);
+/// an item that is itself a list is bracketed (`[-12, 12] [120, 128]`).
 fn join_items(items: &[Value], each: fn(&Value) -> String) -> String {
+    let wordy = items
+        .iter()
+        .any(|v| matches!(v, Value::Text(t) if t.contains(' ')));
     items
         .iter()
         .map(|v| match v {
@@ -100,7 +103,7 @@ fn join_items(items: &[Value], each: fn(&Value) -> String) -> String {
             other => each(other),
         })
         .collect::<Vec<_>>()
-        .join(" ")
+        .join(if wordy { "; " } else { " " })
 }
 
 /// Shortest decimal that reads back to the same f32, as a JSON number.

@@ -1267,3 +1267,60 @@ fn rig_check_refuses_home_outside_limits_and_overlapping_zones() {
         assert!(err.contains(code), "{name}: {err}");
     }
 }
+
+/// A sweep beyond the arm's limits, or across the gun zone, says why its points are
+/// unreachable, with counts that add up (bench default: arm ±165°, zone 0 [-12, 12]°).
+#[test]
+fn sweep_says_why_points_are_unreachable() {
+    let v = json(&[
+        "calc",
+        "sweep",
+        "--crystal",
+        "cu",
+        "--face",
+        "100",
+        "--energy",
+        "100",
+        "--arm-from",
+        "0",
+        "--arm-to",
+        "500",
+        "--step",
+        "1",
+        "--tilt",
+        "10",
+        "--azimuth",
+        "0",
+    ]);
+    // 166..=500 lie above 165: 335 points; 0..=12 inside the zone: 13 points.
+    assert_eq!(v["unreachable_points"], 348, "{v}");
+    let why: Vec<&str> = v["unreachable_because"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|x| x.as_str().unwrap())
+        .collect();
+    assert_eq!(
+        why,
+        [
+            "13 points: inside arm forbidden zone 0 [-12, 12] deg",
+            "335 points: above the arm upper limit 165 deg"
+        ],
+        "{v}"
+    );
+    // An unclosed bracket is not a face.
+    let err = fails(&[
+        "calc",
+        "beams",
+        "--crystal",
+        "cu",
+        "--face",
+        "(1,1,1",
+        "--energy",
+        "100",
+    ]);
+    assert!(
+        err.contains("E116") && err.contains("--face '(1,1,1'"),
+        "{err}"
+    );
+}

@@ -381,12 +381,17 @@ pub fn parse_miller(text: &str, hexagonal: bool) -> Result<Miller> {
 /// use matterwave_core::lattice::split_indices;
 /// assert_eq!(split_indices("-11"), Ok(([-1, 1, 0, 0], 2)));
 /// assert_eq!(split_indices("(2, -3)"), Ok(([2, -3, 0, 0], 2)));
+/// assert!(split_indices("(1,1,1").is_err()); // an unclosed bracket
 /// ```
 pub fn split_indices(text: &str) -> Result<([i32; 4], usize)> {
     let bad = Error::BadIndexText;
     let t = text.trim();
-    let t = t.strip_prefix('(').unwrap_or(t);
-    let t = t.strip_suffix(')').unwrap_or(t);
+    // Brackets come in pairs or not at all: `(1,1,1` is a typo, not a face.
+    let t = match (t.strip_prefix('('), t.ends_with(')')) {
+        (Some(inner), true) => inner.strip_suffix(')').unwrap_or(inner),
+        (None, false) => t,
+        _ => return Err(bad),
+    };
     let mut vals = [0i32; 4];
     let mut n = 0usize;
     if t.contains(',') || t.contains(' ') {

@@ -74,6 +74,8 @@ pub fn sweep(a: &SweepArgs) -> CliResult<SweepOutput> {
     let plan = SweepPlan::new(*rig, face, inc, elevation, a.arm_from, a.arm_to, a.step)
         .map_err(|er| plan_error(er, ("arm-from", a.arm_from), ("arm-to", a.arm_to), a.step))?;
     let mut unreachable = 0i64;
+    // Why points are unreachable: each reason in words, with its count.
+    let mut reasons: Vec<(String, i64)> = Vec::new();
     let mut statuses: Vec<String> = Vec::with_capacity(plan.len() as usize);
     let mut point_rows = Vec::new();
     for p in plan.iter(start[0]) {
@@ -81,6 +83,11 @@ pub fn sweep(a: &SweepArgs) -> CliResult<SweepOutput> {
             Ok(_) => "reachable".to_string(),
             Err(er) => {
                 unreachable += 1;
+                let why = axis_reason(rig, *er);
+                match reasons.iter_mut().find(|(w, _)| *w == why) {
+                    Some((_, n)) => *n += 1,
+                    None => reasons.push((why, 1)),
+                }
                 status_word(*er)
             }
         };
@@ -135,6 +142,16 @@ pub fn sweep(a: &SweepArgs) -> CliResult<SweepOutput> {
         "unreachable_points",
         "unreachable points",
         Value::Int(unreachable),
+    );
+    r.field(
+        "unreachable_because",
+        "unreachable because",
+        Value::List(
+            reasons
+                .iter()
+                .map(|(w, n)| text(format!("{n} points: {w}")))
+                .collect(),
+        ),
     );
     r.field("dwell_s", "dwell per point (s)", f(dwell, 3));
     r.field("estimate_s", "estimated time (s)", f(est, 1));
