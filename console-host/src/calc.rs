@@ -427,6 +427,23 @@ fn face_fields(r: &mut Report, c: &Crystal, face: &Face) {
     );
     r.field("a1_a", "|a1| (Å)", Value::F32(face.a1_len_a(), 4));
     r.field("a2_a", "|a2| (Å)", Value::F32(face.a2_len_a(), 4));
+    let hex = c.structure.system() == System::Hexagonal;
+    let [d1, d2] = face.mesh_uvw();
+    let dir = |d: [i32; 3]| -> Value {
+        let ints: Vec<i32> = if hex {
+            matterwave_core::lattice::four_index_direction(d).to_vec()
+        } else {
+            d.to_vec()
+        };
+        Value::List(ints.into_iter().map(|x| Value::Int(x.into())).collect())
+    };
+    r.field("a1_uvw", "a1 direction [uvw]", dir(d1));
+    r.field("a2_uvw", "a2 direction [uvw]", dir(d2));
+    if face.mesh_kind() == matterwave_core::surface::MeshKind::CentredRectangular {
+        r.notes.push(
+            "Centred-rectangular mesh: beams are indexed on its primitive cell (a1, a2 above, |a1| = |a2|), not on the centred rectangle.".into(),
+        );
+    }
     r.field(
         "gamma_deg",
         "mesh angle γ (deg)",

@@ -470,3 +470,46 @@ fn gun_errors_name_the_option_at_fault() {
         assert_eq!(err.trim_end().lines().count(), 1, "{a:?}: {err}");
     }
 }
+
+/// The mesh directions lie in the face: h·u + k·v + l·w = 0 for both (the Weiss zone
+/// law, any crystallography text), for cubic and hexagonal faces (four-index [uvtw]
+/// turned back to [UVW] = [u − t, v − t, w]).
+#[test]
+fn mesh_directions_lie_in_the_face() {
+    for (id, face, hkl) in [
+        ("cu", "100", [1, 0, 0]),
+        ("cu", "111", [1, 1, 1]),
+        ("cu", "110", [1, 1, 0]),
+        ("w", "110", [1, 1, 0]),
+        ("cu", "3,2,1", [3, 2, 1]),
+        ("ru", "0001", [0, 0, 1]),
+        ("ru", "10-10", [1, 0, 0]),
+    ] {
+        let v = json(&[
+            "calc",
+            "beams",
+            "--crystal",
+            id,
+            "--face",
+            face,
+            "--energy",
+            "100",
+        ]);
+        for key in ["a1_uvw", "a2_uvw"] {
+            let d: Vec<i64> = v[key]
+                .as_array()
+                .unwrap()
+                .iter()
+                .map(|x| x.as_i64().unwrap())
+                .collect();
+            let uvw = if d.len() == 4 {
+                [d[0] - d[2], d[1] - d[2], d[3]]
+            } else {
+                [d[0], d[1], d[2]]
+            };
+            let dot: i64 = uvw.iter().zip(hkl).map(|(a, b)| a * b).sum();
+            assert_eq!(dot, 0, "{id} {face} {key} {d:?}");
+            assert!(uvw.iter().any(|&x| x != 0), "{id} {face} {key}");
+        }
+    }
+}

@@ -372,6 +372,34 @@ pub fn parse_miller(text: &str, hexagonal: bool) -> Result<Miller> {
     Ok(hkl)
 }
 
+/// A hexagonal direction [UVW] (on a, b, c) in four-index form [uvtw]:
+/// u = (2U − V)/3, v = (2V − U)/3, t = −(u + v), w = W, scaled to the smallest integers.
+///
+/// ```
+/// use matterwave_core::lattice::four_index_direction;
+/// assert_eq!(four_index_direction([1, 0, 0]), [2, -1, -1, 0]); // a1 = ⅓[2 -1 -1 0]
+/// assert_eq!(four_index_direction([1, 1, 0]), [1, 1, -2, 0]);
+/// assert_eq!(four_index_direction([0, 0, 1]), [0, 0, 0, 1]);
+/// ```
+pub fn four_index_direction(uvw: [i32; 3]) -> [i32; 4] {
+    let [cu, cv, cw] = uvw;
+    // 3·[uvtw] in integers, then reduced.
+    let (u, v, w) = (2 * cu - cv, 2 * cv - cu, 3 * cw);
+    let t = -(u + v);
+    let mut g = 0;
+    for x in [u, v, t, w] {
+        let (mut a, mut b) = (g, x.abs());
+        while b != 0 {
+            let r = a % b;
+            a = b;
+            b = r;
+        }
+        g = a;
+    }
+    let g = g.max(1);
+    [u / g, v / g, t / g, w / g]
+}
+
 /// Splits index notation into up to four integers: separated (`1,-1,0`, `1 -1 0`,
 /// `(1,-1,0)`) or compact (`1-10`: one digit per index, `-` before a negative one).
 /// Returns the values and how many there are; `BadIndexText` for anything else.
