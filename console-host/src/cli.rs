@@ -3,7 +3,7 @@
 //! prints and sets the exit status.
 
 use crate::calc::{self, GunArgs, IvArgs};
-use crate::error::CliResult;
+use crate::error::{CliError, CliResult};
 use crate::gonio::{self, AimArgs, BudgetArgs, FitArgs, RigArgs, SweepArgs, TrackArgs, ViewArgs};
 use crate::output::Format;
 use crate::rig;
@@ -209,7 +209,17 @@ pub fn run(cli: &Cli) -> CliResult<String> {
     let f = cli.format;
     let report = match &cli.command {
         Command::Crystals => calc::crystals()?,
-        Command::Safety => return Ok(format!("{CAUTIONS}\n")),
+        Command::Safety => {
+            return match f {
+                Format::Table => Ok(format!("{CAUTIONS}\n")),
+                Format::Json => Ok(crate::output::json_text(&serde_json::json!({
+                    "cautions": CAUTIONS.split('\n').collect::<Vec<_>>().join(" "),
+                }))),
+                Format::Csv => Err(CliError::new(
+                    "safety --format csv: the cautions are text; use --format table or json",
+                )),
+            }
+        }
         Command::Demo => return crate::demo::run(f),
         Command::Rig(RigCmd::Show { rig: r, toml }) => {
             let rf = r.load()?;
@@ -228,7 +238,7 @@ pub fn run(cli: &Cli) -> CliResult<String> {
             r
         }
         Command::Talk { link } => {
-            crate::talk::run(link)?;
+            crate::talk::run(link, f)?;
             return Ok(String::new());
         }
         Command::Calc(c) => match c {

@@ -5,10 +5,12 @@
 //! the sample tilted 6° toward the arm.
 
 use crate::calc::{self, GunArgs, IvArgs};
-use crate::error::CliResult;
+use crate::error::{CliError, CliResult};
 use crate::output::Format;
 
-/// Runs the demo and returns its text.
+/// Runs the demo and returns its text: sections with titles (`table`), or one JSON
+/// document with every section and the controller's replies (`json`). CSV is refused:
+/// the sections are different tables.
 pub fn run(format: Format) -> CliResult<String> {
     let gun = GunArgs {
         energy: 95.0,
@@ -16,27 +18,6 @@ pub fn run(format: Format) -> CliResult<String> {
         sample_work_function: 4.64,
         energy_offset: 0.0,
     };
-    let mut out = String::new();
-    let mut section = |title: &str, body: String| {
-        if format == Format::Table {
-            out.push_str(&format!("== {title}\n"));
-        }
-        out.push_str(&body);
-        if format == Format::Table {
-            out.push('\n');
-        }
-    };
-    if format == Format::Table {
-        section("safety", format!("{}\n", crate::cli::CAUTIONS));
-    }
-    section(
-        "beam: 95 eV nominal, LaB6 cathode 2.7 eV, Ag sample 4.64 eV",
-        calc::wavelength(&gun, Some(10.0))?.render(format),
-    );
-    section(
-        "beams of Ag(100), tilt 6 deg",
-        calc::beams("ag", "100", &gun, 6.0, 0.0, 40)?.render(format),
-    );
     let iv = IvArgs {
         rod: [1, 0],
         from: 40.0,
@@ -48,21 +29,72 @@ pub fn run(format: Format) -> CliResult<String> {
         sample_work_function: 4.64,
         energy_offset: 0.0,
     };
-    section(
-        "I-V maxima of the (1,0) beam, 40-400 eV nominal",
-        calc::ivpeaks("ag", "100", &iv, 40)?.render(format),
-    );
-    if format == Format::Table {
-        section(
-            "the controller (in-process simulator): aim, move, read, plan an I-V sweep",
-            simulator_session()?,
-        );
+    let sections = [
+        (
+            "beam",
+            "beam: 95 eV nominal, LaB6 cathode 2.7 eV, Ag sample 4.64 eV",
+            calc::wavelength(&gun, Some(10.0))?,
+        ),
+        (
+            "beams",
+            "beams of Ag(100), tilt 6 deg",
+            calc::beams("ag", "100", &gun, 6.0, 0.0, 40)?,
+        ),
+        (
+            "iv_peaks",
+            "I-V maxima of the (1,0) beam, 40-400 eV nominal",
+            calc::ivpeaks("ag", "100", &iv, 40)?,
+        ),
+    ];
+    let session = simulator_session()?;
+    match format {
+        Format::Csv => Err(CliError::new(
+            "demo --format csv: the demo has several tables; use --format table or json",
+        )),
+        Format::Json => {
+            let mut doc = serde_json::Map::new();
+            doc.insert(
+                "cautions".into(),
+                serde_json::Value::from(crate::cli::CAUTIONS),
+            );
+            for (key, _, report) in &sections {
+                let v: serde_json::Value = serde_json::from_str(&report.render(Format::Json))
+                    .map_err(|e| CliError::new(format!("demo: {e}")))?;
+                doc.insert((*key).into(), v);
+            }
+            let controller: Vec<serde_json::Value> = session
+                .iter()
+                .map(|(req, replies)| {
+                    serde_json::json!({
+                        "request": req,
+                        "replies": replies.iter().map(|l| crate::talk::reply_json(l)).collect::<Vec<_>>(),
+                    })
+                })
+                .collect();
+            doc.insert("controller".into(), serde_json::Value::from(controller));
+            Ok(crate::output::json_text(&serde_json::Value::Object(doc)))
+        }
+        Format::Table => {
+            let mut out = format!("== safety\n{}\n\n", crate::cli::CAUTIONS);
+            for (_, title, report) in &sections {
+                out.push_str(&format!("== {title}\n{}\n", report.render(format)));
+            }
+            out.push_str(
+                "== the controller (in-process simulator): aim, move, read, plan an I-V sweep\n",
+            );
+            for (req, replies) in &session {
+                out.push_str(&format!("> {req}\n"));
+                for line in replies {
+                    out.push_str(&format!("< {line}\n"));
+                }
+            }
+            Ok(out)
+        }
     }
-    Ok(out)
 }
 
 /// The same scenario driven through the controller's own console on simulated axes.
-fn simulator_session() -> CliResult<String> {
+fn simulator_session() -> CliResult<Vec<(&'static str, Vec<String>)>> {
     let mut console = crate::talk::sim_console()?;
     let requests = [
         "set crystal=ag face=100 energy=95 cathode=2.7 sample=4.64 tilt=6 beam=1,0",
@@ -73,12 +105,8 @@ fn simulator_session() -> CliResult<String> {
         "plan kind=iv from=40 to=240 step=20 dwell=2",
         "disable",
     ];
-    let mut text = String::new();
-    for r in requests {
-        text.push_str(&format!("> {r}\n"));
-        for line in crate::talk::exchange(&mut console, r) {
-            text.push_str(&format!("< {line}\n"));
-        }
-    }
-    Ok(text)
+    Ok(requests
+        .into_iter()
+        .map(|r| (r, crate::talk::exchange(&mut console, r)))
+        .collect())
 }

@@ -36,8 +36,79 @@ pub fn exchange(console: &mut SimConsole, line: &str) -> Vec<String> {
         .collect()
 }
 
-/// Runs a session on stdin/stdout.
-pub fn run(link: &str) -> CliResult<()> {
+/// One reply line as JSON: `kind` (`ok`, `err`, `item` or `text`), for `err` its `code`
+/// and `message`, and the `key=value` fields with numbers as numbers. A line that ends
+/// in a checksum (`*XXXX`) keeps it under `crc`.
+pub fn reply_json(line: &str) -> serde_json::Value {
+    use serde_json::{Map, Value};
+    let (body, crc) = match line.rsplit_once('*') {
+        Some((b, c)) if c.len() == 4 && c.bytes().all(|x| x.is_ascii_hexdigit()) => (b, Some(c)),
+        _ => (line, None),
+    };
+    let mut obj = Map::new();
+    let mut words = body.split(' ');
+    let head = words.next().unwrap_or("");
+    let kind = match head {
+        "ok" => "ok",
+        "err" => "err",
+        "-" => "item",
+        _ => "text",
+    };
+    obj.insert("kind".into(), Value::from(kind));
+    let mut fields = Map::new();
+    let mut message: Vec<&str> = Vec::new();
+    if kind == "err" {
+        if let Some(code) = words.next() {
+            obj.insert(
+                "code".into(),
+                code.parse::<u64>().map_or(Value::from(code), Value::from),
+            );
+        }
+        message.extend(words);
+    } else if kind == "text" {
+        message.push(body);
+    } else {
+        for w in words {
+            match w.split_once('=') {
+                Some((k, v)) => {
+                    let val = if let Ok(i) = v.parse::<i64>() {
+                        Value::from(i)
+                    } else {
+                        match v.parse::<f64>() {
+                            Ok(x) if x.is_finite() => serde_json::Number::from_f64(x)
+                                .map_or(Value::from(v), Value::Number),
+                            _ => Value::from(v),
+                        }
+                    };
+                    fields.insert(k.into(), val);
+                }
+                None => message.push(w),
+            }
+        }
+    }
+    if !message.is_empty() {
+        obj.insert("message".into(), Value::from(message.join(" ")));
+    }
+    if !fields.is_empty() {
+        obj.insert("fields".into(), Value::Object(fields));
+    }
+    if let Some(c) = crc {
+        obj.insert("crc".into(), Value::from(c));
+    }
+    obj.insert("line".into(), Value::from(line));
+    Value::Object(obj)
+}
+
+/// Runs a session on stdin/stdout: replies as they are (`table`), or one JSON object
+/// per reply line (`json`, JSON Lines: see [`reply_json`]). CSV is refused.
+pub fn run(link: &str, format: crate::output::Format) -> CliResult<()> {
+    use crate::output::Format;
+    if format == Format::Csv {
+        return Err(CliError::new(
+            "talk --format csv: replies are lines, not a table; use --format table (raw lines) or json (one object per line)",
+        ));
+    }
+    let json = format == Format::Json;
     if link != "sim" {
         return Err(CliError::new(format!(
             "--link {link}: only the in-process simulator 'sim' is available in this build"
@@ -45,7 +116,7 @@ pub fn run(link: &str) -> CliResult<()> {
     }
     let mut console = sim_console()?;
     let stdin = std::io::stdin();
-    let interactive = stdin.is_terminal();
+    let interactive = stdin.is_terminal() && !json;
     let mut stdout = std::io::stdout().lock();
     if interactive {
         let _ = writeln!(stdout, "{}\n", crate::cli::CAUTIONS);
@@ -73,7 +144,20 @@ pub fn run(link: &str) -> CliResult<()> {
             buf.push(b'\n');
         }
         let _ = console.feed_all(&buf, &mut out);
-        if stdout.write_all(&out).is_err() {
+        let written = if json {
+            let text = String::from_utf8_lossy(&out);
+            let request = String::from_utf8_lossy(&buf).trim_end().to_string();
+            text.lines().try_for_each(|l| {
+                let mut v = reply_json(l);
+                if let Some(o) = v.as_object_mut() {
+                    o.insert("request".into(), serde_json::Value::from(request.as_str()));
+                }
+                writeln!(stdout, "{v}")
+            })
+        } else {
+            stdout.write_all(&out)
+        };
+        if written.is_err() {
             break;
         }
     }

@@ -513,3 +513,60 @@ fn mesh_directions_lie_in_the_face() {
         }
     }
 }
+
+/// `--format` is honoured or refused, never ignored: `demo` and `safety` give one JSON
+/// document, `talk` one JSON object per reply line; CSV is refused where no table exists.
+#[test]
+fn format_is_honoured_or_refused() {
+    let v = json(&["demo"]);
+    for key in ["cautions", "beam", "beams", "iv_peaks", "controller"] {
+        assert!(v.get(key).is_some(), "demo JSON lacks {key}: {v}");
+    }
+    let aim = v["controller"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|x| x["request"] == "aim")
+        .expect("the demo aims");
+    let last = aim["replies"].as_array().unwrap().last().unwrap().clone();
+    assert_eq!(last["kind"], "ok", "{aim}");
+    assert!(last["fields"]["count"].as_i64().unwrap() >= 1, "{aim}");
+    let v = json(&["safety"]);
+    assert!(
+        v["cautions"].as_str().unwrap().contains("not an interlock"),
+        "{v}"
+    );
+    for cmd in ["safety", "demo", "talk"] {
+        let (code, _, err) = mwctl(&["--format", "csv", cmd]);
+        assert_eq!(code, 2, "{cmd}: {err}");
+        assert!(
+            err.starts_with("mwctl: error:") && err.contains("--format csv"),
+            "{cmd}: {err}"
+        );
+    }
+    let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_mwctl"))
+        .args(["--format", "json", "talk"])
+        .stdin(std::process::Stdio::piped())
+        .stdout(std::process::Stdio::piped())
+        .spawn()
+        .unwrap();
+    use std::io::Write as _;
+    child
+        .stdin
+        .take()
+        .unwrap()
+        .write_all(b"hello\nset tilt=99\n")
+        .unwrap();
+    let out = child.wait_with_output().unwrap();
+    let lines: Vec<serde_json::Value> = String::from_utf8(out.stdout)
+        .unwrap()
+        .lines()
+        .map(|l| serde_json::from_str(l).unwrap())
+        .collect();
+    assert_eq!(lines.len(), 2, "{lines:?}");
+    assert_eq!(lines[0]["kind"], "ok");
+    assert_eq!(lines[0]["fields"]["protocol"], 1);
+    assert_eq!(lines[1]["kind"], "err");
+    assert_eq!(lines[1]["code"], 103);
+    assert_eq!(lines[1]["request"], "set tilt=99");
+}
