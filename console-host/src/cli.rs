@@ -5,7 +5,7 @@
 use crate::calc::{self, GunArgs, IvArgs};
 use crate::error::{CliError, CliResult};
 use crate::gonio::{self, AimArgs, BudgetArgs, FitArgs, RigArgs, SweepArgs, TrackArgs, ViewArgs};
-use crate::output::Format;
+use crate::output::{Format, Report};
 use crate::rig;
 use clap::{Parser, Subcommand};
 use std::path::PathBuf;
@@ -204,27 +204,46 @@ pub enum Calc {
     Budget(BudgetArgs),
 }
 
-/// Runs a parsed command and returns the text to print on stdout.
-pub fn run(cli: &Cli) -> CliResult<String> {
+/// Runs a parsed command, writing what it prints to `out` as it goes (a long list is
+/// never held as one string). A write error (e.g. a closed pipe) ends the output
+/// quietly.
+pub fn run(cli: &Cli, out: &mut dyn std::io::Write) -> CliResult<()> {
+    let text = match run_report(cli)? {
+        Output::Text(t) => out.write_all(t.as_bytes()),
+        Output::Report(r) => r.write_to(cli.format, out),
+        Output::Sweep(s) => s.write_to(cli.format, out),
+    };
+    let _ = text.and_then(|()| out.flush());
+    Ok(())
+}
+
+/// What a command prints.
+enum Output {
+    Text(String),
+    Report(Report),
+    Sweep(gonio::SweepOutput),
+}
+
+fn run_report(cli: &Cli) -> CliResult<Output> {
     let f = cli.format;
     let report = match &cli.command {
         Command::Crystals => calc::crystals()?,
         Command::Safety => {
             return match f {
-                Format::Table => Ok(format!("{CAUTIONS}\n")),
-                Format::Json => Ok(crate::output::json_text(&serde_json::json!({
+                Format::Table => Ok(Output::Text(format!("{CAUTIONS}\n"))),
+                Format::Json => Ok(Output::Text(crate::output::json_text(&serde_json::json!({
                     "cautions": CAUTIONS.split('\n').collect::<Vec<_>>().join(" "),
-                }))),
+                })))),
                 Format::Csv => Err(CliError::new(
                     "safety --format csv: the cautions are text; use --format table or json",
                 )),
             }
         }
-        Command::Demo => return crate::demo::run(f),
+        Command::Demo => return crate::demo::run(f).map(Output::Text),
         Command::Rig(RigCmd::Show { rig: r, toml }) => {
             let rf = r.load()?;
             if *toml {
-                return Ok(rig::to_toml(&rf));
+                return Ok(Output::Text(rig::to_toml(&rf)));
             }
             rig::report(&rf)
         }
@@ -239,7 +258,7 @@ pub fn run(cli: &Cli) -> CliResult<String> {
         }
         Command::Talk { link } => {
             crate::talk::run(link, f)?;
-            return Ok(String::new());
+            return Ok(Output::Text(String::new()));
         }
         Command::Calc(c) => match c {
             Calc::Wavelength {
@@ -290,11 +309,11 @@ pub fn run(cli: &Cli) -> CliResult<String> {
             }
             Calc::Aim(a) => gonio::aim(a)?,
             Calc::Track(a) => gonio::track(a)?,
-            Calc::Sweep(a) => return Ok(gonio::sweep(a)?.render(f)),
+            Calc::Sweep(a) => return Ok(Output::Sweep(gonio::sweep(a)?)),
             Calc::View(a) => gonio::view(a)?,
             Calc::Fit(a) => gonio::fit_cmd(a)?,
             Calc::Budget(a) => gonio::budget_cmd(a)?,
         },
     };
-    Ok(report.render(f))
+    Ok(Output::Report(report))
 }

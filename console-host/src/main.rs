@@ -6,11 +6,10 @@ use std::process::ExitCode;
 
 fn main() -> ExitCode {
     let cli = matterwave_console::cli::Cli::parse();
-    match matterwave_console::cli::run(&cli) {
-        Ok(text) => {
-            let mut out = std::io::stdout().lock();
+    let mut out = std::io::BufWriter::new(std::io::stdout().lock());
+    match matterwave_console::cli::run(&cli, &mut out) {
+        Ok(()) => {
             // A closed pipe (e.g. `| head`) is not an error worth a message.
-            let _ = out.write_all(text.as_bytes());
             let _ = out.flush();
             ExitCode::SUCCESS
         }

@@ -7,7 +7,7 @@
 //! f32 are written in JSON and CSV with the shortest decimal that reads back to the same
 //! f32; the table rounds to a per-column number of decimals.
 
-use std::fmt::Write as _;
+use std::io::Write;
 
 /// Output format chosen with `--format`.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
@@ -171,10 +171,19 @@ impl Report {
 
     /// Renders in `format`; the result ends with a newline.
     pub fn render(&self, format: Format) -> String {
+        let mut out = Vec::new();
+        // Writing into a Vec cannot fail.
+        let _ = self.write_to(format, &mut out);
+        String::from_utf8_lossy(&out).into_owned()
+    }
+
+    /// Writes the report in `format` to `w` row by row, so a long list is never held as
+    /// one string (a closed pipe ends it with the write error).
+    pub fn write_to(&self, format: Format, w: &mut dyn Write) -> std::io::Result<()> {
         match format {
-            Format::Json => self.render_json(),
-            Format::Csv => self.render_csv(),
-            Format::Table => self.render_table(),
+            Format::Json => self.write_json(w),
+            Format::Csv => self.write_csv(w),
+            Format::Table => self.write_table(w),
         }
     }
 
@@ -185,28 +194,51 @@ impl Report {
             m.insert((*k).to_string(), v.json());
         }
         if let Some(l) = &self.list {
-            let rows = l
-                .rows
-                .iter()
-                .map(|r| {
-                    let mut o = serde_json::Map::new();
-                    for (c, v) in l.columns.iter().zip(r) {
-                        o.insert(c.key.to_string(), v.json());
-                    }
-                    serde_json::Value::Object(o)
-                })
-                .collect();
+            let rows = l.rows.iter().map(|r| l.row_json(r)).collect();
             m.insert(l.key.to_string(), serde_json::Value::Array(rows));
         }
         serde_json::Value::Object(m)
     }
 
-    fn render_json(&self) -> String {
-        json_text(&self.to_json())
+    /// One JSON object, its list written one row at a time (the same text as
+    /// [`json_text`] of [`Report::to_json`]).
+    fn write_json(&self, w: &mut dyn Write) -> std::io::Result<()> {
+        let indent = |v: &serde_json::Value, by: &str| -> String {
+            let s = serde_json::to_string_pretty(v).unwrap_or_default();
+            s.replace('\n', &format!("\n{by}"))
+        };
+        writeln!(w, "{{")?;
+        let n_fields = self.fields.len();
+        for (i, (k, _, v)) in self.fields.iter().enumerate() {
+            let more = i + 1 < n_fields || self.list.is_some();
+            let key = serde_json::Value::from(*k);
+            writeln!(
+                w,
+                "  {key}: {}{}",
+                indent(&v.json(), "  "),
+                if more { "," } else { "" }
+            )?;
+        }
+        if let Some(l) = &self.list {
+            let key = serde_json::Value::from(l.key);
+            if l.rows.is_empty() {
+                writeln!(w, "  {key}: []")?;
+            } else {
+                writeln!(w, "  {key}: [")?;
+                for (i, r) in l.rows.iter().enumerate() {
+                    let comma = if i + 1 < l.rows.len() { "," } else { "" };
+                    writeln!(w, "    {}{comma}", indent(&l.row_json(r), "    "))?;
+                }
+                writeln!(w, "  ]")?;
+            }
+        }
+        writeln!(w, "}}")
     }
 
-    fn render_csv(&self) -> String {
-        let mut out = String::new();
+    /// CSV: with a list, one header row and one row per item, each carrying the
+    /// report's fields (the crystal, face, energies, tilt … it was computed for) as
+    /// leading columns, so a saved file says what it is; without a list, the fields.
+    fn write_csv(&self, w: &mut dyn Write) -> std::io::Result<()> {
         let quote = |s: String| {
             if s.contains([',', '"', '\n']) {
                 format!("\"{}\"", s.replace('"', "\"\""))
@@ -216,85 +248,160 @@ impl Report {
         };
         match &self.list {
             Some(l) => {
-                let head: Vec<_> = l.columns.iter().map(|c| c.key.to_string()).collect();
-                let _ = writeln!(out, "{}", head.join(","));
+                let context: Vec<&(&str, &str, Value)> = self
+                    .fields
+                    .iter()
+                    .filter(|f| !l.columns.iter().any(|c| c.key == f.0))
+                    .collect();
+                let head: Vec<&str> = context
+                    .iter()
+                    .map(|f| f.0)
+                    .chain(l.columns.iter().map(|c| c.key))
+                    .collect();
+                writeln!(w, "{}", head.join(","))?;
+                let lead: Vec<String> = context.iter().map(|f| quote(f.2.plain())).collect();
                 for r in &l.rows {
-                    let cells: Vec<_> = r.iter().map(|v| quote(v.plain())).collect();
-                    let _ = writeln!(out, "{}", cells.join(","));
+                    let cells: Vec<String> = lead
+                        .iter()
+                        .cloned()
+                        .chain(r.iter().map(|v| quote(v.plain())))
+                        .collect();
+                    writeln!(w, "{}", cells.join(","))?;
                 }
+                Ok(())
             }
             None => {
                 let head: Vec<_> = self.fields.iter().map(|f| f.0.to_string()).collect();
                 let vals: Vec<_> = self.fields.iter().map(|f| quote(f.2.plain())).collect();
-                let _ = writeln!(out, "{}", head.join(","));
-                let _ = writeln!(out, "{}", vals.join(","));
+                writeln!(w, "{}", head.join(","))?;
+                writeln!(w, "{}", vals.join(","))
             }
         }
-        out
     }
 
-    fn render_table(&self) -> String {
-        let mut out = String::new();
-        let w = self
+    /// Aligned columns; widths come from a first pass over the rows, then each row is
+    /// written as it is formatted.
+    fn write_table(&self, w: &mut dyn Write) -> std::io::Result<()> {
+        let lw = self
             .fields
             .iter()
             .map(|f| f.1.chars().count())
             .max()
             .unwrap_or(0);
         for (_, label, v) in &self.fields {
-            let pad = w - label.chars().count();
-            let _ = writeln!(out, "{label}:{:pad$} {}", "", v.shown());
+            let pad = lw - label.chars().count();
+            writeln!(w, "{label}:{:pad$} {}", "", v.shown())?;
         }
         if let Some(l) = &self.list {
             if !self.fields.is_empty() {
-                out.push('\n');
+                writeln!(w)?;
             }
-            let cells: Vec<Vec<String>> = l
-                .rows
-                .iter()
-                .map(|r| r.iter().map(Value::shown).collect())
-                .collect();
             let mut widths: Vec<usize> =
                 l.columns.iter().map(|c| c.header.chars().count()).collect();
-            for r in &cells {
-                for (i, c) in r.iter().enumerate() {
-                    widths[i] = widths[i].max(c.chars().count());
+            for r in &l.rows {
+                for (wd, v) in widths.iter_mut().zip(r) {
+                    *wd = (*wd).max(v.shown().chars().count());
                 }
             }
             let text_col: Vec<bool> = (0..l.columns.len())
-                .map(|i| l.rows.first().is_some_and(|r| r[i].is_text()))
+                .map(|i| {
+                    l.rows
+                        .first()
+                        .and_then(|r| r.get(i))
+                        .is_some_and(Value::is_text)
+                })
                 .collect();
-            let line = |out: &mut String, items: &[String]| {
+            let line = |w: &mut dyn Write, items: &[String]| -> std::io::Result<()> {
                 let mut parts = Vec::new();
                 for (i, s) in items.iter().enumerate() {
-                    let pad = widths[i] - s.chars().count();
-                    if text_col[i] {
+                    let pad = widths
+                        .get(i)
+                        .copied()
+                        .unwrap_or(0)
+                        .saturating_sub(s.chars().count());
+                    if text_col.get(i).copied().unwrap_or(false) {
                         parts.push(format!("{s}{:pad$}", ""));
                     } else {
                         parts.push(format!("{:pad$}{s}", ""));
                     }
                 }
-                let _ = writeln!(out, "{}", parts.join("  ").trim_end());
+                writeln!(w, "{}", parts.join("  ").trim_end())
             };
             let head: Vec<String> = l.columns.iter().map(|c| c.header.to_string()).collect();
-            line(&mut out, &head);
-            for r in &cells {
-                line(&mut out, r);
+            line(w, &head)?;
+            for r in &l.rows {
+                let cells: Vec<String> = r.iter().map(Value::shown).collect();
+                line(w, &cells)?;
             }
             if l.rows.is_empty() {
-                let _ = writeln!(out, "(none)");
+                writeln!(w, "(none)")?;
             }
         }
         for n in &self.notes {
-            let _ = writeln!(out, "{n}");
+            writeln!(w, "{n}")?;
         }
-        out
+        Ok(())
+    }
+}
+
+impl List {
+    /// One row as a JSON object keyed by the columns.
+    fn row_json(&self, r: &[Value]) -> serde_json::Value {
+        let mut o = serde_json::Map::new();
+        for (c, v) in self.columns.iter().zip(r) {
+            o.insert(c.key.to_string(), v.json());
+        }
+        serde_json::Value::Object(o)
     }
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The streamed JSON is the same document serde_json prints whole.
+    #[test]
+    fn streamed_json_equals_the_whole_document() {
+        let mut r = Report::default();
+        r.field("crystal", "crystal", Value::Text("cu".into()))
+            .field("truncated", "cut", Value::Bool(false))
+            .field(
+                "zones",
+                "zones",
+                Value::List(vec![Value::List(vec![
+                    Value::F32(-12.0, 1),
+                    Value::F32(12.0, 1),
+                ])]),
+            );
+        r.list = Some(List {
+            key: "rows",
+            columns: vec![col("a", "a"), col("b", "b")],
+            rows: vec![
+                vec![Value::Int(1), Value::Text("x,\"y\"".into())],
+                vec![Value::Missing, Value::F32(0.1, 3)],
+            ],
+        });
+        let v: serde_json::Value = serde_json::from_str(&r.render(Format::Json)).unwrap();
+        assert_eq!(v, r.to_json());
+        assert_eq!(r.render(Format::Json), json_text(&r.to_json()));
+        let empty = Report {
+            list: Some(List {
+                key: "rows",
+                columns: vec![col("a", "a")],
+                rows: vec![],
+            }),
+            ..Report::default()
+        };
+        assert_eq!(empty.render(Format::Json), json_text(&empty.to_json()));
+        // CSV rows carry the fields as leading columns.
+        let csv = r.render(Format::Csv);
+        let mut lines = csv.lines();
+        assert_eq!(lines.next(), Some("crystal,truncated,zones,a,b"));
+        assert_eq!(
+            lines.next(),
+            Some("cu,false,\"[-12, 12]\",1,\"x,\"\"y\"\"\"")
+        );
+    }
 
     #[test]
     fn f32_values_print_shortest() {

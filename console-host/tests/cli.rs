@@ -570,3 +570,53 @@ fn format_is_honoured_or_refused() {
     assert_eq!(lines[1]["code"], 103);
     assert_eq!(lines[1]["request"], "set tilt=99");
 }
+
+/// CSV rows carry what they were computed for: every row of `calc track` starts with the
+/// report's fields (crystal, face, beam, tilt, mode, rig, …).
+#[test]
+fn csv_rows_carry_their_context() {
+    let (code, out, err) = mwctl(&[
+        "--format",
+        "csv",
+        "calc",
+        "track",
+        "--crystal",
+        "cu",
+        "--face",
+        "100",
+        "--beam",
+        "1,0",
+        "--from",
+        "100",
+        "--to",
+        "110",
+        "--step",
+        "5",
+        "--tilt",
+        "20",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let mut lines = out.lines();
+    let head: Vec<&str> = lines.next().unwrap().split(',').collect();
+    for key in [
+        "crystal",
+        "face",
+        "beam",
+        "tilt_deg",
+        "mode",
+        "branch_preference",
+        "rig",
+        "nominal_ev",
+        "arm_deg",
+    ] {
+        assert!(head.contains(&key), "{key} missing from {head:?}");
+    }
+    let rows: Vec<&str> = lines.collect();
+    assert_eq!(rows.len(), 3, "{out}");
+    for r in rows {
+        assert!(
+            r.starts_with("cu,(1 0 0),\"1,0\",20,in-plane,nearest,"),
+            "{r}"
+        );
+    }
+}

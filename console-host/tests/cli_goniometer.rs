@@ -453,7 +453,7 @@ fn aim_names_every_refusal_and_honours_the_branch() {
             let arm = num(&sol["arm_deg"]) + num(&sol["arm_residual_deg"]);
             assert!((arm - want).abs() < 0.01, "branch {b}: {arm} vs {want}");
         }
-        assert_eq!(v["branch"], b, "{v}");
+        assert_eq!(v["branch_preference"], b, "{v}");
     }
     // A branch in two-circle mode is refused, not ignored.
     let err = fails(&[

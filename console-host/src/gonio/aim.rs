@@ -232,7 +232,11 @@ pub fn aim(a: &AimArgs) -> CliResult<Report> {
     );
     r.field("tilt_deg", "tilt (deg)", f(q.tilt, 3));
     r.field("mode", "mode", text(mode_text(q.mode)));
-    r.field("branch", "branch", text(q.branch.word()));
+    r.field(
+        "branch_preference",
+        "branch preference",
+        text(q.branch.word()),
+    );
     rig_field(&mut r, &rf);
     r.field("count", "solutions", Value::Int(n as i64));
     r.list = Some(List {
@@ -313,7 +317,11 @@ pub fn budget_cmd(a: &BudgetArgs) -> CliResult<Report> {
     a.gun.fields(&mut r, e);
     r.field("tilt_deg", "tilt (deg)", f(tilt, 3));
     r.field("mode", "mode", text(mode_text(mode)));
-    r.field("branch", "branch", text(q.branch.word()));
+    r.field(
+        "branch_preference",
+        "branch preference",
+        text(q.branch.word()),
+    );
     rig_field(&mut r, &rf);
     r.field("arm_deg", "aimed arm angle (deg)", f(arm0, 4));
     r.field(

@@ -25,7 +25,7 @@ use matterwave_core::{budget, math, AxisId, Error};
 
 use crate::calc::{self, check_angle, crystal_face_fields, GunArgs};
 use crate::error::{CliError, CliResult, Context};
-use crate::output::{col, json_text, Format, List, Report, Value};
+use crate::output::{col, Format, List, Report, Value};
 use crate::rig::{self, RigFile};
 
 /// Most aim solutions listed (two branches × three copies of azimuth and arm).

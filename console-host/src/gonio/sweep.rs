@@ -15,31 +15,42 @@ pub struct SweepOutput {
 }
 
 impl SweepOutput {
-    /// Renders: JSON holds both lists (`beams`, `sweep_points`); CSV prints the sweep
-    /// points when they were asked for, else the beams; the table prints both.
-    pub fn render(&self, format: Format) -> String {
+    /// Writes: JSON holds both lists (`beams`, `sweep_points`); CSV writes the sweep
+    /// points (each row with the sweep's fields) when they were asked for, else the
+    /// beams; the table writes both.
+    pub fn write_to(&self, format: Format, w: &mut dyn std::io::Write) -> std::io::Result<()> {
         let Some(points) = &self.points else {
-            return self.beams.render(format);
-        };
-        let extra = Report {
-            list: Some(points.clone()),
-            ..Report::default()
+            return self.beams.write_to(format, w);
         };
         match format {
             Format::Json => {
                 let mut j = self.beams.to_json();
-                if let (Some(m), serde_json::Value::Object(e)) =
-                    (j.as_object_mut(), extra.to_json())
-                {
-                    m.extend(e);
+                if let Some(m) = j.as_object_mut() {
+                    let rows = Report {
+                        list: Some(points.clone()),
+                        ..Report::default()
+                    };
+                    if let serde_json::Value::Object(e) = rows.to_json() {
+                        m.extend(e);
+                    }
                 }
-                json_text(&j)
+                serde_json::to_writer_pretty(&mut *w, &j)?;
+                writeln!(w)
             }
-            Format::Csv => extra.render(format),
+            Format::Csv => Report {
+                fields: self.beams.fields.clone(),
+                list: Some(points.clone()),
+                notes: Vec::new(),
+            }
+            .write_to(format, w),
             Format::Table => {
-                let mut s = self.beams.render(format);
-                let _ = write!(s, "\nsweep points:\n{}", extra.render(format));
-                s
+                self.beams.write_to(format, w)?;
+                writeln!(w, "\nsweep points:")?;
+                Report {
+                    list: Some(points.clone()),
+                    ..Report::default()
+                }
+                .write_to(format, w)
             }
         }
     }

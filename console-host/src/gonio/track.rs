@@ -105,7 +105,11 @@ pub fn track(a: &TrackArgs) -> CliResult<Report> {
     }
     r.field("tilt_deg", "tilt (deg)", f(tilt, 3));
     r.field("mode", "mode", text(mode_text(mode)));
-    r.field("branch", "branch", text(a.branch.word()));
+    r.field(
+        "branch_preference",
+        "branch preference",
+        text(a.branch.word()),
+    );
     rig_field(&mut r, &rf);
     r.field("count", "points", Value::Int(plan.len().into()));
     r.field("reachable", "reachable points", Value::Int(reachable));
