@@ -138,6 +138,14 @@ pub enum Calc {
         /// Most beams to list (smallest |g| first).
         #[arg(long, value_name = "N", default_value_t = 500)]
         max: usize,
+        /// With a rig file: say for each beam whether the arm can be put on it from home
+        /// (in-plane, turning the azimuth, on a one-circle arm; at this azimuth with the
+        /// elevation axis on a two-circle arm) and, when not, what refuses it.
+        #[arg(long, value_name = "FILE")]
+        rig: Option<PathBuf>,
+        /// Only the beams the rig can reach (needs --rig).
+        #[arg(long, requires = "rig")]
+        reachable: bool,
     },
     /// Kinematic I-V peak energies on one beam, with refraction by the inner potential.
     #[command(allow_negative_numbers = true)]
@@ -279,7 +287,19 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
                 tilt,
                 azimuth,
                 max,
-            } => calc::beams(crystal, face, gun, *tilt, *azimuth, *max)?,
+                rig,
+                reachable,
+            } => {
+                let rf = match rig {
+                    Some(p) => Some(rig::load(p)?),
+                    None => None,
+                };
+                let mut r = calc::beams(crystal, face, gun, *tilt, *azimuth, *max)?;
+                if let Some(rf) = &rf {
+                    gonio::add_reach(&mut r, rf, crystal, face, gun, *tilt, *azimuth, *reachable)?;
+                }
+                r
+            }
             Calc::Ivpeaks {
                 crystal,
                 face,

@@ -1324,3 +1324,87 @@ fn sweep_says_why_points_are_unreachable() {
         "{err}"
     );
 }
+
+/// `calc beams --rig` marks each beam reachable or names what refuses it, agreeing with
+/// `calc aim` beam by beam; `--reachable` keeps only the reachable ones.
+#[test]
+fn beams_with_a_rig_say_which_the_arm_reaches() {
+    let rig = bench_b_with_arm_max(40);
+    let r = rig.to_str().unwrap();
+    let base = [
+        "calc",
+        "beams",
+        "--crystal",
+        "ag",
+        "--face",
+        "100",
+        "--energy",
+        "95",
+        "--tilt",
+        "6",
+        "--rig",
+        r,
+    ];
+    let v = json(&base);
+    let beams = v["beams"].as_array().unwrap();
+    let (mut yes, mut no) = (0, 0);
+    for b in beams {
+        let rod = format!("{},{}", b["h"], b["k"]);
+        let (code, _, err) = mwctl(&[
+            "calc",
+            "aim",
+            "--crystal",
+            "ag",
+            "--face",
+            "100",
+            "--energy",
+            "95",
+            "--tilt",
+            "6",
+            "--azimuth",
+            "0",
+            "--beam",
+            &rod,
+            "--rig",
+            r,
+        ]);
+        if b["reachable"] == serde_json::Value::Bool(true) {
+            yes += 1;
+            assert_eq!(code, 0, "{rod}: listed reachable, aim says {err}");
+            assert!(b["refused_by"].is_null(), "{b}");
+        } else {
+            no += 1;
+            assert_eq!(code, 2, "{rod}: listed unreachable, aim succeeds");
+            let why = b["refused_by"].as_str().unwrap();
+            assert!(
+                ["arm", "elevation", "tilt", "azimuth", "evanescent"]
+                    .iter()
+                    .any(|a| why.starts_with(a)),
+                "{why}"
+            );
+        }
+    }
+    assert!(yes >= 1 && no >= 1, "{yes} reachable, {no} not");
+    assert_eq!(v["reachable"], yes, "{v}");
+    let mut only = base.to_vec();
+    only.push("--reachable");
+    let v = json(&only);
+    let listed = v["beams"].as_array().unwrap();
+    assert_eq!(listed.len(), yes as usize, "{v}");
+    assert!(listed
+        .iter()
+        .all(|b| b["reachable"] == serde_json::Value::Bool(true)));
+    let (code, _, err) = mwctl(&[
+        "calc",
+        "beams",
+        "--crystal",
+        "ag",
+        "--face",
+        "100",
+        "--energy",
+        "95",
+        "--reachable",
+    ]);
+    assert_eq!(code, 2, "{err}");
+    assert!(err.contains("--rig"), "{err}");
+}

@@ -359,3 +359,73 @@ pub fn budget_cmd(a: &BudgetArgs) -> CliResult<Report> {
     );
     Ok(r)
 }
+
+/// `calc beams --rig`: adds to each beam of `r` whether the rig reaches it from home
+/// (`reachable`) and, when not, what refuses it first (`refused_by`, the core's first
+/// refusal in short form); `only_reachable` drops the others. One-circle arms aim
+/// in-plane (turning the azimuth); two-circle arms at `azimuth_deg` with the elevation.
+#[allow(clippy::too_many_arguments)]
+pub fn add_reach(
+    r: &mut Report,
+    rf: &RigFile,
+    crystal: &str,
+    face_text: &str,
+    gun: &GunArgs,
+    tilt_deg: f32,
+    azimuth_deg: f32,
+    only_reachable: bool,
+) -> CliResult<()> {
+    let c = calc::crystal(crystal)?;
+    let (_, face) = calc::face_of(c, face_text)?;
+    let e = gun.kinetic_ev()?;
+    let mode = if rf.rig.elevation.is_some() {
+        Mode::AtAzimuth(azimuth_deg)
+    } else {
+        Mode::InPlane
+    };
+    let Some(list) = r.list.as_mut() else {
+        return Ok(());
+    };
+    let (hi, ki) = (
+        list.columns.iter().position(|c| c.key == "h"),
+        list.columns.iter().position(|c| c.key == "k"),
+    );
+    let (Some(hi), Some(ki)) = (hi, ki) else {
+        return Ok(());
+    };
+    list.columns.push(col("reachable", "reachable"));
+    list.columns.push(col("refused_by", "refused by"));
+    let mut kept = Vec::new();
+    let mut n_reach = 0i64;
+    let home = [0; 4];
+    let mut out = [Solution::EMPTY; 1];
+    for mut row in std::mem::take(&mut list.rows) {
+        let idx = |v: &Value| match v {
+            Value::Int(i) => i32::try_from(*i).ok(),
+            _ => None,
+        };
+        let (Some(h), Some(k)) = (row.get(hi).and_then(idx), row.get(ki).and_then(idx)) else {
+            continue;
+        };
+        let req = AimRequest::new(&face, [h, k], e, tilt_deg).with_mode(mode);
+        let res = goniometer::aim(&rf.rig, &req, &home, &mut out);
+        let ok = res.is_ok();
+        n_reach += i64::from(ok);
+        row.push(Value::Bool(ok));
+        row.push(match res {
+            Ok(_) => Value::Missing,
+            Err(er) => text(status_word(er)),
+        });
+        if ok || !only_reachable {
+            kept.push(row);
+        }
+    }
+    list.rows = kept;
+    r.field("rig", "rig", text(rf.name.clone()));
+    r.field("reachable", "reachable beams", Value::Int(n_reach));
+    if only_reachable {
+        r.notes
+            .push("Only the beams the rig can reach are listed (--reachable).".into());
+    }
+    Ok(())
+}

@@ -43,7 +43,7 @@ mod calib;
 mod sweep;
 mod track;
 
-pub use aim::{aim, budget_cmd};
+pub use aim::{add_reach, aim, budget_cmd};
 pub use args::*;
 pub use calib::fit_cmd;
 pub use sweep::{sweep, view, SweepOutput};
