@@ -183,7 +183,10 @@ impl PlanRun {
                     }
                 }
                 if let Some(p) = peak {
-                    rw.field_f32_rt("peak", p.energy_ev);
+                    // In the line's own frame (the gun setting), and at the sample.
+                    let correction = point.energy_ev - point.nominal_ev;
+                    rw.field_f32_rt("peak", p.energy_ev - correction)
+                        .field_f32_rt("peak_sample", p.energy_ev);
                 }
             }
             Plan::Sweep(p) => {
