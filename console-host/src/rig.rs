@@ -195,11 +195,14 @@ impl Ctx<'_> {
     }
 
     fn check_fields(&self, t: &Table, accepted: &[&str]) -> Result<(), RigError> {
-        if let Some(key) = t.keys().find(|k| !accepted.contains(&k.as_str())) {
-            return Err(self.field_err(
-                key,
-                format!("unknown field; accepted: {}", accepted.join(", ")),
-            ));
+        if let Some((key, v)) = t.iter().find(|(k, _)| !accepted.contains(&k.as_str())) {
+            let list = accepted.join(", ");
+            // A table where a field was expected is a misspelt section (`[tlit]`).
+            return Err(if v.is_table() {
+                self.err(None, None, format!("unknown section [{key}]; accepted: {list}"))
+            } else {
+                self.field_err(key, format!("unknown field; accepted: {list}"))
+            });
         }
         Ok(())
     }
@@ -434,7 +437,7 @@ fn parse_axis(file: &str, id: AxisId, t: &Table) -> Result<AxisConfig, RigError>
     let gear = ctx.ranged(
         t,
         "gear",
-        "(motor turns per axis turn)",
+        "motor turns per axis turn",
         (0.0, GEAR_MAX),
         true,
     )?;

@@ -4,17 +4,17 @@
 use toml::Value;
 
 /// A TOML number (integer or float) as f64 when it is finite; else the message,
-/// "must be a (finite) number UNIT, got …".
+/// "must be a (finite) number (UNIT), got …".
 pub(crate) fn finite_number(v: &Value, unit: &str) -> Result<f64, String> {
     let x = match v {
         Value::Float(x) => *x,
         Value::Integer(n) => *n as f64,
-        other => return Err(format!("must be a number {unit}, got {}", describe(other))),
+        other => return Err(format!("must be a number ({unit}), got {}", describe(other))),
     };
     if x.is_finite() {
         Ok(x)
     } else {
-        Err(format!("must be a finite number {unit}, got {x}"))
+        Err(format!("must be a finite number ({unit}), got {x}"))
     }
 }
 
@@ -40,15 +40,15 @@ mod tests {
 
     #[test]
     fn numbers_and_descriptions() {
-        assert_eq!(finite_number(&Value::Integer(3), "of K"), Ok(3.0));
-        assert_eq!(finite_number(&Value::Float(2.5), "of K"), Ok(2.5));
+        assert_eq!(finite_number(&Value::Integer(3), "K"), Ok(3.0));
+        assert_eq!(finite_number(&Value::Float(2.5), "K"), Ok(2.5));
         assert_eq!(
-            finite_number(&Value::Float(f64::NAN), "of K"),
-            Err("must be a finite number of K, got NaN".to_string())
+            finite_number(&Value::Float(f64::NAN), "K"),
+            Err("must be a finite number (K), got NaN".to_string())
         );
         assert_eq!(
-            finite_number(&Value::String("3".into()), "of K"),
-            Err("must be a number of K, got string \"3\"".to_string())
+            finite_number(&Value::String("3".into()), "K"),
+            Err("must be a number (K), got string \"3\"".to_string())
         );
         let v: Value = Value::Array(vec![Value::Boolean(true), Value::Integer(-1)]);
         assert_eq!(describe(&v), "[boolean true, -1]");

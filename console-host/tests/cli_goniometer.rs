@@ -900,7 +900,7 @@ fn bad_rig_files_name_the_field() {
         ),
         (
             good.replace("[tilt]", "[tilted]"),
-            "field \"tilted\": unknown field",
+            "unknown section [tilted]; accepted: name, detector, arm, elevation, tilt, azimuth",
         ),
         (
             good.replace("max_deg = 168", ""),

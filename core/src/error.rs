@@ -306,7 +306,7 @@ impl Error {
             Error::BadLattice => "lattice constants must be positive and finite",
             Error::UnknownCrystal => "unknown crystal id; list them with the crystals command",
             Error::EmptyBuffer => "no room for results (zero-length buffer)",
-            Error::EmptyRange => "empty energy range: 'from' must be below 'to'",
+            Error::EmptyRange => "empty range: 'from' must be below 'to'",
             Error::Evanescent => {
                 "beam is evanescent at this energy and incidence; raise the energy or change the tilt"
             }
@@ -316,7 +316,9 @@ impl Error {
             Error::NoReachableSolution => {
                 "every solution lies outside the axis limits or in a forbidden zone"
             }
-            Error::TooFewPoints => "too few points for this fit; add measurements",
+            Error::TooFewPoints => {
+                "too few usable points for this fit (it needs more points than parameters: at least 3 for a peak, 3 for arm zero and offset, 2 for row spacing, 3 for V0 and spacing); add measurements"
+            }
             Error::DegenerateFit => {
                 "points do not determine the fit parameters; spread them over a wider range"
             }

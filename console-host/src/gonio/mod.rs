@@ -91,9 +91,9 @@ pub(super) fn plan_error(
     step: f32,
 ) -> CliError {
     let hint = match e {
-        Error::EmptyRange => format!("; --{from} must not be above --{to}"),
+        Error::EmptyRange => format!("; give --{from} below --{to}"),
         Error::TooHigh(_) => "; at most 100000 points: use a larger --step".to_string(),
-        Error::TooLow(_) => "; --step must be positive".to_string(),
+        Error::TooLow(_) => "; give a positive --step".to_string(),
         _ => String::new(),
     };
     CliError {
