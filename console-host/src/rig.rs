@@ -199,7 +199,11 @@ impl Ctx<'_> {
             let list = accepted.join(", ");
             // A table where a field was expected is a misspelt section (`[tlit]`).
             return Err(if v.is_table() {
-                self.err(None, None, format!("unknown section [{key}]; accepted: {list}"))
+                self.err(
+                    None,
+                    None,
+                    format!("unknown section [{key}]; accepted: {list}"),
+                )
             } else {
                 self.field_err(key, format!("unknown field; accepted: {list}"))
             });

@@ -127,6 +127,7 @@ pub fn run(link: &str, format: crate::output::Format) -> CliResult<()> {
     }
     let mut lines = stdin.lock();
     let mut buf = Vec::new();
+    let (mut requests, mut failed) = (0u64, 0u64);
     loop {
         if interactive {
             let _ = write!(stdout, "mw> ");
@@ -138,12 +139,23 @@ pub fn run(link: &str, format: crate::output::Format) -> CliResult<()> {
             Ok(_) => {}
             Err(e) => return Err(CliError::new(format!("reading requests: {e}"))),
         }
+        // `quit` and `exit` end the session (the console has no such requests).
+        if matches!(buf.trim_ascii(), b"quit" | b"exit") {
+            break;
+        }
         // Raw bytes go to the console, which rejects non-ASCII itself.
         let mut out: Vec<u8> = Vec::new();
         if !buf.ends_with(b"\n") {
             buf.push(b'\n');
         }
         let _ = console.feed_all(&buf, &mut out);
+        let replies = String::from_utf8_lossy(&out);
+        for l in replies.lines() {
+            if l.starts_with("ok") || l.starts_with("err") {
+                requests += 1;
+                failed += u64::from(l.starts_with("err"));
+            }
+        }
         let written = if json {
             let text = String::from_utf8_lossy(&out);
             let request = String::from_utf8_lossy(&buf).trim_end().to_string();
@@ -162,5 +174,11 @@ pub fn run(link: &str, format: crate::output::Format) -> CliResult<()> {
         }
     }
     let _ = stdout.flush();
+    // A script must be able to tell: any refused request makes the exit status 2.
+    if failed > 0 {
+        return Err(CliError::new(format!(
+            "talk: {failed} of {requests} requests answered err"
+        )));
+    }
     Ok(())
 }

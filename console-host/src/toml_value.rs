@@ -9,7 +9,12 @@ pub(crate) fn finite_number(v: &Value, unit: &str) -> Result<f64, String> {
     let x = match v {
         Value::Float(x) => *x,
         Value::Integer(n) => *n as f64,
-        other => return Err(format!("must be a number ({unit}), got {}", describe(other))),
+        other => {
+            return Err(format!(
+                "must be a number ({unit}), got {}",
+                describe(other)
+            ))
+        }
     };
     if x.is_finite() {
         Ok(x)

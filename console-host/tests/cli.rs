@@ -620,3 +620,35 @@ fn csv_rows_carry_their_context() {
         );
     }
 }
+
+/// `talk` tells a script whether every request succeeded (exit 2 and one line when any
+/// answered `err`), and `quit` ends the session.
+#[test]
+fn talk_exit_status_reflects_the_replies() {
+    let run = |input: &[u8]| {
+        let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_mwctl"))
+            .arg("talk")
+            .stdin(std::process::Stdio::piped())
+            .stdout(std::process::Stdio::piped())
+            .stderr(std::process::Stdio::piped())
+            .spawn()
+            .unwrap();
+        use std::io::Write as _;
+        child.stdin.take().unwrap().write_all(input).unwrap();
+        let out = child.wait_with_output().unwrap();
+        (
+            out.status.code(),
+            String::from_utf8(out.stdout).unwrap(),
+            String::from_utf8(out.stderr).unwrap(),
+        )
+    };
+    let (code, out, err) = run(b"hello\nget tilt\n");
+    assert_eq!(code, Some(0), "{out} {err}");
+    let (code, out, err) = run(b"hello\nset tilt=99\nquit\nhello\n");
+    assert_eq!(code, Some(2), "{out}");
+    assert_eq!(out.lines().count(), 2, "quit must end the session: {out}");
+    assert_eq!(
+        err.trim_end(),
+        "mwctl: error: talk: 1 of 2 requests answered err"
+    );
+}
