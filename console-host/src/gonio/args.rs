@@ -207,10 +207,10 @@ pub struct ViewArgs {
     #[arg(long, value_name = "DEG", default_value_t = 0.0)]
     pub elevation: f32,
     /// Sample azimuth φ, degrees.
-    #[arg(long, value_name = "DEG")]
+    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
     pub azimuth: f32,
     /// Sample tilt α, degrees.
-    #[arg(long, value_name = "DEG")]
+    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
     pub tilt: f32,
     /// Acceptance half-angle, degrees (above 0, up to 90; default: the rig's detector).
     #[arg(long, value_name = "DEG")]
