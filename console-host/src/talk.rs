@@ -8,7 +8,8 @@
 use crate::error::{CliError, CliResult};
 use matterwave_core::console::sim::{SimAxes, SimDetector, SimInterlock};
 use matterwave_core::console::Console;
-use std::io::{BufRead, IsTerminal, Write};
+use std::io::{IsTerminal, Read, Write};
+use std::sync::mpsc;
 
 /// The in-process simulated controller.
 pub type SimConsole = Console<SimAxes, SimDetector, SimInterlock>;
@@ -99,8 +100,89 @@ pub fn reply_json(line: &str) -> serde_json::Value {
     Value::Object(obj)
 }
 
-/// Runs a session on stdin/stdout: replies as they are (`table`), or one JSON object
-/// per reply line (`json`, JSON Lines: see [`reply_json`]). CSV is refused.
+/// Most bytes of one request kept for the JSON `request` echo and the `quit` check (a
+/// longer line is refused by the console anyway).
+const REQUEST_ECHO: usize = 256;
+
+/// How stdin reaches the session: chunks as they arrive, from a reader thread, so that a
+/// `stop` typed (or piped) while a stream runs reaches the console between its lines.
+fn stdin_chunks() -> mpsc::Receiver<std::io::Result<Vec<u8>>> {
+    // A few chunks in flight: the reader waits while the console is busy.
+    let (tx, rx) = mpsc::sync_channel(4);
+    std::thread::spawn(move || {
+        let mut stdin = std::io::stdin().lock();
+        let mut buf = [0u8; 4096];
+        loop {
+            match stdin.read(&mut buf) {
+                Ok(0) => break,
+                Ok(n) => {
+                    if tx.send(Ok(buf[..n].to_vec())).is_err() {
+                        break;
+                    }
+                }
+                Err(e) if e.kind() == std::io::ErrorKind::Interrupted => {}
+                Err(e) => {
+                    let _ = tx.send(Err(e));
+                    break;
+                }
+            }
+        }
+    });
+    rx
+}
+
+/// The session's output side: reply bytes are cut into lines as they come (each line
+/// bounded by the console's reply limit), counted, and printed raw or as JSON.
+struct Printer<W: Write> {
+    out: W,
+    json: bool,
+    line: Vec<u8>,
+    request: Vec<u8>,
+    requests: u64,
+    failed: u64,
+}
+
+impl<W: Write> Printer<W> {
+    fn take(&mut self, bytes: &[u8]) -> std::io::Result<()> {
+        for &b in bytes {
+            if b == b'\n' {
+                self.finish_line()?;
+            } else if self.line.len() < 2 * matterwave_core::console::controller::MAX_REPLY {
+                self.line.push(b);
+            }
+        }
+        Ok(())
+    }
+
+    fn finish_line(&mut self) -> std::io::Result<()> {
+        let text = String::from_utf8_lossy(&self.line)
+            .trim_end_matches('\r')
+            .to_string();
+        self.line.clear();
+        if text.starts_with("ok") || text.starts_with("err") {
+            self.requests += 1;
+            self.failed += u64::from(text.starts_with("err"));
+        }
+        if self.json {
+            let mut v = reply_json(&text);
+            if let Some(o) = v.as_object_mut() {
+                let req = String::from_utf8_lossy(&self.request)
+                    .trim_end()
+                    .to_string();
+                o.insert("request".into(), serde_json::Value::from(req));
+            }
+            writeln!(self.out, "{v}")?;
+        } else {
+            writeln!(self.out, "{text}")?;
+        }
+        self.out.flush()
+    }
+}
+
+/// Runs a session on stdin/stdout: replies as they come (`table`: the lines as sent),
+/// or one JSON object per reply line (`json`, JSON Lines: see [`reply_json`]). Each
+/// request runs when its line ends (CR or LF); a stream is written line by line and a
+/// `stop` arriving meanwhile stops it. CSV is refused.
 pub fn run(link: &str, format: crate::output::Format) -> CliResult<()> {
     use crate::output::Format;
     if format == Format::Csv {
@@ -108,76 +190,104 @@ pub fn run(link: &str, format: crate::output::Format) -> CliResult<()> {
             "talk --format csv: replies are lines, not a table; use --format table (raw lines) or json (one object per line)",
         ));
     }
-    let json = format == Format::Json;
     if link != "sim" {
         return Err(CliError::new(format!(
             "--link {link}: only the in-process simulator 'sim' is available in this build"
         )));
     }
     let mut console = sim_console()?;
-    let stdin = std::io::stdin();
-    let interactive = stdin.is_terminal() && !json;
-    let mut stdout = std::io::stdout().lock();
+    let json = format == Format::Json;
+    let interactive = std::io::stdin().is_terminal() && !json;
+    let mut p = Printer {
+        out: std::io::stdout().lock(),
+        json,
+        line: Vec::new(),
+        request: Vec::new(),
+        requests: 0,
+        failed: 0,
+    };
+    let prompt = |p: &mut Printer<std::io::StdoutLock<'static>>| {
+        if interactive {
+            let _ = write!(p.out, "mw> ");
+            let _ = p.out.flush();
+        }
+    };
     if interactive {
-        let _ = writeln!(stdout, "{}\n", crate::cli::CAUTIONS);
+        let _ = writeln!(p.out, "{}\n", crate::cli::CAUTIONS);
         let _ = writeln!(
-            stdout,
-            "matterwave simulator: type requests (help lists them), Ctrl-D ends."
+            p.out,
+            "matterwave simulator: type requests (help lists them); quit, exit or Ctrl-D ends."
         );
     }
-    let mut lines = stdin.lock();
-    let mut buf = Vec::new();
-    let (mut requests, mut failed) = (0u64, 0u64);
-    loop {
-        if interactive {
-            let _ = write!(stdout, "mw> ");
-            let _ = stdout.flush();
-        }
-        buf.clear();
-        match lines.read_until(b'\n', &mut buf) {
-            Ok(0) => break,
-            Ok(_) => {}
-            Err(e) => return Err(CliError::new(format!("reading requests: {e}"))),
-        }
-        // `quit` and `exit` end the session (the console has no such requests).
-        if matches!(buf.trim_ascii(), b"quit" | b"exit") {
-            break;
-        }
-        // Raw bytes go to the console, which rejects non-ASCII itself.
-        let mut out: Vec<u8> = Vec::new();
-        if !buf.ends_with(b"\n") {
-            buf.push(b'\n');
-        }
-        let _ = console.feed_all(&buf, &mut out);
-        let replies = String::from_utf8_lossy(&out);
-        for l in replies.lines() {
-            if l.starts_with("ok") || l.starts_with("err") {
-                requests += 1;
-                failed += u64::from(l.starts_with("err"));
+    prompt(&mut p);
+    let rx = stdin_chunks();
+    let mut reply: Vec<u8> = Vec::new();
+    let mut at_line_start = true;
+    'session: loop {
+        let chunk = if console.streaming() {
+            match rx.try_recv() {
+                Ok(c) => Some(c),
+                Err(mpsc::TryRecvError::Empty) => None,
+                // Input ended: let the stream run out.
+                Err(mpsc::TryRecvError::Disconnected) => None,
+            }
+        } else {
+            match rx.recv() {
+                Ok(c) => Some(c),
+                // Input ended: a last line without its line end still runs.
+                Err(_) if !at_line_start => Some(Ok(vec![b'\n'])),
+                Err(_) => break,
+            }
+        };
+        match chunk {
+            Some(Err(e)) => return Err(CliError::new(format!("reading requests: {e}"))),
+            Some(Ok(bytes)) => {
+                for &b in &bytes {
+                    if at_line_start {
+                        p.request.clear();
+                        at_line_start = false;
+                    }
+                    let end = b == b'\n' || b == b'\r';
+                    if !end && p.request.len() < REQUEST_ECHO {
+                        p.request.push(b);
+                    }
+                    // `quit` and `exit` end the session (the console has no such requests).
+                    if end && matches!(p.request.trim_ascii(), b"quit" | b"exit") {
+                        break 'session;
+                    }
+                    reply.clear();
+                    // Raw bytes go to the console, which rejects non-ASCII itself.
+                    let _ = console.push(b, &mut reply);
+                    if p.take(&reply).is_err() {
+                        break 'session;
+                    }
+                    if end {
+                        at_line_start = true;
+                        if !console.streaming() && !p.request.is_empty() {
+                            prompt(&mut p);
+                        }
+                    }
+                }
+            }
+            None => {
+                // One stream line, then look for input again.
+                reply.clear();
+                let more = console.poll(&mut reply).unwrap_or(false);
+                if p.take(&reply).is_err() {
+                    break;
+                }
+                if !more {
+                    prompt(&mut p);
+                }
             }
         }
-        let written = if json {
-            let text = String::from_utf8_lossy(&out);
-            let request = String::from_utf8_lossy(&buf).trim_end().to_string();
-            text.lines().try_for_each(|l| {
-                let mut v = reply_json(l);
-                if let Some(o) = v.as_object_mut() {
-                    o.insert("request".into(), serde_json::Value::from(request.as_str()));
-                }
-                writeln!(stdout, "{v}")
-            })
-        } else {
-            stdout.write_all(&out)
-        };
-        if written.is_err() {
-            break;
-        }
     }
-    let _ = stdout.flush();
+    let _ = p.out.flush();
     // A script must be able to tell: any refused request makes the exit status 2.
-    if failed > 0 {
+    if p.failed > 0 {
         return Err(CliError::new(format!(
-            "talk: {failed} of {requests} requests answered err"
+            "talk: {} of {} requests answered err",
+            p.failed, p.requests
         )));
     }
     Ok(())

@@ -652,3 +652,50 @@ fn talk_exit_status_reflects_the_replies() {
         "mwctl: error: talk: 1 of 2 requests answered err"
     );
 }
+
+/// `talk` runs each request when its line ends, CR included; a `stop` that follows a
+/// streaming request stops the stream at once; a long unterminated line gets its error
+/// without being held whole.
+#[test]
+fn talk_runs_each_line_as_it_ends() {
+    let run = |input: &[u8]| {
+        let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_mwctl"))
+            .arg("talk")
+            .stdin(std::process::Stdio::piped())
+            .stdout(std::process::Stdio::piped())
+            .stderr(std::process::Stdio::piped())
+            .spawn()
+            .unwrap();
+        let mut stdin = child.stdin.take().unwrap();
+        let input = input.to_vec();
+        let writer = std::thread::spawn(move || {
+            use std::io::Write as _;
+            let _ = stdin.write_all(&input);
+        });
+        let out = child.wait_with_output().unwrap();
+        writer.join().unwrap();
+        String::from_utf8(out.stdout).unwrap()
+    };
+    let out = run(b"hello\rget tilt\r");
+    let lines: Vec<&str> = out.lines().collect();
+    assert_eq!(lines.len(), 2, "{out}");
+    assert!(
+        lines[0].starts_with("ok name=matterwave") && lines[1] == "ok tilt=20",
+        "{out}"
+    );
+    let out = run(b"plan kind=sweep from=-160 to=160 step=0.01\nstop\nhello\n");
+    let lines: Vec<&str> = out.lines().collect();
+    assert_eq!(lines.first(), Some(&"err 411 aborted by stop"), "{out}");
+    assert_eq!(lines.get(1), Some(&"ok stopped=stream"), "{out}");
+    assert!(
+        lines.get(2).is_some_and(|l| l.starts_with("ok name=")),
+        "{out}"
+    );
+    let mut long = vec![b'a'; 5_000_000];
+    long.extend_from_slice(b"\nhello\n");
+    let out = run(&long);
+    let lines: Vec<&str> = out.lines().collect();
+    assert_eq!(lines.len(), 2, "{}", &out[..out.len().min(500)]);
+    assert!(lines[0].starts_with("err 400 "), "{}", lines[0]);
+    assert!(lines[1].starts_with("ok name="), "{}", lines[1]);
+}
