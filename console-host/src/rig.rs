@@ -278,14 +278,27 @@ impl Ctx<'_> {
 
 /// Reads a rig file.
 pub fn load(path: &Path) -> Result<RigFile, RigError> {
+    /// A rig file describes a few axes: anything larger is not one.
+    const MAX_BYTES: u64 = 1 << 20;
     let file = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|e| {
-        let ctx = Ctx {
-            file: &file,
-            section: None,
-        };
-        ctx.err(None, None, format!("cannot read it: {e}"))
-    })?;
+    let ctx = Ctx {
+        file: &file,
+        section: None,
+    };
+    let size = std::fs::metadata(path)
+        .map_err(|e| ctx.err(None, None, format!("cannot read it: {e}")))?
+        .len();
+    if size > MAX_BYTES {
+        return Err(ctx.err(
+            None,
+            None,
+            format!(
+                "{size} bytes; a rig file is at most {MAX_BYTES} bytes (is this the right file?)"
+            ),
+        ));
+    }
+    let text = std::fs::read_to_string(path)
+        .map_err(|e| ctx.err(None, None, format!("cannot read it: {e}")))?;
     parse(&text, &file)
 }
 
@@ -692,8 +705,27 @@ fn covers(pairs: &[(f64, f64)], lo: f64, hi: f64) -> bool {
     reach >= hi
 }
 
+/// A message on one line: whitespace runs become one space, control characters are
+/// escaped, and anything past 300 characters is cut (a parser's message may quote a
+/// whole source line).
 fn one_line(s: &str) -> String {
-    s.split_whitespace().collect::<Vec<_>>().join(" ")
+    const MAX: usize = 300;
+    let joined = s.split_whitespace().collect::<Vec<_>>().join(" ");
+    let mut out: String = joined
+        .chars()
+        .take(MAX)
+        .flat_map(|c| {
+            if c.is_control() {
+                c.escape_default().collect::<Vec<_>>()
+            } else {
+                vec![c]
+            }
+        })
+        .collect();
+    if joined.chars().count() > MAX {
+        out.push_str(" …");
+    }
+    out
 }
 
 /// The word of an approach direction in rig files (the core's one vocabulary).

@@ -1408,3 +1408,52 @@ fn beams_with_a_rig_say_which_the_arm_reaches() {
     assert_eq!(code, 2, "{err}");
     assert!(err.contains("--rig"), "{err}");
 }
+
+/// Inputs too large to be what they claim are refused early and named, and what is
+/// echoed of a bad file is cut: a fit CSV beyond the 16-bit point count, a CSV line of
+/// 10 kB, a rig file of 5 MB.
+#[test]
+fn oversized_inputs_are_refused_with_a_short_message() {
+    let mut big = String::from("angle_deg,current\n");
+    for i in 0..65_536 {
+        big.push_str(&format!("{},{}\n", f64::from(i) * 1e-3, i % 7));
+    }
+    let p = temp_file("rows.csv", &big);
+    let err = fails(&["calc", "fit", "peak", "--input", p.to_str().unwrap()]);
+    assert!(
+        err.contains("line 65537: more than 65535 data rows"),
+        "{err}"
+    );
+    let p = temp_file(
+        "long.csv",
+        &format!("angle_deg,current\n{},2\n", "1".repeat(10_000)),
+    );
+    let err = fails(&["calc", "fit", "peak", "--input", p.to_str().unwrap()]);
+    assert!(err.contains("line 2: longer than 4096 bytes"), "{err}");
+    let p = temp_file(
+        "huge-rig.toml",
+        &format!(
+            "name = \"x\"\n[arm]\nsteps_per_deg = {}\n",
+            "x".repeat(5_000_000)
+        ),
+    );
+    let err = fails(&["rig", "check", p.to_str().unwrap()]);
+    assert!(
+        err.len() < 400 && err.contains("a rig file is at most"),
+        "{err}"
+    );
+    let p = temp_file(
+        "bad-rig-long.toml",
+        &format!(
+            "name = \"x\"\n[arm]\nsteps_per_deg = {}\u{1b}[31m\n",
+            "x".repeat(500_000)
+        ),
+    );
+    let err = fails(&["rig", "check", p.to_str().unwrap()]);
+    assert!(
+        err.len() < 400 && !err.contains('\u{1b}'),
+        "{} bytes: {}",
+        err.len(),
+        &err[..err.len().min(300)]
+    );
+}

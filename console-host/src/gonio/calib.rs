@@ -12,17 +12,46 @@ pub(super) struct CsvRow {
 }
 
 /// Reads a CSV with a header row, keeping the `required` columns in that order.
+/// Longest accepted line of an input CSV, bytes.
+const CSV_LINE_MAX: usize = 4096;
+
+/// Most data rows a fit reads (the fits count points in 16 bits).
+const CSV_ROWS_MAX: usize = 65_535;
+
 pub(super) fn read_csv(path: &Path, required: &[&str]) -> CliResult<Vec<CsvRow>> {
+    use std::io::BufRead;
     let name = path.display();
-    let body = std::fs::read_to_string(path)
+    let file = std::fs::File::open(path)
         .map_err(|e| CliError::new(format!("--input {name}: cannot read it: {e}")))?;
-    let mut lines = body
-        .lines()
-        .enumerate()
-        .map(|(i, l)| (i + 1, l.trim()))
-        .filter(|(_, l)| !l.is_empty() && !l.starts_with('#'));
+    // Read line by line, each line and the row count bounded, so a huge file is refused
+    // early instead of being loaded whole.
+    let mut reader = std::io::BufReader::new(file);
+    let mut next_line = |n: &mut usize| -> CliResult<Option<(usize, String)>> {
+        loop {
+            let mut buf = Vec::new();
+            let got = std::io::Read::take(&mut reader, CSV_LINE_MAX as u64 + 1)
+                .read_until(b'\n', &mut buf)
+                .map_err(|e| CliError::new(format!("--input {name}: cannot read it: {e}")))?;
+            if got == 0 {
+                return Ok(None);
+            }
+            *n += 1;
+            if buf.len() > CSV_LINE_MAX && !buf.ends_with(b"\n") {
+                return Err(CliError::new(format!(
+                    "--input {name} line {n}: longer than {CSV_LINE_MAX} bytes; is this the right file?"
+                )));
+            }
+            let text = String::from_utf8(buf)
+                .map_err(|_| CliError::new(format!("--input {name} line {n}: not UTF-8 text")))?;
+            let t = text.trim();
+            if !t.is_empty() && !t.starts_with('#') {
+                return Ok(Some((*n, t.to_string())));
+            }
+        }
+    };
+    let mut n = 0usize;
     let want = required.join(",");
-    let Some((hline, header)) = lines.next() else {
+    let Some((hline, header)) = next_line(&mut n)? else {
         return Err(CliError::new(format!(
             "--input {name}: no header row; the first line must name the columns {want}"
         )));
@@ -54,7 +83,12 @@ pub(super) fn read_csv(path: &Path, required: &[&str]) -> CliResult<Vec<CsvRow>>
         }
     }
     let mut rows = Vec::new();
-    for (line, l) in lines {
+    while let Some((line, l)) = next_line(&mut n)? {
+        if rows.len() == CSV_ROWS_MAX {
+            return Err(CliError::new(format!(
+                "--input {name} line {line}: more than {CSV_ROWS_MAX} data rows; a fit takes at most {CSV_ROWS_MAX} points"
+            )));
+        }
         let cells: Vec<&str> = l.split(',').map(str::trim).collect();
         if cells.len() != heads.len() {
             return Err(CliError::new(format!(
@@ -65,7 +99,10 @@ pub(super) fn read_csv(path: &Path, required: &[&str]) -> CliResult<Vec<CsvRow>>
         }
         rows.push(CsvRow {
             line,
-            cells: idx.iter().map(|&i| cells[i].to_string()).collect(),
+            cells: idx
+                .iter()
+                .map(|&i| cells.get(i).map_or_else(String::new, |c| (*c).to_string()))
+                .collect(),
         });
     }
     Ok(rows)

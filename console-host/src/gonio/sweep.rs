@@ -248,7 +248,17 @@ pub fn view(a: &ViewArgs) -> CliResult<Report> {
     );
     rig_field(&mut r, &rf);
     r.field("arm_status", "arm position on this rig", text(arm_status));
-    r.field("count", "beams in view", Value::Int(l.stored as i64));
+    r.field("count", "beams listed", Value::Int(l.stored as i64));
+    r.field(
+        "truncated",
+        "more beams in view than listed",
+        Value::Bool(l.truncated),
+    );
+    if l.truncated {
+        r.notes.push(format!(
+            "More than {MAX_BEAMS} beams lie within the acceptance; the {MAX_BEAMS} nearest are listed."
+        ));
+    }
     r.list = Some(List {
         key: "beams",
         columns: vec![
