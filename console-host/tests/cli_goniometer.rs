@@ -1418,7 +1418,7 @@ fn oversized_inputs_are_refused_with_a_short_message() {
     for i in 0..65_536 {
         big.push_str(&format!("{},{}\n", f64::from(i) * 1e-3, i % 7));
     }
-    let p = temp_file("rows.csv", &big);
+    let p = temp_file("oversized-rows.csv", &big);
     let err = fails(&["calc", "fit", "peak", "--input", p.to_str().unwrap()]);
     assert!(
         err.contains("line 65537: more than 65535 data rows"),
