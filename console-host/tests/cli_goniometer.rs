@@ -1425,7 +1425,7 @@ fn oversized_inputs_are_refused_with_a_short_message() {
         "{err}"
     );
     let p = temp_file(
-        "long.csv",
+        "oversized-line.csv",
         &format!("angle_deg,current\n{},2\n", "1".repeat(10_000)),
     );
     let err = fails(&["calc", "fit", "peak", "--input", p.to_str().unwrap()]);
