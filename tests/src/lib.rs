@@ -1,10 +1,11 @@
 //! Cross-crate conformance and end-to-end tests (see `tests/tests/`), and what the
 //! tests share: one random generator ([`Rng`]), the bridge from the core's table to the
-//! oracle ([`ocell`], [`exact`]).
+//! oracle ([`ocell`], [`exact`]) and the console harness ([`console`]).
 
 use matterwave_console::oracle::{self, OCell};
 use matterwave_core::table;
 
+pub mod console;
 
 /// SplitMix64: a small deterministic generator, so every failure reproduces from its
 /// seed. Shared by the randomised tests.

@@ -30,12 +30,11 @@
 
 use matterwave_core::axis::AxisConfig;
 use matterwave_core::console::controller::MAX_REPLY;
-use matterwave_core::console::line::MAX_LINE;
-use matterwave_core::console::sim::{SimAxes, SimDetector, SimInterlock};
-use matterwave_core::console::{AxisDriver, Console, Settings};
+use matterwave_core::console::Settings;
 use matterwave_core::goniometer::axis_index;
 use matterwave_core::table;
 use matterwave_core::AxisId;
+use matterwave_tests::console::{crc16_ref, rec_console, with_crc, Event, LineModel, RecConsole};
 use proptest::prelude::*;
 
 /// Cases per property; each case carries `PER_CASE` chunks or lines.
@@ -53,105 +52,7 @@ const EPS: f64 = 1e-4;
 // The harness: a console on recording sim axes, an independent line model, checks
 // ---------------------------------------------------------------------------------
 
-/// One started motion: axis, steps before, backlash turn-round, target.
-type Start = (AxisId, i32, Option<i32>, i32);
-
-/// `SimAxes` that also records every motion the console starts.
-#[derive(Default)]
-struct Axes {
-    sim: SimAxes,
-    starts: Vec<Start>,
-}
-
-impl AxisDriver for Axes {
-    fn position(&mut self, axis: AxisId) -> i32 {
-        self.sim.position(axis)
-    }
-    fn start(&mut self, axis: AxisId, via: Option<i32>, target: i32) {
-        let from = self.sim.position(axis);
-        self.starts.push((axis, from, via, target));
-        self.sim.start(axis, via, target);
-    }
-    fn busy(&mut self) -> bool {
-        self.sim.busy()
-    }
-    fn stop(&mut self) {
-        self.sim.stop();
-    }
-}
-
-type Con = Console<Axes, SimDetector, SimInterlock>;
-
-/// CRC-16/IBM-3740 (poly 0x1021, init 0xFFFF, no reflection), bit by bit: an
-/// independent reference for the `*XXXX` checksums (check value of "123456789" is
-/// 0x29B1, per the CRC catalogue entry for CRC-16/IBM-3740).
-fn crc16_ref(data: &[u8]) -> u16 {
-    let mut crc: u16 = 0xFFFF;
-    for &b in data {
-        crc ^= u16::from(b) << 8;
-        for _ in 0..8 {
-            crc = if crc & 0x8000 != 0 {
-                (crc << 1) ^ 0x1021
-            } else {
-                crc << 1
-            };
-        }
-    }
-    crc
-}
-
-/// `line*XXXX` with the correct checksum.
-fn with_crc(line: &str) -> String {
-    format!("{line}*{:04X}", crc16_ref(line.as_bytes()))
-}
-
-/// How a completed input line should be treated (protocol rules: LF, CR or CRLF ends a
-/// line; a documented maximum length, 120; printable ASCII and tab only; the first
-/// problem in a line wins).
-#[derive(Debug)]
-enum Event {
-    Blank,
-    TooLong,
-    BadByte,
-    Line(String),
-}
-
-#[derive(Default)]
-struct LineModel {
-    buf: Vec<u8>,
-    problem: Option<Event>,
-    after_cr: bool,
-}
-
-impl LineModel {
-    fn push(&mut self, b: u8) -> Option<Event> {
-        let after_cr = std::mem::replace(&mut self.after_cr, false);
-        match b {
-            b'\n' if after_cr => None,
-            b'\n' | b'\r' => {
-                self.after_cr = b == b'\r';
-                let line = std::mem::take(&mut self.buf);
-                Some(match self.problem.take() {
-                    Some(p) => p,
-                    None if line.iter().all(|&c| c == b' ' || c == b'\t') => Event::Blank,
-                    None => Event::Line(String::from_utf8(line).unwrap()),
-                })
-            }
-            _ => {
-                if self.problem.is_none() {
-                    if !(b == b'\t' || (0x20..=0x7E).contains(&b)) {
-                        self.problem = Some(Event::BadByte);
-                    } else if self.buf.len() >= MAX_LINE {
-                        self.problem = Some(Event::TooLong);
-                    } else {
-                        self.buf.push(b);
-                    }
-                }
-                None
-            }
-        }
-    }
-}
+type Con = RecConsole;
 
 /// Shape of a reply line.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -288,12 +189,7 @@ struct Stats {
 
 impl Session {
     fn new(safe: bool) -> Session {
-        let c = Console::new(
-            Axes::default(),
-            SimDetector::default(),
-            SimInterlock { safe },
-        )
-        .expect("factory settings are valid");
+        let c = rec_console(safe);
         Session {
             c,
             model: LineModel::default(),
