@@ -1,11 +1,19 @@
 //! `mwctl`: thin wrapper over `matterwave_console::cli`.
 
-use clap::Parser;
+use matterwave_console::cli::{self, Parsed};
 use std::io::Write;
 use std::process::ExitCode;
 
 fn main() -> ExitCode {
-    let cli = matterwave_console::cli::Cli::parse();
+    let cli = match cli::parse(std::env::args_os()) {
+        Parsed::Run(c) => c,
+        Parsed::Print(help) => help.exit(),
+        Parsed::Usage(line) => {
+            // One line, like every error of mwctl (clap's own would take 3–20).
+            eprintln!("mwctl: error: {line}");
+            return ExitCode::from(2);
+        }
+    };
     match matterwave_console::cli::run(&cli) {
         Ok(text) => {
             let mut out = std::io::stdout().lock();
