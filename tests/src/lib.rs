@@ -54,6 +54,11 @@ impl Rng {
         (self.range(lo as f64, hi as f64) as f32).clamp(lo, hi)
     }
 
+    /// Uniform integer in [0, n) (n > 0).
+    pub fn below(&mut self, n: usize) -> usize {
+        (self.next() >> 33) as usize % n
+    }
+
     /// Uniform integer in [lo, hi].
     pub fn int(&mut self, lo: i32, hi: i32) -> i32 {
         (lo as i64 + (self.next() % (hi as i64 - lo as i64 + 1) as u64) as i64) as i32

@@ -29,8 +29,8 @@
 //! 7. every motion the console starts is enabled, interlock-safe, lands on an allowed
 //!    angle (inside the limits, outside every forbidden zone) and its path, including
 //!    the backlash turn-round, misses every zone that does not contain the start
-//!    (an independent interval check, not `AxisConfig::check_path`); no axis moves
-//!    except through a started motion.
+//!    (independent interval checks, not `AxisConfig::check_angle` or `check_path`); no
+//!    axis moves except through a started motion.
 
 use super::{crc16_ref, rec_console, Event, LineModel, RecConsole};
 use matterwave_core::axis::AxisConfig;
@@ -215,12 +215,21 @@ fn check_motion(c: &mut Con, before: &State, answered_ok: bool) -> bool {
     for &(id, from, via, target) in &starts {
         let cfg = rig.axis(id).expect("motion of an axis the rig lacks");
         let deg = |s: i32| f64::from(cfg.steps_to_deg(s));
-        assert_eq!(
-            cfg.check_angle(cfg.steps_to_deg(target)),
-            Ok(()),
-            "{id:?} sent to {target} steps = {} deg",
-            deg(target)
+        // Where it lands, independently of `check_angle`: inside the limits (unless
+        // wrap), outside every zone.
+        let t = deg(target);
+        let (min, max) = (f64::from(cfg.min_deg), f64::from(cfg.max_deg));
+        assert!(
+            cfg.wrap || (t >= min - EPS && t <= max + EPS),
+            "{id:?} sent to {target} steps = {t} deg, beyond the limits {min}..{max}"
         );
+        for z in cfg.zones.iter().flatten() {
+            let (zf, zt) = (f64::from(z.from_deg), f64::from(z.to_deg));
+            assert!(
+                !in_zone(zf + 2.0 * EPS, zt - 2.0 * EPS, t, cfg.wrap),
+                "{id:?} sent to {target} steps = {t} deg, inside the zone {zf}..{zt}"
+            );
+        }
         let legs = match via {
             Some(v) => {
                 let a = deg(v);
