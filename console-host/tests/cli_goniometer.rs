@@ -649,10 +649,25 @@ fn track_reports_status_per_point() {
         assert_eq!(reachable, p["arm_steps"].is_i64(), "{p}");
     }
     // From home the −1 branch is followed (arm below the gun's shadow) until it runs
-    // into the shadow: λ(80 eV) puts it at −11.3°, inside [-12, 12]°.
+    // into the shadow: λ(80 eV) puts it at −11.3°, inside [-12, 12]°. Each point from
+    // the f64 formula δ = α + asin(sin α − λ/d_row), d_row = a/√2 with the table's
+    // a = 3.6149 Å: in the ±12° zone, or reached within 0.002° plus a step.
+    let d_row = 3.6149 / 2f64.sqrt();
     let status: Vec<&str> = pts.iter().map(|p| p["status"].as_str().unwrap()).collect();
     assert_eq!(&status[..3], &["reachable"; 3], "{status:?}");
     assert!(status[3..].iter().all(|s| *s == "arm zone 0"), "{status:?}");
+    for p in pts {
+        let want = arm_in_plane(10.0, -1.0, num(&p["energy_ev"]), d_row);
+        if want.abs() <= 12.0 {
+            assert_eq!(p["status"], "arm zone 0", "{p} vs {want}");
+        } else {
+            assert_eq!(p["status"], "reachable", "{p} vs {want}");
+            assert!(
+                (num(&p["arm_deg"]) - want).abs() < 2e-3 + 1.2e-3,
+                "{p} vs {want}"
+            );
+        }
+    }
     assert!(num(&v["estimate_s"]) > 0.0);
 
     // Starting at arm 30°: (2,0) is evanescent at 40 eV, and beyond an upper limit of
@@ -680,14 +695,30 @@ fn track_reports_status_per_point() {
         "--rig",
         rig.to_str().unwrap(),
     ]);
-    let status: Vec<&str> = v["points"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|p| p["status"].as_str().unwrap())
-        .collect();
-    assert!(status.contains(&"arm max"), "{status:?}");
-    assert!(status.contains(&"reachable"), "{status:?}");
+    // Each point from the f64 formula on branch +1, δ = α + asin(sin α + λ/d_row): no
+    // such beam at 20 eV (and the −1 branch lies across the [-11, 11]° zone from 30°),
+    // above 60° at 40 and 60 eV, reached from 80 eV on.
+    let mut status = Vec::new();
+    for p in v["points"].as_array().unwrap() {
+        let e = num(&p["energy_ev"]);
+        let x = 10f64.to_radians().sin() + lambda(e) / d_row;
+        let st = p["status"].as_str().unwrap();
+        if x > 1.0 {
+            assert_eq!(st, "arm path crosses zone 0", "{p}");
+        } else if arm_in_plane(10.0, 1.0, e, d_row) > 60.0 {
+            assert_eq!(st, "arm max", "{p}");
+        } else {
+            assert_eq!(st, "reachable", "{p}");
+            let want = arm_in_plane(10.0, 1.0, e, d_row);
+            assert!((num(&p["arm_deg"]) - want).abs() < 0.01, "{p} vs {want}");
+        }
+        status.push(st.to_string());
+    }
+    assert_eq!(
+        &status[..4],
+        ["arm path crosses zone 0", "arm max", "arm max", "reachable"],
+        "{status:?}"
+    );
     let v = json(&[
         "calc",
         "track",
