@@ -974,27 +974,33 @@ fn bad_rig_files_name_the_field() {
     let cases = [
         (
             good.replace("[120, 128]", "[128, 120]"),
-            "axis \"arm\": field \"zones\"[1]: from must be below to",
+            "axis \"arm\": field \"zones\"[1]: from must be below to, got [128, 120]",
         ),
         (
             good.replace("backlash_deg = 0.04", "backlash = 0.04"),
-            "axis \"arm\": field \"backlash\": unknown field",
+            "axis \"arm\": field \"backlash\": unknown field; accepted: full_steps, microsteps, \
+             gear, steps_per_deg, home_offset_deg, min_deg, max_deg, zones, backlash_deg, \
+             approach, wrap, max_speed_deg_s, accel_deg_s2",
         ),
         (
             good.replace("acceptance_deg = 0.8", "acceptance_deg = -1"),
-            "[detector]: field \"acceptance_deg\"",
+            "[detector]: field \"acceptance_deg\": must be above 0 up to 20 degrees \
+             (half-angle), got -1",
         ),
         (
             good.replace("steps_per_deg = 400", "steps_per_deg = 0"),
-            "axis \"elevation\": field \"steps_per_deg\"",
+            "axis \"elevation\": field \"steps_per_deg\": must be above 0 up to 1000000 \
+             microsteps per degree, got 0",
         ),
         (
             good.replace("[tilt]", "[tilted]"),
-            "field \"tilted\": unknown field",
+            "field \"tilted\": unknown field; accepted: name, detector, arm, elevation, tilt, \
+             azimuth",
         ),
         (
             good.replace("max_deg = 168", ""),
-            "axis \"arm\": field \"max_deg\": missing",
+            "axis \"arm\": field \"max_deg\": missing; an axis that does not wrap needs \
+             min_deg and max_deg",
         ),
     ];
     for (i, (text, want)) in cases.iter().enumerate() {
@@ -1020,12 +1026,20 @@ fn bad_rig_files_name_the_field() {
                 ps,
             ],
         ] {
+            // The whole line: the file, the section, the field, what is wrong and what
+            // is accepted.
             let err = fails(&args);
-            assert!(err.contains(&format!("rig file {ps}: ")), "{err}");
-            assert!(err.contains(want), "{want:?} not in {err:?}");
+            assert_eq!(
+                err.trim_end(),
+                format!("mwctl: error: rig file {ps}: {want}")
+            );
         }
     }
-    fails(&["rig", "check", "/nonexistent/rig.toml"]);
+    assert_eq!(
+        fails(&["rig", "check", "/nonexistent/rig.toml"]).trim_end(),
+        "mwctl: error: rig file /nonexistent/rig.toml: cannot read it: No such file or \
+         directory (os error 2)"
+    );
 }
 
 #[test]
