@@ -18,7 +18,8 @@ fn talk(args: &[&str], input: &[u8]) -> (i32, Vec<u8>, String) {
         .stderr(Stdio::piped())
         .spawn()
         .expect("mwctl runs");
-    child.stdin.take().unwrap().write_all(input).unwrap();
+    // mwctl may exit before it reads (an unknown link): a broken pipe is no failure.
+    let _ = child.stdin.take().unwrap().write_all(input);
     let out = child.wait_with_output().expect("mwctl ends");
     (
         out.status.code().unwrap_or(-1),
