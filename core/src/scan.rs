@@ -613,6 +613,10 @@ mod tests {
         }
         assert!(marked >= iv.peaks().len() && marked <= 2 * iv.peaks().len());
         // And not every point is marked.
-        assert!(marked < plan.len() as usize / 10, "{marked} of {}", plan.len());
+        assert!(
+            marked < plan.len() as usize / 10,
+            "{marked} of {}",
+            plan.len()
+        );
     }
 }
