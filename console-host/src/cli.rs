@@ -212,6 +212,113 @@ pub enum Calc {
     Budget(BudgetArgs),
 }
 
+/// The outcome of reading the command line.
+#[derive(Debug)]
+pub enum Parsed {
+    /// A command to run.
+    Run(Cli),
+    /// `--help` or `--version`: print as clap prints it (exit status 0).
+    Print(clap::Error),
+    /// A usage error, as one line naming what is accepted (without the `mwctl: error: `
+    /// prefix); exit status 2.
+    Usage(String),
+}
+
+/// Reads the command line (`args` includes the program name). Usage errors become one
+/// line, like every other error of `mwctl`: clap's message, what the argument accepts
+/// (its help, or the commands there are) and the usage of the command.
+pub fn parse<I, T>(args: I) -> Parsed
+where
+    I: IntoIterator<Item = T>,
+    T: Into<std::ffi::OsString> + Clone,
+{
+    let args: Vec<std::ffi::OsString> = args.into_iter().map(Into::into).collect();
+    match Cli::try_parse_from(&args) {
+        Ok(c) => Parsed::Run(c),
+        Err(e) => match e.kind() {
+            clap::error::ErrorKind::DisplayHelp | clap::error::ErrorKind::DisplayVersion => {
+                Parsed::Print(e)
+            }
+            _ => Parsed::Usage(usage_line(&e, &args)),
+        },
+    }
+}
+
+/// One line for a clap error.
+fn usage_line(e: &clap::Error, args: &[std::ffi::OsString]) -> String {
+    use clap::error::{ContextKind, ContextValue, ErrorKind};
+    use clap::CommandFactory;
+    let root = Cli::command();
+    // The (sub)command the arguments reached.
+    let mut cur = &root;
+    let mut path = vec![root.get_name().to_string()];
+    for a in args.iter().skip(1).filter_map(|a| a.to_str()) {
+        if let Some(sc) = cur.find_subcommand(a) {
+            cur = sc;
+            path.push(a.to_string());
+        }
+    }
+    let path = path.join(" ");
+    let subs: Vec<&str> = cur
+        .get_subcommands()
+        .map(|s| s.get_name())
+        .filter(|n| *n != "help")
+        .collect();
+    let context = |k: ContextKind| match e.get(k) {
+        Some(ContextValue::String(s)) => Some(s.clone()),
+        _ => None,
+    };
+    match e.kind() {
+        ErrorKind::InvalidSubcommand => format!(
+            "unknown command '{}' for `{path}`: accepted: {}",
+            context(ContextKind::InvalidSubcommand).unwrap_or_default(),
+            subs.join(", ")
+        ),
+        ErrorKind::MissingSubcommand | ErrorKind::DisplayHelpOnMissingArgumentOrSubcommand
+            if !subs.is_empty() =>
+        {
+            format!("`{path}` needs a command: one of {}", subs.join(", "))
+        }
+        kind => {
+            let text = e.render().to_string();
+            let (mut parts, mut usage) = (Vec::new(), None);
+            for l in text.lines().map(str::trim) {
+                if l.is_empty() || l.starts_with("For more information") {
+                    continue;
+                }
+                match l.strip_prefix("Usage: ") {
+                    Some(u) => usage = Some(u.to_string()),
+                    None => parts.push(l.strip_prefix("error: ").unwrap_or(l).to_string()),
+                }
+            }
+            let mut line = parts.join(" ");
+            // What a rejected value should have been: the argument's own help.
+            if matches!(kind, ErrorKind::InvalidValue | ErrorKind::ValueValidation) {
+                if let Some(a) = context(ContextKind::InvalidArg) {
+                    let long = a
+                        .split_whitespace()
+                        .next()
+                        .unwrap_or("")
+                        .trim_start_matches('-');
+                    let help = cur
+                        .get_arguments()
+                        .chain(root.get_arguments())
+                        .find(|x| x.get_long() == Some(long))
+                        .and_then(|x| x.get_help())
+                        .map(|h| h.to_string());
+                    if let Some(h) = help {
+                        line.push_str(&format!("; {a}: {}", h.trim_end_matches('.')));
+                    }
+                }
+            }
+            if let Some(u) = usage {
+                line.push_str(&format!("; usage: {u}"));
+            }
+            line
+        }
+    }
+}
+
 /// Runs a parsed command, writing what it prints to `out` as it goes (a long list is
 /// never held as one string). A write error (e.g. a closed pipe) ends the output
 /// quietly.

@@ -104,6 +104,9 @@ pub fn reply_json(line: &str) -> serde_json::Value {
 /// longer line is refused by the console anyway).
 const REQUEST_ECHO: usize = 256;
 
+/// Most bytes of input held while a stream runs.
+const PENDING_MAX: usize = 64 * 1024;
+
 /// How stdin reaches the session: chunks as they arrive, from a reader thread, so that a
 /// `stop` typed (or piped) while a stream runs reaches the console between its lines.
 fn stdin_chunks() -> mpsc::Receiver<std::io::Result<Vec<u8>>> {
@@ -222,55 +225,29 @@ pub fn run(link: &str, format: crate::output::Format) -> CliResult<()> {
     prompt(&mut p);
     let rx = stdin_chunks();
     let mut reply: Vec<u8> = Vec::new();
+    // Input not yet given to the console: while a stream runs, requests wait here in
+    // order (bounded: the reader thread waits while it is full), except a `stop`.
+    let mut pending: std::collections::VecDeque<u8> = std::collections::VecDeque::new();
+    let mut eof = false;
     let mut at_line_start = true;
     'session: loop {
-        let chunk = if console.streaming() {
-            match rx.try_recv() {
-                Ok(c) => Some(c),
-                Err(mpsc::TryRecvError::Empty) => None,
-                // Input ended: let the stream run out.
-                Err(mpsc::TryRecvError::Disconnected) => None,
-            }
-        } else {
-            match rx.recv() {
-                Ok(c) => Some(c),
-                // Input ended: a last line without its line end still runs.
-                Err(_) if !at_line_start => Some(Ok(vec![b'\n'])),
-                Err(_) => break,
-            }
-        };
-        match chunk {
-            Some(Err(e)) => return Err(CliError::new(format!("reading requests: {e}"))),
-            Some(Ok(bytes)) => {
-                for &b in &bytes {
-                    if at_line_start {
-                        p.request.clear();
-                        at_line_start = false;
-                    }
-                    let end = b == b'\n' || b == b'\r';
-                    if !end && p.request.len() < REQUEST_ECHO {
-                        p.request.push(b);
-                    }
-                    // `quit` and `exit` end the session (the console has no such requests).
-                    if end && matches!(p.request.trim_ascii(), b"quit" | b"exit") {
-                        break 'session;
-                    }
-                    reply.clear();
-                    // Raw bytes go to the console, which rejects non-ASCII itself.
-                    let _ = console.push(b, &mut reply);
-                    if p.take(&reply).is_err() {
-                        break 'session;
-                    }
-                    if end {
-                        at_line_start = true;
-                        if !console.streaming() && !p.request.is_empty() {
-                            prompt(&mut p);
-                        }
+        if console.streaming() {
+            let first_line = pending.iter().position(|&b| b == b'\n' || b == b'\r');
+            let stop_next = first_line.is_some_and(|n| {
+                let line: Vec<u8> = pending.iter().take(n).copied().collect();
+                let body = line.trim_ascii();
+                body == b"stop" || body.strip_prefix(b"stop*").is_some()
+            });
+            if !stop_next {
+                if first_line.is_none() && pending.len() < PENDING_MAX && !eof {
+                    match rx.try_recv() {
+                        Ok(Ok(c)) => pending.extend(c),
+                        Ok(Err(e)) => return Err(CliError::new(format!("reading requests: {e}"))),
+                        Err(mpsc::TryRecvError::Disconnected) => eof = true,
+                        Err(mpsc::TryRecvError::Empty) => {}
                     }
                 }
-            }
-            None => {
-                // One stream line, then look for input again.
+                // One stream line, then look at the input again.
                 reply.clear();
                 let more = console.poll(&mut reply).unwrap_or(false);
                 if p.take(&reply).is_err() {
@@ -279,6 +256,50 @@ pub fn run(link: &str, format: crate::output::Format) -> CliResult<()> {
                 if !more {
                     prompt(&mut p);
                 }
+                continue;
+            }
+        } else if pending.is_empty() {
+            if eof {
+                // A last line without its line end still runs.
+                if at_line_start {
+                    break;
+                }
+                pending.push_back(b'\n');
+            } else {
+                match rx.recv() {
+                    Ok(Ok(c)) => pending.extend(c),
+                    Ok(Err(e)) => return Err(CliError::new(format!("reading requests: {e}"))),
+                    Err(_) => eof = true,
+                }
+                continue;
+            }
+        }
+        // Give the console bytes until a line ends (it may start a stream).
+        while let Some(b) = pending.pop_front() {
+            if at_line_start {
+                p.request.clear();
+                at_line_start = false;
+            }
+            let end = b == b'\n' || b == b'\r';
+            if !end && p.request.len() < REQUEST_ECHO {
+                p.request.push(b);
+            }
+            // `quit` and `exit` end the session (the console has no such requests).
+            if end && matches!(p.request.trim_ascii(), b"quit" | b"exit") {
+                break 'session;
+            }
+            reply.clear();
+            // Raw bytes go to the console, which rejects non-ASCII itself.
+            let _ = console.push(b, &mut reply);
+            if p.take(&reply).is_err() {
+                break 'session;
+            }
+            if end {
+                at_line_start = true;
+                if !console.streaming() && !p.request.is_empty() {
+                    prompt(&mut p);
+                }
+                break;
             }
         }
     }

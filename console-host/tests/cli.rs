@@ -161,199 +161,73 @@ fn work_functions_correct_the_energy() {
 
 #[test]
 fn bad_input_exits_2_with_one_line() {
-    let bad: &[&[&str]] = &[
-        &["calc", "wavelength", "--energy", "0"],
-        &["calc", "wavelength", "--energy", "-5"],
-        &["calc", "wavelength", "--energy", "nan"],
-        &["calc", "wavelength", "--energy", "inf"],
-        &["calc", "wavelength", "--energy", "1e39"],
-        &["calc", "wavelength", "--energy", "abc"],
-        &["calc", "wavelength", "--energy", "400000"],
-        &[
-            "calc",
-            "wavelength",
-            "--energy",
-            "100",
-            "--inner-potential",
-            "-3",
-        ],
-        &[
-            "calc",
-            "wavelength",
-            "--energy",
-            "2",
-            "--sample-work-function",
-            "5",
-        ],
-        &[
-            "calc",
-            "reflections",
-            "--crystal",
-            "unobtainium",
-            "--energy",
-            "100",
-        ],
-        &[
-            "calc",
-            "reflections",
-            "--crystal",
-            "cu",
-            "--energy",
-            "100",
-            "--max",
-            "0",
-        ],
-        &[
-            "calc",
-            "rings",
-            "--crystal",
-            "cu",
-            "--energy",
-            "1e5",
-            "--screen-distance",
-            "0",
-        ],
-        &[
-            "calc",
-            "beams",
-            "--crystal",
-            "cu",
-            "--face",
-            "11",
-            "--energy",
-            "100",
-        ],
-        &[
-            "calc",
-            "beams",
-            "--crystal",
-            "cu",
-            "--face",
-            "000",
-            "--energy",
-            "100",
-        ],
-        &[
-            "calc",
-            "beams",
-            "--crystal",
-            "cu",
-            "--face",
-            "1.5,0,0",
-            "--energy",
-            "100",
-        ],
-        &[
-            "calc",
-            "beams",
-            "--crystal",
-            "cu",
-            "--face",
-            "0001",
-            "--energy",
-            "100",
-        ],
-        &[
-            "calc",
-            "beams",
-            "--crystal",
-            "zn",
-            "--face",
-            "1,1,1,1",
-            "--energy",
-            "100",
-        ],
-        &[
-            "calc",
-            "beams",
-            "--crystal",
-            "cu",
-            "--face",
-            "111",
-            "--energy",
-            "100",
-            "--tilt",
-            "95",
-        ],
-        &[
-            "calc",
-            "beams",
-            "--crystal",
-            "cu",
-            "--face",
-            "111",
-            "--energy",
-            "100",
-            "--tilt",
-            "nan",
-        ],
-        &[
-            "calc",
-            "ivpeaks",
-            "--crystal",
-            "cu",
-            "--face",
-            "111",
-            "--beam",
-            "3,0",
-            "--from",
-            "10",
-            "--to",
-            "20",
-        ],
-        &[
-            "calc",
-            "ivpeaks",
-            "--crystal",
-            "cu",
-            "--face",
-            "111",
-            "--beam",
-            "x",
-            "--from",
-            "10",
-            "--to",
-            "20",
-        ],
-        &[
-            "calc",
-            "ivpeaks",
-            "--crystal",
-            "cu",
-            "--face",
-            "111",
-            "--beam",
-            "0,0",
-            "--from",
-            "200",
-            "--to",
-            "20",
-        ],
-        &[
-            "calc",
-            "ivpeaks",
-            "--crystal",
-            "gaas",
-            "--face",
-            "100",
-            "--beam",
-            "0,0",
-            "--from",
-            "20",
-            "--to",
-            "200",
-        ],
-        &["calc", "nonsense"],
+    // Each case: the arguments and the whole stderr line after `mwctl: error: ` — the
+    // core's code (E1xx bad input, E2xx no physical solution) where the core found the
+    // error, none where mwctl's own checks or the argument parser did. `None`: checked
+    // below.
+    let bad: &[(&[&str], Option<&str>)] = &[
+        (&["calc", "wavelength", "--energy", "0"], Some("E102: --energy 0: energy below 1 eV; accepted 1 eV to 300000 eV")),
+        (&["calc", "wavelength", "--energy", "-5"], Some("E102: --energy -5: energy below 1 eV; accepted 1 eV to 300000 eV")),
+        (&["calc", "wavelength", "--energy", "nan"], Some("E101: --energy NaN: value is NaN or infinite; give a finite number")),
+        (&["calc", "wavelength", "--energy", "inf"], Some("E101: --energy inf: value is NaN or infinite; give a finite number")),
+        (&["calc", "wavelength", "--energy", "1e39"], Some("E101: --energy inf: value is NaN or infinite; give a finite number")),
+        (&["calc", "wavelength", "--energy", "abc"], Some("invalid value 'abc' for '--energy <EV>': invalid float literal; --energy <EV>: Nominal beam energy e·V_acc, eV (1 to 300000)")),
+        (&["calc", "wavelength", "--energy", "400000"], Some("E103: --energy 400000: energy above 300 keV; accepted 1 eV to 300000 eV")),
+        (&["calc", "wavelength", "--energy", "100", "--inner-potential", "-3"], Some("E102: --inner-potential -3: inner potential negative; accepted 0 to 100 eV")),
+        (&["calc", "wavelength", "--energy", "2", "--sample-work-function", "5"], Some("E104: --energy 2 --sample-work-function 5: kinetic energy at the sample below 1 eV after work-function and offset corrections; raise the gun energy")),
+        (&["calc", "reflections", "--crystal", "unobtainium", "--energy", "100"], None),
+        (&["calc", "reflections", "--crystal", "cu", "--energy", "100", "--max", "0"], Some("--max 0: give 1 to 10000")),
+        (&["calc", "rings", "--crystal", "cu", "--energy", "1e5", "--screen-distance", "0"], Some("--screen-distance 0: give a distance in mm, above 0 and at most 100000")),
+        (&["calc", "beams", "--crystal", "cu", "--face", "11", "--energy", "100"], Some("E116: --face '11': indices must be three integers (four, h k i l, for hexagonal crystals); write e.g. 111, 1-10, 1,1,0 or (1 -1 0)")),
+        (&["calc", "beams", "--crystal", "cu", "--face", "000", "--energy", "100"], Some("E110: --face '000': indices (0,0,0) name no plane; write e.g. 111, 1-10, 1,1,0 or (1 -1 0)")),
+        (&["calc", "beams", "--crystal", "cu", "--face", "1.5,0,0", "--energy", "100"], Some("E116: --face '1.5,0,0': indices must be three integers (four, h k i l, for hexagonal crystals); write e.g. 111, 1-10, 1,1,0 or (1 -1 0)")),
+        (&["calc", "beams", "--crystal", "cu", "--face", "0001", "--energy", "100"], Some("E113: --face '0001': four-index indices only apply to hexagonal crystals; write e.g. 111, 1-10, 1,1,0 or (1 -1 0)")),
+        (&["calc", "beams", "--crystal", "zn", "--face", "1,1,1,1", "--energy", "100"], Some("E112: --face '1,1,1,1': four-index (hkil) needs i = -(h+k); write e.g. 111, 1-10, 1,1,0 or (1 -1 0); four-index 0001 or 10-10")),
+        (&["calc", "beams", "--crystal", "cu", "--face", "111", "--energy", "100", "--tilt", "95"], Some("--tilt 95: give a finite angle in degrees within ±89.9")),
+        (&["calc", "beams", "--crystal", "cu", "--face", "111", "--energy", "100", "--tilt", "nan"], Some("--tilt NaN: give a finite angle in degrees within ±89.9")),
+        (&["calc", "ivpeaks", "--crystal", "cu", "--face", "111", "--beam", "3,0", "--from", "10", "--to", "20"], Some("E201: --beam 3,0: the beam emerges only at 276.17 eV at the sample (276.17 eV nominal), above --to 20: beam is evanescent at this energy and incidence; raise the energy or change the tilt")),
+        (&["calc", "ivpeaks", "--crystal", "cu", "--face", "111", "--beam", "x", "--from", "10", "--to", "20"], Some("--beam 'x': give two integers H,K such as 1,0 or -1,1 (compact 10 or -11 also works)")),
+        (&["calc", "ivpeaks", "--crystal", "cu", "--face", "111", "--beam", "0,0", "--from", "200", "--to", "20"], Some("--from 200 --to 20: 'from' must be below 'to'")),
+        (&["calc", "ivpeaks", "--crystal", "gaas", "--face", "100", "--beam", "0,0", "--from", "20", "--to", "200"], Some("no inner potential in the table for gaas; give --inner-potential EV")),
+        (&["calc", "nonsense"], Some("unknown command 'nonsense' for `mwctl calc`: accepted: wavelength, reflections, rings, beams, ivpeaks, aim, track, sweep, view, fit, budget")),
+        (&["calc"], Some("`mwctl calc` needs a command: one of wavelength, reflections, rings, beams, ivpeaks, aim, track, sweep, view, fit, budget")),
+        (&[], Some("`mwctl` needs a command: one of crystals, calc, demo, rig, safety, talk")),
+        (&["calc", "wavelength"], Some("the following required arguments were not provided: --energy <EV>; usage: mwctl calc wavelength --energy <EV>")),
+        (&["calc", "wavelength", "--energy", "100", "--bogus"], Some("unexpected argument '--bogus' found; usage: mwctl calc wavelength --energy <EV>")),
+        (&["--format", "xml", "crystals"], Some("invalid value 'xml' for '--format <FORMAT>' [possible values: table, json, csv]; --format <FORMAT>: Output format")),
+        (&["calc", "wavelength", "--energy"], Some("a value is required for '--energy <EV>' but none was supplied; --energy <EV>: Nominal beam energy e·V_acc, eV (1 to 300000)")),
+        (&["calc", "fit", "nonsense"], Some("invalid value 'nonsense' for '<KIND>' [possible values: peak, arm-zero, row-spacing, iv]")),
     ];
-    for args in bad {
+    for (args, want) in bad {
         let (code, out, err) = mwctl(args);
         assert_eq!(code, 2, "{args:?}: stdout {out} stderr {err}");
-        assert!(
-            !err.contains("panicked") && !err.contains("RUST_BACKTRACE"),
-            "{args:?}: {err}"
-        );
-        let first = err.lines().next().unwrap_or("");
-        assert!(first.contains("error"), "{args:?}: {err}");
+        assert!(out.is_empty(), "{args:?}: stdout {out}");
+        assert_eq!(err.lines().count(), 1, "{args:?}: not one line: {err}");
+        let line = err.trim_end();
+        let msg = line
+            .strip_prefix("mwctl: error: ")
+            .unwrap_or_else(|| panic!("{args:?}: {line}"));
+        match want {
+            Some(w) => assert_eq!(msg, *w, "{args:?}"),
+            None => {
+                // The unknown crystal: E115 and every id the table knows.
+                let ids: Vec<&str> = matterwave_core::table::all().iter().map(|c| c.id).collect();
+                assert_eq!(
+                    msg,
+                    format!(
+                        "E115: unknown crystal 'unobtainium'; known ids: {}",
+                        ids.join(", ")
+                    ),
+                    "{args:?}"
+                );
+            }
+        }
+    }
+    // Help and version are no errors: stdout, status 0.
+    for a in [&["--help"][..], &["calc", "--help"], &["--version"]] {
+        let (code, out, err) = mwctl(a);
+        assert_eq!(code, 0, "{a:?}: {err}");
+        assert!(err.is_empty() && !out.is_empty(), "{a:?}: {err}");
     }
 }
 
@@ -366,11 +240,97 @@ fn cautions_are_shown() {
     assert!(help.contains("not an interlock"));
 }
 
+/// The value after `label` on a `label:   value` line of a table report.
+fn labelled(out: &str, label: &str) -> f64 {
+    out.lines()
+        .find_map(|l| l.strip_prefix(label))
+        .and_then(|r| r.trim_start_matches(':').split_whitespace().next())
+        .and_then(|v| v.parse().ok())
+        .unwrap_or_else(|| panic!("no {label:?} in {out}"))
+}
+
 #[test]
 fn demo_runs() {
     let (code, out, err) = mwctl(&["demo"]);
     assert_eq!(code, 0, "{err}");
-    assert!(out.contains("ag") && out.contains("I-V"));
+    assert!(err.is_empty(), "{err}");
+    // The scenario (demo.rs): 95 eV nominal, LaB6 cathode 2.7 eV, Ag(100) 4.64 eV, tilt 6°.
+    // At the sample E = 95 + 2.7 − 4.64 = 93.06 eV (beam rules); λ from the f64 formula
+    // with CODATA 2018 hc = 12398.419843320 eV·Å, mc² = 510998.95 eV.
+    let e = 95.0 + 2.7 - 4.64;
+    let lambda = 12_398.419_843_320 / (e * (e + 2.0 * 510_998.95f64)).sqrt();
+    assert!(
+        (labelled(&out, "energy at sample (eV)") - e).abs() < 1e-3,
+        "{out}"
+    );
+    assert!(
+        (labelled(&out, "wavelength (Å)") - lambda).abs() < 2e-6,
+        "{out}"
+    );
+    // Ag(100): square mesh a/√2 with the table's a = 4.0853 Å (CRC Handbook, from
+    // memory); the (1,0) beam at tilt 6° leaves at sin θ = sin 6° + λ/|a1| (surface rules).
+    let a1 = 4.0853 / 2f64.sqrt();
+    assert!((labelled(&out, "|a1| (Å)") - a1).abs() < 1e-4, "{out}");
+    let theta = (6f64.to_radians().sin() + lambda / a1).asin().to_degrees();
+    let row = out
+        .lines()
+        .find(|l| l.split_whitespace().take(2).eq(["1", "0"]))
+        .unwrap_or_else(|| panic!("no (1,0) beam: {out}"));
+    let exit: f64 = row.split_whitespace().nth(3).unwrap().parse().unwrap();
+    assert!((exit - theta).abs() < 2e-3, "{row} vs {theta}");
+    assert_eq!(labelled(&out, "beams"), 17.0, "{out}");
+    // The controller session: one final line per request, each `ok`, with the values
+    // the scenario implies.
+    let session: Vec<&str> = out
+        .lines()
+        .skip_while(|l| !l.starts_with("== the controller"))
+        .skip(1)
+        .collect();
+    let requests = session.iter().filter(|l| l.starts_with("> ")).count();
+    let finals: Vec<&str> = session
+        .iter()
+        .filter_map(|l| l.strip_prefix("< "))
+        .filter(|l| !l.starts_with("- "))
+        .collect();
+    assert_eq!(requests, 7, "{session:?}");
+    assert_eq!(finals.len(), requests, "{session:?}");
+    assert!(
+        finals.iter().all(|l| *l == "ok" || l.starts_with("ok ")),
+        "{finals:?}"
+    );
+    assert!(finals.contains(&"ok count=2"), "{finals:?}");
+    assert!(finals.contains(&"ok enabled=1") && finals.contains(&"ok enabled=0"));
+    assert!(
+        finals.contains(&"ok points=11 reachable=11 estimate_s=30.5"),
+        "{finals:?}"
+    );
+    // Solution 0 is branch +1 at δ = α + θ (geometry rules), within a step of the bench
+    // arm (1/888.9°) plus the f32 rounding.
+    let sol0 = session
+        .iter()
+        .find(|l| l.starts_with("< - sol=0 "))
+        .unwrap_or_else(|| panic!("{session:?}"));
+    let arm: f64 = sol0
+        .split(' ')
+        .find_map(|t| t.strip_prefix("arm="))
+        .unwrap()
+        .parse()
+        .unwrap();
+    assert!(sol0.contains(" branch=1 "), "{sol0}");
+    assert!(
+        (arm - (6.0 + theta)).abs() < 1.2e-3 + 2e-3,
+        "{sol0} vs {}",
+        6.0 + theta
+    );
+    // The move lands on that solution's steps.
+    let steps = sol0
+        .split(' ')
+        .find_map(|t| t.strip_prefix("arm_steps="))
+        .unwrap();
+    assert!(
+        finals.contains(&format!("ok arm_steps={steps} tilt_steps=5333 azimuth_steps=0").as_str()),
+        "{finals:?}"
+    );
 }
 
 /// Machine output is typed: flags are JSON booleans, lists are arrays (common practice

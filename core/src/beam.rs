@@ -234,8 +234,11 @@ pub fn beta(energy_ev: f32) -> Result<f32> {
 ///
 /// ```
 /// # use matterwave_core::beam::velocity_m_s;
-/// // 100 eV electrons move at about 5.9e6 m/s (common practice, no source).
-/// assert!((velocity_m_s(100.0).unwrap() - 5.93e6).abs() < 0.01e6);
+/// // 100 eV: γ = 1 + E/mc² = 1.000195695, v = c·√(1 − 1/γ²) = 5.930099e6 m/s
+/// // (computed from CODATA 2018; the non-relativistic √(2E/m) is 870 m/s faster).
+/// assert!((velocity_m_s(100.0).unwrap() - 5.930099e6).abs() < 60.0);
+/// // 300 keV: β = 0.7765255, v = 2.327965e8 m/s (computed the same way).
+/// assert!((velocity_m_s(3.0e5).unwrap() / 2.327965e8 - 1.0).abs() < 1e-5);
 /// ```
 pub fn velocity_m_s(energy_ev: f32) -> Result<f32> {
     Ok(beta(energy_ev)? * C_M_S)

@@ -509,6 +509,12 @@ mod tests {
 
     #[test]
     fn extinctions() {
+        // Reflection conditions from International Tables for Crystallography Vol. A
+        // (from memory): I centring h+k+l = 2n; F centring h, k, l unmixed; diamond
+        // (Fd-3m, 8a) in addition h+k+l = 4n when all are even; hcp (P6₃/mmc, 2c) absent
+        // for l odd with h−k = 3n, which (0 0 1) and (1 1 1) are. The general rule is
+        // checked against structure factors of explicit atom bases in
+        // tests/tests/oracle_agreement.rs (`d_spacings_and_extinctions_agree`).
         use Structure::*;
         assert!(Bcc.allowed([1, 1, 0]) && !Bcc.allowed([1, 0, 0]));
         assert!(Fcc.allowed([1, 1, 1]) && Fcc.allowed([2, 0, 0]) && !Fcc.allowed([1, 1, 0]));

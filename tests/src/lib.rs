@@ -1,5 +1,11 @@
 //! Cross-crate conformance and end-to-end tests (see `tests/tests/`), and what the
-//! tests share.
+//! tests share: one random generator ([`Rng`]), the bridge from the core's table to the
+//! oracle ([`ocell`], [`exact`]) and the console harness ([`console`]).
+
+use matterwave_console::oracle::{self, OCell};
+use matterwave_core::table;
+
+pub mod console;
 
 /// SplitMix64: a small deterministic generator, so every failure reproduces from its
 /// seed. Shared by the randomised tests.
@@ -16,6 +22,23 @@ impl Rng {
         z ^ (z >> 31)
     }
 
+    /// A generator whose state is `seed` scrambled, so that nearby seeds give unrelated
+    /// streams.
+    pub fn seeded(seed: u64) -> Rng {
+        Rng(seed.wrapping_mul(0x9E37_79B9_7F4A_7C15) ^ 0xD1B5_4A32_D192_ED03)
+    }
+
+    /// Uniform in (0, 1): never 0, so its logarithm is finite.
+    pub fn open_unit(&mut self) -> f64 {
+        ((self.next() >> 11) as f64 + 0.5) / (1u64 << 53) as f64
+    }
+
+    /// Standard normal (Box–Muller).
+    pub fn normal(&mut self) -> f64 {
+        let (u, v) = (self.open_unit(), self.open_unit());
+        (-2.0 * u.ln()).sqrt() * (2.0 * std::f64::consts::PI * v).cos()
+    }
+
     /// Uniform in [0, 1).
     pub fn unit(&mut self) -> f64 {
         (self.next() >> 11) as f64 / (1u64 << 53) as f64
@@ -29,6 +52,11 @@ impl Rng {
     /// Uniform in [lo, hi] as f32.
     pub fn rangef(&mut self, lo: f32, hi: f32) -> f32 {
         (self.range(lo as f64, hi as f64) as f32).clamp(lo, hi)
+    }
+
+    /// Uniform integer in [0, n) (n > 0).
+    pub fn below(&mut self, n: usize) -> usize {
+        (self.next() >> 33) as usize % n
     }
 
     /// Uniform integer in [lo, hi].
@@ -82,4 +110,26 @@ impl Rng {
             }
         }
     }
+}
+
+/// The oracle's cell for a crystal of the core's table (the same constants, in f64).
+pub fn ocell(c: &table::Crystal) -> OCell {
+    let s = oracle::structure_from_name(c.structure.name()).expect("oracle knows every structure");
+    OCell {
+        structure: s,
+        a: c.a_a as f64,
+        b: c.b_a as f64,
+        c: c.c_a as f64,
+    }
+}
+
+/// A lattice vector given in half conventional axes (as the core's `Face` stores its
+/// mesh) rebuilt exactly in f64 from the oracle's cell vectors.
+pub fn exact(oc: &OCell, half: [i32; 3]) -> [f64; 3] {
+    let a = oc.direct_vectors();
+    let mut v = [0.0; 3];
+    for (i, vi) in v.iter_mut().enumerate() {
+        *vi = (0..3).map(|j| a[j][i] * half[j] as f64 * 0.5).sum();
+    }
+    v
 }

@@ -18,9 +18,9 @@
 //! core/src/goniometer/, "fit rules" those of docs/CALIBRATION.md.
 
 use matterwave_core::console::sim::{SimAxes, SimDetector, SimInterlock};
-use matterwave_core::console::Console;
+use matterwave_tests::console::{drain, feed, request, sim_console, SimConsole};
 
-type Con = Console<SimAxes, SimDetector, SimInterlock>;
+type Con = SimConsole;
 
 /// `ok` as an expected "code".
 const OK: u16 = 0;
@@ -193,33 +193,6 @@ const CATALOGUE: &[Case] = &[
     case("axis rules: bad axis config: negative speed (305)", &[], b"axis name=arm max_speed_deg_s=-1\n", &[305]),
 ];
 
-/// Feeds `bytes` without polling; returns what was written.
-fn feed(c: &mut Con, bytes: &[u8]) -> String {
-    let mut out = Vec::new();
-    for &b in bytes {
-        c.push(b, &mut out).expect("reply written");
-    }
-    String::from_utf8(out).expect("ASCII reply")
-}
-
-/// Polls a running stream to its end; returns what was written.
-fn drain(c: &mut Con) -> String {
-    let mut out = Vec::new();
-    let mut n = 0;
-    while c.poll(&mut out).expect("stream line written") {
-        n += 1;
-        assert!(n < 200_000, "stream never ends");
-    }
-    String::from_utf8(out).expect("ASCII reply")
-}
-
-/// One request line, its stream polled out; returns the whole reply.
-fn request(c: &mut Con, line: &str) -> String {
-    let mut r = feed(c, format!("{line}\n").as_bytes());
-    r.push_str(&drain(c));
-    r
-}
-
 /// Final lines of a reply (not `- ` items), checksum suffix removed.
 fn finals(reply: &str) -> Vec<&str> {
     reply
@@ -261,7 +234,7 @@ fn observe(c: &mut Con) -> String {
 /// Runs the setup of a case on a fresh console. Returns the console, whether a stream
 /// was left running and the state observed before that stream started.
 fn prepare(k: &Case) -> (Con, String) {
-    let mut c = Console::new(
+    let mut c = Con::new(
         SimAxes::default(),
         SimDetector::default(),
         SimInterlock { safe: k.safe },
@@ -405,12 +378,7 @@ fn the_same_input_gives_the_same_output() {
 #[test]
 fn minus_zero_is_accepted_as_zero() {
     // protocol rules (numbers): -0 is a number, read as 0, and never shown as "-0".
-    let mut c = Console::new(
-        SimAxes::default(),
-        SimDetector::default(),
-        SimInterlock { safe: true },
-    )
-    .expect("factory settings");
+    let mut c = sim_console();
     for (line, field) in [
         ("set tilt=-0", "tilt=0"),
         ("set offset=-0", "offset=0"),
@@ -437,12 +405,7 @@ fn minus_zero_is_accepted_as_zero() {
 fn boundary_controls_are_accepted() {
     // The positive side of the boundaries above, so that the catalogue does not pass
     // by refusing everything.
-    let mut c = Console::new(
-        SimAxes::default(),
-        SimDetector::default(),
-        SimInterlock { safe: true },
-    )
-    .expect("factory settings");
+    let mut c = sim_console();
     // protocol rules: exactly 120 bytes is accepted ("get" and 117 blanks).
     let line = format!("get{}", " ".repeat(117));
     assert_eq!(line.len(), 120);
@@ -477,12 +440,7 @@ fn boundary_controls_are_accepted() {
 /// different dump afterwards.
 fn replay_problems(dump: &str) -> Vec<String> {
     let mut problems = Vec::new();
-    let mut fresh = Console::new(
-        SimAxes::default(),
-        SimDetector::default(),
-        SimInterlock { safe: true },
-    )
-    .expect("factory settings");
+    let mut fresh = sim_console();
     for item in dump.lines().filter_map(|l| l.strip_prefix("- ")) {
         if item.len() > 120 {
             problems.push(format!(
@@ -548,12 +506,7 @@ fn dump_replays_as_commands_on_a_fresh_console() {
     ];
     let mut failures = Vec::new();
     for (name, lines) in setups {
-        let mut c = Console::new(
-            SimAxes::default(),
-            SimDetector::default(),
-            SimInterlock { safe: true },
-        )
-        .expect("factory settings");
+        let mut c = sim_console();
         for l in lines {
             let r = request(&mut c, l);
             assert!(r.starts_with("ok"), "{name}: setup {l}: {r}");
@@ -876,12 +829,7 @@ fn final_line(reply: &str) -> String {
 }
 
 fn fresh() -> Con {
-    Console::new(
-        SimAxes::default(),
-        SimDetector::default(),
-        SimInterlock { safe: true },
-    )
-    .expect("factory settings")
+    sim_console()
 }
 
 #[test]

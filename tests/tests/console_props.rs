@@ -16,26 +16,26 @@
 //!   positions, and (for the line-level test) the solution and point buffers that
 //!   `status` reports;
 //! * motion starts only when enabled and the interlock is safe, and never goes beyond
-//!   the limits or into a forbidden zone: every target passes
-//!   `check_angle(steps_to_deg(steps))` for the rig in force, and the path there
-//!   (including the backlash turn-round) misses every zone that does not contain the
-//!   start — checked by an independent interval computation, not by `check_path`.
+//!   the limits or into a forbidden zone: every target lies inside the limits and
+//!   outside every zone of the rig in force, and the path there (including the
+//!   backlash turn-round) misses every zone that does not contain the start — checked
+//!   by an independent interval computation, not by `check_angle` or `check_path`.
 //!
 //! The default home position (arm 0°) lies inside the default gun zone (±12°), so the
 //! resting position of an axis the console never moved is not required to be allowed;
 //! every position the console commands is.
 //!
-//! Sizes: 2,000 cases × 50 chunks = 100,000 random byte chunks, and 2,000 cases × 50
-//! lines = 100,000 request lines.
+//! Sizes: 2,000 cases × 50 chunks = 100,000 random byte chunks (fixed seeds), and 2,000
+//! cases × 50 lines = 100,000 request lines (proptest).
 
 use matterwave_core::axis::AxisConfig;
 use matterwave_core::console::controller::MAX_REPLY;
-use matterwave_core::console::line::MAX_LINE;
-use matterwave_core::console::sim::{SimAxes, SimDetector, SimInterlock};
-use matterwave_core::console::{AxisDriver, Console, Settings};
+use matterwave_core::console::Settings;
 use matterwave_core::goniometer::axis_index;
 use matterwave_core::table;
 use matterwave_core::AxisId;
+use matterwave_tests::console::{crc16_ref, rec_console, with_crc, Event, LineModel, RecConsole};
+use matterwave_tests::Rng;
 use proptest::prelude::*;
 
 /// Cases per property; each case carries `PER_CASE` chunks or lines.
@@ -53,105 +53,7 @@ const EPS: f64 = 1e-4;
 // The harness: a console on recording sim axes, an independent line model, checks
 // ---------------------------------------------------------------------------------
 
-/// One started motion: axis, steps before, backlash turn-round, target.
-type Start = (AxisId, i32, Option<i32>, i32);
-
-/// `SimAxes` that also records every motion the console starts.
-#[derive(Default)]
-struct Axes {
-    sim: SimAxes,
-    starts: Vec<Start>,
-}
-
-impl AxisDriver for Axes {
-    fn position(&mut self, axis: AxisId) -> i32 {
-        self.sim.position(axis)
-    }
-    fn start(&mut self, axis: AxisId, via: Option<i32>, target: i32) {
-        let from = self.sim.position(axis);
-        self.starts.push((axis, from, via, target));
-        self.sim.start(axis, via, target);
-    }
-    fn busy(&mut self) -> bool {
-        self.sim.busy()
-    }
-    fn stop(&mut self) {
-        self.sim.stop();
-    }
-}
-
-type Con = Console<Axes, SimDetector, SimInterlock>;
-
-/// CRC-16/IBM-3740 (poly 0x1021, init 0xFFFF, no reflection), bit by bit: an
-/// independent reference for the `*XXXX` checksums (check value of "123456789" is
-/// 0x29B1, per the CRC catalogue entry for CRC-16/IBM-3740).
-fn crc16_ref(data: &[u8]) -> u16 {
-    let mut crc: u16 = 0xFFFF;
-    for &b in data {
-        crc ^= u16::from(b) << 8;
-        for _ in 0..8 {
-            crc = if crc & 0x8000 != 0 {
-                (crc << 1) ^ 0x1021
-            } else {
-                crc << 1
-            };
-        }
-    }
-    crc
-}
-
-/// `line*XXXX` with the correct checksum.
-fn with_crc(line: &str) -> String {
-    format!("{line}*{:04X}", crc16_ref(line.as_bytes()))
-}
-
-/// How a completed input line should be treated (protocol rules: LF, CR or CRLF ends a
-/// line; a documented maximum length, 120; printable ASCII and tab only; the first
-/// problem in a line wins).
-#[derive(Debug)]
-enum Event {
-    Blank,
-    TooLong,
-    BadByte,
-    Line(String),
-}
-
-#[derive(Default)]
-struct LineModel {
-    buf: Vec<u8>,
-    problem: Option<Event>,
-    after_cr: bool,
-}
-
-impl LineModel {
-    fn push(&mut self, b: u8) -> Option<Event> {
-        let after_cr = std::mem::replace(&mut self.after_cr, false);
-        match b {
-            b'\n' if after_cr => None,
-            b'\n' | b'\r' => {
-                self.after_cr = b == b'\r';
-                let line = std::mem::take(&mut self.buf);
-                Some(match self.problem.take() {
-                    Some(p) => p,
-                    None if line.iter().all(|&c| c == b' ' || c == b'\t') => Event::Blank,
-                    None => Event::Line(String::from_utf8(line).unwrap()),
-                })
-            }
-            _ => {
-                if self.problem.is_none() {
-                    if !(b == b'\t' || (0x20..=0x7E).contains(&b)) {
-                        self.problem = Some(Event::BadByte);
-                    } else if self.buf.len() >= MAX_LINE {
-                        self.problem = Some(Event::TooLong);
-                    } else {
-                        self.buf.push(b);
-                    }
-                }
-                None
-            }
-        }
-    }
-}
+type Con = RecConsole;
 
 /// Shape of a reply line.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -260,6 +162,22 @@ fn leg_ok(cfg: &AxisConfig, from: f64, to: f64) -> Result<(), String> {
     Ok(())
 }
 
+/// Independent check of where a motion ends, not using `check_angle`: inside the limits
+/// (unless wrap) and outside every zone (narrowed by `EPS` for f32 rounding at edges).
+fn landing_ok(cfg: &AxisConfig, x: f64) -> Result<(), String> {
+    let (min, max) = (f64::from(cfg.min_deg), f64::from(cfg.max_deg));
+    if !cfg.wrap && (x < min - EPS || x > max + EPS) {
+        return Err(format!("{x} deg beyond the limits {min}..{max}"));
+    }
+    for z in cfg.zones.iter().flatten() {
+        let (zf, zt) = (f64::from(z.from_deg), f64::from(z.to_deg));
+        if in_zone(zf, zt, x, cfg.wrap, -EPS) {
+            return Err(format!("{x} deg inside the zone {zf}..{zt}"));
+        }
+    }
+    Ok(())
+}
+
 /// A console session under test: the console, the line model and bookkeeping.
 struct Session {
     c: Con,
@@ -288,12 +206,7 @@ struct Stats {
 
 impl Session {
     fn new(safe: bool) -> Session {
-        let c = Console::new(
-            Axes::default(),
-            SimDetector::default(),
-            SimInterlock { safe },
-        )
-        .expect("factory settings are valid");
+        let c = rec_console(safe);
         Session {
             c,
             model: LineModel::default(),
@@ -338,12 +251,9 @@ impl Session {
                 .axis(id)
                 .unwrap_or_else(|_| panic!("motion of missing axis {id:?}: {what}"));
             let deg = |s: i32| cfg.steps_to_deg(s);
-            assert_eq!(
-                cfg.check_angle(deg(target)),
-                Ok(()),
-                "{id:?} sent to {target} steps = {} deg: {what}",
-                deg(target)
-            );
+            if let Err(e) = landing_ok(cfg, f64::from(deg(target))) {
+                panic!("{id:?} sent to {target} steps: {e}: {what}");
+            }
             let legs: Vec<(i32, i32)> = match via {
                 Some(v) => vec![(from, v), (v, target)],
                 None => vec![(from, target)],
@@ -600,24 +510,24 @@ const COMMANDS: [&str; 22] = [
 /// 0xFF, separators), mixed below with uniformly random ones.
 const LIKELY: &[u8] = b"\n\r\n\r\n\rabcdefghijklmnopqrstuvwxyz0123456789====****  \t\x00\xff-.,";
 
-/// A small fast generator (xorshift64*) for the byte streams: proptest supplies and
-/// reports the seed; building 100,000 chunks through proptest's value trees would take
-/// most of the run time in a debug build.
-struct Rng(u64);
-
-impl Rng {
-    fn next(&mut self) -> u64 {
-        let mut x = self.0;
-        x ^= x >> 12;
-        x ^= x << 25;
-        x ^= x >> 27;
-        self.0 = x;
-        x.wrapping_mul(0x2545_F491_4F6C_DD1D)
-    }
-    fn below(&mut self, n: usize) -> usize {
-        (self.next() >> 33) as usize % n
-    }
-}
+/// Well-formed requests mixed into the random byte streams.
+const VALID: &[&str] = &[
+    "enable",
+    "enable",
+    "move arm=40",
+    "move arm=-30 tilt=5",
+    "move tilt=-10 azimuth=90",
+    "aim",
+    "move sol=0",
+    "move sol=1",
+    "set energy=150 beam=1,1",
+    "plan kind=track from=50 to=150 step=10",
+    "beams",
+    "read",
+    "pos",
+    "stop",
+    "disable",
+];
 
 /// A chunk of a random byte stream: sometimes a real command word first, then up to 35
 /// bytes (3 in 10 uniformly random, the rest from `LIKELY`), then a line end — so that
@@ -625,6 +535,13 @@ impl Rng {
 fn chunk(rng: &mut Rng) -> Vec<u8> {
     const ENDS: [&[u8]; 4] = [b"\n", b"\r", b"\r\n", b"\n\n"];
     let mut v = Vec::with_capacity(48);
+    // One chunk in six is a well-formed request, so that random streams also reach
+    // motion, streams and their interruption.
+    if rng.below(6) == 0 {
+        v.extend_from_slice(VALID[rng.below(VALID.len())].as_bytes());
+        v.extend_from_slice(ENDS[rng.below(ENDS.len())]);
+        return v;
+    }
     if rng.below(5) < 2 {
         v.extend_from_slice(COMMANDS[rng.below(COMMANDS.len())].as_bytes());
         v.push(b' ');
@@ -976,29 +893,6 @@ fn request() -> impl Strategy<Value = Vec<u8>> {
 proptest! {
     #![proptest_config(ProptestConfig { cases: CASES, ..ProptestConfig::default() })]
 
-    /// 100,000 random byte chunks (2,000 cases × 50): no panic, one final line per
-    /// request, failed requests change nothing, motion stays allowed. Polls per byte:
-    /// 0 (requests pile onto a running stream), 1, or to the end of the stream.
-    #[test]
-    fn random_byte_streams(
-        safe in prop::bool::weighted(0.8),
-        polls in prop::sample::select(&[0u32, 1, STREAM_CAP][..]),
-        seed in any::<u64>(),
-    ) {
-        let mut rng = Rng(seed | 1);
-        let mut s = Session::new(safe);
-        for _ in 0..PER_CASE {
-            let ch = chunk(&mut rng);
-            s.last_input = ch.clone();
-            for &b in &ch {
-                s.push(b);
-                s.poll(polls);
-            }
-        }
-        s.finish_stream();
-        prop_assert!(s.stats.requests >= PER_CASE as u64);
-    }
-
     /// 100,000 generated request lines (2,000 cases × 50): as above, plus the buffers
     /// `status` reports are unchanged by every `err`; the interlock flips between lines
     /// now and then; one case in five leaves streams running between lines (so that
@@ -1057,13 +951,64 @@ proptest! {
     }
 }
 
-/// The generators reach what they are meant to: a fixed sample of lines produces every
-/// class of reply (catches a generator that silently stopped producing, say, moves).
+/// 100,000 random byte chunks (2,000 cases × 50): no panic, one final line per
+/// request, failed requests change nothing, motion stays allowed. Polls per byte:
+/// 0 (requests pile onto a running stream), 1, or to the end of the stream. The cases
+/// come from fixed seeds (a failure names its case), and what they reach is counted.
+#[test]
+fn random_byte_streams() {
+    let mut rng = Rng(0xb17e_5eed);
+    let mut total = Stats::default();
+    for case in 0..CASES {
+        let safe = rng.chance(0.8);
+        let polls = rng.select(&[0u32, 1, STREAM_CAP]);
+        let seed = rng.next();
+        let mut chunks = Rng(seed);
+        let mut s = Session::new(safe);
+        let r = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+            for _ in 0..PER_CASE {
+                let ch = chunk(&mut chunks);
+                s.last_input = ch.clone();
+                for &b in &ch {
+                    s.push(b);
+                    s.poll(polls);
+                }
+            }
+            s.finish_stream();
+            s.stats
+        }));
+        let st = r.unwrap_or_else(|_| {
+            panic!("case {case} (safe {safe}, polls {polls}, chunk seed {seed:#x}) failed")
+        });
+        // Every chunk ends at least one line.
+        assert!(st.requests >= PER_CASE as u64, "case {case}: {st:?}");
+        total.requests += st.requests;
+        total.ok += st.ok;
+        total.err += st.err;
+        total.streams += st.streams;
+        total.aborted += st.aborted;
+        total.moves += st.moves;
+    }
+    println!("random byte streams: {CASES} cases × {PER_CASE} chunks: {total:?}");
+    // Most random bytes make errors; enough make valid requests, streams and moves
+    // (measured at the time of writing: 11,233 ok of 189,312 requests, 3,507 streams,
+    // 214 stopped, 592 requests that moved).
+    let n = (CASES as usize * PER_CASE) as u64;
+    assert!(total.ok > n / 50, "{total:?}");
+    assert!(total.err > n / 2, "{total:?}");
+    assert!(total.streams > n / 500, "{total:?}");
+    assert!(total.aborted > 100, "{total:?}");
+    assert!(total.moves > 300, "{total:?}");
+}
+
+/// The generators reach what they are meant to: a fixed sample of lines (a
+/// deterministic runner) produces every class of reply (catches a generator that
+/// silently stopped producing, say, moves).
 #[test]
 fn generators_reach_every_outcome() {
     use proptest::strategy::ValueTree;
-    use proptest::test_runner::{Config, TestRunner};
-    let mut runner = TestRunner::new(Config::default());
+    use proptest::test_runner::TestRunner;
+    let mut runner = TestRunner::deterministic();
     let mut s = Session::new(true);
     let mut codes = std::collections::BTreeSet::new();
     for _ in 0..3_000 {

@@ -1,35 +1,8 @@
 //! Named regressions for the console: each test is one sequence that once did the wrong
 //! thing, run on the simulated board.
 
-use matterwave_core::console::sim::{SimAxes, SimDetector, SimInterlock};
-use matterwave_core::console::Console;
 use matterwave_core::table;
-
-type Con = Console<SimAxes, SimDetector, SimInterlock>;
-
-fn console() -> Con {
-    Console::new(
-        SimAxes::default(),
-        SimDetector::default(),
-        SimInterlock { safe: true },
-    )
-    .expect("factory settings")
-}
-
-/// One request, its stream polled out; the whole reply.
-fn request(c: &mut Con, line: &str) -> String {
-    let mut out = Vec::new();
-    for &b in format!("{line}\n").as_bytes() {
-        c.push(b, &mut out).expect("reply written");
-        while c.poll(&mut out).expect("stream line written") {}
-    }
-    String::from_utf8(out).expect("ASCII reply")
-}
-
-/// The final line of a reply.
-fn last(reply: &str) -> &str {
-    reply.lines().last().unwrap_or("")
-}
+use matterwave_tests::console::{last, request, sim_console as console, SimConsole as Con};
 
 /// An `aim` that fails must not leave the previous beam's solutions for `move sol=`
 /// (the arm would go to the old beam). Common practice, no source.

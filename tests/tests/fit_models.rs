@@ -9,11 +9,10 @@
 //! Broglie wavelength λ = hc/√(E(E + 2mc²)) with hc = 12398.419843320 eV·Å and
 //! mc² = 510998.95000 eV (CODATA 2018).
 
-use matterwave_core::console::sim::{SimAxes, SimDetector, SimInterlock};
-use matterwave_core::console::Console;
 use matterwave_core::fit;
 use matterwave_core::lattice::{Cell, Structure};
 use matterwave_core::surface::Face;
+use matterwave_tests::console::{feed_polled, last, sim_console};
 use matterwave_tests::Rng;
 
 /// Cu lattice constant, Å (CRC Handbook, 20 °C, 3.6149; the crystal table's value).
@@ -40,34 +39,20 @@ fn face() -> Face {
 
 /// `fit kind=armzero` on a fresh simulated console with these points; the ok line.
 fn console_fit(tilt: f32, pts: &[(f32, f32)]) -> String {
-    let mut c = Console::new(
-        SimAxes::default(),
-        SimDetector::default(),
-        SimInterlock { safe: true },
-    )
-    .unwrap();
-    let mut out = Vec::new();
-    let mut send = |c: &mut Console<_, _, _>, line: String| {
-        for &b in line.as_bytes() {
-            c.push(b, &mut out).unwrap();
-            while c.poll(&mut out).unwrap() {}
-        }
-    };
-    send(
+    let mut c = sim_console();
+    let mut text = feed_polled(
         &mut c,
-        format!("set crystal=cu face=100 beam=1,0 tilt={tilt}\n"),
+        format!("set crystal=cu face=100 beam=1,0 tilt={tilt}\n").as_bytes(),
     );
     for (e, arm) in pts {
-        send(&mut c, format!("pt x={e} y={arm}\n"));
+        text += &feed_polled(&mut c, format!("pt x={e} y={arm}\n").as_bytes());
     }
-    send(&mut c, "fit kind=armzero\n".to_string());
-    let text = String::from_utf8(out).unwrap();
-    text.lines().last().unwrap().to_string()
+    text += &feed_polled(&mut c, b"fit kind=armzero\n");
+    last(&text).to_string()
 }
 
 fn field(line: &str, key: &str) -> f64 {
-    line.split(' ')
-        .find_map(|t| t.strip_prefix(key).and_then(|v| v.strip_prefix('=')))
+    matterwave_tests::console::field(line, key)
         .unwrap_or_else(|| panic!("{key} missing: {line}"))
         .parse()
         .unwrap()

@@ -8,7 +8,7 @@
 //! Random cases come from a fixed-seed SplitMix64, so a failure reproduces. The largest
 //! errors seen are printed (`cargo test -p matterwave-tests --test geometry -- --nocapture`).
 
-use matterwave_console::oracle::{self, OCell};
+use matterwave_console::oracle;
 use matterwave_core::axis::{Approach, AxisConfig};
 use matterwave_core::goniometer::{self, AimRequest, InView, Mode, Rig, Solution};
 use matterwave_core::lattice::{Cell, Structure, System};
@@ -16,7 +16,7 @@ use matterwave_core::reflections::{self, Reflection};
 use matterwave_core::scan;
 use matterwave_core::surface::{Face, Incidence};
 use matterwave_core::{beam, table, AxisId, Error};
-use matterwave_tests::Rng;
+use matterwave_tests::{exact, ocell, Rng};
 
 // ---------------------------------------------------------------------------------
 // Helpers
@@ -36,25 +36,13 @@ fn target(sp: &matterwave_core::axis::Setpoint) -> f64 {
     sp.angle_deg as f64 + sp.residual_deg as f64
 }
 
-fn ocell(c: &table::Crystal) -> OCell {
-    let s = oracle::structure_from_name(c.structure.name()).expect("oracle knows every structure");
-    OCell {
-        structure: s,
-        a: c.a_a as f64,
-        b: c.b_a as f64,
-        c: c.c_a as f64,
-    }
-}
-
-/// A mesh vector of the core (given in half conventional axes) rebuilt exactly in f64
-/// from the oracle's cell vectors (as in oracle_agreement.rs).
-fn exact(oc: &OCell, half: [i32; 3]) -> [f64; 3] {
-    let a = oc.direct_vectors();
-    let mut v = [0.0; 3];
-    for (i, vi) in v.iter_mut().enumerate() {
-        *vi = (0..3).map(|j| a[j][i] * half[j] as f64 * 0.5).sum();
-    }
-    v
+/// Row spacing 1/|g| of rod (h, k), Å, from the oracle's own mesh of the face (the
+/// documented mesh rule, which `oracle_agreement.rs` holds the core to) — not from the
+/// core's `row_spacing_a`.
+fn oracle_row_spacing_a(c: &table::Crystal, f: &Face, rod: [i32; 2]) -> f64 {
+    let om = oracle::mesh_by_rule(&ocell(c), f.miller).expect("oracle mesh");
+    let g = oracle::rod_vector(om.a1, om.a2, om.normal, rod);
+    1.0 / (g[0] * g[0] + g[1] * g[1] + g[2] * g[2]).sqrt()
 }
 
 /// Every face the crystal table lists, built once.
@@ -166,7 +154,7 @@ fn specular_beam_sits_at_twice_the_tilt() {
 
 #[test]
 fn normal_incidence_exit_is_asin_lambda_over_row_spacing() {
-    // surface rules: at normal incidence sin θ = λ/d_row, d_row = 1/|g| = row_spacing_a(rod);
+    // surface rules: at normal incidence sin θ = λ/d_row, d_row = 1/|g| (the oracle's);
     // geometry rules: in-plane δ = α + θ_out, so at α = 0 the arm sits at ±θ (branch s).
     let faces = table_faces();
     let open = open_rig();
@@ -180,7 +168,9 @@ fn normal_incidence_exit_is_asin_lambda_over_row_spacing() {
                 if rod == [0, 0] {
                     continue;
                 }
-                let d_row = f.row_spacing_a(rod).unwrap() as f64;
+                let d_row = oracle_row_spacing_a(c, f, rod);
+                let core_d = f.row_spacing_a(rod).unwrap() as f64;
+                assert!((core_d / d_row - 1.0).abs() < 2e-6, "{} {rod:?}", c.id);
                 for e in [15.0f32, 40.0, 100.0, 250.0, 600.0, 2000.0, 2.0e4] {
                     let lam = oracle::wavelength_a(e as f64);
                     let x = lam / d_row;
@@ -268,7 +258,7 @@ fn oblique_in_plane_both_branches() {
         // |α| ≤ 79.9°: the tilt's 0.05° backlash turn-round must stay inside its ±80° limits.
         let tilt = rng.range(-79.9, 79.9) as f32;
         let lam = oracle::wavelength_a(e as f64);
-        let g = 1.0 / f.row_spacing_a(rod).unwrap() as f64;
+        let g = 1.0 / oracle_row_spacing_a(c, f, rod);
         let sa = (tilt as f64).to_radians().sin();
         let r = goniometer::aim(
             &rig,

@@ -179,3 +179,89 @@ pub fn rod_vector(a1: [f64; 3], a2: [f64; 3], normal: [f64; 3], rod: [i32; 2]) -
     let (b1, b2) = rod_basis(a1, a2, normal);
     add(scale(rod[0] as f64, b1), scale(rod[1] as f64, b2))
 }
+
+/// A face's mesh chosen by the rule the core documents (see `DEVELOPERS.md`, "Geometry
+/// conventions"), from the raw face indices: the indices reduced by their common divisor;
+/// a1 a shortest in-plane Bravais lattice vector, a2 a shortest one not parallel to a1,
+/// (a1, a2, n̂) right-handed; among equal lengths the lexicographically larger
+/// conventional coordinates win, for a1 and then for a2, whose sign is set for the
+/// handedness after that choice (so the tie is decided before the sign).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct ORuleMesh {
+    /// The face indices reduced by their common divisor.
+    pub miller: [i32; 3],
+    /// a1 in conventional coordinates, in units of half a cell axis.
+    pub a1_half: [i32; 3],
+    /// a2 in conventional coordinates, in units of half a cell axis.
+    pub a2_half: [i32; 3],
+    /// a1, Cartesian (crystal frame), Å.
+    pub a1: [f64; 3],
+    /// a2, Cartesian (crystal frame), Å.
+    pub a2: [f64; 3],
+    /// Unit outward normal along G(reduced hkl).
+    pub normal: [f64; 3],
+    /// Angle between a1 and a2 (not folded), degrees in (0°, 180°).
+    pub gamma_deg: f64,
+}
+
+/// The mesh of face `hkl` (any common divisor) under the documented rule, by brute force
+/// over Bravais lattice points; `None` for (0,0,0) or beyond the search range.
+pub fn mesh_by_rule(cell: &OCell, hkl: [i32; 3]) -> Option<ORuleMesh> {
+    let g = gcd(gcd(hkl[0] as i64, hkl[1] as i64), hkl[2] as i64);
+    if g == 0 {
+        return None;
+    }
+    let miller = hkl.map(|x| (x as i64 / g) as i32);
+    let n = face_normal(cell, miller);
+    let recip = cell.reciprocal_vectors();
+    // Conventional coordinates r·B_i, in half axes (every centring translation is a
+    // multiple of ½).
+    let half = |r: V3| recip.map(|b| (2.0 * dot(r, b)).round() as i32);
+    let amax = cell
+        .direct_vectors()
+        .iter()
+        .map(|a| norm(*a))
+        .fold(0.0, f64::max);
+    let mut radius = 2.0 * amax;
+    for _ in 0..10 {
+        let tol = 1e-9 * radius;
+        let mut pts: Vec<(f64, [i32; 3], V3)> = cell
+            .lattice_points_near_origin(radius)
+            .into_iter()
+            .filter(|r| dot(*r, n).abs() < tol)
+            .map(|r| (norm(r), half(r), r))
+            .collect();
+        // Shortest first; among equal lengths the lexicographically larger coordinates.
+        pts.sort_by(|p, q| {
+            if (p.0 - q.0).abs() <= 1e-9 * p.0.max(q.0) {
+                q.1.cmp(&p.1)
+            } else {
+                p.0.total_cmp(&q.0)
+            }
+        });
+        if let Some(&(_, a1_half, a1)) = pts.first() {
+            let noncollinear = |u: V3, v: V3| norm(cross(u, v)) > 1e-9 * norm(u) * norm(v);
+            // The first non-parallel point in that order, then its sign set so that
+            // (a1, a2, n̂) is right-handed.
+            if let Some(&(_, h, v)) = pts.iter().find(|p| noncollinear(a1, p.2)) {
+                let (a2_half, a2) = if dot(cross(a1, v), n) > 0.0 {
+                    (h, v)
+                } else {
+                    (h.map(|x| -x), scale(-1.0, v))
+                };
+                let gamma = norm(cross(a1, a2)).atan2(dot(a1, a2)).to_degrees();
+                return Some(ORuleMesh {
+                    miller,
+                    a1_half,
+                    a2_half,
+                    a1,
+                    a2,
+                    normal: n,
+                    gamma_deg: gamma,
+                });
+            }
+        }
+        radius *= 2.0;
+    }
+    None
+}

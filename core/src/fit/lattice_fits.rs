@@ -27,8 +27,8 @@ pub(super) fn check_order(n: i32) -> Result<i32> {
 ///
 /// Errors: fewer than 2 points → `TooFewPoints`; bad energy → the [`beam`] error;
 /// |n| > [`MAX_ORDER`] → `TooHigh`/`TooLow(Index)`; exit angle NaN/infinite →
-/// `NotFinite(Angle)`, |exit| ≥ 90° → `TooHigh`/`TooLow(Angle)`; all orders 0, or a
-/// negative fitted 1/d → `DegenerateFit`.
+/// `NotFinite(Angle)`, |exit| ≥ 90° → `TooHigh`/`TooLow(Angle)`; all orders 0, a
+/// negative fitted 1/d, or a d or σ beyond the f32 range → `DegenerateFit`.
 ///
 /// ```
 /// use matterwave_core::{beam, fit::row_spacing, math};
@@ -72,9 +72,16 @@ pub fn row_spacing(points: &[(f32, i32, f32)]) -> Result<Fit1> {
         let r = exit - pred;
         ss += r * r;
     }
+    // d and σ(d) = σ(q)/q²; a q so small that either leaves the f32 range (exit angles
+    // of ~1e-35° give d ~ 1e36 Å) is no fit.
+    let value = 1.0 / q;
+    let sigma = sigma_q / q / q;
+    if !(value.is_finite() && sigma.is_finite()) {
+        return Err(Error::DegenerateFit);
+    }
     Ok(Fit1 {
-        value: 1.0 / q,
-        sigma: sigma_q / (q * q),
+        value,
+        sigma,
         rms_residual: math::sqrt(ss / points.len() as f32),
         points: count,
     })
@@ -104,9 +111,15 @@ pub fn row_spacing(points: &[(f32, i32, f32)]) -> Result<Fit1> {
 /// `DegenerateFit`; no convergence → `NoConvergence`.
 ///
 /// ```
-/// use matterwave_core::{beam, fit::inner_potential_and_spacing};
+/// use matterwave_core::fit::inner_potential_and_spacing;
 /// let (d, v0) = (1.762f32, 11.0f32); // Ni(100): a/2 with a = 3.524 Å.
-/// let pts = [2, 3, 4, 5].map(|n| (n, beam::energy_from_wavenumber_ev(n as f32 / (2.0 * d)) - v0));
+/// // The order-n peak, in f64: E = √((hc·n/2d)² + (mc²)²) − mc² − V0 (CODATA 2018).
+/// let (hc, mc2) = (12398.419843320f64, 510998.95f64);
+/// let peak = |n: i32| {
+///     let pc = hc * n as f64 / (2.0 * d as f64);
+///     ((pc * pc + mc2 * mc2).sqrt() - mc2 - v0 as f64) as f32
+/// };
+/// let pts = [2, 3, 4, 5].map(|n| (n, peak(n)));
 /// let f = inner_potential_and_spacing(&pts).unwrap();
 /// assert!((f.inner_potential_ev - v0).abs() < 0.01);
 /// assert!((f.layer_spacing_a - d).abs() < 1e-4);

@@ -245,13 +245,15 @@ mod tests {
 
     #[test]
     fn fit_iv_exact() {
-        // Synthetic data, truth chosen in the test.
+        // Synthetic data, truth chosen in the test, from an f64 formula of its own (not
+        // the model's `energy_from_wavenumber_ev`): the order-n peak at inside wavenumber
+        // k = n/(2d), E = √((hc·k)² + (mc²)²) − mc² − V0 with CODATA 2018
+        // hc = 12398.419843320 eV·Å and mc² = 510998.95 eV.
         let (d, v0) = (2.0f32, 8.0f32);
         let pts = [2, 3, 4, 5, 6].map(|n| {
-            (
-                n,
-                beam::energy_from_wavenumber_ev(n as f32 / (2.0 * d)) - v0,
-            )
+            let pc = 12_398.419_843_320f64 * n as f64 / (2.0 * d as f64);
+            let mc2 = 510_998.95f64;
+            (n, ((pc * pc + mc2 * mc2).sqrt() - mc2 - v0 as f64) as f32)
         });
         let f = inner_potential_and_spacing(&pts).unwrap();
         assert!((f.inner_potential_ev - v0).abs() < 0.02, "{f:?}");

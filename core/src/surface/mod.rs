@@ -9,7 +9,8 @@
 //! lattice search, not a lookup: a1 is the shortest Bravais-lattice vector in the plane,
 //! a2 the shortest one not parallel to a1, signed so that (a1, a2, n̂) is right-handed.
 //! Equal-length candidates are broken by the larger conventional coordinates
-//! (lexicographically), so the choice is deterministic. Rod (h, k) is
+//! (lexicographically), so the choice is deterministic; for a2 the tie is decided among
+//! both signs of every candidate first, and the sign set for the handedness after. Rod (h, k) is
 //! g = h·b1 + k·b2 with ai·bj = δij; its row spacing is 1/|g|.
 //!
 //! The surface frame is (e1, e2, n̂) with e1 along a1 at azimuth 0. A positive azimuth φ

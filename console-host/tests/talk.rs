@@ -1,0 +1,96 @@
+//! End-to-end test of `mwctl talk --link sim`: requests on stdin, replies on stdout
+//! (`console-host/src/talk.rs`), against the same bytes fed to the core's console
+//! in-process.
+
+use std::io::Write;
+use std::process::{Command, Stdio};
+
+use matterwave_core::console::sim::{SimAxes, SimDetector, SimInterlock};
+use matterwave_core::console::Console;
+
+/// Runs `mwctl talk` with `args`, `input` on its stdin: status, stdout, stderr.
+fn talk(args: &[&str], input: &[u8]) -> (i32, Vec<u8>, String) {
+    let mut child = Command::new(env!("CARGO_BIN_EXE_mwctl"))
+        .arg("talk")
+        .args(args)
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("mwctl runs");
+    // mwctl may exit before it reads (an unknown link): a broken pipe is no failure.
+    let _ = child.stdin.take().unwrap().write_all(input);
+    let out = child.wait_with_output().expect("mwctl ends");
+    (
+        out.status.code().unwrap_or(-1),
+        out.stdout,
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+#[test]
+fn piped_requests_get_the_consoles_replies_in_order() {
+    // A session with a stream (aim), an error, a bad byte, a checksum and a last line
+    // without its line end (taken as ended at end of input).
+    let input: &[u8] = b"hello\nget energy\nset energy=150\nget energy\nbogus\n\
+        set tilt=20\naim\nget \xff\nget tilt*0000\nstatus";
+    let (code, out, err) = talk(&["--link", "sim"], input);
+    // Three of the ten requests are refused (bogus, the bad byte, the checksum): the
+    // exit status says so, in one line.
+    assert_eq!(code, 2, "{err}");
+    assert_eq!(
+        err.trim_end(),
+        "mwctl: error: talk: 3 of 10 requests answered err"
+    );
+    // The reference: the core's console on the simulated board, fed the same bytes.
+    let mut c = Console::new(
+        SimAxes::default(),
+        SimDetector::default(),
+        SimInterlock { safe: true },
+    )
+    .unwrap();
+    let mut want = Vec::new();
+    let mut bytes = input.to_vec();
+    bytes.push(b'\n');
+    c.feed_all(&bytes, &mut want).unwrap();
+    let text = String::from_utf8(out.clone()).expect("ASCII replies");
+    assert_eq!(text, String::from_utf8(want).unwrap());
+    // No prompt and no cautions when piped: every line is a reply.
+    let lines: Vec<&str> = text.lines().collect();
+    assert!(
+        lines
+            .iter()
+            .all(|l| l.starts_with("ok") || l.starts_with("err ") || l.starts_with("- ")),
+        "{text}"
+    );
+    // One final line per request (10 requests), and the values asked for.
+    let finals: Vec<&str> = lines
+        .iter()
+        .copied()
+        .filter(|l| !l.starts_with("- "))
+        .collect();
+    assert_eq!(finals.len(), 10, "{text}");
+    assert!(finals[0].starts_with("ok name=matterwave "), "{text}");
+    assert_eq!(finals[1], "ok energy=100");
+    assert_eq!(finals[3], "ok energy=150");
+    assert!(finals[4].starts_with("err 403 "), "{text}");
+    assert!(finals[6].starts_with("ok count="), "{text}");
+    assert!(finals[7].starts_with("err 401 "), "{text}");
+    assert!(
+        finals[8].starts_with("err 402 ") && finals[8].contains('*'),
+        "{text}"
+    );
+    assert!(finals[9].starts_with("ok enabled=0 "), "{text}");
+    assert!(finals[9].contains(" requests=10 errors=3"), "{text}");
+}
+
+#[test]
+fn unknown_link_is_one_line() {
+    let (code, out, err) = talk(&["--link", "serial"], b"hello\n");
+    assert_eq!(code, 2);
+    assert!(out.is_empty());
+    assert_eq!(
+        err,
+        "mwctl: error: --link serial: only the in-process simulator 'sim' is available in this build\n"
+    );
+}
