@@ -166,6 +166,71 @@ fn miller_text(m: Miller, hex: bool) -> String {
     }
 }
 
+/// `mwctl crystals --crystal ID`: the crystal's faces, each with the work function and
+/// inner potential the table gives for it (its own, or the crystal's where it has none:
+/// `from` says which) and their sources.
+pub fn crystal_faces(id: &str) -> CliResult<Report> {
+    let c = crystal(id)?;
+    let src =
+        tables::find(c.id).ok_or_else(|| CliError::new(format!("--crystal {id}: no sources")))?;
+    let hex = c.structure.system() == System::Hexagonal;
+    let mut r = Report::default();
+    r.field("crystal", "crystal", Value::Text(c.id.into()));
+    r.field("name", "name", Value::Text(c.name.into()));
+    r.field(
+        "structure",
+        "structure",
+        Value::Text(c.structure.name().into()),
+    );
+    r.field("a_a", "a (Å)", Value::F64(src.a_a, 4));
+    r.field(
+        "lattice_source",
+        "lattice source",
+        Value::Text(src.lattice_source.into()),
+    );
+    let mut list = List {
+        key: "faces",
+        columns: vec![
+            col("face", "face"),
+            col("work_function_ev", "φ (eV)"),
+            col("work_function_from", "φ from"),
+            col("work_function_source", "φ source"),
+            col("inner_potential_ev", "V0 (eV)"),
+            col("inner_potential_from", "V0 from"),
+            col("inner_potential_source", "V0 source"),
+        ],
+        rows: Vec::new(),
+    };
+    let pick = |own: Option<tables::Sourced>, all: Option<tables::Sourced>| match (own, all) {
+        (Some(v), _) => (
+            Value::F64(v.value, 2),
+            Value::Text("face".into()),
+            Value::Text(v.source.into()),
+        ),
+        (None, Some(v)) => (
+            Value::F64(v.value, 2),
+            Value::Text("crystal".into()),
+            Value::Text(v.source.into()),
+        ),
+        (None, None) => (Value::Missing, Value::Missing, Value::Missing),
+    };
+    for f in src.faces {
+        let (wf, wf_from, wf_src) = pick(f.work_function_ev, src.work_function_ev);
+        let (v0, v0_from, v0_src) = pick(f.inner_potential_ev, src.inner_potential_ev);
+        list.rows.push(vec![
+            Value::Text(miller_text(f.miller, hex).replace(' ', "")),
+            wf,
+            wf_from,
+            wf_src,
+            v0,
+            v0_from,
+            v0_src,
+        ]);
+    }
+    r.list = Some(list);
+    Ok(r)
+}
+
 /// `mwctl crystals`.
 pub fn crystals() -> CliResult<Report> {
     let mut list = List {

@@ -33,8 +33,13 @@ pub struct Cli {
 /// Top-level commands.
 #[derive(Debug, Subcommand)]
 pub enum Command {
-    /// List the crystal table (ids, structures, lattice constants, typical V0 and φ).
-    Crystals,
+    /// List the crystal table (ids, structures, lattice constants, typical V0 and φ);
+    /// with --crystal, that crystal's faces with their own V0 and φ and the sources.
+    Crystals {
+        /// One crystal: its faces, each with its work function and inner potential.
+        #[arg(long, value_name = "ID")]
+        crystal: Option<String>,
+    },
     /// Offline calculations with the controller's own f32 code.
     #[command(subcommand)]
     Calc(Calc),
@@ -342,7 +347,8 @@ enum Output {
 fn run_report(cli: &Cli) -> CliResult<Output> {
     let f = cli.format;
     let report = match &cli.command {
-        Command::Crystals => calc::crystals()?,
+        Command::Crystals { crystal: None } => calc::crystals()?,
+        Command::Crystals { crystal: Some(id) } => calc::crystal_faces(id)?,
         Command::Safety => {
             return match f {
                 Format::Table => Ok(Output::Text(format!("{CAUTIONS}\n"))),

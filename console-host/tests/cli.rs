@@ -661,3 +661,32 @@ fn talk_runs_each_line_as_it_ends() {
     assert!(lines[0].starts_with("err 400 "), "{}", lines[0]);
     assert!(lines[1].starts_with("ok name="), "{}", lines[1]);
 }
+
+/// `crystals --crystal` gives each face the work function and inner potential the
+/// controller uses for it (the core's `work_function_for`/`inner_potential_for`), with
+/// a source for each.
+#[test]
+fn crystal_faces_show_the_values_the_controller_uses() {
+    for id in ["cu", "ag", "ru", "kcl"] {
+        let v = json(&["crystals", "--crystal", id]);
+        let c = matterwave_core::table::find(id).unwrap();
+        let faces = v["faces"].as_array().unwrap();
+        assert_eq!(faces.len(), c.faces.len(), "{v}");
+        for (f, cf) in faces.iter().zip(c.faces) {
+            for (key, want) in [
+                ("work_function_ev", c.work_function_for(cf.miller)),
+                ("inner_potential_ev", c.inner_potential_for(cf.miller)),
+            ] {
+                match want {
+                    Some(w) => {
+                        let got = f[key].as_f64().unwrap();
+                        assert!((got - f64::from(w)).abs() < 1e-6, "{id} {f}");
+                        let src = key.replace("_ev", "_source");
+                        assert!(!f[src.as_str()].as_str().unwrap().is_empty(), "{id} {f}");
+                    }
+                    None => assert!(f[key].is_null(), "{id} {f}"),
+                }
+            }
+        }
+    }
+}
