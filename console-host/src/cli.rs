@@ -1,6 +1,5 @@
-//! Command-line definitions (clap) and dispatch. Each command returns a
-//! [`Report`](crate::output::Report) or a [`CliError`](crate::error::CliError); `main`
-//! prints and sets the exit status.
+//! Command-line definitions (clap) and dispatch. Each command gives a report, text or a
+//! [`CliError`]; [`run`] writes the output as it goes and `main` sets the exit status.
 
 use crate::calc::{self, GunArgs, IvArgs};
 use crate::error::{CliError, CliResult};

@@ -372,7 +372,7 @@ pub fn parse_miller(text: &str, hexagonal: bool) -> Result<Miller> {
     Ok(hkl)
 }
 
-/// A hexagonal direction [UVW] (on a, b, c) in four-index form [uvtw]:
+/// A hexagonal direction \[UVW\] (on a, b, c) in four-index form \[uvtw\]:
 /// u = (2U − V)/3, v = (2V − U)/3, t = −(u + v), w = W, scaled to the smallest integers.
 ///
 /// ```

@@ -420,10 +420,10 @@ impl Face {
         })
     }
 
-    /// The mesh vectors a1 and a2 as crystal directions [uvw] of the conventional cell
+    /// The mesh vectors a1 and a2 as crystal directions \[uvw\] of the conventional cell
     /// (smallest integers along each vector), e.g. to tie azimuth 0 (a1 along e1) to a
-    /// known direction or flat of the crystal. Hexagonal crystals: three-index [UVW] on
-    /// a, b, c (see [`crate::lattice::four_index_direction`] for [uvtw]).
+    /// known direction or flat of the crystal. Hexagonal crystals: three-index \[UVW\] on
+    /// a, b, c (see [`crate::lattice::four_index_direction`] for \[uvtw\]).
     pub fn mesh_uvw(&self) -> [[i32; 3]; 2] {
         let reduce = |v: [i32; 3]| {
             let g = gcd(gcd(v[0], v[1]), v[2]).max(1);
