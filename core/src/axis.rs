@@ -349,23 +349,32 @@ impl AxisConfig {
     }
 
     /// Whether the straight path between two angles (unwrapped) is clear of zones and
-    /// limits. A zone that contains the start is exempt, and so are the limits when the
-    /// start lies beyond them, so an axis found in a zone or past a limit (e.g. homed
-    /// there) can always be driven back.
+    /// limits. A zone that contains the start is exempt, so an axis found in a zone
+    /// (e.g. homed there) can always be driven out. An axis that starts beyond a soft
+    /// limit may only be driven back inside, toward that limit, and no farther than
+    /// the other limit; every other path lies within the limits.
     pub fn check_path(&self, from_deg: f32, to_deg: f32) -> Result<()> {
         let (lo, hi) = if from_deg <= to_deg {
             (from_deg, to_deg)
         } else {
             (to_deg, from_deg)
         };
-        // An axis that starts beyond a soft limit may be driven back inside.
-        let starts_outside = from_deg < self.min_deg || from_deg > self.max_deg;
-        if !self.wrap && !starts_outside {
-            if lo < self.min_deg {
-                return Err(Error::BelowLimit(self.id));
-            }
-            if hi > self.max_deg {
+        if !self.wrap {
+            // Beyond a limit, the only allowed direction is back toward it; otherwise
+            // the whole path lies within the limits.
+            if from_deg > self.max_deg {
+                if to_deg >= from_deg {
+                    return Err(Error::AboveLimit(self.id));
+                }
+            } else if hi > self.max_deg {
                 return Err(Error::AboveLimit(self.id));
+            }
+            if from_deg < self.min_deg {
+                if to_deg <= from_deg {
+                    return Err(Error::BelowLimit(self.id));
+                }
+            } else if lo < self.min_deg {
+                return Err(Error::BelowLimit(self.id));
             }
         }
         for (i, z) in self.zones.iter().enumerate() {

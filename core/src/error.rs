@@ -206,6 +206,12 @@ pub enum Error {
     ZonesOverlap(AxisId, u8),
     /// The zones forbid the whole range of the axis.
     RangeForbidden(AxisId),
+    /// Where the axis stands is unknown (since `reset`, or a change of its calibration):
+    /// it must be homed or its position declared before it moves.
+    PositionUnknown(AxisId),
+    /// Motion is enabled, or an axis is still moving: configuration changes and
+    /// position declarations need motion disabled and every axis at rest.
+    MotionEnabled,
 }
 
 impl Error {
@@ -262,6 +268,8 @@ impl Error {
             Error::ZoneOutsideLimits(_, _) => 317,
             Error::ZonesOverlap(_, _) => 318,
             Error::RangeForbidden(_) => 319,
+            Error::PositionUnknown(_) => 320,
+            Error::MotionEnabled => 321,
         }
     }
 
@@ -355,6 +363,12 @@ impl Error {
             Error::ZoneOutsideLimits(_, _) => "forbidden zone reaches outside the soft limits; keep it within min_deg..max_deg",
             Error::ZonesOverlap(_, _) => "forbidden zone overlaps another; merge them into one zone",
             Error::RangeForbidden(_) => "the zones forbid the whole range of the axis; remove or shrink one",
+            Error::PositionUnknown(_) => {
+                "position unknown since reset or a calibration change; disable, then home name=AXIS [at=DEG] to declare where it stands"
+            }
+            Error::MotionEnabled => {
+                "motion is enabled or an axis is moving; send disable and wait for moving=0 before changing the configuration or declaring a position"
+            }
         }
     }
 
@@ -372,7 +386,8 @@ impl Error {
             | Error::ReachBeyondCounter(a)
             | Error::ZoneOutsideLimits(a, _)
             | Error::ZonesOverlap(a, _)
-            | Error::RangeForbidden(a) => Some(a),
+            | Error::RangeForbidden(a)
+            | Error::PositionUnknown(a) => Some(a),
             _ => None,
         }
     }

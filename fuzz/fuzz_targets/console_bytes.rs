@@ -60,6 +60,9 @@ impl AxisDriver for Axes {
     fn position(&mut self, axis: AxisId) -> i32 {
         self.sim.position(axis)
     }
+    fn set_position(&mut self, axis: AxisId, steps: i32) {
+        self.sim.set_position(axis, steps);
+    }
     fn start(&mut self, axis: AxisId, via: Option<i32>, target: i32) {
         let from = self.sim.position(axis);
         self.starts.push((axis, from, via, target));

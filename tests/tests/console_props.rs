@@ -67,6 +67,9 @@ impl AxisDriver for Axes {
     fn position(&mut self, axis: AxisId) -> i32 {
         self.sim.position(axis)
     }
+    fn set_position(&mut self, axis: AxisId, steps: i32) {
+        self.sim.set_position(axis, steps);
+    }
     fn start(&mut self, axis: AxisId, via: Option<i32>, target: i32) {
         let from = self.sim.position(axis);
         self.starts.push((axis, from, via, target));
@@ -317,8 +320,10 @@ impl Session {
         split_crc(line).is_some()
     }
 
-    /// Checks the motions started since `before` (axis rules, §10).
-    fn check_motion(&mut self, before: &State, answered_ok: bool, what: &str) {
+    /// Checks the motions started since `before` (axis rules, §10). `declared`: the
+    /// request was a `home` answered `ok`, which sets a counter without motion
+    /// (docs/PROTOCOL.md, `home`).
+    fn check_motion(&mut self, before: &State, answered_ok: bool, declared: bool, what: &str) {
         let starts = std::mem::take(&mut self.c.axes.starts);
         let rig = self.c.settings().rig;
         if !starts.is_empty() {
@@ -361,7 +366,7 @@ impl Session {
             let i = axis_index(id);
             if self.c.axes.sim.steps[i] != before.steps[i] {
                 assert!(
-                    starts.iter().any(|s| s.0 == id),
+                    declared || starts.iter().any(|s| s.0 == id),
                     "{id:?} moved without a start: {what}"
                 );
             }
@@ -482,7 +487,9 @@ impl Session {
                 }
             }
         }
-        self.check_motion(&before, answered == Some(Kind::Ok), &what);
+        let declared = answered == Some(Kind::Ok)
+            && matches!(&ev, Some(Event::Line(l)) if l.trim_start().starts_with("home"));
+        self.check_motion(&before, answered == Some(Kind::Ok), declared, &what);
         answered
     }
 
@@ -515,7 +522,7 @@ impl Session {
             }
 
             assert_eq!(before, self.state(), "a stream line changed state");
-            self.check_motion(&before, false, "poll");
+            self.check_motion(&before, false, false, "poll");
         }
         !self.c.streaming()
     }
@@ -587,9 +594,10 @@ fn is_stop(line: &str) -> bool {
 // ---------------------------------------------------------------------------------
 
 /// The command words, as `help` lists them.
-const COMMANDS: [&str; 22] = [
+const COMMANDS: [&str; 23] = [
     "hello", "help", "status", "set", "get", "crystals", "faces", "beams", "aim", "move", "stop",
-    "pos", "enable", "disable", "axis", "zone", "plan", "pt", "fit", "read", "dump", "reset",
+    "pos", "enable", "disable", "home", "axis", "zone", "plan", "pt", "fit", "read", "dump",
+    "reset",
 ];
 
 /// Bytes likely on a serial line (line ends, letters, digits, `=`, `*`, blanks, NUL,
@@ -754,6 +762,16 @@ fn value(cmd: &str, key: &str) -> BoxedStrategy<String> {
         "sol" => prop_oneof![6 => int(0, 1), 1 => int(-1, 9)].boxed(),
         "arm" => num(-180.0, 180.0),
         "elevation" => num(-70.0, 70.0),
+        "name" if cmd == "home" => words(&[
+            "arm",
+            "tilt",
+            "azimuth",
+            "arm",
+            "tilt",
+            "azimuth",
+            "elevation",
+            "gun",
+        ]),
         "name" => words(&["arm", "arm", "elevation", "tilt", "azimuth", "gun"]),
         "steps_per_deg" => num(-1.0, 3000.0),
         "home_offset_deg" => num(-30.0, 30.0),
@@ -897,6 +915,16 @@ fn args(cmd: &'static str) -> BoxedStrategy<Vec<String>> {
         ]
         .boxed(),
         "fit" => keyed("fit", &["kind", "threshold"], 0.6),
+        "home" => (
+            value("home", "name"),
+            prop::option::weighted(0.3, value("move", "arm")),
+        )
+            .prop_map(|(n, at)| {
+                let mut v = vec![format!("name={n}")];
+                v.extend(at.map(|d| format!("at={d}")));
+                v
+            })
+            .boxed(),
         _ => none,
     }
 }
@@ -911,8 +939,9 @@ fn command_with_args() -> BoxedStrategy<(&'static str, Vec<String>)> {
         4 => c("get"),
         8 => c("aim"),
         14 => c("move"),
-        6 => c("enable"),
-        2 => c("disable"),
+        9 => c("enable"),
+        3 => c("disable"),
+        10 => c("home"),
         7 => c("axis"),
         6 => c("zone"),
         3 => c("plan"),
@@ -1062,7 +1091,7 @@ fn generators_reach_every_outcome() {
     let mut runner = TestRunner::new(Config::default());
     let mut s = Session::new(true);
     let mut codes = std::collections::BTreeSet::new();
-    for _ in 0..3_000 {
+    for _ in 0..6_000 {
         let line = request().new_tree(&mut runner).unwrap().current();
         if let Some(Kind::Err(c)) = s.line(&line) {
             codes.insert(c);
@@ -1073,7 +1102,7 @@ fn generators_reach_every_outcome() {
     assert!(st.ok > 300 && st.err > 300, "{st:?}");
     assert!(st.streams > 50, "{st:?}");
     assert!(st.moves > 20, "no moves generated: {st:?}");
-    for c in [301, 302, 303, 402, 403, 404, 405, 406, 407, 408, 412] {
+    for c in [301, 302, 303, 320, 402, 403, 404, 405, 406, 407, 408, 412] {
         assert!(codes.contains(&c), "no err {c} in {codes:?}");
     }
 }

@@ -1,9 +1,9 @@
-//! Motion: `move`, `stop`, `pos`, `enable`, `disable`, and `read` (the detector at the
-//! current pose).
+//! Motion: `move`, `stop`, `pos`, `enable`, `disable`, `home` (where an axis stands),
+//! and `read` (the detector at the current pose).
 
 use embedded_io::Write;
 
-use super::args::{opt_int, opt_num};
+use super::args::{axis_id, keyed, missing, opt_int, opt_num};
 use super::axes::axis_of;
 use super::fault::{check_used, Accepted, Fault, Result};
 use super::{Console, Rw, Stream};
@@ -66,6 +66,12 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         if !self.interlock.safe() {
             return Err(Error::InterlockOpen.into());
         }
+        // No axis moves from a position the console does not know.
+        for (id, want) in AxisId::ALL.into_iter().zip(goal) {
+            if want.is_some() && !self.position_known(id) {
+                return Err(Error::PositionUnknown(id).into());
+            }
+        }
         // Every setpoint is computed (limits, zones, path from where the axis is now)
         // before any axis moves.
         let pos = self.position();
@@ -115,6 +121,58 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             .field_i32("elevation_steps", p[1])
             .field_i32("tilt_steps", p[2])
             .field_i32("azimuth_steps", p[3]);
+        // The fitted axes whose position is unknown: their angles above are only the
+        // counters read in the calibration now in force.
+        let mut names = [0u8; 32];
+        let mut n = 0;
+        for id in AxisId::ALL {
+            let fitted = axis_of(&self.settings.rig, id).is_some();
+            if fitted && !self.position_known(id) {
+                let sep: &[u8] = if n == 0 { b"" } else { b"," };
+                for &b in sep.iter().chain(id.name().as_bytes()) {
+                    if let Some(slot) = names.get_mut(n) {
+                        *slot = b;
+                        n += 1;
+                    }
+                }
+            }
+        }
+        if let Some(list) = names.get(..n).and_then(|b| core::str::from_utf8(b).ok()) {
+            if !list.is_empty() {
+                rw.field_str("unknown", list);
+            }
+        }
+        Ok(None)
+    }
+
+    /// `home name=A [at=DEG]`: declares that axis A stands at DEG (default: at home,
+    /// step 0) — the board's counter is set, nothing moves — and marks its position
+    /// known. Needs motion disabled and every axis at rest; DEG must lie within the soft
+    /// limits (unless the axis wraps) and the step counter's reach.
+    pub(super) fn cmd_home<W: Write>(
+        &mut self,
+        a: &mut Args<'_>,
+        rw: &mut Rw<'_, W>,
+    ) -> Result<Option<Stream>> {
+        let id = keyed(a, "name", axis_id)?.ok_or_else(|| missing(a, "name"))?;
+        let at = opt_num(a, "at")?;
+        check_used(a)?;
+        let cfg = *axis_of(&self.settings.rig, id).ok_or(Error::NoSuchAxis(id))?;
+        let steps = match at {
+            Some(deg) => cfg.position_steps(deg)?,
+            None => 0,
+        };
+        self.require_at_rest()?;
+        self.axes.set_position(id, steps);
+        if let Some(k) = self.known.get_mut(axis_index(id)) {
+            *k = true;
+        }
+        // Solutions were computed from the old counter.
+        self.solutions.clear();
+        rw.ok()
+            .field_str("name", id.name())
+            .field_f32_rt("at", cfg.steps_to_deg(steps))
+            .field_i32("steps", steps);
         Ok(None)
     }
 
