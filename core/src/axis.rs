@@ -56,18 +56,40 @@ impl Zone {
         }
     }
 
-    /// Whether the closed interval [lo, hi] (lo ≤ hi, unwrapped) meets the zone.
+    /// Whether the closed interval [lo, hi] (lo ≤ hi, unwrapped) meets the zone (on a
+    /// wrapping axis, any 360° copy of it, however long the interval).
     fn meets(&self, lo: f32, hi: f32, wrap: bool) -> bool {
         if wrap {
-            // Shift the zone to the copy nearest the interval start, then test that copy
-            // and the next one up.
-            let k = math::floor((lo - self.from_deg) / 360.0);
-            (0..3).any(|i| {
-                let off = (k + i as f32 - 1.0) * 360.0;
-                self.from_deg + off <= hi && self.to_deg + off >= lo
-            })
+            // Copy m is [from + 360m, to + 360m]; it meets [lo, hi] when
+            // (lo − to)/360 ≤ m ≤ (hi − from)/360 for a whole m.
+            let first = -math::floor((self.to_deg - lo) / 360.0);
+            let last = math::floor((hi - self.from_deg) / 360.0);
+            first <= last
         } else {
             self.from_deg <= hi && self.to_deg >= lo
+        }
+    }
+
+    /// Whether the path from `from` to `to` (unwrapped) only leaves the zone: `from`
+    /// lies in (a copy of) the zone, the path heads for that copy's nearer edge (either,
+    /// from its middle), and beyond that edge it meets no other copy. The part of the
+    /// path inside the zone is then the shortest way out.
+    fn only_leaves(&self, from: f32, to: f32, wrap: bool) -> bool {
+        let off = if wrap {
+            360.0 * math::floor((from - self.from_deg) / 360.0)
+        } else {
+            0.0
+        };
+        let (lo_edge, hi_edge) = (self.from_deg + off, self.to_deg + off);
+        if !(from >= lo_edge && from <= hi_edge) {
+            return false;
+        }
+        let (below, above) = (from - lo_edge, hi_edge - from);
+        if to <= from {
+            // Out through the lower edge; the next copy down ends at hi_edge − 360.
+            below <= above && !(wrap && to <= hi_edge - 360.0)
+        } else {
+            above <= below && !(wrap && to >= lo_edge + 360.0)
         }
     }
 }
@@ -349,8 +371,10 @@ impl AxisConfig {
     }
 
     /// Whether the straight path between two angles (unwrapped) is clear of zones and
-    /// limits. A zone that contains the start is exempt, so an axis found in a zone
-    /// (e.g. homed there) can always be driven out. An axis that starts beyond a soft
+    /// limits. An axis found in a zone (e.g. homed there, or a zone set over it) may be
+    /// driven out of it through the zone's nearer edge (either edge from its middle),
+    /// and the path must not cross the rest of that zone, nor, on a wrapping axis, meet
+    /// another copy of it. An axis that starts beyond a soft
     /// limit may only be driven back inside, toward that limit, and no farther than
     /// the other limit; every other path lies within the limits.
     pub fn check_path(&self, from_deg: f32, to_deg: f32) -> Result<()> {
@@ -379,7 +403,7 @@ impl AxisConfig {
         }
         for (i, z) in self.zones.iter().enumerate() {
             if let Some(z) = z {
-                if z.meets(lo, hi, self.wrap) && !z.contains(from_deg, self.wrap) {
+                if z.meets(lo, hi, self.wrap) && !z.only_leaves(from_deg, to_deg, self.wrap) {
                     return Err(Error::PathCrossesZone(self.id, i as u8));
                 }
             }

@@ -19,7 +19,8 @@
 //!   the limits or into a forbidden zone: every target passes
 //!   `check_angle(steps_to_deg(steps))` for the rig in force, and the path there
 //!   (including the backlash turn-round) misses every zone that does not contain the
-//!   start — checked by an independent interval computation, not by `check_path`.
+//!   start and leaves one that does only through its nearer edge — checked by an
+//!   independent interval computation, not by `check_path`.
 //!
 //! The default home position (arm 0°) lies inside the default gun zone (±12°), so the
 //! resting position of an axis the console never moved is not required to be allowed;
@@ -245,18 +246,45 @@ fn meets_zone(from: f64, to: f64, lo: f64, hi: f64, wrap: bool) -> bool {
 }
 
 /// Independent check of one leg of a motion, `from` → `to` degrees: inside the limits
-/// (unless the axis starts beyond one and is driven back; unless wrap), and clear of
-/// the interior of every zone that does not contain the start.
+/// (unless wrap; from beyond a limit only back toward it), clear of the interior of
+/// every zone that does not contain the start, and out of a zone that does contain it
+/// only through its nearer edge, without reaching its next 360° copy.
 fn leg_ok(cfg: &AxisConfig, from: f64, to: f64) -> Result<(), String> {
     let (lo, hi) = (from.min(to), from.max(to));
     let (min, max) = (f64::from(cfg.min_deg), f64::from(cfg.max_deg));
-    let start_inside = from >= min - EPS && from <= max + EPS;
-    if !cfg.wrap && start_inside && (lo < min - EPS || hi > max + EPS) {
-        return Err(format!("path {from}..{to} leaves limits {min}..{max}"));
+    if !cfg.wrap {
+        let inside = if from > max + EPS {
+            to <= from && lo >= min - EPS
+        } else if from < min - EPS {
+            to >= from && hi <= max + EPS
+        } else {
+            lo >= min - EPS && hi <= max + EPS
+        };
+        if !inside {
+            return Err(format!("path {from}..{to} leaves limits {min}..{max}"));
+        }
     }
     for z in cfg.zones.iter().flatten() {
         let (zf, zt) = (f64::from(z.from_deg), f64::from(z.to_deg));
-        if !in_zone(zf, zt, from, cfg.wrap, EPS) && meets_zone(zf, zt, lo, hi, cfg.wrap) {
+        if in_zone(zf, zt, from, cfg.wrap, EPS) {
+            let (mut a, mut b) = (zf, zt);
+            if cfg.wrap {
+                let k = ((from - 0.5 * (a + b)) / 360.0).round();
+                a += 360.0 * k;
+                b += 360.0 * k;
+            }
+            let (below, above) = (from - a, b - from);
+            let out = (to <= from + EPS && below <= above + EPS)
+                || (to >= from - EPS && above <= below + EPS);
+            let next = cfg.wrap
+                && (meets_zone(a - 360.0, b - 360.0, lo, hi, false)
+                    || meets_zone(a + 360.0, b + 360.0, lo, hi, false));
+            if !out || next {
+                return Err(format!(
+                    "path {from}..{to} from inside zone {zf}..{zt} not by its nearer edge"
+                ));
+            }
+        } else if meets_zone(zf, zt, lo, hi, cfg.wrap) {
             return Err(format!("path {from}..{to} crosses zone {zf}..{zt}"));
         }
     }

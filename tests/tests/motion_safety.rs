@@ -8,7 +8,7 @@
 //! practice, no source: a motion controller that does not know where an axis stands
 //! must not move it, and a soft limit or forbidden zone holds for every point of a path.
 
-use matterwave_core::axis::AxisConfig;
+use matterwave_core::axis::{AxisConfig, Zone};
 use matterwave_core::console::sim::{SimAxes, SimDetector, SimInterlock};
 use matterwave_core::console::Console;
 use matterwave_core::{AxisId, Error};
@@ -59,7 +59,8 @@ fn reset_forgets_where_the_axes_stand() {
         "axis name=arm steps_per_deg=1422.2222 home_offset_deg=-0.35",
         "ok",
     );
-    expect(&mut c, "home name=arm", "ok name=arm");
+    // Declared at 20° (its home, −0.35°, lies in the gun zone nearer its lower edge).
+    expect(&mut c, "home name=arm at=20", "ok name=arm");
     expect(&mut c, "enable", "ok");
     expect(&mut c, "move arm=140", "ok");
     expect(&mut c, "disable", "ok");
@@ -150,4 +151,63 @@ fn a_path_from_beyond_a_limit_only_goes_back_inside() {
     expect(&mut c, "enable", "ok");
     expect(&mut c, "move arm=135", "err 302");
     expect(&mut c, "move arm=100", "ok");
+}
+
+/// Issue 13 case 2: from inside a zone the whole zone could be crossed — at −20° in a
+/// widened gun zone [−25°, 12°], `move arm=20` swept across the gun axis; at 40° inside
+/// [30°, 160°], `move arm=162` crossed 120° of zone. Only the way out through the nearer
+/// edge is allowed.
+#[test]
+fn a_zone_is_left_only_through_its_nearer_edge() {
+    let mut c = console();
+    expect(&mut c, "zone name=arm i=0 from=-25 to=12", "ok");
+    expect(&mut c, "home name=arm at=-20", "ok");
+    expect(&mut c, "enable", "ok");
+    let steps = c.axes.steps;
+    expect(&mut c, "move arm=20", "err 304 arm zone 0 from -25 to 12");
+    assert_eq!(c.axes.steps, steps);
+    expect(&mut c, "move arm=-30", "ok");
+    let mut c = console();
+    expect(&mut c, "home name=arm at=40", "ok");
+    expect(&mut c, "zone name=arm i=1 from=30 to=160", "ok");
+    expect(&mut c, "enable", "ok");
+    expect(&mut c, "move arm=162", "err 304 arm zone 1 from 30 to 160");
+    expect(&mut c, "move arm=20", "ok");
+    // The factory home (0°) is the middle of the gun zone [−12°, 12°]: both edges are
+    // nearest, either way out is allowed.
+    let mut c = console();
+    expect(&mut c, "enable", "ok");
+    expect(&mut c, "move arm=20", "ok");
+    let mut c = console();
+    expect(&mut c, "enable", "ok");
+    expect(&mut c, "move arm=-20", "ok");
+}
+
+/// The same rule on a wrapping axis, where a zone repeats every 360°: leaving through
+/// the nearer edge, the path must not reach the zone's next copy either.
+#[test]
+fn a_wrapping_zone_is_left_only_through_its_nearer_edge() {
+    let mut z = AxisConfig::new(AxisId::Azimuth, 100.0);
+    z.wrap = true;
+    z.zones[0] = Some(Zone {
+        from_deg: 170.0,
+        to_deg: 180.0,
+    });
+    let crosses = Err(Error::PathCrossesZone(AxisId::Azimuth, 0));
+    // At 172°, 170° is the nearer edge.
+    assert_eq!(z.check_path(172.0, 100.0), Ok(()));
+    assert_eq!(z.check_path(172.0, -175.0), Ok(()));
+    assert_eq!(z.check_path(172.0, 185.0), crosses);
+    // Down through 170° and on into the copy [−190°, −180°].
+    assert_eq!(z.check_path(172.0, -185.0), crosses);
+    // At 178° (the copy at 538° too), 180° is the nearer edge.
+    assert_eq!(z.check_path(178.0, 300.0), Ok(()));
+    assert_eq!(z.check_path(178.0, 100.0), crosses);
+    assert_eq!(z.check_path(538.0, 600.0), Ok(()));
+    assert_eq!(z.check_path(538.0, 520.0), crosses);
+    // Up through 180° and on into the copy [530°, 540°].
+    assert_eq!(z.check_path(178.0, 531.0), crosses);
+    // A path of more than a turn from outside meets a copy however far it is.
+    assert_eq!(z.check_path(0.0, 700.0), crosses);
+    assert_eq!(z.check_path(-100.0, -720.0), crosses);
 }
