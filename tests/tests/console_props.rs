@@ -1130,7 +1130,9 @@ fn generators_reach_every_outcome() {
     assert!(st.ok > 300 && st.err > 300, "{st:?}");
     assert!(st.streams > 50, "{st:?}");
     assert!(st.moves > 20, "no moves generated: {st:?}");
-    for c in [301, 302, 303, 320, 402, 403, 404, 405, 406, 407, 408, 412] {
+    for c in [
+        301, 302, 303, 320, 321, 402, 403, 404, 405, 406, 407, 408, 412,
+    ] {
         assert!(codes.contains(&c), "no err {c} in {codes:?}");
     }
 }

@@ -10,7 +10,7 @@
 
 use matterwave_core::axis::{AxisConfig, Zone};
 use matterwave_core::console::sim::{SimAxes, SimDetector, SimInterlock};
-use matterwave_core::console::Console;
+use matterwave_core::console::{AxisDriver, Console};
 use matterwave_core::{AxisId, Error};
 
 type Con = Console<SimAxes, SimDetector, SimInterlock>;
@@ -210,4 +210,142 @@ fn a_wrapping_zone_is_left_only_through_its_nearer_edge() {
     // A path of more than a turn from outside meets a copy however far it is.
     assert_eq!(z.check_path(0.0, 700.0), crosses);
     assert_eq!(z.check_path(-100.0, -720.0), crosses);
+}
+
+/// Simulated axes that can be told to report motion (`busy`), as a real board does
+/// while an axis decelerates after `stop` or `disable`.
+#[derive(Default)]
+struct Coasting {
+    sim: SimAxes,
+    moving: bool,
+}
+
+impl AxisDriver for Coasting {
+    fn position(&mut self, axis: AxisId) -> i32 {
+        self.sim.position(axis)
+    }
+    fn set_position(&mut self, axis: AxisId, steps: i32) {
+        self.sim.set_position(axis, steps);
+    }
+    fn start(&mut self, axis: AxisId, via: Option<i32>, target: i32) {
+        self.sim.start(axis, via, target);
+    }
+    fn busy(&mut self) -> bool {
+        self.moving
+    }
+    fn stop(&mut self) {
+        self.sim.stop();
+    }
+}
+
+/// Issue 13 case 3: calibration and geometry changed under a standing, enabled arm
+/// (`axis name=arm home=-40` moved the limits and zones under it; `wrap=1` dropped the
+/// arm's limits; `fitted=0` made a raised elevation level). Every change of steps per
+/// degree, home, limits, wrap, fitted, backlash, approach, speed, zones or acceptance
+/// is refused with err 321 while motion is enabled or an axis moves, and changes
+/// nothing; queries and other settings are not.
+#[test]
+fn configuration_changes_only_while_motion_is_disabled() {
+    const CHANGES: [&str; 12] = [
+        "axis name=arm steps_per_deg=1422.2222",
+        "axis name=arm home_offset_deg=-40",
+        "axis name=arm min_deg=-100",
+        "axis name=arm max_deg=100",
+        "axis name=arm wrap=1",
+        "axis name=elevation fitted=1",
+        "axis name=arm backlash_deg=0.1",
+        "axis name=arm approach=from-above",
+        "axis name=arm max_speed_deg_s=5",
+        "zone name=arm i=1 from=120 to=128",
+        "zone name=arm i=0 off",
+        "set acceptance=2",
+    ];
+    let mut c = Console::new(
+        Coasting::default(),
+        SimDetector::default(),
+        SimInterlock { safe: true },
+    )
+    .expect("factory settings");
+    let send = |c: &mut Console<Coasting, SimDetector, SimInterlock>, line: &str| {
+        let mut out = Vec::new();
+        c.feed_all(format!("{line}\n").as_bytes(), &mut out)
+            .expect("reply written");
+        last(&String::from_utf8(out).expect("ASCII reply"))
+    };
+    assert!(send(&mut c, "enable").starts_with("ok"));
+    assert!(send(&mut c, "move arm=40").starts_with("ok"));
+    let before = *c.settings();
+    for line in CHANGES {
+        let r = send(&mut c, line);
+        assert!(r.starts_with("err 321 "), "{line} while enabled: {r}");
+        assert_eq!(*c.settings(), before, "{line} changed the settings");
+    }
+    // Queries and settings that are no geometry are still answered.
+    assert!(send(&mut c, "axis name=arm").starts_with("ok name=arm "));
+    assert!(send(&mut c, "set energy=120").starts_with("ok"));
+    // Disabled, but an axis still coasting: refused too.
+    assert!(send(&mut c, "disable").starts_with("ok"));
+    c.axes.moving = true;
+    let before = *c.settings();
+    for line in CHANGES {
+        let r = send(&mut c, line);
+        assert!(r.starts_with("err 321 "), "{line} while moving: {r}");
+        assert_eq!(*c.settings(), before, "{line} changed the settings");
+    }
+    assert!(send(&mut c, "home name=arm").starts_with("err 321 "));
+    // At rest and disabled, every change is accepted.
+    c.axes.moving = false;
+    for line in CHANGES {
+        let r = send(&mut c, line);
+        assert!(r.starts_with("ok"), "{line} while disabled: {r}");
+    }
+}
+
+/// Issue 13 case 3, second part: a change of an axis's calibration (steps per degree,
+/// home, wrap, fitted) forgets where that axis stands until it is homed or declared;
+/// other axes, and changes that keep the calibration, keep their positions.
+#[test]
+fn a_calibration_change_forgets_that_axis_position() {
+    let mut c = console();
+    expect(&mut c, "enable", "ok");
+    expect(&mut c, "move arm=40 tilt=10", "ok");
+    expect(&mut c, "disable", "ok");
+    // The same values again, and a change that is no calibration: still known.
+    expect(
+        &mut c,
+        "axis name=arm steps_per_deg=888.8889 home_offset_deg=0 wrap=0",
+        "ok",
+    );
+    expect(&mut c, "axis name=arm backlash_deg=0.1 min_deg=-160", "ok");
+    assert!(c.position_known(AxisId::Arm));
+    // Home shifted by −40°: the arm's counter would now read 0°, inside the gun zone.
+    expect(&mut c, "axis name=arm home_offset_deg=-40", "ok");
+    assert!(!c.position_known(AxisId::Arm));
+    assert!(c.position_known(AxisId::Tilt));
+    let pos = expect(&mut c, "pos", "ok");
+    assert!(pos.ends_with(" unknown=arm"), "{pos}");
+    expect(&mut c, "enable", "ok");
+    let steps = c.axes.steps;
+    expect(&mut c, "move arm=60", "err 320 arm");
+    assert_eq!(c.axes.steps, steps);
+    expect(&mut c, "move tilt=20", "ok");
+    // Declared where it stands (40°), it moves again.
+    expect(&mut c, "disable", "ok");
+    expect(&mut c, "home name=arm at=40", "ok");
+    expect(&mut c, "enable", "ok");
+    expect(&mut c, "move arm=60", "ok");
+    // Steps per degree, wrap and fitted forget too.
+    for (line, id) in [
+        ("axis name=tilt steps_per_deg=1000", AxisId::Tilt),
+        ("axis name=azimuth wrap=0", AxisId::Azimuth),
+        ("axis name=elevation fitted=1", AxisId::Elevation),
+    ] {
+        expect(&mut c, "disable", "ok");
+        assert!(c.position_known(id), "{id:?} unknown before {line}");
+        expect(&mut c, line, "ok");
+        assert!(!c.position_known(id), "{line} kept the position of {id:?}");
+    }
+    expect(&mut c, "enable", "ok");
+    expect(&mut c, "move elevation=10", "err 320 elevation");
+    expect(&mut c, "move azimuth=10", "err 320 azimuth");
 }

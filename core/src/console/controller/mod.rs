@@ -200,6 +200,13 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         self.known = [false; 4];
     }
 
+    /// Marks the position of `axis` unknown (its calibration changed).
+    fn forget_position(&mut self, axis: AxisId) {
+        if let Some(k) = self.known.get_mut(axis_index(axis)) {
+            *k = false;
+        }
+    }
+
     /// Whether a stream is running (call [`Console::poll`] until it is not).
     pub fn streaming(&self) -> bool {
         !matches!(self.stream, Stream::Idle)
