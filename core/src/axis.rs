@@ -31,6 +31,11 @@ pub const MAX_ZONES: usize = 4;
 /// Largest |step count| an axis accepts (2^24: exact in f32).
 pub const STEPS_MAX: i32 = 1 << 24;
 
+/// Fewest microsteps per degree any axis accepts: one step of 20°, the widest detector
+/// acceptance a rig accepts. [`crate::goniometer::Rig::validate`] then demands a step no
+/// coarser than the rig's own acceptance.
+pub const MIN_STEPS_PER_DEG: f32 = 0.05;
+
 /// How far from home a wrapping axis may turn, degrees (ten turns). Beyond that, angles
 /// lose f32 precision; re-home the axis to reset its counter.
 pub const WRAP_RANGE_DEG: f32 = 3600.0;
@@ -220,12 +225,16 @@ impl AxisConfig {
         }
     }
 
-    /// Checks every field; `BadAxisConfig(id)` names the axis.
+    /// Checks every field; `BadAxisConfig(id)` names the axis, `StepTooCoarse(id)` a
+    /// step coarser than 1 / [`MIN_STEPS_PER_DEG`] degrees.
     pub fn validate(&self) -> Result<()> {
         let bad = Err(Error::BadAxisConfig(self.id));
         let spd = self.steps_per_deg;
         if !(spd.is_finite() && spd > 0.0 && spd <= 1.0e6) {
             return bad;
+        }
+        if spd < MIN_STEPS_PER_DEG {
+            return Err(Error::StepTooCoarse(self.id));
         }
         if !(self.home_offset_deg.is_finite() && self.home_offset_deg.abs() <= 360.0) {
             return bad;

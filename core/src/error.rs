@@ -212,6 +212,12 @@ pub enum Error {
     /// Motion is enabled, or an axis is still moving: configuration changes and
     /// position declarations need motion disabled and every axis at rest.
     MotionEnabled,
+    /// One microstep of the axis is coarser than the detector acceptance half-angle
+    /// (or, for an axis alone, than [`crate::axis::MIN_STEPS_PER_DEG`] allows).
+    StepTooCoarse(AxisId),
+    /// The nearest allowed whole step misses the target by more than the detector
+    /// acceptance half-angle.
+    ResidualTooLarge(AxisId),
 }
 
 impl Error {
@@ -270,6 +276,8 @@ impl Error {
             Error::RangeForbidden(_) => 319,
             Error::PositionUnknown(_) => 320,
             Error::MotionEnabled => 321,
+            Error::StepTooCoarse(_) => 322,
+            Error::ResidualTooLarge(_) => 323,
         }
     }
 
@@ -369,6 +377,12 @@ impl Error {
             Error::MotionEnabled => {
                 "motion is enabled or an axis is moving; send disable and wait for moving=0 before changing the configuration or declaring a position"
             }
+            Error::StepTooCoarse(_) => {
+                "steps_per_deg too low: one step is coarser than the detector acceptance (20 deg at most); check the microstepping and gear"
+            }
+            Error::ResidualTooLarge(_) => {
+                "the nearest allowed step misses the target by more than the detector acceptance; choose another target or a finer step"
+            }
         }
     }
 
@@ -387,7 +401,9 @@ impl Error {
             | Error::ZoneOutsideLimits(a, _)
             | Error::ZonesOverlap(a, _)
             | Error::RangeForbidden(a)
-            | Error::PositionUnknown(a) => Some(a),
+            | Error::PositionUnknown(a)
+            | Error::StepTooCoarse(a)
+            | Error::ResidualTooLarge(a) => Some(a),
             _ => None,
         }
     }

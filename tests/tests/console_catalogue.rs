@@ -540,12 +540,14 @@ fn dump_replays_as_commands_on_a_fresh_console() {
             ],
         ),
         (
-            // Extreme but valid (AxisConfig::validate accepts it): the longest numbers
-            // the formatter writes; every dump line still fits one request line.
+            // Extreme but valid (Rig::validate accepts it): the longest numbers the
+            // formatter writes (steps per degree just above 1, the least a step no
+            // coarser than the 1° acceptance allows); every dump line still fits one
+            // request line.
             "extreme elevation axis",
             &[
                 "axis name=elevation fitted=1",
-                "axis name=elevation steps_per_deg=0.000100002115 home_offset_deg=-0.000100002115",
+                "axis name=elevation steps_per_deg=1.00000012 home_offset_deg=-0.000100002115",
                 "axis name=elevation min_deg=-0.000100002115 max_deg=0.000100002115",
                 "axis name=elevation backlash_deg=0.000100002115 max_speed_deg_s=0.000100002115",
                 "axis name=elevation accel_deg_s2=0.000100002115",

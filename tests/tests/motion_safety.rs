@@ -349,3 +349,104 @@ fn a_calibration_change_forgets_that_axis_position() {
     expect(&mut c, "move elevation=10", "err 320 elevation");
     expect(&mut c, "move azimuth=10", "err 320 azimuth");
 }
+
+/// The rig file of the `matterwave_console::rig` example, with the arm's gear as given.
+fn rig_file(gear: &str) -> String {
+    format!(
+        r#"
+name = "two-motor test stand"
+[detector]
+acceptance_deg = 1.0
+[arm]
+full_steps = 200
+microsteps = 16
+gear = {gear}
+min_deg = -165
+max_deg = 165
+zones = [[-12, 12]]
+[tilt]
+steps_per_deg = 500
+min_deg = -80
+max_deg = 80
+[azimuth]
+steps_per_deg = 100
+wrap = true
+"#
+    )
+}
+
+/// Issue 13 case 4: absurd calibration was accepted — `steps_per_deg=0.01` (a step of
+/// 100°) gave `ok arm_steps=0` with the arm left where it was, `1e-45` gave `arm=inf`,
+/// and a rig file with `gear = 0.01` passed `rig check`. A step coarser than the
+/// detector acceptance (or than 20°, the widest acceptance, for an axis alone) is
+/// refused with err 322, by the one core check both paths run (`Rig::validate`).
+#[test]
+fn a_step_coarser_than_the_acceptance_is_refused_on_both_paths() {
+    let mut c = console();
+    let before = *c.settings();
+    for line in [
+        "axis name=arm steps_per_deg=0.01 home_offset_deg=20",
+        "axis name=arm steps_per_deg=1e-45",
+        // 2° a step against the factory acceptance of 1°.
+        "axis name=arm steps_per_deg=0.5",
+        "axis name=azimuth steps_per_deg=0.9",
+    ] {
+        let r = expect(&mut c, line, "err 322 ");
+        assert!(r.contains("steps_per_deg"), "{r}");
+        assert_eq!(*c.settings(), before, "{line} changed the settings");
+    }
+    // A step of exactly the acceptance is accepted; a narrower acceptance then is not.
+    expect(&mut c, "axis name=arm steps_per_deg=1", "ok");
+    expect(&mut c, "set acceptance=0.5", "err 322 arm");
+    // Rig files: 200 × 16 × 0.01 / 360 = 0.089 microsteps per degree, 11° a step.
+    let good = matterwave_console::rig::parse(&rig_file("100"), "stand.toml");
+    assert!(good.is_ok(), "{good:?}");
+    let e = matterwave_console::rig::parse(&rig_file("0.01"), "stand.toml")
+        .expect_err("gear 0.01 accepted");
+    assert_eq!(e.code, Some(322), "{e}");
+    assert!(e.to_string().contains("axis \"arm\""), "{e}");
+}
+
+/// The number a reply gives for `key`.
+fn reply_field(reply: &str, key: &str) -> f64 {
+    reply
+        .split(' ')
+        .find_map(|t| t.strip_prefix(key)?.strip_prefix('='))
+        .and_then(|v| v.parse().ok())
+        .unwrap_or_else(|| panic!("no {key}= in {reply}"))
+}
+
+/// Issue 13 case 4, second part: every setpoint `move` commands reports its residual
+/// (target − reached, degrees), and a residual beyond the detector acceptance is a
+/// refusal (err 323), not `ok`. The residual is checked here in f64 from the reply's
+/// own step count: target − (home + steps / steps_per_deg).
+#[test]
+fn every_setpoint_reports_its_residual_and_a_large_one_is_refused() {
+    let mut c = console();
+    expect(&mut c, "enable", "ok");
+    let r = expect(&mut c, "move arm=40 tilt=20", "ok arm_steps=");
+    let spd = f64::from(c.settings().rig.arm.steps_per_deg);
+    for (axis, target) in [("arm", 40.0), ("tilt", 20.0)] {
+        let steps = reply_field(&r, &format!("{axis}_steps"));
+        let residual = reply_field(&r, &format!("{axis}_residual"));
+        let want = target - steps / spd;
+        assert!(
+            (residual - want).abs() < 1e-6,
+            "{axis}: {residual} vs {want}: {r}"
+        );
+    }
+    // One step per degree (a step of the whole 1° acceptance), the upper limit at 40.9°
+    // and a zone [39.6°, 40.4°]: 40.45° rounds to 40 (in the zone), 41 lies beyond the
+    // limit, so the nearest allowed step is 39, 1.45° from the target.
+    expect(&mut c, "disable", "ok");
+    expect(&mut c, "axis name=arm steps_per_deg=1 max_deg=40.9", "ok");
+    expect(&mut c, "zone name=arm i=1 from=39.6 to=40.4", "ok");
+    expect(&mut c, "home name=arm at=20", "ok");
+    expect(&mut c, "enable", "ok");
+    let steps = c.axes.steps;
+    expect(&mut c, "move arm=40.45", "err 323 arm");
+    assert_eq!(c.axes.steps, steps);
+    let r = expect(&mut c, "move arm=38.6", "ok arm_steps=39");
+    let residual = reply_field(&r, "arm_residual");
+    assert!((residual + 0.4).abs() < 1e-5, "{r}");
+}

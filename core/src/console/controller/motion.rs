@@ -82,21 +82,21 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             .zip(sps.iter_mut().zip(pos.iter()))
         {
             if let Some(angle) = want {
-                let cfg = axis_of(&self.settings.rig, id).ok_or(Error::NoSuchAxis(id))?;
-                *sp = Some(cfg.setpoint(angle, from)?);
+                *sp = Some(self.settings.rig.setpoint(id, angle, from)?);
             }
         }
         rw.ok();
         for (id, sp) in AxisId::ALL.into_iter().zip(sps) {
             if let Some(sp) = sp {
                 self.axes.start(id, sp.approach_steps, sp.steps);
-                let key = match id {
-                    AxisId::Arm => "arm_steps",
-                    AxisId::Elevation => "elevation_steps",
-                    AxisId::Tilt => "tilt_steps",
-                    AxisId::Azimuth => "azimuth_steps",
+                let (steps, residual) = match id {
+                    AxisId::Arm => ("arm_steps", "arm_residual"),
+                    AxisId::Elevation => ("elevation_steps", "elevation_residual"),
+                    AxisId::Tilt => ("tilt_steps", "tilt_residual"),
+                    AxisId::Azimuth => ("azimuth_steps", "azimuth_residual"),
                 };
-                rw.field_i32(key, sp.steps);
+                rw.field_i32(steps, sp.steps)
+                    .field_f32_rt(residual, sp.residual_deg);
             }
         }
         Ok(None)
