@@ -434,7 +434,12 @@ impl AxisConfig {
     /// The setpoint for `target_deg`, moving from step count `current_steps`.
     ///
     /// On a wrapping axis the target is first replaced by its 360° copy nearest the
-    /// current angle. The target and the angle really reached must both be allowed (see
+    /// current angle; of two copies equally near (half a turn away) the higher one, so
+    /// that a half turn always goes toward increasing angle, whichever copy the target
+    /// names. If the path to that copy crosses a zone, or the copy lies beyond
+    /// [`WRAP_RANGE_DEG`] from home, the copy the other way round is taken. This is the
+    /// one rule for which way a wrapping axis turns: aiming, plans and the console's
+    /// moves all come through here. The target and the angle really reached must both be allowed (see
     /// [`AxisConfig::check_angle`]); when rounding to a whole step would leave the
     /// allowed range, the neighbouring step inside it is used. The path, including the
     /// backlash turn-round point, must be clear of zones ([`AxisConfig::check_path`]).
@@ -453,12 +458,13 @@ impl AxisConfig {
         if target_deg.abs() > 1.0e6 {
             return Err(Error::TooHigh(Quantity::Angle));
         }
-        // The copy nearest the current angle; if its path crosses a zone, the copy the
+        // The copy nearest the current angle (a tie goes to the higher copy); if its
+        // path crosses a zone or it lies beyond the counter's range, the copy the
         // other way round.
-        let k = math::round((current_deg - target_deg) / 360.0);
+        let k = math::floor((current_deg - target_deg) / 360.0 + 0.5);
         let near = target_deg + 360.0 * k;
         match self.setpoint_exact(near, current_steps, current_deg) {
-            Err(e @ Error::PathCrossesZone(..)) => {
+            Err(e @ (Error::PathCrossesZone(..) | Error::StepOverflow(_))) => {
                 let other = if near > current_deg {
                     near - 360.0
                 } else {
@@ -507,6 +513,45 @@ impl AxisConfig {
                     .unwrap_or(Error::NoReachableSolution))
             }
         };
+        self.finish(steps, target, current_steps, current_deg)
+    }
+
+    /// The setpoint that drives to the step count of `target` (a setpoint computed
+    /// earlier, such as a stored aiming solution) from `current_steps`: that exact step
+    /// count, whichever 360° copy it is on a wrapping axis, with every check of
+    /// [`AxisConfig::setpoint`] — the angle reached allowed, within the counter's range,
+    /// and the path and backlash turn-round clear from where the axis stands now. The
+    /// residual is `target`'s.
+    pub fn setpoint_to_steps(&self, target: &Setpoint, current_steps: i32) -> Result<Setpoint> {
+        self.validate()?;
+        if current_steps.unsigned_abs() > STEPS_MAX as u32
+            || target.steps.unsigned_abs() > STEPS_MAX as u32
+        {
+            return Err(Error::StepOverflow(self.id));
+        }
+        let reached = self.steps_to_deg(target.steps);
+        if self.wrap && (reached - self.home_offset_deg).abs() > WRAP_RANGE_DEG {
+            return Err(Error::StepOverflow(self.id));
+        }
+        self.check_angle(reached)?;
+        self.finish(
+            target.steps,
+            reached + target.residual_deg,
+            current_steps,
+            self.steps_to_deg(current_steps),
+        )
+    }
+
+    /// The setpoint at an allowed step count `steps` for `target` degrees, from
+    /// `current_steps` (at `current_deg`): the backlash turn-round, and the path (both
+    /// legs) checked.
+    fn finish(
+        &self,
+        steps: i32,
+        target: f32,
+        current_steps: i32,
+        current_deg: f32,
+    ) -> Result<Setpoint> {
         let reached = self.steps_to_deg(steps);
         let backlash_steps = self.backlash_steps();
         let approach_steps = match self.approach {

@@ -450,3 +450,66 @@ fn every_setpoint_reports_its_residual_and_a_large_one_is_refused() {
     let residual = reply_field(&r, "arm_residual");
     assert!((residual + 0.4).abs() < 1e-5, "{r}");
 }
+
+/// `mwctl calc aim` with `args` (JSON output), run in-process: its solutions.
+fn calc_aim(args: &[&str]) -> Vec<serde_json::Value> {
+    use clap::Parser;
+    let mut all = vec!["mwctl", "calc", "aim", "--format", "json"];
+    all.extend_from_slice(args);
+    let cli = matterwave_console::cli::Cli::try_parse_from(all).expect("calc aim flags");
+    let text = matterwave_console::cli::run(&cli).expect("calc aim runs");
+    let v: serde_json::Value = serde_json::from_str(&text).expect("calc aim JSON");
+    v["solutions"].as_array().expect("solutions").clone()
+}
+
+/// Issue 13 case 8: `mwctl calc aim` listed azimuth −180° as −80,000 steps while the
+/// console's `move sol=1` commanded +80,000 — half a turn is a tie, and each side broke
+/// it its own way. One rule (the copy nearest the current angle; of two equally near,
+/// the higher), in the core's `AxisConfig::setpoint`, and `move sol=N` drives to the
+/// step counts `aim` listed: the CLI and the console command the same steps, and a raw
+/// `move` by half a turn turns the same way whichever copy it names.
+#[test]
+fn calc_aim_and_move_sol_turn_a_wrapping_axis_the_same_way() {
+    let sols = calc_aim(&[
+        "--crystal",
+        "cu",
+        "--face",
+        "100",
+        "--beam",
+        "1,0",
+        "--energy",
+        "120",
+        "--tilt",
+        "20",
+    ]);
+    assert_eq!(sols.len(), 2, "{sols:?}");
+    for (n, s) in sols.iter().enumerate() {
+        // Both start from every axis at step 0 on the factory (built-in) rig.
+        let mut c = console();
+        expect(
+            &mut c,
+            "set crystal=cu face=100 energy=120 tilt=20 beam=1,0",
+            "ok",
+        );
+        let aim = request(&mut c, "aim");
+        assert!(last(&aim).starts_with("ok count=2"), "{aim}");
+        expect(&mut c, "enable", "ok");
+        let r = expect(&mut c, &format!("move sol={n}"), "ok");
+        for axis in ["arm", "tilt", "azimuth"] {
+            let console_steps = reply_field(&r, &format!("{axis}_steps"));
+            let cli_steps = s[format!("{axis}_steps")].as_f64().expect("steps");
+            assert_eq!(console_steps, cli_steps, "sol {n} {axis}: {r} vs {s}");
+        }
+    }
+    let turned = |line: &str| {
+        let mut c = console();
+        expect(&mut c, "enable", "ok");
+        reply_field(&expect(&mut c, line, "ok"), "azimuth_steps")
+    };
+    let half = turned("move azimuth=180");
+    assert_eq!(half, 80_000.0);
+    assert_eq!(turned("move azimuth=-180"), half);
+    assert_eq!(turned("move azimuth=540"), half);
+    let branch_minus = sols.iter().find(|s| s["branch"] == -1).expect("branch -1");
+    assert_eq!(branch_minus["azimuth_steps"].as_f64(), Some(half));
+}

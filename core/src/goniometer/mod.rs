@@ -152,9 +152,25 @@ impl Rig {
     /// console commands and every aiming solution comes from here.
     pub fn setpoint(&self, id: AxisId, target_deg: f32, current_steps: i32) -> Result<Setpoint> {
         let sp = self.axis(id)?.setpoint(target_deg, current_steps)?;
+        self.check_residual(sp)
+    }
+
+    /// [`AxisConfig::setpoint_to_steps`] on axis `id`, with the residual bound of
+    /// [`Rig::setpoint`]: how `move sol=N` drives to the step counts `aim` listed.
+    pub fn setpoint_to_steps(
+        &self,
+        id: AxisId,
+        target: &Setpoint,
+        current_steps: i32,
+    ) -> Result<Setpoint> {
+        let sp = self.axis(id)?.setpoint_to_steps(target, current_steps)?;
+        self.check_residual(sp)
+    }
+
+    fn check_residual(&self, sp: Setpoint) -> Result<Setpoint> {
         let miss = sp.residual_deg.abs();
         if miss.is_nan() || miss > self.acceptance_deg {
-            return Err(Error::ResidualTooLarge(id));
+            return Err(Error::ResidualTooLarge(sp.id));
         }
         Ok(sp)
     }

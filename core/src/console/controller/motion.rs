@@ -7,11 +7,21 @@ use super::args::{axis_id, keyed, missing, opt_int, opt_num};
 use super::axes::axis_of;
 use super::fault::{check_used, Accepted, Fault, Result};
 use super::{Console, Rw, Stream};
+use crate::axis::Setpoint;
 use crate::console::board::{AxisDriver, Detector, Interlock, Scene};
 use crate::console::wire::token::Args;
 use crate::error::{AxisId, Error};
 use crate::goniometer::axis_index;
 use crate::surface::Incidence;
+
+/// Where `move` sends one axis.
+#[derive(Clone, Copy)]
+enum Goal {
+    /// An angle, degrees (`move arm=…`).
+    Angle(f32),
+    /// The step count of a stored solution's setpoint (`move sol=N`).
+    Steps(Setpoint),
+}
 
 impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
     pub(super) fn cmd_move<W: Write>(
@@ -28,7 +38,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         ];
         check_used(a)?;
         let raw = targets.iter().any(|t| t.1.is_some());
-        let mut goal: [Option<f32>; 4] = [None; 4];
+        let mut goal: [Option<Goal>; 4] = [None; 4];
         match (sol, raw) {
             (Some(_), true) => {
                 return Err(Fault::from(Error::UnknownArgument)
@@ -45,17 +55,20 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                     .ok()
                     .and_then(|i| self.solutions.get(i))
                     .ok_or(Error::NoSuchSolution)?;
+                // The step counts `aim` listed (the ones `mwctl calc aim` lists for
+                // the same request), not their angles again: on a wrapping axis an
+                // angle half a turn away could name the other copy.
                 goal = [
-                    Some(s.arm.angle_deg),
-                    s.elevation.map(|e| e.angle_deg),
-                    Some(s.tilt.angle_deg),
-                    Some(s.azimuth.angle_deg),
+                    Some(Goal::Steps(s.arm)),
+                    s.elevation.map(Goal::Steps),
+                    Some(Goal::Steps(s.tilt)),
+                    Some(Goal::Steps(s.azimuth)),
                 ];
             }
             (None, true) => {
                 for (id, v) in targets {
                     if let Some(g) = goal.get_mut(axis_index(id)) {
-                        *g = v;
+                        *g = v.map(Goal::Angle);
                     }
                 }
             }
@@ -81,9 +94,12 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             .zip(goal)
             .zip(sps.iter_mut().zip(pos.iter()))
         {
-            if let Some(angle) = want {
-                *sp = Some(self.settings.rig.setpoint(id, angle, from)?);
-            }
+            let rig = &self.settings.rig;
+            *sp = match want {
+                Some(Goal::Angle(angle)) => Some(rig.setpoint(id, angle, from)?),
+                Some(Goal::Steps(stored)) => Some(rig.setpoint_to_steps(id, &stored, from)?),
+                None => None,
+            };
         }
         rw.ok();
         for (id, sp) in AxisId::ALL.into_iter().zip(sps) {
