@@ -32,9 +32,10 @@ pub const MAX_ZONES: usize = 4;
 pub const STEPS_MAX: i32 = 1 << 24;
 
 /// Fewest microsteps per degree any axis accepts: one step of 20°, the widest detector
-/// acceptance a rig accepts. [`crate::goniometer::Rig::validate`] then demands a step no
-/// coarser than the rig's own acceptance.
-pub const MIN_STEPS_PER_DEG: f32 = 0.05;
+/// acceptance a rig accepts ([`crate::goniometer::ACCEPTANCE_MAX_DEG`]).
+/// [`crate::goniometer::Rig::validate`] then demands a step no coarser than the rig's
+/// own acceptance.
+pub const MIN_STEPS_PER_DEG: f32 = 1.0 / crate::goniometer::ACCEPTANCE_MAX_DEG;
 
 /// How far from home a wrapping axis may turn, degrees (ten turns). Beyond that, angles
 /// lose f32 precision; re-home the axis to reset its counter.
@@ -170,9 +171,11 @@ pub struct AxisConfig {
     pub steps_per_deg: f32,
     /// Axis angle at step count 0, degrees.
     pub home_offset_deg: f32,
-    /// Lower soft limit, degrees (ignored when `wrap`).
+    /// Lower soft limit, degrees (ignored by motion when `wrap`, but still below
+    /// `max_deg`, within ±720°).
     pub min_deg: f32,
-    /// Upper soft limit, degrees (ignored when `wrap`).
+    /// Upper soft limit, degrees (ignored by motion when `wrap`, but still above
+    /// `min_deg`, within ±720°).
     pub max_deg: f32,
     /// Forbidden zones.
     pub zones: [Option<Zone>; MAX_ZONES],
@@ -239,12 +242,15 @@ impl AxisConfig {
         if !(self.home_offset_deg.is_finite() && self.home_offset_deg.abs() <= 360.0) {
             return bad;
         }
+        // Ordered even on a wrapping axis, which does not use them: they apply again
+        // when `wrap` is switched off, and `dump` replays them onto axes that do not
+        // wrap.
         let limits_ok = self.min_deg.is_finite()
             && self.max_deg.is_finite()
             && self.min_deg < self.max_deg
             && self.min_deg >= -720.0
             && self.max_deg <= 720.0;
-        if !self.wrap && !limits_ok {
+        if !limits_ok {
             return bad;
         }
         if !(self.backlash_deg.is_finite() && self.backlash_deg >= 0.0 && self.backlash_deg <= 10.0)

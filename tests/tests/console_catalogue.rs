@@ -525,7 +525,7 @@ fn dump_replays_as_commands_on_a_fresh_console() {
     let setups: [(&str, &[&str]); 5] = [
         ("factory settings", &[]),
         (
-            // Realistic values over three of the four dump lines of an axis.
+            // Realistic values over three of the configuration lines of an axis.
             "azimuth home, backlash, speed and acceleration",
             &["axis name=azimuth home_offset_deg=-123.45679 backlash_deg=0.05 max_speed_deg_s=20.5 accel_deg_s2=40.25"],
         ),

@@ -513,3 +513,95 @@ fn calc_aim_and_move_sol_turn_a_wrapping_axis_the_same_way() {
     let branch_minus = sols.iter().find(|s| s["branch"] == -1).expect("branch -1");
     assert_eq!(branch_minus["azimuth_steps"].as_f64(), Some(half));
 }
+
+/// Issue 13 case 9: a wrapping axis accepted inverted limits (`min=170 max=-170`),
+/// whose dump then failed on a console where the axis does not wrap. Limits are ordered
+/// on every axis (err 305), wrapping or not.
+#[test]
+fn inverted_limits_are_refused_even_on_a_wrapping_axis() {
+    let mut c = console();
+    let before = *c.settings();
+    expect(
+        &mut c,
+        "axis name=azimuth min_deg=170 max_deg=-170",
+        "err 305 azimuth",
+    );
+    expect(
+        &mut c,
+        "axis name=azimuth min_deg=10 max_deg=10",
+        "err 305 azimuth",
+    );
+    assert_eq!(*c.settings(), before);
+    expect(&mut c, "axis name=azimuth min_deg=-170 max_deg=170", "ok");
+}
+
+/// A console in the state `setup` leaves (each line answered `ok`), then disabled.
+fn console_after(setup: &[&str]) -> Con {
+    let mut c = console();
+    for line in setup {
+        expect(&mut c, line, "ok");
+    }
+    expect(&mut c, "disable", "ok");
+    c
+}
+
+/// Issue 13 case 9, second part: `dump` always replays — its lines, sent in order to a
+/// factory console (or to any console at rest), are each answered `ok` and restore the
+/// settings exactly, however the configuration was reached. Each setup below once gave a
+/// dump whose replay failed part-way (home outside the factory limits, a zone outside
+/// the new limits, a counter reach beyond 2^24 at the factory limits, a wrapping arm).
+#[test]
+fn dump_replays_onto_a_factory_console_and_any_console_at_rest() {
+    let setups: [&[&str]; 6] = [
+        &[],
+        // Limits that exclude the factory zone and home.
+        &[
+            "zone name=arm i=0 off",
+            "axis name=arm home_offset_deg=150 min_deg=100 max_deg=200",
+            "zone name=arm i=1 from=110 to=120",
+        ],
+        // Steps per degree that only fit the counter within narrow limits.
+        &[
+            "axis name=arm min_deg=-50 max_deg=50",
+            "axis name=arm steps_per_deg=300000",
+        ],
+        // A wrapping arm whose home lies beyond its (unused) limits, and a zone.
+        &[
+            "axis name=arm wrap=1 home_offset_deg=300",
+            "zone name=arm i=1 from=150 to=200",
+        ],
+        // A coarse axis with a wide acceptance; a fitted elevation.
+        &[
+            "set acceptance=15",
+            "axis name=tilt steps_per_deg=0.07",
+            "axis name=elevation fitted=1 min_deg=-45 max_deg=45",
+            "zone name=elevation i=2 from=10 to=20",
+        ],
+        // A fine axis with a narrow acceptance; the azimuth no longer wraps.
+        &[
+            "axis name=azimuth wrap=0 min_deg=-90 max_deg=270 steps_per_deg=15000",
+            "axis name=arm steps_per_deg=100000 min_deg=-100 max_deg=100",
+            "set acceptance=0.002",
+        ],
+    ];
+    let mut failures = Vec::new();
+    for (t, target) in setups.iter().enumerate() {
+        let mut source = console_after(target);
+        let dump = request(&mut source, "dump");
+        assert!(last(&dump) == "ok", "{dump}");
+        for (a, start) in setups.iter().enumerate() {
+            let mut c = console_after(start);
+            for item in dump.lines().filter_map(|l| l.strip_prefix("- ")) {
+                assert!(item.len() <= 120, "{item}");
+                let r = last(&request(&mut c, item));
+                if !r.starts_with("ok") {
+                    failures.push(format!("dump of {t} onto {a}: {item} -> {r}"));
+                }
+            }
+            if c.settings() != source.settings() {
+                failures.push(format!("dump of {t} onto {a}: settings differ"));
+            }
+        }
+    }
+    assert!(failures.is_empty(), "{}", failures.join("\n"));
+}

@@ -46,6 +46,9 @@ pub const fn axis_index(id: AxisId) -> usize {
     }
 }
 
+/// Widest detector acceptance half-angle a rig accepts, degrees.
+pub const ACCEPTANCE_MAX_DEG: f32 = 20.0;
+
 /// Step counts of all four axes (arm, elevation, tilt, azimuth); an absent elevation
 /// axis stays at 0.
 pub type Position = [i32; 4];
@@ -127,7 +130,7 @@ impl Rig {
         if a <= 0.0 {
             return Err(Error::TooLow(Quantity::Angle));
         }
-        if a > 20.0 {
+        if a > ACCEPTANCE_MAX_DEG {
             return Err(Error::TooHigh(Quantity::Angle));
         }
         for ax in [

@@ -231,12 +231,12 @@ fn axis_fields<W: Write>(rw: &mut Rw<'_, W>, c: &AxisConfig) {
     }
 }
 
-/// Groups of axis fields, each short enough for one request line when dumped.
-pub(super) const AXIS_PARTS: u8 = 4;
+/// Groups of axis fields in the `axis` reply.
+const AXIS_PARTS: u8 = 4;
 
 /// Fields of group `part` (0: steps and home, 1: limits, 2: backlash, approach, wrap,
 /// 3: speed and acceleration), named as in rig files ([`keys`]).
-pub(super) fn axis_part<W: Write>(rw: &mut Rw<'_, W>, c: &AxisConfig, part: u8) {
+fn axis_part<W: Write>(rw: &mut Rw<'_, W>, c: &AxisConfig, part: u8) {
     match part {
         0 => {
             rw.field_f32_rt(keys::STEPS_PER_DEG, c.steps_per_deg)
