@@ -26,8 +26,9 @@
 //! 7. every motion the console starts is enabled, interlock-safe, lands on an allowed
 //!    angle (inside the limits, outside every forbidden zone) and its path, including
 //!    the backlash turn-round, misses every zone that does not contain the start
-//!    (an independent interval check, not `AxisConfig::check_path`); no axis moves
-//!    except through a started motion.
+//!    (an independent interval check, not `AxisConfig::check_path`); no axis's counter
+//!    changes except through a started motion or a declared position (`home`, which
+//!    only an `ok` request makes, with motion disabled).
 #![no_main]
 
 use libfuzzer_sys::fuzz_target;
@@ -49,11 +50,12 @@ const FINAL_POLLS: u32 = 10_000;
 /// One motion started by the console: axis, steps before, turn-round point, target.
 type Start = (AxisId, i32, Option<i32>, i32);
 
-/// `SimAxes` that also records every started motion.
+/// `SimAxes` that also records every started motion and every declared position.
 #[derive(Default)]
 struct Axes {
     sim: SimAxes,
     starts: Vec<Start>,
+    declared: Vec<AxisId>,
 }
 
 impl AxisDriver for Axes {
@@ -61,6 +63,7 @@ impl AxisDriver for Axes {
         self.sim.position(axis)
     }
     fn set_position(&mut self, axis: AxisId, steps: i32) {
+        self.declared.push(axis);
         self.sim.set_position(axis, steps);
     }
     fn start(&mut self, axis: AxisId, via: Option<i32>, target: i32) {
@@ -307,11 +310,16 @@ fn check_motion(c: &mut Con, before: &State, answered_ok: bool) {
             }
         }
     }
+    let declared = core::mem::take(&mut c.axes.declared);
+    if !declared.is_empty() {
+        assert!(answered_ok, "position declared by a failed request");
+        assert!(!before.enabled, "position declared while enabled");
+    }
     for id in AxisId::ALL {
         let i = axis_index(id);
         if c.axes.sim.steps[i] != before.steps[i] {
             assert!(
-                starts.iter().any(|s| s.0 == id),
+                starts.iter().any(|s| s.0 == id) || declared.contains(&id),
                 "{id:?} moved without a start"
             );
         }
