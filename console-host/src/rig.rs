@@ -420,9 +420,9 @@ pub fn parse(text: &str, file: &str) -> Result<RigFile, RigError> {
 
 /// Maps a [`Rig::validate`] failure to a message naming the axis.
 fn core_rejected(file: &str, e: Error) -> RigError {
-    let section = match e {
-        Error::BadAxisConfig(a) => Some(format!("axis {:?}", a.name())),
-        _ => Some("[detector]".to_string()),
+    let section = match e.axis() {
+        Some(a) => Some(format!("axis {:?}", a.name())),
+        None => Some("[detector]".to_string()),
     };
     RigError {
         file: file.to_string(),

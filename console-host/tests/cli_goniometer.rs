@@ -529,6 +529,10 @@ fn two_circle_aim_uses_the_elevation() {
         "0",
         "--rig",
         BENCH_B,
+        // Parked at 20°: at home (−0.35°, inside the gun zone [−11°, 11°], nearer its
+        // lower edge) the arm may only leave the zone downward (docs/PROTOCOL.md).
+        "--position",
+        "20,0,0,0",
     ]);
     let s = &v["solutions"][0];
     assert!(num(&s["elevation_deg"]).abs() > 5.0, "{s}");

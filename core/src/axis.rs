@@ -31,6 +31,12 @@ pub const MAX_ZONES: usize = 4;
 /// Largest |step count| an axis accepts (2^24: exact in f32).
 pub const STEPS_MAX: i32 = 1 << 24;
 
+/// Fewest microsteps per degree any axis accepts: one step of 20°, the widest detector
+/// acceptance a rig accepts ([`crate::goniometer::ACCEPTANCE_MAX_DEG`]).
+/// [`crate::goniometer::Rig::validate`] then demands a step no coarser than the rig's
+/// own acceptance.
+pub const MIN_STEPS_PER_DEG: f32 = 1.0 / crate::goniometer::ACCEPTANCE_MAX_DEG;
+
 /// How far from home a wrapping axis may turn, degrees (ten turns). Beyond that, angles
 /// lose f32 precision; re-home the axis to reset its counter.
 pub const WRAP_RANGE_DEG: f32 = 3600.0;
@@ -56,18 +62,40 @@ impl Zone {
         }
     }
 
-    /// Whether the closed interval [lo, hi] (lo ≤ hi, unwrapped) meets the zone.
+    /// Whether the closed interval [lo, hi] (lo ≤ hi, unwrapped) meets the zone (on a
+    /// wrapping axis, any 360° copy of it, however long the interval).
     fn meets(&self, lo: f32, hi: f32, wrap: bool) -> bool {
         if wrap {
-            // Shift the zone to the copy nearest the interval start, then test that copy
-            // and the next one up.
-            let k = math::floor((lo - self.from_deg) / 360.0);
-            (0..3).any(|i| {
-                let off = (k + i as f32 - 1.0) * 360.0;
-                self.from_deg + off <= hi && self.to_deg + off >= lo
-            })
+            // Copy m is [from + 360m, to + 360m]; it meets [lo, hi] when
+            // (lo − to)/360 ≤ m ≤ (hi − from)/360 for a whole m.
+            let first = -math::floor((self.to_deg - lo) / 360.0);
+            let last = math::floor((hi - self.from_deg) / 360.0);
+            first <= last
         } else {
             self.from_deg <= hi && self.to_deg >= lo
+        }
+    }
+
+    /// Whether the path from `from` to `to` (unwrapped) only leaves the zone: `from`
+    /// lies in (a copy of) the zone, the path heads for that copy's nearer edge (either,
+    /// from its middle), and beyond that edge it meets no other copy. The part of the
+    /// path inside the zone is then the shortest way out.
+    fn only_leaves(&self, from: f32, to: f32, wrap: bool) -> bool {
+        let off = if wrap {
+            360.0 * math::floor((from - self.from_deg) / 360.0)
+        } else {
+            0.0
+        };
+        let (lo_edge, hi_edge) = (self.from_deg + off, self.to_deg + off);
+        if !(from >= lo_edge && from <= hi_edge) {
+            return false;
+        }
+        let (below, above) = (from - lo_edge, hi_edge - from);
+        if to <= from {
+            // Out through the lower edge; the next copy down ends at hi_edge − 360.
+            below <= above && !(wrap && to <= hi_edge - 360.0)
+        } else {
+            above <= below && !(wrap && to >= lo_edge + 360.0)
         }
     }
 }
@@ -143,9 +171,11 @@ pub struct AxisConfig {
     pub steps_per_deg: f32,
     /// Axis angle at step count 0, degrees.
     pub home_offset_deg: f32,
-    /// Lower soft limit, degrees (ignored when `wrap`).
+    /// Lower soft limit, degrees (ignored by motion when `wrap`, but still below
+    /// `max_deg`, within ±720°).
     pub min_deg: f32,
-    /// Upper soft limit, degrees (ignored when `wrap`).
+    /// Upper soft limit, degrees (ignored by motion when `wrap`, but still above
+    /// `min_deg`, within ±720°).
     pub max_deg: f32,
     /// Forbidden zones.
     pub zones: [Option<Zone>; MAX_ZONES],
@@ -198,22 +228,29 @@ impl AxisConfig {
         }
     }
 
-    /// Checks every field; `BadAxisConfig(id)` names the axis.
+    /// Checks every field; `BadAxisConfig(id)` names the axis, `StepTooCoarse(id)` a
+    /// step coarser than 1 / [`MIN_STEPS_PER_DEG`] degrees.
     pub fn validate(&self) -> Result<()> {
         let bad = Err(Error::BadAxisConfig(self.id));
         let spd = self.steps_per_deg;
         if !(spd.is_finite() && spd > 0.0 && spd <= 1.0e6) {
             return bad;
         }
+        if spd < MIN_STEPS_PER_DEG {
+            return Err(Error::StepTooCoarse(self.id));
+        }
         if !(self.home_offset_deg.is_finite() && self.home_offset_deg.abs() <= 360.0) {
             return bad;
         }
+        // Ordered even on a wrapping axis, which does not use them: they apply again
+        // when `wrap` is switched off, and `dump` replays them onto axes that do not
+        // wrap.
         let limits_ok = self.min_deg.is_finite()
             && self.max_deg.is_finite()
             && self.min_deg < self.max_deg
             && self.min_deg >= -720.0
             && self.max_deg <= 720.0;
-        if !self.wrap && !limits_ok {
+        if !limits_ok {
             return bad;
         }
         if !(self.backlash_deg.is_finite() && self.backlash_deg >= 0.0 && self.backlash_deg <= 10.0)
@@ -349,28 +386,39 @@ impl AxisConfig {
     }
 
     /// Whether the straight path between two angles (unwrapped) is clear of zones and
-    /// limits. A zone that contains the start is exempt, and so are the limits when the
-    /// start lies beyond them, so an axis found in a zone or past a limit (e.g. homed
-    /// there) can always be driven back.
+    /// limits. An axis found in a zone (e.g. homed there, or a zone set over it) may be
+    /// driven out of it through the zone's nearer edge (either edge from its middle),
+    /// and the path must not cross the rest of that zone, nor, on a wrapping axis, meet
+    /// another copy of it. An axis that starts beyond a soft
+    /// limit may only be driven back inside, toward that limit, and no farther than
+    /// the other limit; every other path lies within the limits.
     pub fn check_path(&self, from_deg: f32, to_deg: f32) -> Result<()> {
         let (lo, hi) = if from_deg <= to_deg {
             (from_deg, to_deg)
         } else {
             (to_deg, from_deg)
         };
-        // An axis that starts beyond a soft limit may be driven back inside.
-        let starts_outside = from_deg < self.min_deg || from_deg > self.max_deg;
-        if !self.wrap && !starts_outside {
-            if lo < self.min_deg {
-                return Err(Error::BelowLimit(self.id));
-            }
-            if hi > self.max_deg {
+        if !self.wrap {
+            // Beyond a limit, the only allowed direction is back toward it; otherwise
+            // the whole path lies within the limits.
+            if from_deg > self.max_deg {
+                if to_deg >= from_deg {
+                    return Err(Error::AboveLimit(self.id));
+                }
+            } else if hi > self.max_deg {
                 return Err(Error::AboveLimit(self.id));
+            }
+            if from_deg < self.min_deg {
+                if to_deg <= from_deg {
+                    return Err(Error::BelowLimit(self.id));
+                }
+            } else if lo < self.min_deg {
+                return Err(Error::BelowLimit(self.id));
             }
         }
         for (i, z) in self.zones.iter().enumerate() {
             if let Some(z) = z {
-                if z.meets(lo, hi, self.wrap) && !z.contains(from_deg, self.wrap) {
+                if z.meets(lo, hi, self.wrap) && !z.only_leaves(from_deg, to_deg, self.wrap) {
                     return Err(Error::PathCrossesZone(self.id, i as u8));
                 }
             }
@@ -392,7 +440,12 @@ impl AxisConfig {
     /// The setpoint for `target_deg`, moving from step count `current_steps`.
     ///
     /// On a wrapping axis the target is first replaced by its 360° copy nearest the
-    /// current angle. The target and the angle really reached must both be allowed (see
+    /// current angle; of two copies equally near (half a turn away) the higher one, so
+    /// that a half turn always goes toward increasing angle, whichever copy the target
+    /// names. If the path to that copy crosses a zone, or the copy lies beyond
+    /// [`WRAP_RANGE_DEG`] from home, the copy the other way round is taken. This is the
+    /// one rule for which way a wrapping axis turns: aiming, plans and the console's
+    /// moves all come through here. The target and the angle really reached must both be allowed (see
     /// [`AxisConfig::check_angle`]); when rounding to a whole step would leave the
     /// allowed range, the neighbouring step inside it is used. The path, including the
     /// backlash turn-round point, must be clear of zones ([`AxisConfig::check_path`]).
@@ -411,12 +464,13 @@ impl AxisConfig {
         if target_deg.abs() > 1.0e6 {
             return Err(Error::TooHigh(Quantity::Angle));
         }
-        // The copy nearest the current angle; if its path crosses a zone, the copy the
+        // The copy nearest the current angle (a tie goes to the higher copy); if its
+        // path crosses a zone or it lies beyond the counter's range, the copy the
         // other way round.
-        let k = math::round((current_deg - target_deg) / 360.0);
+        let k = math::floor((current_deg - target_deg) / 360.0 + 0.5);
         let near = target_deg + 360.0 * k;
         match self.setpoint_exact(near, current_steps, current_deg) {
-            Err(e @ Error::PathCrossesZone(..)) => {
+            Err(e @ (Error::PathCrossesZone(..) | Error::StepOverflow(_))) => {
                 let other = if near > current_deg {
                     near - 360.0
                 } else {
@@ -465,6 +519,45 @@ impl AxisConfig {
                     .unwrap_or(Error::NoReachableSolution))
             }
         };
+        self.finish(steps, target, current_steps, current_deg)
+    }
+
+    /// The setpoint that drives to the step count of `target` (a setpoint computed
+    /// earlier, such as a stored aiming solution) from `current_steps`: that exact step
+    /// count, whichever 360° copy it is on a wrapping axis, with every check of
+    /// [`AxisConfig::setpoint`] — the angle reached allowed, within the counter's range,
+    /// and the path and backlash turn-round clear from where the axis stands now. The
+    /// residual is `target`'s.
+    pub fn setpoint_to_steps(&self, target: &Setpoint, current_steps: i32) -> Result<Setpoint> {
+        self.validate()?;
+        if current_steps.unsigned_abs() > STEPS_MAX as u32
+            || target.steps.unsigned_abs() > STEPS_MAX as u32
+        {
+            return Err(Error::StepOverflow(self.id));
+        }
+        let reached = self.steps_to_deg(target.steps);
+        if self.wrap && (reached - self.home_offset_deg).abs() > WRAP_RANGE_DEG {
+            return Err(Error::StepOverflow(self.id));
+        }
+        self.check_angle(reached)?;
+        self.finish(
+            target.steps,
+            reached + target.residual_deg,
+            current_steps,
+            self.steps_to_deg(current_steps),
+        )
+    }
+
+    /// The setpoint at an allowed step count `steps` for `target` degrees, from
+    /// `current_steps` (at `current_deg`): the backlash turn-round, and the path (both
+    /// legs) checked.
+    fn finish(
+        &self,
+        steps: i32,
+        target: f32,
+        current_steps: i32,
+        current_deg: f32,
+    ) -> Result<Setpoint> {
         let reached = self.steps_to_deg(steps);
         let backlash_steps = self.backlash_steps();
         let approach_steps = match self.approach {

@@ -208,6 +208,18 @@ pub enum Error {
     ZonesOverlap(AxisId, u8),
     /// The zones forbid the whole range of the axis.
     RangeForbidden(AxisId),
+    /// Where the axis stands is unknown (since `reset`, or a change of its calibration):
+    /// it must be homed or its position declared before it moves.
+    PositionUnknown(AxisId),
+    /// Motion is enabled, or an axis is still moving: configuration changes and
+    /// position declarations need motion disabled and every axis at rest.
+    MotionEnabled,
+    /// One microstep of the axis is coarser than the detector acceptance half-angle
+    /// (or, for an axis alone, than [`crate::axis::MIN_STEPS_PER_DEG`] allows).
+    StepTooCoarse(AxisId),
+    /// The nearest allowed whole step misses the target by more than the detector
+    /// acceptance half-angle.
+    ResidualTooLarge(AxisId),
 }
 
 impl Error {
@@ -265,6 +277,10 @@ impl Error {
             Error::ZoneOutsideLimits(_, _) => 317,
             Error::ZonesOverlap(_, _) => 318,
             Error::RangeForbidden(_) => 319,
+            Error::PositionUnknown(_) => 320,
+            Error::MotionEnabled => 321,
+            Error::StepTooCoarse(_) => 322,
+            Error::ResidualTooLarge(_) => 323,
         }
     }
 
@@ -363,6 +379,18 @@ impl Error {
             Error::ZoneOutsideLimits(_, _) => "forbidden zone reaches outside the soft limits; keep it within min_deg..max_deg",
             Error::ZonesOverlap(_, _) => "forbidden zone overlaps another; merge them into one zone",
             Error::RangeForbidden(_) => "the zones forbid the whole range of the axis; remove or shrink one",
+            Error::PositionUnknown(_) => {
+                "position unknown since reset or a calibration change; disable, then home name=AXIS [at=DEG] to declare where it stands"
+            }
+            Error::MotionEnabled => {
+                "motion is enabled or an axis is moving; send disable and wait for moving=0 before changing the configuration or declaring a position"
+            }
+            Error::StepTooCoarse(_) => {
+                "steps_per_deg too low: one step is coarser than the detector acceptance (20 deg at most); check the microstepping and gear"
+            }
+            Error::ResidualTooLarge(_) => {
+                "the nearest allowed step misses the target by more than the detector acceptance; choose another target or a finer step"
+            }
         }
     }
 
@@ -380,7 +408,10 @@ impl Error {
             | Error::ReachBeyondCounter(a)
             | Error::ZoneOutsideLimits(a, _)
             | Error::ZonesOverlap(a, _)
-            | Error::RangeForbidden(a) => Some(a),
+            | Error::RangeForbidden(a)
+            | Error::PositionUnknown(a)
+            | Error::StepTooCoarse(a)
+            | Error::ResidualTooLarge(a) => Some(a),
             _ => None,
         }
     }

@@ -24,7 +24,7 @@
 //! ```
 
 use crate::beam::Gun;
-use crate::error::{finite, Error, Quantity, Result};
+use crate::error::{finite, AxisId, Error, Quantity, Result};
 use crate::goniometer::{self, AimRequest, Branch, InView, Mode, Position, Rig, Solution};
 use crate::listing::{insert_sorted, Listing};
 use crate::math;
@@ -352,7 +352,7 @@ impl SweepPlan {
     pub fn point(&self, i: u32, from_steps: i32) -> SweepPoint {
         let p = self;
         let arm = p.from_deg + i as f32 * p.step_deg;
-        let sp = p.rig.arm.setpoint(arm, from_steps);
+        let sp = p.rig.setpoint(AxisId::Arm, arm, from_steps);
         let in_view = goniometer::nearest_in_view(
             &p.face,
             &p.incidence,

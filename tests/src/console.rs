@@ -14,18 +14,25 @@ pub mod byte_stream;
 /// One started motion: axis, steps before, backlash turn-round, target.
 pub type Start = (AxisId, i32, Option<i32>, i32);
 
-/// `SimAxes` that also records every motion the console starts.
+/// `SimAxes` that also records every motion the console starts and every position it
+/// declares (`home`).
 #[derive(Default)]
 pub struct RecordingAxes {
     /// The simulated axes.
     pub sim: SimAxes,
     /// Every motion started, in order (take them to check them).
     pub starts: Vec<Start>,
+    /// Every axis whose position was declared, in order (take them to check them).
+    pub declared: Vec<AxisId>,
 }
 
 impl AxisDriver for RecordingAxes {
     fn position(&mut self, axis: AxisId) -> i32 {
         self.sim.position(axis)
+    }
+    fn set_position(&mut self, axis: AxisId, steps: i32) {
+        self.declared.push(axis);
+        self.sim.set_position(axis, steps);
     }
     fn start(&mut self, axis: AxisId, via: Option<i32>, target: i32) {
         let from = self.sim.position(axis);

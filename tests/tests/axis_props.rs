@@ -252,7 +252,8 @@ fn check_setpoint(
         ),
     }
     // Path: the axis's own check, then an exact one over the hull of every point the
-    // move passes (current, turn-round, target). Zones holding the start are exempt.
+    // move passes (current, turn-round, target). A zone holding the start may only be
+    // left through its nearer edge.
     let cur = ax.steps_to_deg(current);
     let turn = sp.approach_steps.map(|t| ax.steps_to_deg(t));
     match turn {
@@ -268,21 +269,25 @@ fn check_setpoint(
     let pts = [cur as f64, a, turn.map_or(a, |t| t as f64)];
     let lo = pts.iter().copied().fold(f64::INFINITY, f64::min);
     let hi = pts.iter().copied().fold(f64::NEG_INFINITY, f64::max);
-    // An axis found beyond a soft limit may be driven back in (the core exempts the
-    // limits then); the target and the turn-round point must still lie inside.
-    let starts_outside = (cur as f64) < ax.min_deg as f64 || (cur as f64) > ax.max_deg as f64;
-    if !ax.wrap && !starts_outside {
+    // An axis found beyond a soft limit may only be driven back in, toward that limit
+    // (docs/PROTOCOL.md, state rules): the path stays on the inner side of the start
+    // and within the other limit; the target and the turn-round point lie inside.
+    let (min, max, c) = (ax.min_deg as f64, ax.max_deg as f64, cur as f64);
+    if !ax.wrap {
+        let (lo_ok, hi_ok) = if c > max {
+            (lo >= min, hi <= c)
+        } else if c < min {
+            (lo >= c, hi <= max)
+        } else {
+            (lo >= min, hi <= max)
+        };
         check!(
-            lo >= ax.min_deg as f64 && hi <= ax.max_deg as f64,
-            "path [{lo}, {hi}] leaves the limits: {sp:?} {ax:?}"
+            lo_ok && hi_ok,
+            "path [{lo}, {hi}] from {c} leaves the limits: {sp:?} {ax:?}"
         );
-    } else if !ax.wrap {
         let t = turn.map_or(a, |t| t as f64);
         check!(
-            a >= ax.min_deg as f64
-                && a <= ax.max_deg as f64
-                && t >= ax.min_deg as f64
-                && t <= ax.max_deg as f64,
+            a >= min && a <= max && t >= min && t <= max,
             "target or turn-round outside the limits: {sp:?} {ax:?}"
         );
     }
@@ -293,7 +298,34 @@ fn check_setpoint(
             0.0
         };
         if depth_in_zone(z, cur as f64, ax.wrap) >= -tol {
-            continue; // starts in (or at the edge of) this zone: exempt
+            // Starts in (or at the edge of) this zone: the only way allowed is out
+            // through its nearer edge (either from the middle), without reaching the
+            // zone's next copy on a wrapping axis (docs/RIG.md, "Starting inside a
+            // zone").
+            let c = cur as f64;
+            let (mut zl, mut zh) = (z.from_deg as f64, z.to_deg as f64);
+            if ax.wrap {
+                let k = ((c - 0.5 * (zl + zh)) / 360.0).round();
+                zl += 360.0 * k;
+                zh += 360.0 * k;
+            }
+            let (below, above) = (c - zl, zh - c);
+            let down = hi <= c + tol && below <= above + tol;
+            let up = lo >= c - tol && above <= below + tol;
+            check!(
+                down || up,
+                "path [{lo}, {hi}] from {c} in {z:?} not by its nearer edge: {sp:?} {ax:?}"
+            );
+            if ax.wrap {
+                for k in [-360.0, 360.0] {
+                    let ov = hi.min(zh + k) - lo.max(zl + k);
+                    check!(
+                        ov <= tol,
+                        "path [{lo}, {hi}] from {c} reaches the copy {k} of {z:?}: {sp:?} {ax:?}"
+                    );
+                }
+            }
+            continue;
         }
         let ov = overlap(z, lo, hi, ax.wrap);
         check!(
@@ -707,8 +739,10 @@ fn setpoints_obey_limits_zones_and_paths() {
                         .iter()
                         .flatten()
                         .any(|z| overlap(z, lo, hi, true) >= 0.0);
-                    let range =
-                        (short - ax.home_offset_deg as f64).abs() > WRAP_RANGE_DEG as f64 - 1.0 - m;
+                    // … or beyond the step counter (±2^24) from home.
+                    let from_home = (short - ax.home_offset_deg as f64).abs();
+                    let range = from_home > WRAP_RANGE_DEG as f64 - 1.0 - m
+                        || (from_home + m) * ax.steps_per_deg as f64 > STEPS_MAX as f64;
                     check!(
                         zone || range,
                         "went the long way to {t_copy} from {cur} though the short way to \

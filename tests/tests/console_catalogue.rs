@@ -185,7 +185,21 @@ const CATALOGUE: &[Case] = &[
     case("axis rules: a one-circle arm has no elevation axis (307)", &["enable"], b"move elevation=10\n", &[307]),
     case("axis rules: configuring the unfitted elevation axis (307)", &[], b"axis name=elevation min_deg=-10\n", &[307]),
     case("axis rules: with a zone set over the resting position, a move within it is refused (303)",
-        &["enable", "move arm=40", "zone name=arm i=1 from=30 to=50"], b"move arm=45\n", &[303]),
+        &["enable", "move arm=40", "disable", "zone name=arm i=1 from=30 to=50", "enable"], b"move arm=45\n", &[303]),
+    case("axis rules: ... and leaving it through the farther edge too (304)",
+        &["enable", "move arm=42", "disable", "zone name=arm i=1 from=30 to=50", "enable"], b"move arm=20\n", &[304]),
+    case("protocol rules: after reset no axis moves until its position is declared (320)",
+        &["reset", "enable"], b"move tilt=10\n", &[320]),
+    case("protocol rules: a calibration change forgets that axis's position (320)",
+        &["axis name=arm home_offset_deg=1", "enable"], b"move arm=40\n", &[320]),
+    case("protocol rules: axis configuration only while motion is disabled (321)",
+        &["enable"], b"axis name=arm backlash_deg=0.1\n", &[321]),
+    case("protocol rules: zones only while motion is disabled (321)",
+        &["enable"], b"zone name=arm i=1 off\n", &[321]),
+    case("protocol rules: the detector acceptance only while motion is disabled (321)",
+        &["enable"], b"set acceptance=2\n", &[321]),
+    case("protocol rules: positions are declared only while motion is disabled (321)",
+        &["enable"], b"home name=arm\n", &[321]),
     case("axis rules: bad axis config: steps per degree 0 (305)", &[], b"axis name=arm steps_per_deg=0\n", &[305]),
     case("axis rules: bad axis config: min above max (305)", &[], b"axis name=arm min_deg=10 max_deg=5\n", &[305]),
     case("axis rules: bad axis config: backlash beyond 10 deg (305)", &[], b"axis name=tilt backlash_deg=20\n", &[305]),
@@ -429,7 +443,9 @@ fn boundary_controls_are_accepted() {
     for _ in 0..64 {
         assert!(request(&mut c, "pt x=1 y=2").starts_with("ok points="));
     }
-    // A move just outside the gun zone and inside the limits.
+    // A move just outside the gun zone and inside the limits; after `reset` the arm's
+    // position is unknown until it is declared (docs/PROTOCOL.md, `home`).
+    assert!(request(&mut c, "home name=arm").starts_with("ok name=arm"));
     request(&mut c, "enable");
     assert!(request(&mut c, "move arm=12.01").starts_with("ok"));
     assert!(request(&mut c, "move arm=165").starts_with("ok"));
@@ -469,7 +485,7 @@ fn dump_replays_as_commands_on_a_fresh_console() {
     let setups: [(&str, &[&str]); 5] = [
         ("factory settings", &[]),
         (
-            // Realistic values over three of the four dump lines of an axis.
+            // Realistic values over three of the configuration lines of an axis.
             "azimuth home, backlash, speed and acceleration",
             &["axis name=azimuth home_offset_deg=-123.45679 backlash_deg=0.05 max_speed_deg_s=20.5 accel_deg_s2=40.25"],
         ),
@@ -479,16 +495,19 @@ fn dump_replays_as_commands_on_a_fresh_console() {
             &[
                 "enable",
                 "move azimuth=90",
+                "disable",
                 "zone name=azimuth i=0 from=-5 to=5",
             ],
         ),
         (
-            // Extreme but valid (AxisConfig::validate accepts it): the longest numbers
-            // the formatter writes; every dump line still fits one request line.
+            // Extreme but valid (Rig::validate accepts it): the longest numbers the
+            // formatter writes (steps per degree just above 1, the least a step no
+            // coarser than the 1° acceptance allows); every dump line still fits one
+            // request line.
             "extreme elevation axis",
             &[
                 "axis name=elevation fitted=1",
-                "axis name=elevation steps_per_deg=0.000100002115 home_offset_deg=-0.000100002115",
+                "axis name=elevation steps_per_deg=1.00000012 home_offset_deg=-0.000100002115",
                 "axis name=elevation min_deg=-0.000100002115 max_deg=0.000100002115",
                 "axis name=elevation backlash_deg=0.000100002115 max_speed_deg_s=0.000100002115",
                 "axis name=elevation accel_deg_s2=0.000100002115",

@@ -16,10 +16,11 @@
 //!   positions, and (for the line-level test) the solution and point buffers that
 //!   `status` reports;
 //! * motion starts only when enabled and the interlock is safe, and never goes beyond
-//!   the limits or into a forbidden zone: every target lies inside the limits and
-//!   outside every zone of the rig in force, and the path there (including the
-//!   backlash turn-round) misses every zone that does not contain the start — checked
-//!   by an independent interval computation, not by `check_angle` or `check_path`.
+//!   the limits or into a forbidden zone: every target passes
+//!   `check_angle(steps_to_deg(steps))` for the rig in force, and the path there
+//!   (including the backlash turn-round) misses every zone that does not contain the
+//!   start and leaves one that does only through its nearer edge — checked by an
+//!   independent interval computation, not by `check_path`.
 //!
 //! The default home position (arm 0°) lies inside the default gun zone (±12°), so the
 //! resting position of an axis the console never moved is not required to be allowed;
@@ -144,18 +145,45 @@ fn meets_zone(from: f64, to: f64, lo: f64, hi: f64, wrap: bool) -> bool {
 }
 
 /// Independent check of one leg of a motion, `from` → `to` degrees: inside the limits
-/// (unless the axis starts beyond one and is driven back; unless wrap), and clear of
-/// the interior of every zone that does not contain the start.
+/// (unless wrap; from beyond a limit only back toward it), clear of the interior of
+/// every zone that does not contain the start, and out of a zone that does contain it
+/// only through its nearer edge, without reaching its next 360° copy.
 fn leg_ok(cfg: &AxisConfig, from: f64, to: f64) -> Result<(), String> {
     let (lo, hi) = (from.min(to), from.max(to));
     let (min, max) = (f64::from(cfg.min_deg), f64::from(cfg.max_deg));
-    let start_inside = from >= min - EPS && from <= max + EPS;
-    if !cfg.wrap && start_inside && (lo < min - EPS || hi > max + EPS) {
-        return Err(format!("path {from}..{to} leaves limits {min}..{max}"));
+    if !cfg.wrap {
+        let inside = if from > max + EPS {
+            to <= from && lo >= min - EPS
+        } else if from < min - EPS {
+            to >= from && hi <= max + EPS
+        } else {
+            lo >= min - EPS && hi <= max + EPS
+        };
+        if !inside {
+            return Err(format!("path {from}..{to} leaves limits {min}..{max}"));
+        }
     }
     for z in cfg.zones.iter().flatten() {
         let (zf, zt) = (f64::from(z.from_deg), f64::from(z.to_deg));
-        if !in_zone(zf, zt, from, cfg.wrap, EPS) && meets_zone(zf, zt, lo, hi, cfg.wrap) {
+        if in_zone(zf, zt, from, cfg.wrap, EPS) {
+            let (mut a, mut b) = (zf, zt);
+            if cfg.wrap {
+                let k = ((from - 0.5 * (a + b)) / 360.0).round();
+                a += 360.0 * k;
+                b += 360.0 * k;
+            }
+            let (below, above) = (from - a, b - from);
+            let out = (to <= from + EPS && below <= above + EPS)
+                || (to >= from - EPS && above <= below + EPS);
+            let next = cfg.wrap
+                && (meets_zone(a - 360.0, b - 360.0, lo, hi, false)
+                    || meets_zone(a + 360.0, b + 360.0, lo, hi, false));
+            if !out || next {
+                return Err(format!(
+                    "path {from}..{to} from inside zone {zf}..{zt} not by its nearer edge"
+                ));
+            }
+        } else if meets_zone(zf, zt, lo, hi, cfg.wrap) {
             return Err(format!("path {from}..{to} crosses zone {zf}..{zt}"));
         }
     }
@@ -233,8 +261,10 @@ impl Session {
         split_crc(line).is_some()
     }
 
-    /// Checks the motions started since `before` (axis rules, §10).
-    fn check_motion(&mut self, before: &State, answered_ok: bool, what: &str) {
+    /// Checks the motions started since `before` (axis rules, §10). `declared`: the
+    /// request was a `home` answered `ok`, which sets a counter without motion
+    /// (docs/PROTOCOL.md, `home`).
+    fn check_motion(&mut self, before: &State, answered_ok: bool, declared: bool, what: &str) {
         let starts = std::mem::take(&mut self.c.axes.starts);
         let rig = self.c.settings().rig;
         if !starts.is_empty() {
@@ -274,7 +304,7 @@ impl Session {
             let i = axis_index(id);
             if self.c.axes.sim.steps[i] != before.steps[i] {
                 assert!(
-                    starts.iter().any(|s| s.0 == id),
+                    declared || starts.iter().any(|s| s.0 == id),
                     "{id:?} moved without a start: {what}"
                 );
             }
@@ -395,7 +425,9 @@ impl Session {
                 }
             }
         }
-        self.check_motion(&before, answered == Some(Kind::Ok), &what);
+        let declared = answered == Some(Kind::Ok)
+            && matches!(&ev, Some(Event::Line(l)) if l.trim_start().starts_with("home"));
+        self.check_motion(&before, answered == Some(Kind::Ok), declared, &what);
         answered
     }
 
@@ -429,7 +461,7 @@ impl Session {
             }
 
             assert_eq!(before, self.state(), "a stream line changed state");
-            self.check_motion(&before, false, "poll");
+            self.check_motion(&before, false, false, "poll");
         }
         !self.c.streaming()
     }
@@ -501,9 +533,10 @@ fn is_stop(line: &str) -> bool {
 // ---------------------------------------------------------------------------------
 
 /// The command words, as `help` lists them.
-const COMMANDS: [&str; 22] = [
+const COMMANDS: [&str; 23] = [
     "hello", "help", "status", "set", "get", "crystals", "faces", "beams", "aim", "move", "stop",
-    "pos", "enable", "disable", "axis", "zone", "plan", "pt", "fit", "read", "dump", "reset",
+    "pos", "enable", "disable", "home", "axis", "zone", "plan", "pt", "fit", "read", "dump",
+    "reset",
 ];
 
 /// Bytes likely on a serial line (line ends, letters, digits, `=`, `*`, blanks, NUL,
@@ -675,6 +708,16 @@ fn value(cmd: &str, key: &str) -> BoxedStrategy<String> {
         "sol" => prop_oneof![6 => int(0, 1), 1 => int(-1, 9)].boxed(),
         "arm" => num(-180.0, 180.0),
         "elevation" => num(-70.0, 70.0),
+        "name" if cmd == "home" => words(&[
+            "arm",
+            "tilt",
+            "azimuth",
+            "arm",
+            "tilt",
+            "azimuth",
+            "elevation",
+            "gun",
+        ]),
         "name" => words(&["arm", "arm", "elevation", "tilt", "azimuth", "gun"]),
         "steps_per_deg" => num(-1.0, 3000.0),
         "home_offset_deg" => num(-30.0, 30.0),
@@ -818,6 +861,16 @@ fn args(cmd: &'static str) -> BoxedStrategy<Vec<String>> {
         ]
         .boxed(),
         "fit" => keyed("fit", &["kind", "threshold"], 0.6),
+        "home" => (
+            value("home", "name"),
+            prop::option::weighted(0.3, value("move", "arm")),
+        )
+            .prop_map(|(n, at)| {
+                let mut v = vec![format!("name={n}")];
+                v.extend(at.map(|d| format!("at={d}")));
+                v
+            })
+            .boxed(),
         _ => none,
     }
 }
@@ -832,8 +885,9 @@ fn command_with_args() -> BoxedStrategy<(&'static str, Vec<String>)> {
         4 => c("get"),
         8 => c("aim"),
         14 => c("move"),
-        6 => c("enable"),
-        2 => c("disable"),
+        9 => c("enable"),
+        3 => c("disable"),
+        10 => c("home"),
         7 => c("axis"),
         6 => c("zone"),
         3 => c("plan"),
@@ -1011,7 +1065,7 @@ fn generators_reach_every_outcome() {
     let mut runner = TestRunner::deterministic();
     let mut s = Session::new(true);
     let mut codes = std::collections::BTreeSet::new();
-    for _ in 0..3_000 {
+    for _ in 0..6_000 {
         let line = request().new_tree(&mut runner).unwrap().current();
         if let Some(Kind::Err(c)) = s.line(&line) {
             codes.insert(c);
@@ -1026,7 +1080,9 @@ fn generators_reach_every_outcome() {
     assert!(st.ok > 300 && st.err > 300, "{st:?}");
     assert!(st.streams > 50, "{st:?}");
     assert!(st.moves > 20, "no moves generated: {st:?}");
-    for c in [301, 302, 303, 402, 403, 404, 405, 406, 407, 408, 412] {
+    for c in [
+        301, 302, 303, 320, 321, 402, 403, 404, 405, 406, 407, 408, 412,
+    ] {
         assert!(codes.contains(&c), "no err {c} in {codes:?}");
     }
 }

@@ -7,10 +7,15 @@ use crate::goniometer::Rig;
 use crate::surface::{Face, Incidence};
 
 /// Motor axes. Step counts are the board's own microstep counters; the console only
-/// ever commands targets that [`crate::axis::AxisConfig::setpoint`] accepted.
+/// ever commands targets that [`crate::axis::AxisConfig::setpoint`] accepted, and only
+/// for axes whose position it knows (see [`crate::console::Console::position_known`]).
 pub trait AxisDriver {
     /// Current microstep count of `axis`.
     fn position(&mut self, axis: AxisId) -> i32;
+    /// Declares that `axis` stands at microstep count `steps`: the counter is set,
+    /// nothing moves (the console calls it only while every axis is at rest, for
+    /// `home`).
+    fn set_position(&mut self, axis: AxisId, steps: i32);
     /// Starts a move of `axis` to `target` steps, visiting `via` first when given (the
     /// backlash turn-round point).
     fn start(&mut self, axis: AxisId, via: Option<i32>, target: i32);

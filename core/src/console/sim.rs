@@ -22,6 +22,11 @@ impl AxisDriver for SimAxes {
     fn position(&mut self, axis: AxisId) -> i32 {
         self.steps.get(axis_index(axis)).copied().unwrap_or(0)
     }
+    fn set_position(&mut self, axis: AxisId, steps: i32) {
+        if let Some(s) = self.steps.get_mut(axis_index(axis)) {
+            *s = steps;
+        }
+    }
     fn start(&mut self, axis: AxisId, _via: Option<i32>, target: i32) {
         if let Some(s) = self.steps.get_mut(axis_index(axis)) {
             *s = target;

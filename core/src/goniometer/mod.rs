@@ -46,6 +46,9 @@ pub const fn axis_index(id: AxisId) -> usize {
     }
 }
 
+/// Widest detector acceptance half-angle a rig accepts, degrees.
+pub const ACCEPTANCE_MAX_DEG: f32 = 20.0;
+
 /// Step counts of all four axes (arm, elevation, tilt, azimuth); an absent elevation
 /// axis stays at 0.
 pub type Position = [i32; 4];
@@ -112,7 +115,10 @@ impl Rig {
         }
     }
 
-    /// Checks every axis and the acceptance (0 < acceptance ≤ 20°).
+    /// Checks every axis and the acceptance (0 < acceptance ≤ 20°), and that no axis's
+    /// step (1 / steps_per_deg, degrees) is coarser than the acceptance
+    /// (`StepTooCoarse`): a detector that cannot be put within its own acceptance of a
+    /// beam is no pointing instrument.
     pub fn validate(&self) -> Result<()> {
         self.arm.validate()?;
         if let Some(e) = &self.elevation {
@@ -124,10 +130,52 @@ impl Rig {
         if a <= 0.0 {
             return Err(Error::TooLow(Quantity::Angle));
         }
-        if a > 20.0 {
+        if a > ACCEPTANCE_MAX_DEG {
             return Err(Error::TooHigh(Quantity::Angle));
         }
+        for ax in [
+            Some(&self.arm),
+            self.elevation.as_ref(),
+            Some(&self.tilt),
+            Some(&self.azimuth),
+        ]
+        .into_iter()
+        .flatten()
+        {
+            if ax.steps_per_deg * a < 1.0 {
+                return Err(Error::StepTooCoarse(ax.id));
+            }
+        }
         Ok(())
+    }
+
+    /// The setpoint of axis `id` for `target_deg` from step count `current_steps`:
+    /// [`AxisConfig::setpoint`], refused with `ResidualTooLarge` when the step it reaches
+    /// misses the target by more than the detector acceptance. Every setpoint the
+    /// console commands and every aiming solution comes from here.
+    pub fn setpoint(&self, id: AxisId, target_deg: f32, current_steps: i32) -> Result<Setpoint> {
+        let sp = self.axis(id)?.setpoint(target_deg, current_steps)?;
+        self.check_residual(sp)
+    }
+
+    /// [`AxisConfig::setpoint_to_steps`] on axis `id`, with the residual bound of
+    /// [`Rig::setpoint`]: how `move sol=N` drives to the step counts `aim` listed.
+    pub fn setpoint_to_steps(
+        &self,
+        id: AxisId,
+        target: &Setpoint,
+        current_steps: i32,
+    ) -> Result<Setpoint> {
+        let sp = self.axis(id)?.setpoint_to_steps(target, current_steps)?;
+        self.check_residual(sp)
+    }
+
+    fn check_residual(&self, sp: Setpoint) -> Result<Setpoint> {
+        let miss = sp.residual_deg.abs();
+        if miss.is_nan() || miss > self.acceptance_deg {
+            return Err(Error::ResidualTooLarge(sp.id));
+        }
+        Ok(sp)
     }
 
     /// The same rig with geometry only: limits opened to ±720° on non-wrapping axes, no

@@ -264,7 +264,7 @@ pub fn aim(
         return Err(Error::EmptyBuffer);
     }
     let e = check_request(req)?;
-    let Ok(tilt_sp) = rig.tilt.setpoint(req.tilt_deg, current[2]) else {
+    let Ok(tilt_sp) = rig.setpoint(AxisId::Tilt, req.tilt_deg, current[2]) else {
         return Err(refusals(rig, req, current)?.first_error());
     };
     let tilt = tilt_sp.angle_deg;
@@ -282,7 +282,8 @@ pub fn aim(
     };
     for w in &poses {
         for az_off in copies(&rig.azimuth) {
-            let Ok(az_sp) = rig.azimuth.setpoint(w.azimuth_deg + az_off, current[3]) else {
+            let Ok(az_sp) = rig.setpoint(AxisId::Azimuth, w.azimuth_deg + az_off, current[3])
+            else {
                 continue;
             };
             // The beam as the sample really sits.
@@ -292,7 +293,7 @@ pub fn aim(
             };
             let (arm_deg, elev_deg) = arm_elevation_deg(beam_direction_lab(&b, &inc));
             let elev_sp = match &rig.elevation {
-                Some(ax) => match ax.setpoint(elev_deg, current[1]) {
+                Some(_) => match rig.setpoint(AxisId::Elevation, elev_deg, current[1]) {
                     Ok(s) => Some(s),
                     Err(_) => continue,
                 },
@@ -300,7 +301,7 @@ pub fn aim(
                 None => None,
             };
             for arm_off in copies(&rig.arm) {
-                let Ok(arm_sp) = rig.arm.setpoint(arm_deg + arm_off, current[0]) else {
+                let Ok(arm_sp) = rig.setpoint(AxisId::Arm, arm_deg + arm_off, current[0]) else {
                     continue;
                 };
                 let travel = (arm_sp.angle_deg - cur[0]).abs()
@@ -366,13 +367,15 @@ pub fn refusals(rig: &Rig, req: &AimRequest<'_>, current: &Position) -> Result<R
         let (arm, elev) = arm_elevation_deg(beam_direction_lab(&b, &inc));
         let arm = wrap_180(arm);
         let refuse = |axis: &AxisConfig, target: f32, from: i32| {
-            axis.setpoint(target, from).err().map(|err| Refusal {
-                branch: w.branch,
-                axis: axis.id,
-                target_deg: target,
-                error: err,
-                by_deg: by_deg(axis, target, err),
-            })
+            rig.setpoint(axis.id, target, from)
+                .err()
+                .map(|err| Refusal {
+                    branch: w.branch,
+                    axis: axis.id,
+                    target_deg: target,
+                    error: err,
+                    by_deg: by_deg(axis, target, err),
+                })
         };
         let elevation = match &rig.elevation {
             Some(ax) => refuse(ax, elev, current[1]),

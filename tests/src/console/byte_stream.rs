@@ -30,7 +30,7 @@
 //!    angle (inside the limits, outside every forbidden zone) and its path, including
 //!    the backlash turn-round, misses every zone that does not contain the start
 //!    (independent interval checks, not `AxisConfig::check_angle` or `check_path`); no
-//!    axis moves except through a started motion.
+//!    axis moves except through a started motion or a declared position (`home`, which only an `ok` request makes, with motion disabled).
 
 use super::{crc16_ref, rec_console, Event, LineModel, RecConsole};
 use matterwave_core::axis::AxisConfig;
@@ -248,12 +248,17 @@ fn check_motion(c: &mut Con, before: &State, answered_ok: bool) -> bool {
             }
         }
     }
+    let declared = core::mem::take(&mut c.axes.declared);
+    if !declared.is_empty() {
+        assert!(answered_ok, "position declared by a failed request");
+        assert!(!before.enabled, "position declared while enabled");
+    }
     for id in AxisId::ALL {
         let i = axis_index(id);
         if c.axes.sim.steps[i] != before.steps[i] {
             assert!(
-                starts.iter().any(|s| s.0 == id),
-                "{id:?} moved without a start"
+                starts.iter().any(|s| s.0 == id) || declared.contains(&id),
+                "{id:?} moved without a start or a declared position"
             );
         }
     }

@@ -65,6 +65,21 @@ fn set_axis(rig: &mut Rig, id: AxisId, cfg: Option<AxisConfig>) {
     }
 }
 
+/// Whether going from `old` to `new` changes what a step count means — steps per
+/// degree, home offset, wrap, or whether the axis is fitted: then where the axis stands
+/// is no longer known from its counter.
+fn calibration_changed(old: Option<&AxisConfig>, new: Option<&AxisConfig>) -> bool {
+    match (old, new) {
+        (Some(o), Some(n)) => {
+            o.steps_per_deg.to_bits() != n.steps_per_deg.to_bits()
+                || o.home_offset_deg.to_bits() != n.home_offset_deg.to_bits()
+                || o.wrap != n.wrap
+        }
+        (None, None) => false,
+        _ => true,
+    }
+}
+
 /// The axis a required `name=` names.
 fn read_axis_name(a: &mut Args<'_>) -> Result<AxisId> {
     keyed(a, "name", axis_id)?.ok_or_else(|| missing(a, "name"))
@@ -124,16 +139,19 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         }
         check_used_or(a, Accepted::AxisKeys)?;
         if changed {
-            if self.enabled && self.axes.busy() {
-                return Err(Error::Busy.into());
-            }
+            // Nothing of an axis changes under a moving or enabled machine.
+            self.require_at_rest()?;
             if let Some(c) = &cfg {
                 c.validate()?;
             }
+            let recalibrated = calibration_changed(axis_of(&rig, id), cfg.as_ref());
             set_axis(&mut rig, id, cfg);
             rig.validate()?;
             self.settings.rig = rig;
             self.solutions.clear();
+            if recalibrated {
+                self.forget_position(id);
+            }
         }
         rw.ok();
         match cfg {
@@ -190,6 +208,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             (false, Some(_), None) => return Err(missing(a, "to")),
         };
         *cfg.zones.get_mut(idx).ok_or(Error::BadValue)? = zone;
+        self.require_at_rest()?;
         cfg.validate()?;
         set_axis(&mut rig, id, Some(cfg));
         self.settings.rig = rig;
@@ -212,12 +231,12 @@ fn axis_fields<W: Write>(rw: &mut Rw<'_, W>, c: &AxisConfig) {
     }
 }
 
-/// Groups of axis fields, each short enough for one request line when dumped.
-pub(super) const AXIS_PARTS: u8 = 4;
+/// Groups of axis fields in the `axis` reply.
+const AXIS_PARTS: u8 = 4;
 
 /// Fields of group `part` (0: steps and home, 1: limits, 2: backlash, approach, wrap,
 /// 3: speed and acceleration), named as in rig files ([`keys`]).
-pub(super) fn axis_part<W: Write>(rw: &mut Rw<'_, W>, c: &AxisConfig, part: u8) {
+fn axis_part<W: Write>(rw: &mut Rw<'_, W>, c: &AxisConfig, part: u8) {
     match part {
         0 => {
             rw.field_f32_rt(keys::STEPS_PER_DEG, c.steps_per_deg)

@@ -70,7 +70,7 @@ type Rw<'w, W> = ReplyWriter<'w, W, MAX_REPLY>;
 
 /// Commands with their one-line usage, as `help` lists them (`set` appends the key names
 /// of [`SETTING_KEYS`] it takes, `axis` the rig file's axis keys).
-pub const COMMANDS: [(&str, &str); 23] = [
+pub const COMMANDS: [(&str, &str); 24] = [
     ("hello", "identify: name, version, protocol"),
     ("help", "this list"),
     ("status", "enabled, interlock, motion, stream"),
@@ -91,6 +91,10 @@ pub const COMMANDS: [(&str, &str); 23] = [
     ("pos", "axis positions"),
     ("enable", "allow motion (interlock must report safe)"),
     ("disable", "forbid motion"),
+    (
+        "home",
+        "home name=A [at=DEG]: declare where the axis stands (default: at home, step 0); needs disable",
+    ),
     ("axis", "axis name=A [key=value ...]:"),
     (
         "zone",
@@ -108,7 +112,10 @@ pub const COMMANDS: [(&str, &str); 23] = [
     ),
     ("read", "read the detector"),
     ("dump", "settings as commands that replay them"),
-    ("reset", "factory settings, motion disabled"),
+    (
+        "reset",
+        "factory settings, motion disabled, every position unknown until home",
+    ),
 ];
 
 /// A point of the `pt` buffer: two values and an optional integer.
@@ -130,6 +137,8 @@ pub struct Console<A: AxisDriver, D: Detector, I: Interlock> {
     lines: LineAssembler<MAX_LINE>,
     settings: Settings,
     enabled: bool,
+    /// Whether the console knows where each axis stands (by [`axis_index`]).
+    known: [bool; 4],
     solutions: heapless::Vec<Solution, MAX_SOLUTIONS>,
     /// Why the last `aim` found no solution (streamed before its `err` line).
     refusals: Refusals,
@@ -144,7 +153,10 @@ pub struct Console<A: AxisDriver, D: Detector, I: Interlock> {
 pub type WriteResult<E> = core::result::Result<(), ReplyError<E>>;
 
 impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
-    /// A console with factory settings and motion disabled.
+    /// A console with factory settings and motion disabled. The board's step counters
+    /// are taken as positions in the factory calibration: construct the console once
+    /// the axes are homed, or call [`Console::forget_positions`] so that no axis moves
+    /// before `home` declares where it stands.
     pub fn new(axes: A, detector: D, interlock: I) -> crate::error::Result<Self> {
         Ok(Console {
             axes,
@@ -153,6 +165,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             lines: LineAssembler::new(),
             settings: Settings::defaults()?,
             enabled: false,
+            known: [true; 4],
             solutions: heapless::Vec::new(),
             refusals: Refusals::default(),
             points: heapless::Vec::new(),
@@ -171,6 +184,27 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
     /// Whether motion is enabled.
     pub fn enabled(&self) -> bool {
         self.enabled
+    }
+
+    /// Whether the console knows where `axis` stands: true from [`Console::new`] and
+    /// after `home`; false after `reset`, [`Console::forget_positions`] and a change of
+    /// the axis's calibration. A move of an axis whose position is unknown is refused
+    /// (`err 320`).
+    pub fn position_known(&self, axis: AxisId) -> bool {
+        self.known.get(axis_index(axis)).copied().unwrap_or(false)
+    }
+
+    /// Marks every axis's position unknown (e.g. at power-up, before homing): no axis
+    /// moves until `home` declares where it stands.
+    pub fn forget_positions(&mut self) {
+        self.known = [false; 4];
+    }
+
+    /// Marks the position of `axis` unknown (its calibration changed).
+    fn forget_position(&mut self, axis: AxisId) {
+        if let Some(k) = self.known.get_mut(axis_index(axis)) {
+            *k = false;
+        }
     }
 
     /// Whether a stream is running (call [`Console::poll`] until it is not).
@@ -220,6 +254,15 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         for &b in bytes {
             self.push(b, out)?;
             while self.poll(out)? {}
+        }
+        Ok(())
+    }
+
+    /// `Err(MotionEnabled)` unless motion is disabled and no axis is moving: the state
+    /// in which the configuration may change and positions may be declared.
+    fn require_at_rest(&mut self) -> Result<()> {
+        if self.enabled || self.axes.busy() {
+            return Err(Error::MotionEnabled.into());
         }
         Ok(())
     }
@@ -351,6 +394,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 no_args(a)?;
                 self.cmd_disable(rw)
             }
+            "home" => self.cmd_home(a, rw),
             "axis" => self.cmd_axis(a, rw),
             "zone" => self.cmd_zone(a, rw),
             "plan" => self.cmd_plan(a),
@@ -371,6 +415,9 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 let s = Settings::defaults()?;
                 self.settings = s;
                 self.enabled = false;
+                // The step counters stay, but the calibration they were counted in is
+                // gone: no axis moves until `home` says where it stands.
+                self.known = [false; 4];
                 self.solutions.clear();
                 self.points.clear();
                 rw.ok().field_i32("enabled", 0);

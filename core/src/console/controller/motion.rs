@@ -1,17 +1,27 @@
-//! Motion: `move`, `stop`, `pos`, `enable`, `disable`, and `read` (the detector at the
-//! current pose).
+//! Motion: `move`, `stop`, `pos`, `enable`, `disable`, `home` (where an axis stands),
+//! and `read` (the detector at the current pose).
 
 use embedded_io::Write;
 
-use super::args::{opt_int, opt_num};
+use super::args::{axis_id, keyed, missing, opt_int, opt_num};
 use super::axes::axis_of;
 use super::fault::{check_used, Accepted, Fault, Result};
 use super::{Console, Rw, Stream};
+use crate::axis::Setpoint;
 use crate::console::board::{AxisDriver, Detector, Interlock, Scene};
 use crate::console::wire::token::Args;
 use crate::error::{AxisId, Error};
 use crate::goniometer::axis_index;
 use crate::surface::Incidence;
+
+/// Where `move` sends one axis.
+#[derive(Clone, Copy)]
+enum Goal {
+    /// An angle, degrees (`move arm=…`).
+    Angle(f32),
+    /// The step count of a stored solution's setpoint (`move sol=N`).
+    Steps(Setpoint),
+}
 
 impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
     pub(super) fn cmd_move<W: Write>(
@@ -28,7 +38,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         ];
         check_used(a)?;
         let raw = targets.iter().any(|t| t.1.is_some());
-        let mut goal: [Option<f32>; 4] = [None; 4];
+        let mut goal: [Option<Goal>; 4] = [None; 4];
         match (sol, raw) {
             (Some(_), true) => {
                 return Err(Fault::from(Error::UnknownArgument)
@@ -45,17 +55,20 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                     .ok()
                     .and_then(|i| self.solutions.get(i))
                     .ok_or(Error::NoSuchSolution)?;
+                // The step counts `aim` listed (the ones `mwctl calc aim` lists for
+                // the same request), not their angles again: on a wrapping axis an
+                // angle half a turn away could name the other copy.
                 goal = [
-                    Some(s.arm.angle_deg),
-                    s.elevation.map(|e| e.angle_deg),
-                    Some(s.tilt.angle_deg),
-                    Some(s.azimuth.angle_deg),
+                    Some(Goal::Steps(s.arm)),
+                    s.elevation.map(Goal::Steps),
+                    Some(Goal::Steps(s.tilt)),
+                    Some(Goal::Steps(s.azimuth)),
                 ];
             }
             (None, true) => {
                 for (id, v) in targets {
                     if let Some(g) = goal.get_mut(axis_index(id)) {
-                        *g = v;
+                        *g = v.map(Goal::Angle);
                     }
                 }
             }
@@ -66,6 +79,12 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         if !self.interlock.safe() {
             return Err(Error::InterlockOpen.into());
         }
+        // No axis moves from a position the console does not know.
+        for (id, want) in AxisId::ALL.into_iter().zip(goal) {
+            if want.is_some() && !self.position_known(id) {
+                return Err(Error::PositionUnknown(id).into());
+            }
+        }
         // Every setpoint is computed (limits, zones, path from where the axis is now)
         // before any axis moves.
         let pos = self.position();
@@ -75,22 +94,25 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             .zip(goal)
             .zip(sps.iter_mut().zip(pos.iter()))
         {
-            if let Some(angle) = want {
-                let cfg = axis_of(&self.settings.rig, id).ok_or(Error::NoSuchAxis(id))?;
-                *sp = Some(cfg.setpoint(angle, from)?);
-            }
+            let rig = &self.settings.rig;
+            *sp = match want {
+                Some(Goal::Angle(angle)) => Some(rig.setpoint(id, angle, from)?),
+                Some(Goal::Steps(stored)) => Some(rig.setpoint_to_steps(id, &stored, from)?),
+                None => None,
+            };
         }
         rw.ok();
         for (id, sp) in AxisId::ALL.into_iter().zip(sps) {
             if let Some(sp) = sp {
                 self.axes.start(id, sp.approach_steps, sp.steps);
-                let key = match id {
-                    AxisId::Arm => "arm_steps",
-                    AxisId::Elevation => "elevation_steps",
-                    AxisId::Tilt => "tilt_steps",
-                    AxisId::Azimuth => "azimuth_steps",
+                let (steps, residual) = match id {
+                    AxisId::Arm => ("arm_steps", "arm_residual"),
+                    AxisId::Elevation => ("elevation_steps", "elevation_residual"),
+                    AxisId::Tilt => ("tilt_steps", "tilt_residual"),
+                    AxisId::Azimuth => ("azimuth_steps", "azimuth_residual"),
                 };
-                rw.field_i32(key, sp.steps);
+                rw.field_i32(steps, sp.steps)
+                    .field_f32_rt(residual, sp.residual_deg);
             }
         }
         Ok(None)
@@ -115,6 +137,58 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             .field_i32("elevation_steps", p[1])
             .field_i32("tilt_steps", p[2])
             .field_i32("azimuth_steps", p[3]);
+        // The fitted axes whose position is unknown: their angles above are only the
+        // counters read in the calibration now in force.
+        let mut names = [0u8; 32];
+        let mut n = 0;
+        for id in AxisId::ALL {
+            let fitted = axis_of(&self.settings.rig, id).is_some();
+            if fitted && !self.position_known(id) {
+                let sep: &[u8] = if n == 0 { b"" } else { b"," };
+                for &b in sep.iter().chain(id.name().as_bytes()) {
+                    if let Some(slot) = names.get_mut(n) {
+                        *slot = b;
+                        n += 1;
+                    }
+                }
+            }
+        }
+        if let Some(list) = names.get(..n).and_then(|b| core::str::from_utf8(b).ok()) {
+            if !list.is_empty() {
+                rw.field_str("unknown", list);
+            }
+        }
+        Ok(None)
+    }
+
+    /// `home name=A [at=DEG]`: declares that axis A stands at DEG (default: at home,
+    /// step 0) — the board's counter is set, nothing moves — and marks its position
+    /// known. Needs motion disabled and every axis at rest; DEG must lie within the soft
+    /// limits (unless the axis wraps) and the step counter's reach.
+    pub(super) fn cmd_home<W: Write>(
+        &mut self,
+        a: &mut Args<'_>,
+        rw: &mut Rw<'_, W>,
+    ) -> Result<Option<Stream>> {
+        let id = keyed(a, "name", axis_id)?.ok_or_else(|| missing(a, "name"))?;
+        let at = opt_num(a, "at")?;
+        check_used(a)?;
+        let cfg = *axis_of(&self.settings.rig, id).ok_or(Error::NoSuchAxis(id))?;
+        let steps = match at {
+            Some(deg) => cfg.position_steps(deg)?,
+            None => 0,
+        };
+        self.require_at_rest()?;
+        self.axes.set_position(id, steps);
+        if let Some(k) = self.known.get_mut(axis_index(id)) {
+            *k = true;
+        }
+        // Solutions were computed from the old counter.
+        self.solutions.clear();
+        rw.ok()
+            .field_str("name", id.name())
+            .field_f32_rt("at", cfg.steps_to_deg(steps))
+            .field_i32("steps", steps);
         Ok(None)
     }
 

@@ -177,6 +177,8 @@ struct SetNotes {
     miller: Option<Miller>,
     /// Whether `crystal=` was given.
     crystal: bool,
+    /// Whether a key of the rig's geometry (`acceptance=`) was given.
+    geometry: bool,
 }
 
 /// Applies `key=value` to `s`.
@@ -291,6 +293,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         for key in SETTING_KEYS.iter().filter(|k| k.settable) {
             if let Some(v) = a.get(key.name) {
                 apply(&mut s, &mut notes, key.key, v).map_err(|f| f.at(key.name, v))?;
+                notes.geometry |= key.key == Key::Acceptance;
             }
         }
         // A key `get` knows but `set` does not take is read only, not unknown.
@@ -303,6 +306,11 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             }
         }
         check_used_or(a, Accepted::SetKeys)?;
+        // The acceptance bounds the steps and residuals of every axis: it is rig
+        // geometry, changed only at rest.
+        if notes.geometry {
+            self.require_at_rest()?;
+        }
         let from_table = notes.crystal && notes.miller.is_none();
         let miller = match (notes.miller, from_table) {
             (Some(m), _) => Some(m),
