@@ -212,11 +212,17 @@ fn u64_digits(mut v: u64, digits: &mut [u8; 20]) -> usize {
     let mut tmp = [0u8; 20];
     let mut n = 0;
     loop {
+        // Below 2^32 the hardware's 32-bit divide does it (a u64 division is a library
+        // call on 32-bit targets).
+        let (q, r) = match u32::try_from(v) {
+            Ok(w) => (u64::from(w / 10), w % 10),
+            Err(_) => (v / 10, (v % 10) as u32),
+        };
         if let Some(slot) = tmp.get_mut(n) {
-            *slot = b'0' + (v % 10) as u8;
+            *slot = b'0' + r as u8;
         }
         n += 1;
-        v /= 10;
+        v = q;
         if v == 0 || n >= tmp.len() {
             break;
         }
