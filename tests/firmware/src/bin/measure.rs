@@ -16,7 +16,9 @@
 //!   (the sorted list, specular beam included);
 //! * `console_beams`: the request line `beams` (same crystal, energy and tilt 0) fed
 //!   byte by byte, every streamed line written to a counting sink;
-//! * `console_aim`: the request line `aim` (tilt 10°, beam 1,0) likewise.
+//! * `console_aim`: the request line `aim` (tilt 10°, beam 1,0) likewise;
+//! * `format_roundtrip`, `format_fixed4`: one number near 37.93 in the console's shortest
+//!   round-trip form, and with 4 fixed decimals.
 #![no_std]
 #![no_main]
 
@@ -25,6 +27,7 @@ use core::hint::black_box;
 use cortex_m_rt::entry;
 use embedded_io::{ErrorType, Write};
 use matterwave_core::axis::{AxisConfig, Zone};
+use matterwave_core::console::num::{self, NumBuf};
 use matterwave_core::goniometer::{self, AimRequest, Mode, Rig, Solution};
 use matterwave_core::surface::{Face, Incidence, SurfaceBeam};
 use matterwave_core::{beam, table, AxisId};
@@ -141,6 +144,19 @@ fn main() -> ! {
     });
     report(&mut uart, "beam_list", v);
     report(&mut uart, "beam_list_beams", count as u32);
+
+    // One number in the console's shortest round-trip form, and in fixed point.
+    let mut nb: NumBuf = [0; 24];
+    let v = per_call(500, |i| {
+        black_box(
+            num::format_f32_roundtrip(black_box(37.931_923 + i as f32 * 1e-3), &mut nb).len(),
+        );
+    });
+    report(&mut uart, "format_roundtrip", v);
+    let v = per_call(500, |i| {
+        black_box(num::format_f32(black_box(37.931_923 + i as f32 * 1e-3), 4, &mut nb).len());
+    });
+    report(&mut uart, "format_fixed4", v);
 
     // The console, from factory settings.
     let mut console = sim_console();
