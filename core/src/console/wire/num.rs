@@ -212,11 +212,17 @@ fn u64_digits(mut v: u64, digits: &mut [u8; 20]) -> usize {
     let mut tmp = [0u8; 20];
     let mut n = 0;
     loop {
+        // Below 2^32 the hardware's 32-bit divide does it (a u64 division is a library
+        // call on 32-bit targets).
+        let (q, r) = match u32::try_from(v) {
+            Ok(w) => (u64::from(w / 10), w % 10),
+            Err(_) => (v / 10, (v % 10) as u32),
+        };
         if let Some(slot) = tmp.get_mut(n) {
-            *slot = b'0' + (v % 10) as u8;
+            *slot = b'0' + r as u8;
         }
         n += 1;
-        v /= 10;
+        v = q;
         if v == 0 || n >= tmp.len() {
             break;
         }
@@ -345,56 +351,237 @@ pub fn format_f32(x: f32, decimals: u8, buf: &mut NumBuf) -> &str {
     text(buf, len)
 }
 
-/// Exact powers of ten representable in f64.
-const POW10_F64: [f64; 23] = [
-    1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16,
-    1e17, 1e18, 1e19, 1e20, 1e21, 1e22,
-];
-
-/// `10^n` in f64 for n ≥ 0 (exact to n = 22, within a few ulp beyond).
-fn pow10_f64(n: u32) -> f64 {
-    let mut r = 1.0f64;
-    let mut n = n.min(400) as usize;
-    while n > 22 {
-        r *= 1e22;
-        n -= 22;
-    }
-    r * POW10_F64.get(n).copied().unwrap_or(1.0)
+/// Unsigned integers for the exact digit generation of [`shortest_digits`]: `u64` for
+/// the magnitudes the protocol sends (checked, so an overflow falls back), and the
+/// 192-bit [`Big`] for every other finite `f32`.
+trait Nat: Copy + PartialOrd {
+    fn from_u64(v: u64) -> Self;
+    /// `self · 2^n`; `None` on overflow.
+    fn shl(self, n: u32) -> Option<Self>;
+    /// `self · k`; `None` on overflow.
+    fn mul(self, k: u32) -> Option<Self>;
+    /// `self + o`; `None` on overflow.
+    fn add(self, o: Self) -> Option<Self>;
+    /// `self − o` for `self ≥ o`.
+    fn sub(self, o: Self) -> Self;
 }
 
-/// The `p` significant digits of `a > 0` as an integer in `10^(p-1)..10^p`, and the
-/// decimal exponent `k` of the first digit (`a ≈ digits · 10^(k-p+1)`). Computed in f64,
-/// whose 53 bits carry the 24-bit `f32` value exactly and leave the few rounding steps
-/// far below the 9th significant digit.
-fn significant_digits(a: f32, p: u32) -> (u64, i32) {
+impl Nat for u64 {
+    fn from_u64(v: u64) -> Self {
+        v
+    }
+    fn shl(self, n: u32) -> Option<Self> {
+        (n < 64 && self.leading_zeros() >= n).then(|| self << n)
+    }
+    fn mul(self, k: u32) -> Option<Self> {
+        self.checked_mul(u64::from(k))
+    }
+    fn add(self, o: Self) -> Option<Self> {
+        self.checked_add(o)
+    }
+    fn sub(self, o: Self) -> Self {
+        self.wrapping_sub(o)
+    }
+}
+
+/// A 192-bit unsigned integer, little-endian 32-bit limbs: room for every value the
+/// digit generation of an `f32` needs (below 2^160).
+#[derive(Clone, Copy, PartialEq, Eq)]
+struct Big([u32; 6]);
+
+impl PartialOrd for Big {
+    fn partial_cmp(&self, o: &Self) -> Option<core::cmp::Ordering> {
+        // Most significant limb first.
+        Some(self.0.iter().rev().cmp(o.0.iter().rev()))
+    }
+}
+
+impl Nat for Big {
+    fn from_u64(v: u64) -> Self {
+        Big([v as u32, (v >> 32) as u32, 0, 0, 0, 0])
+    }
+    fn shl(self, n: u32) -> Option<Self> {
+        let (words, bits) = ((n / 32) as usize, n % 32);
+        let mut out = [0u32; 6];
+        for (i, &w) in self.0.iter().enumerate() {
+            if w == 0 {
+                continue;
+            }
+            let wide = u64::from(w) << bits;
+            for (j, part) in [
+                (i + words, wide as u32),
+                (i + words + 1, (wide >> 32) as u32),
+            ] {
+                if part != 0 {
+                    *out.get_mut(j)? |= part;
+                }
+            }
+        }
+        Some(Big(out))
+    }
+    fn mul(self, k: u32) -> Option<Self> {
+        let mut out = [0u32; 6];
+        let mut carry = 0u64;
+        for (o, &w) in out.iter_mut().zip(self.0.iter()) {
+            let v = u64::from(w) * u64::from(k) + carry;
+            *o = v as u32;
+            carry = v >> 32;
+        }
+        (carry == 0).then_some(Big(out))
+    }
+    fn add(self, o: Self) -> Option<Self> {
+        let mut out = [0u32; 6];
+        let mut carry = 0u64;
+        for ((r, &a), &b) in out.iter_mut().zip(self.0.iter()).zip(o.0.iter()) {
+            let v = u64::from(a) + u64::from(b) + carry;
+            *r = v as u32;
+            carry = v >> 32;
+        }
+        (carry == 0).then_some(Big(out))
+    }
+    fn sub(self, o: Self) -> Self {
+        let mut out = [0u32; 6];
+        let mut borrow = 0i64;
+        for ((r, &a), &b) in out.iter_mut().zip(self.0.iter()).zip(o.0.iter()) {
+            let v = i64::from(a) - i64::from(b) - borrow;
+            *r = v as u32;
+            borrow = i64::from(v < 0);
+        }
+        Big(out)
+    }
+}
+
+/// `v · 10^n`.
+fn mul_pow10<N: Nat>(mut v: N, mut n: u32) -> Option<N> {
+    while n >= 9 {
+        v = v.mul(1_000_000_000)?;
+        n -= 9;
+    }
+    v.mul(10u32.pow(n))
+}
+
+/// The shortest decimal digits that read back as `a` (a finite `f32` > 0; the
+/// nearest to `a` among those of that length): `(digits, count, k)` with
+/// `a ≈ 0.d1d2…dn · 10^k`. Exact integer arithmetic (Steele and White's free-format
+/// method, as refined by Burger and Dybvig): `a = r/s`, the halfway points to the
+/// neighbouring `f32` at `(r ± m)/s`, included when the mantissa is even (ties to even
+/// when read back). `None` if a value overflows `N`.
+fn shortest_digits<N: Nat>(a: f32) -> Option<([u8; 12], usize, i32)> {
+    let bits = a.to_bits();
+    let biased = (bits >> 23) & 0xFF;
     let (m, e) = decompose(a);
-    // Position of m's highest set bit (m > 0 as a ≠ 0): a ∈ [2^b, 2^(b+1)).
-    let top_bit = 63 - m.leading_zeros() as i32;
-    let binary_exp = e + top_bit;
-    // floor(binary_exp · log10 2) via 1233/4096; off by at most one, fixed below.
-    let mut k = (binary_exp * 1233) >> 12;
-    let lo = pow10_u64(p.saturating_sub(1)).unwrap_or(1);
-    let hi = pow10_u64(p).unwrap_or(u64::MAX);
-    let ax = f64::from(a);
-    let mut q = 0u64;
-    for _ in 0..4 {
-        let s = p as i32 - 1 - k;
-        let y = if s >= 0 {
-            ax * pow10_f64(s.unsigned_abs())
+    let even = m & 1 == 0;
+    // The lower neighbour is nearer (half the spacing) at a power of two above the
+    // smallest normal binade.
+    let asym = m == 1 << 23 && biased > 1;
+    let (mut r, mut s, mut mp, mut mm);
+    if e >= 0 {
+        let be = e.unsigned_abs();
+        let unit = N::from_u64(1).shl(be)?;
+        if asym {
+            r = N::from_u64(m).shl(be + 2)?;
+            s = N::from_u64(4);
+            mp = unit.shl(1)?;
         } else {
-            ax / pow10_f64(s.unsigned_abs())
-        };
-        // y < 10^10 here, well inside u64; `as` saturates on anything else.
-        q = libm::round(y) as u64;
-        if q >= hi {
+            r = N::from_u64(m).shl(be + 1)?;
+            s = N::from_u64(2);
+            mp = unit;
+        }
+        mm = unit;
+    } else if asym {
+        r = N::from_u64(m << 2);
+        s = N::from_u64(1).shl(2 + e.unsigned_abs())?;
+        mp = N::from_u64(2);
+        mm = N::from_u64(1);
+    } else {
+        r = N::from_u64(m << 1);
+        s = N::from_u64(1).shl(1 + e.unsigned_abs())?;
+        mp = N::from_u64(1);
+        mm = N::from_u64(1);
+    }
+    // k: a ∈ [2^b, 2^(b+1)); start from an estimate of ⌊b·log10 2⌋ − 1, never too high,
+    // and raise it until the upper halfway point lies below 10^k.
+    let top_bit = 63 - m.leading_zeros() as i32;
+    let b = e + top_bit;
+    let mut k = ((b * 1233) >> 12) - 1;
+    if k >= 0 {
+        s = mul_pow10(s, k.unsigned_abs())?;
+    } else {
+        let n = k.unsigned_abs();
+        r = mul_pow10(r, n)?;
+        mp = mul_pow10(mp, n)?;
+        mm = mul_pow10(mm, n)?;
+    }
+    loop {
+        let high = r.add(mp)?;
+        if (even && high >= s) || (!even && high > s) {
+            s = s.mul(10)?;
             k += 1;
-        } else if q < lo {
-            k -= 1;
         } else {
             break;
         }
     }
-    (q.clamp(lo, hi.saturating_sub(1)), k)
+    let mut digits = [0u8; 12];
+    let mut n = 0usize;
+    loop {
+        r = r.mul(10)?;
+        mp = mp.mul(10)?;
+        mm = mm.mul(10)?;
+        let mut d = 0u8;
+        while r >= s {
+            r = r.sub(s);
+            d += 1;
+        }
+        let high_sum = r.add(mp)?;
+        let low = if even { r <= mm } else { r < mm };
+        let high = if even { high_sum >= s } else { high_sum > s };
+        let last = match (low, high) {
+            (false, false) => None,
+            (true, false) => Some(d),
+            (false, true) => Some(d + 1),
+            (true, true) => {
+                // Both neighbours read back: the nearer one (2r against s); a tie goes
+                // up, as Rust's own formatting (and rounding half away from zero) does.
+                let twice = r.mul(2)?;
+                if twice < s {
+                    Some(d)
+                } else {
+                    Some(d + 1)
+                }
+            }
+        };
+        let slot = digits.get_mut(n)?;
+        *slot = last.unwrap_or(d);
+        n += 1;
+        if last.is_some() {
+            break;
+        }
+    }
+    // A last digit rounded up to 10 carries into the digits before it.
+    let mut i = n;
+    while i > 0 && digits.get(i - 1) == Some(&10) {
+        if let Some(dd) = digits.get_mut(i - 1) {
+            *dd = 0;
+        }
+        i -= 1;
+        match i.checked_sub(1).and_then(|j| digits.get_mut(j)) {
+            Some(prev) => *prev += 1,
+            None => {
+                // Every digit carried: 0.99… became 1.0.
+                digits = [0u8; 12];
+                if let Some(first) = digits.first_mut() {
+                    *first = 1;
+                }
+                n = 1;
+                k += 1;
+                break;
+            }
+        }
+    }
+    for d in digits.iter_mut().take(n) {
+        *d += b'0';
+    }
+    Some((digits, n, k))
 }
 
 /// Write `±digits×10^k` (digits already stripped of trailing zeros) in fixed notation if
@@ -437,19 +624,16 @@ fn write_decimal(out: &mut Out<'_>, negative: bool, digits: &[u8], k: i32) {
     }
 }
 
-/// Format `x` as a short decimal that parses back (with [`parse_f32`] or Rust's
+/// Format `x` as the shortest decimal that parses back (with [`parse_f32`] or Rust's
 /// `str::parse`) to exactly the same `f32`.
 ///
-/// Guarantee: for every finite `x`, the text has at most 9 significant digits and
-/// round-trips exactly (9 significant digits always suffice for `f32`). Method: the
-/// value is rounded (in f64, which holds the `f32` exactly) to 6, 7, 8 and then 9
-/// significant digits (1 to 9 for subnormals) and the first that round-trips is kept,
-/// trailing zeros removed — so the result is the shortest possible whenever a
-/// representation of 6 or fewer significant digits exists, and short otherwise (over
-/// a million random bit patterns in the tests it was always the shortest, but that is
-/// not a guarantee for 7 to 9 digits). Notation is fixed point for 1e-4 ≤ |x| < 1e7 (`0.00015`, `1234567`,
-/// `-2.5`) and scientific outside (`1.5e-7`, `3.4028235e38`). Zero (either sign) is
-/// `0`; NaN and infinities are `nan`, `inf`, `-inf`.
+/// Guarantee: for every finite `x`, the text has the fewest significant digits (at
+/// most 9) of any decimal that reads back as `x`, and of those the one nearest to `x`.
+/// Method: exact integer digit generation (no floating point, no parse-back); 64-bit
+/// arithmetic for the usual magnitudes, 192-bit beyond. Notation is fixed point for
+/// 1e-4 ≤ |x| < 1e7 (`0.00015`, `1234567`, `-2.5`) and scientific outside (`1.5e-7`,
+/// `3.4028235e38`). Zero (either sign) is `0`; NaN and infinities are `nan`, `inf`,
+/// `-inf`.
 ///
 /// ```
 /// # use matterwave_core::console::num::format_f32_roundtrip;
@@ -473,26 +657,16 @@ pub fn format_f32_roundtrip(x: f32, buf: &mut NumBuf) -> &str {
         return text(buf, len);
     }
     let a = x.abs();
-    let mut len = 0;
-    // With a normal f32's 24-bit precision, a representation of ≤ 6 significant digits
-    // is also the correctly rounded 6-digit one; subnormals have less precision, so
-    // they try every length.
-    let first = if a < f32::MIN_POSITIVE { 1 } else { 6 };
-    for p in first..=9u32 {
-        let (q, k) = significant_digits(a, p);
-        let mut digits = [0u8; 20];
-        let n = u64_digits(q, &mut digits);
-        let mut used = n;
-        while used > 1 && digits.get(used - 1) == Some(&b'0') {
-            used -= 1;
-        }
-        let mut out = Out::new(&mut buf[..]);
-        write_decimal(&mut out, x < 0.0, digits.get(..used).unwrap_or(&[]), k);
-        len = out.len;
-        if text(buf, len).parse::<f32>() == Ok(x) {
-            break;
-        }
-    }
+    let (digits, n, k) = shortest_digits::<u64>(a)
+        .or_else(|| shortest_digits::<Big>(a))
+        .unwrap_or(([b'0'; 12], 1, 1));
+    write_decimal(
+        &mut out,
+        x < 0.0,
+        digits.get(..n).unwrap_or(&[]),
+        k.saturating_sub(1),
+    );
+    let len = out.len;
     text(buf, len)
 }
 

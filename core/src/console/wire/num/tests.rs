@@ -156,3 +156,53 @@ fn integers() {
     assert_eq!(format_i32(i32::MAX, &mut buf), "2147483647");
     assert_eq!(format_i32(i32::MIN, &mut buf), "-2147483648");
 }
+
+/// Against Rust's own float formatting (std, in tests only).
+mod against_std {
+    extern crate std;
+    use super::*;
+    use std::format;
+    use std::string::{String, ToString};
+
+    /// The significant digits and exponent of a `d.ddde±k` text.
+    fn sci_parts(s: &str) -> (String, i32) {
+        let (m, e) = s.split_once('e').unwrap_or((s, "0"));
+        (m.replace(['.', '-'], ""), e.parse().unwrap())
+    }
+
+    #[test]
+    fn roundtrip_is_the_shortest_nearest() {
+        // Rust's `{:e}` writes the shortest digits that read back, nearest first.
+        let mut buf = [0u8; 24];
+        let mut bits = 7u32;
+        let specials = [
+            1.0e-45f32,
+            f32::MIN_POSITIVE,
+            f32::MAX,
+            16_777_216.0,
+            8.0,
+            0.125,
+        ];
+        for i in 0..100_000 {
+            bits = bits.wrapping_mul(1_664_525).wrapping_add(1_013_904_223);
+            let x = specials.get(i).copied().unwrap_or(f32::from_bits(bits));
+            if !x.is_finite() || x == 0.0 {
+                continue;
+            }
+            let ours = format_f32_roundtrip(x, &mut buf).to_string();
+            let back: f32 = ours.parse().unwrap();
+            assert_eq!(back.to_bits(), x.to_bits(), "{ours}");
+            let (want_digits, want_exp) = sci_parts(&format!("{:e}", x.abs()));
+            let got = shortest_digits::<Big>(x.abs()).unwrap();
+            let got_digits = core::str::from_utf8(&got.0[..got.1]).unwrap();
+            assert_eq!(
+                (got_digits, got.2 - 1),
+                (want_digits.as_str(), want_exp),
+                "{x:e}"
+            );
+            if let Some(fast) = shortest_digits::<u64>(x.abs()) {
+                assert_eq!(fast, got, "{x:e}: u64 and 192-bit paths differ");
+            }
+        }
+    }
+}

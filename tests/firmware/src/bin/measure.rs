@@ -1,0 +1,205 @@
+//! Instruction counts of the core's hot paths on the Cortex-M4F, for
+//! tests/firmware/measure.sh. Run under QEMU with `-icount shift=0` (one instruction
+//! per nanosecond): SysTick on the 25 MHz clock, 1 tick = 40 instructions, each
+//! operation repeated N times and the same loop with an empty body subtracted. Prints
+//! `key=value` lines on UART0, then exits 0.
+//!
+//! The operations (the same inputs as the plain C reference where it has one):
+//! * `wavelength`: `beam::wavelength_a(20 + i)`;
+//! * `inplane_steps`: in-plane aim → microsteps from core parts:
+//!   `goniometer::in_plane_arm_deg` for Ni(111) (1,0) at tilt 10°, 50 + 0.1·i eV, then
+//!   `AxisConfig::check_angle` and `steps_for_deg` on an arm with ±170° limits and a
+//!   ±10° zone;
+//! * `aim`: `goniometer::aim` as the console calls it (bench rig, in-plane, nearest
+//!   branch, same beam and energies);
+//! * `beam_list`: `Face::beams` for Ni(111), a = 3.524 Å, at 200 eV, normal incidence
+//!   (the sorted list, specular beam included);
+//! * `console_beams`: the request line `beams` (same crystal, energy and tilt 0) fed
+//!   byte by byte, every streamed line written to a counting sink;
+//! * `console_aim`: the request line `aim` (tilt 10°, beam 1,0) likewise;
+//! * `format_roundtrip`, `format_fixed4`: one number near 37.93 in the console's shortest
+//!   round-trip form, and with 4 fixed decimals.
+#![no_std]
+#![no_main]
+
+use core::hint::black_box;
+
+use cortex_m_rt::entry;
+use embedded_io::{ErrorType, Write};
+use matterwave_core::axis::{AxisConfig, Zone};
+use matterwave_core::console::num::{self, NumBuf};
+use matterwave_core::goniometer::{self, AimRequest, Mode, Rig, Solution};
+use matterwave_core::surface::{Face, Incidence, SurfaceBeam};
+use matterwave_core::{beam, table, AxisId};
+use matterwave_firmware::{clock, fail, pass, sim_console, stack, sweep, Uart};
+
+/// A sink that counts bytes and lines.
+struct Count {
+    bytes: u32,
+    lines: u32,
+}
+
+impl ErrorType for Count {
+    type Error = core::convert::Infallible;
+}
+
+impl Write for Count {
+    fn write(&mut self, buf: &[u8]) -> Result<usize, Self::Error> {
+        self.bytes += buf.len() as u32;
+        self.lines += buf.iter().filter(|&&b| b == b'\n').count() as u32;
+        Ok(buf.len())
+    }
+    fn flush(&mut self) -> Result<(), Self::Error> {
+        Ok(())
+    }
+}
+
+/// Ticks of `n` turns of a loop calling `f`.
+#[inline(never)]
+fn time<F: FnMut(u32)>(n: u32, mut f: F) -> u32 {
+    let t0 = clock::now();
+    for i in 0..n {
+        f(black_box(i));
+    }
+    let t1 = clock::now();
+    clock::ticks(t0, t1)
+}
+
+/// Instructions per call of `f`, the empty loop subtracted (rounded).
+fn per_call<F: FnMut(u32)>(n: u32, f: F) -> u32 {
+    let base = time(n, |i| {
+        black_box(i);
+    });
+    let t = time(n, f);
+    let instr = u64::from(t.saturating_sub(base)) * u64::from(clock::INSTR_PER_TICK);
+    ((instr + u64::from(n) / 2) / u64::from(n)) as u32
+}
+
+fn report(uart: &mut Uart, key: &str, v: u32) {
+    uart.puts(key);
+    uart.puts("=");
+    uart.put_u32(v);
+    uart.puts("\n");
+}
+
+fn ni111() -> Face {
+    let Ok(cell) = table::find("ni").and_then(|c| c.cell()) else {
+        fail("no Ni in the table")
+    };
+    match Face::new(&cell, [1, 1, 1]) {
+        Ok(f) => f,
+        Err(_) => fail("Ni(111) rejected"),
+    }
+}
+
+#[entry]
+fn main() -> ! {
+    let mut uart = Uart::uart0();
+    clock::start();
+    report(&mut uart, "fast_math", cfg!(feature = "fast-math") as u32);
+    let face = ni111();
+
+    let v = per_call(2000, |i| {
+        black_box(beam::wavelength_a(black_box(20.0 + i as f32)).ok());
+    });
+    report(&mut uart, "wavelength", v);
+
+    let mut arm = AxisConfig::new(AxisId::Arm, 14222.2);
+    arm.min_deg = -170.0;
+    arm.max_deg = 170.0;
+    arm.zones[0] = Some(Zone {
+        from_deg: -10.0,
+        to_deg: 10.0,
+    });
+    let arm = black_box(arm);
+    let v = per_call(2000, |i| {
+        let e = black_box(50.0 + i as f32 * 0.1);
+        let steps = goniometer::in_plane_arm_deg(&face, [1, 0], 10.0, 1, e)
+            .and_then(|d| arm.check_angle(d).map(|()| d))
+            .and_then(|d| arm.steps_for_deg(d));
+        black_box(steps.ok());
+    });
+    report(&mut uart, "inplane_steps", v);
+
+    let rig = black_box(Rig::bench_default());
+    let pos = [0i32; 4];
+    let mut out = [Solution::EMPTY; 8];
+    let v = per_call(500, |i| {
+        let e = black_box(50.0 + i as f32 * 0.1);
+        let req = AimRequest::new(&face, [1, 0], e, 10.0).with_mode(Mode::InPlane);
+        black_box(goniometer::aim(&rig, &req, &pos, &mut out).ok());
+    });
+    report(&mut uart, "aim", v);
+
+    let Ok(inc) = Incidence::normal(200.0) else {
+        fail("incidence")
+    };
+    let mut beams = [SurfaceBeam::EMPTY; 64];
+    let mut count = 0;
+    let v = per_call(50, |_| {
+        count = face
+            .beams(black_box(&inc), &mut beams)
+            .map_or(0, |l| l.stored);
+        black_box(&beams);
+    });
+    report(&mut uart, "beam_list", v);
+    report(&mut uart, "beam_list_beams", count as u32);
+
+    // One number in the console's shortest round-trip form, and in fixed point.
+    let mut nb: NumBuf = [0; 24];
+    let v = per_call(500, |i| {
+        black_box(
+            num::format_f32_roundtrip(black_box(37.931_923 + i as f32 * 1e-3), &mut nb).len(),
+        );
+    });
+    report(&mut uart, "format_roundtrip", v);
+    let v = per_call(500, |i| {
+        black_box(num::format_f32(black_box(37.931_923 + i as f32 * 1e-3), 4, &mut nb).len());
+    });
+    report(&mut uart, "format_fixed4", v);
+
+    // The console, from factory settings.
+    let mut console = sim_console();
+    let mut sink = Count { bytes: 0, lines: 0 };
+    let setup = b"set crystal=ni face=111 energy=200 tilt=0\n";
+    let _ = console.feed_all(setup, &mut sink);
+    for (key, req) in [
+        ("console_beams", &b"beams\n"[..]),
+        ("console_aim", &b"aim\n"[..]),
+    ] {
+        if key == "console_aim" {
+            let _ = console.feed_all(b"set tilt=10 beam=1,0\n", &mut sink);
+        }
+        sink = Count { bytes: 0, lines: 0 };
+        stack::paint();
+        let sp = stack::sp();
+        let _ = console.feed_all(req, &mut sink);
+        let depth = stack::used_below(sp);
+        let lines = sink.lines;
+        let v = per_call(20, |_| {
+            let _ = console.feed_all(black_box(req), &mut sink);
+        });
+        report(&mut uart, key, v);
+        uart.puts(key);
+        report(&mut uart, "_lines", lines);
+        uart.puts(key);
+        report(&mut uart, "_stack", depth as u32);
+    }
+
+    // RAM: the deepest stack over the documented sessions, a fresh console (on the
+    // stack) for each, measured from the call.
+    drop(console);
+    stack::paint();
+    let sp = stack::sp();
+    let r = sweep::run(&mut uart, false);
+    report(&mut uart, "sweep_stack", stack::used_below(sp) as u32);
+    report(&mut uart, "sweep_mismatches", r.mismatches);
+    report(&mut uart, "static_ram", stack::static_ram() as u32);
+    report(
+        &mut uart,
+        "console_size",
+        core::mem::size_of_val(&sim_console()) as u32,
+    );
+    uart.puts("done\n");
+    pass()
+}
