@@ -4,8 +4,8 @@
 # Prints one Markdown table (docs/FIRMWARE.md holds the committed one).
 #
 # Usage: tests/firmware/measure.sh [C_REFERENCE_DIR]
-#   C_REFERENCE_DIR: a folder with the C reference's run.sh (default: peers/c-m4f in the
-#   shared folder beside the repository, when there is one).
+#   C_REFERENCE_DIR: a folder with a plain C reference's run.sh (or the environment
+#   variable of that name); without one, the table has our figures only.
 set -euo pipefail
 here="$(cd "$(dirname "$0")" && pwd)"
 repo="$(cd "$here/../.." && pwd)"
@@ -45,7 +45,7 @@ for backend in libm fast-math; do
   R["$backend.softfloat"]="$(softfloat "$bin/console")"
 done
 
-cref="${1:-$repo/../shared/peers/c-m4f}"
+cref="${1:-${C_REFERENCE_DIR:-}}"
 cnote=""
 if [ -x "$cref/run.sh" ] || [ -f "$cref/run.sh" ]; then
   cout="$(bash "$cref/run.sh" 2>&1 | tr -d '\r')"
