@@ -220,6 +220,8 @@ pub enum Error {
     /// The nearest allowed whole step misses the target by more than the detector
     /// acceptance half-angle.
     ResidualTooLarge(AxisId),
+    /// A `move` while an axis is still moving (from an earlier `move`).
+    AxisMoving,
 }
 
 impl Error {
@@ -281,6 +283,7 @@ impl Error {
             Error::MotionEnabled => 321,
             Error::StepTooCoarse(_) => 322,
             Error::ResidualTooLarge(_) => 323,
+            Error::AxisMoving => 324,
         }
     }
 
@@ -390,6 +393,9 @@ impl Error {
             }
             Error::ResidualTooLarge(_) => {
                 "the nearest allowed step misses the target by more than the detector acceptance; choose another target or a finer step"
+            }
+            Error::AxisMoving => {
+                "an axis is still moving; wait until status shows moving=0, or send stop"
             }
         }
     }

@@ -6,7 +6,7 @@
 
 use matterwave_core::console::line::MAX_LINE;
 use matterwave_core::console::sim::{SimAxes, SimDetector, SimInterlock};
-use matterwave_core::console::{AxisDriver, Console, Detector, Interlock};
+use matterwave_core::console::{AxisDriver, AxisFault, Console, Detector, Interlock};
 use matterwave_core::AxisId;
 
 pub mod byte_stream;
@@ -44,6 +44,9 @@ impl AxisDriver for RecordingAxes {
     }
     fn stop(&mut self) {
         self.sim.stop();
+    }
+    fn take_fault(&mut self) -> Option<AxisFault> {
+        self.sim.take_fault()
     }
 }
 

@@ -975,6 +975,10 @@ proptest! {
         for (line, flip) in lines.iter().zip(&flips) {
             if *flip {
                 s.c.interlock.safe = !s.c.interlock.safe;
+                // The board's control tick sees the interlock before the next request
+                // (as the firmware's loop does): the trip is the board's doing, not
+                // the request's.
+                s.c.tick();
             }
             let idle_before = !s.c.streaming();
             let kind = s.line(line);

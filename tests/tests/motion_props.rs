@@ -35,17 +35,24 @@
 //!   physical angles;
 //! * every `ok` move lands within its reported residual of its target (raw angles,
 //!   modulo 360° on the azimuth), and a move to a solution lands on the angles `aim`
-//!   listed for it.
+//!   listed for it;
+//! * nothing starts while an axis still travels (the world can be told a move has not
+//!   arrived yet: `err 324`);
+//! * a driver fault — injected as a stall, limit-switch hit or driver error part-way
+//!   along the axis's last leg, so that the axis really stands short of its counter — is
+//!   taken before the next request runs, stops motion, and leaves that axis's position
+//!   unknown; the physical check above then proves no move starts from the stale counter.
 //!
 //! Size: 4 tests × 64 sessions × 4,000 steps, each step one or more requests (a
 //! technician's homing is five to seven): each test sends at least 250,000 requests
-//! (counted and asserted), over 10^6 in all — 1,306,492 when written, with 77,548
-//! motions `ok` and 127,287 legs checked — in about 13 s of a debug build. The seeds are
+//! (counted and asserted), over 10^6 in all — 1,262,955 at the last change, with 51,216
+//! motions `ok`, 82,195 legs checked, 8,499 injected faults and 42,516 moves refused
+//! while an axis travelled — in about 10 s of a debug build. The seeds are
 //! fixed, so a failure is reproduced by running the test again; its message gives the
 //! physical angles, the counters and the last 40 requests.
 
 use matterwave_core::console::sim::{SimDetector, SimInterlock};
-use matterwave_core::console::{AxisDriver, Console};
+use matterwave_core::console::{AxisDriver, AxisFault, Console, FaultKind};
 use matterwave_core::goniometer::axis_index;
 use matterwave_core::AxisId;
 
@@ -122,6 +129,12 @@ struct World {
     counter: [i32; 4],
     phys: [f64; 4],
     legs: Vec<Leg>,
+    /// Each axis's last leg (from, to), for a stall part-way along it.
+    last: [Option<(f64, f64)>; 4],
+    /// A fault the drivers report at the next poll.
+    fault: Option<AxisFault>,
+    /// Whether an axis is still travelling (a slow arrival the suite sets).
+    moving: bool,
 }
 
 impl AxisDriver for World {
@@ -140,12 +153,18 @@ impl AxisDriver for World {
             self.phys[i] = from + d / WORLD[i].spd;
             self.counter[i] = to;
             self.legs.push((axis, from, self.phys[i]));
+            self.last[i] = Some((from, self.phys[i]));
         }
     }
     fn busy(&mut self) -> bool {
-        false
+        self.moving
     }
-    fn stop(&mut self) {}
+    fn stop(&mut self) {
+        self.moving = false;
+    }
+    fn take_fault(&mut self) -> Option<AxisFault> {
+        self.fault.take()
+    }
 }
 
 type Con = Console<World, SimDetector, SimInterlock>;
@@ -202,6 +221,8 @@ struct Stats {
     declared: u64,
     calibration_changes: u64,
     sol_moves: u64,
+    faults: u64,
+    refused_moving: u64,
 }
 
 impl Stats {
@@ -217,6 +238,8 @@ impl Stats {
         self.declared += o.declared;
         self.calibration_changes += o.calibration_changes;
         self.sol_moves += o.sol_moves;
+        self.faults += o.faults;
+        self.refused_moving += o.refused_moving;
     }
 }
 
@@ -247,6 +270,9 @@ impl Session {
                 counter: [0; 4],
                 phys: [20.0, 0.0, 0.0, 0.0],
                 legs: Vec::new(),
+                last: [None; 4],
+                fault: None,
+                moving: false,
             },
             SimDetector::default(),
             SimInterlock { safe: true },
@@ -286,6 +312,8 @@ impl Session {
         self.stats.requests += 1;
         let enabled = self.c.enabled();
         let safe = self.c.interlock.safe;
+        let moving = self.c.axes.moving;
+        let fault = self.c.axes.fault;
         let counters = self.c.axes.counter;
         let phys = self.c.axes.phys;
         let settings = *self.c.settings();
@@ -303,7 +331,29 @@ impl Session {
                     "motion by {line} -> {last} (enabled {enabled}, safe {safe})"
                 ));
             }
+            if moving || fault.is_some() {
+                self.fail(&format!(
+                    "motion by {line} -> {last} while an axis moved ({moving}) or a fault was pending ({fault:?})"
+                ));
+            }
             self.stats.ok_moves += 1;
+        }
+        // A fault is seen before the request runs: motion is stopped and disabled (an
+        // `enable` may follow at once), and the faulted axis's position is unknown.
+        if let Some(f) = fault {
+            self.stats.faults += 1;
+            if self.c.axes.fault.is_some() || self.c.axes.moving {
+                self.fail(&format!(
+                    "fault {f:?} not taken, or motion not stopped, by {line}"
+                ));
+            }
+            if (self.c.enabled() && !line.starts_with("enable")) || self.c.position_known(f.axis) {
+                self.fail(&format!(
+                    "after fault {f:?} and {line} -> {last}: enabled {}, position known {}",
+                    self.c.enabled(),
+                    self.c.position_known(f.axis)
+                ));
+            }
         }
         // Where the console believed each moved axis stood, against where it stood.
         for id in AxisId::ALL {
@@ -355,6 +405,7 @@ impl Session {
             Some("321") => self.stats.refused_at_rest += 1,
             Some("322") => self.stats.refused_coarse += 1,
             Some("323") => self.stats.refused_residual += 1,
+            Some("324") => self.stats.refused_moving += 1,
             _ => {}
         }
         last
@@ -456,6 +507,8 @@ impl Session {
             3,  // 13 queries
             1,  // 14 plan
             1,  // 15 garbage and refused forms
+            1,  // 16 a driver fault (a stall part-way along the axis's last leg)
+            3,  // 17 a move still travelling, or arriving
         ]);
         let r = &mut self.rng;
         let line = match kind {
@@ -602,6 +655,31 @@ impl Session {
                 1 => "plan kind=track from=50 to=110 step=20".to_string(),
                 _ => "dump".to_string(),
             },
+            16 => {
+                // The motor stalls part-way along its last leg (or the limit switch or
+                // the driver trips there): the axis stands short of where its counter
+                // says, and the drivers report it.
+                if self.c.axes.fault.is_some() {
+                    return; // one fault at a time: the drivers report each one
+                }
+                let id = AxisId::ALL[r.below(4)];
+                let kind =
+                    [FaultKind::Stall, FaultKind::LimitSwitch, FaultKind::Driver][r.below(3)];
+                let f = r.range(0.2, 0.9);
+                let i = axis_index(id);
+                if let Some((from, to)) = self.c.axes.last[i] {
+                    self.c.axes.phys[i] = from + f * (to - from);
+                    self.c.axes.last[i] = None;
+                }
+                self.c.axes.fault = Some(AxisFault { axis: id, kind });
+                return;
+            }
+            17 => {
+                // Moves take time: the axes are still travelling, or arrive.
+                self.c.axes.moving =
+                    !self.c.axes.moving && self.c.axes.last.iter().any(Option::is_some);
+                return;
+            }
             _ => r
                 .pick(&[
                     "move arm=nan",
@@ -669,6 +747,7 @@ fn check_coverage(st: &Stats) {
         st.declared >= 1_000 && st.calibration_changes >= 1_000,
         "{st:?}"
     );
+    assert!(st.faults >= 1_000 && st.refused_moving >= 500, "{st:?}");
 }
 
 #[test]

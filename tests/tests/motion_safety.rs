@@ -10,7 +10,7 @@
 
 use matterwave_core::axis::{AxisConfig, Zone};
 use matterwave_core::console::sim::{SimAxes, SimDetector, SimInterlock};
-use matterwave_core::console::{AxisDriver, Console};
+use matterwave_core::console::{AxisDriver, AxisFault, Console};
 use matterwave_core::{AxisId, Error};
 
 type Con = Console<SimAxes, SimDetector, SimInterlock>;
@@ -235,6 +235,9 @@ impl AxisDriver for Coasting {
     }
     fn stop(&mut self) {
         self.sim.stop();
+    }
+    fn take_fault(&mut self) -> Option<AxisFault> {
+        self.sim.take_fault()
     }
 }
 

@@ -23,6 +23,65 @@ pub trait AxisDriver {
     fn busy(&mut self) -> bool;
     /// Stops every axis as fast as the hardware safely can.
     fn stop(&mut self);
+    /// The next fault the drivers detected since the last call (a stall, a limit switch
+    /// hit, a driver error), or `None`. Each fault is reported once. The console polls it
+    /// on every [`crate::console::Console::tick`] and before every request; a fault stops
+    /// every axis, disables motion and makes the faulted axis's position unknown.
+    fn take_fault(&mut self) -> Option<AxisFault>;
+}
+
+/// What an axis driver detected.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum FaultKind {
+    /// The motor stalled (lost steps): the counter no longer tells where the axis is.
+    Stall,
+    /// A hardware limit switch was hit.
+    LimitSwitch,
+    /// The driver reported an error (over-temperature, over-current, supply).
+    Driver,
+}
+
+impl FaultKind {
+    /// The word used in replies: `stall`, `limit_switch`, `driver`.
+    pub const fn name(self) -> &'static str {
+        match self {
+            FaultKind::Stall => "stall",
+            FaultKind::LimitSwitch => "limit_switch",
+            FaultKind::Driver => "driver",
+        }
+    }
+}
+
+/// A fault of one axis, as [`AxisDriver::take_fault`] reports it.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct AxisFault {
+    /// The axis at fault.
+    pub axis: AxisId,
+    /// What happened.
+    pub kind: FaultKind,
+}
+
+/// Why the console stopped motion on its own: latched until the next `enable` that
+/// succeeds, and reported by `status` as `trip=`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum Trip {
+    /// The interlock input reported unsafe while motion was enabled or an axis moved.
+    Interlock,
+    /// An axis driver reported a fault.
+    Axis(AxisFault),
+}
+
+impl Trip {
+    /// The word used in replies: `interlock`, or the fault's name.
+    pub const fn name(self) -> &'static str {
+        match self {
+            Trip::Interlock => "interlock",
+            Trip::Axis(f) => f.kind.name(),
+        }
+    }
 }
 
 /// What the instrument is set to, for detectors that model the scene (simulators). A

@@ -25,5 +25,5 @@ pub mod wire;
 
 pub use wire::{crc, line, num, reply, token};
 
-pub use board::{AxisDriver, Detector, Interlock, Scene};
+pub use board::{AxisDriver, AxisFault, Detector, FaultKind, Interlock, Scene, Trip};
 pub use controller::{Console, Settings};

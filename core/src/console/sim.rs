@@ -2,12 +2,14 @@
 //! once, a switchable interlock, and a synthetic detector that sees the beams the
 //! geometry puts into its acceptance cone.
 
-use super::board::{AxisDriver, Detector, Interlock, Scene};
+use super::board::{AxisDriver, AxisFault, Detector, Interlock, Scene};
 use crate::error::AxisId;
 use crate::goniometer::{self, axis_index, InView};
 use crate::math;
 
-/// Simulated axes: every move completes immediately.
+/// Simulated axes. A move sets the counter to its target at once; with `slow` set it
+/// then reports busy until [`SimAxes::arrive`] or a stop. Faults are injected by setting
+/// `fault`, which the next [`AxisDriver::take_fault`] reports once.
 #[derive(Clone, Debug, Default, PartialEq, Eq)]
 pub struct SimAxes {
     /// Step counts (arm, elevation, tilt, azimuth).
@@ -16,6 +18,19 @@ pub struct SimAxes {
     pub moves: u32,
     /// Number of stop calls.
     pub stops: u32,
+    /// Whether a started move stays in progress (busy) until [`SimAxes::arrive`].
+    pub slow: bool,
+    /// Whether a move is in progress.
+    pub moving: bool,
+    /// A fault to report at the next poll.
+    pub fault: Option<AxisFault>,
+}
+
+impl SimAxes {
+    /// Ends the move in progress (the axes have arrived).
+    pub fn arrive(&mut self) {
+        self.moving = false;
+    }
 }
 
 impl AxisDriver for SimAxes {
@@ -32,12 +47,17 @@ impl AxisDriver for SimAxes {
             *s = target;
         }
         self.moves = self.moves.saturating_add(1);
+        self.moving = self.slow;
     }
     fn busy(&mut self) -> bool {
-        false
+        self.moving
     }
     fn stop(&mut self) {
         self.stops = self.stops.saturating_add(1);
+        self.moving = false;
+    }
+    fn take_fault(&mut self) -> Option<AxisFault> {
+        self.fault.take()
     }
 }
 

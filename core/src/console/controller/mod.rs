@@ -42,7 +42,7 @@ mod stream;
 
 use embedded_io::Write;
 
-use super::board::{AxisDriver, Detector, Interlock};
+use super::board::{AxisDriver, Detector, Interlock, Trip};
 use super::wire::crc;
 use super::wire::line::{LineAssembler, LineEvent, MAX_LINE};
 use super::wire::reply::{ReplyError, ReplyWriter};
@@ -147,6 +147,8 @@ pub struct Console<A: AxisDriver, D: Detector, I: Interlock> {
     stream_crc: bool,
     requests: u32,
     errors: u32,
+    /// Why the console last stopped motion on its own, until an `enable` succeeds.
+    trip: Option<Trip>,
 }
 
 /// A write error from the reply path (the line was not sent).
@@ -173,7 +175,45 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             stream_crc: false,
             requests: 0,
             errors: 0,
+            trip: None,
         })
+    }
+
+    /// Watches the board: call it on every control tick (the console also calls it
+    /// before every request and every streamed line). An interlock that reports unsafe
+    /// while motion is enabled or an axis moves, and any fault an axis driver reports,
+    /// stop every axis and disable motion at once; a faulted axis's position becomes
+    /// unknown (a stall or a limit switch leaves its counter untrustworthy). The trip is
+    /// latched (see [`Console::trip`]) until an `enable` succeeds. Returns the trip this
+    /// call latched, if any. Bounded work: one interlock read and up to one fault per
+    /// axis.
+    pub fn tick(&mut self) -> Option<Trip> {
+        let mut tripped = None;
+        for _ in AxisId::ALL {
+            match self.axes.take_fault() {
+                Some(f) => {
+                    self.forget_position(f.axis);
+                    tripped = tripped.or(Some(Trip::Axis(f)));
+                }
+                None => break,
+            }
+        }
+        if tripped.is_none() && (self.enabled || self.axes.busy()) && !self.interlock.safe() {
+            tripped = Some(Trip::Interlock);
+        }
+        if let Some(t) = tripped {
+            self.axes.stop();
+            self.enabled = false;
+            // The first trip since the last `enable` is the one that explains the stop.
+            self.trip = self.trip.or(Some(t));
+        }
+        tripped
+    }
+
+    /// Why the console stopped motion on its own since the last `enable` that succeeded:
+    /// an interlock that opened, or an axis driver's fault.
+    pub fn trip(&self) -> Option<Trip> {
+        self.trip
     }
 
     /// The current settings.
@@ -276,6 +316,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
     }
 
     fn request<W: Write>(&mut self, line: &str, out: &mut W) -> WriteResult<W::Error> {
+        self.tick();
         let (body, crc_on) = match crc::verify(line) {
             Ok(v) => v,
             Err(_) => return self.reject(out, Error::BadChecksum.into(), line.contains('*')),
@@ -360,6 +401,8 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                     .field_i32("points", self.points.len() as i32)
                     .field_i32("requests", self.requests as i32)
                     .field_i32("errors", self.errors as i32);
+                self.write_trip(rw);
+                self.write_unknown(rw);
                 Ok(None)
             }
             "set" => self.cmd_set(a, rw),
@@ -438,6 +481,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         if !self.streaming() {
             return Ok(false);
         }
+        self.tick();
         let mut rw = Rw::with_line_length(out, self.stream_crc);
         let ctx = stream::Context {
             settings: &self.settings,

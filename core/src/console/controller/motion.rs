@@ -8,7 +8,7 @@ use super::axes::axis_of;
 use super::fault::{check_used, Accepted, Fault, Result};
 use super::{Console, Rw, Stream};
 use crate::axis::Setpoint;
-use crate::console::board::{AxisDriver, Detector, Interlock, Scene};
+use crate::console::board::{AxisDriver, Detector, Interlock, Scene, Trip};
 use crate::console::wire::token::Args;
 use crate::error::{AxisId, Error};
 use crate::goniometer::axis_index;
@@ -74,10 +74,25 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             }
         }
         if !self.enabled {
-            return Err(Error::NotEnabled.into());
+            let safe = self.interlock.safe();
+            let f = Fault::from(Error::NotEnabled);
+            return Err(match self.trip {
+                Some(Trip::Interlock) if !safe => Fault::from(Error::InterlockOpen)
+                    .because("motion was stopped when it opened; enable once it is safe"),
+                Some(Trip::Interlock) => f.because("motion was stopped: the interlock opened"),
+                Some(Trip::Axis(_)) => f.because(
+                    "motion was stopped by an axis fault (see status); home that axis, then enable",
+                ),
+                None => f,
+            });
         }
         if !self.interlock.safe() {
             return Err(Error::InterlockOpen.into());
+        }
+        // One move at a time: a new target while an axis still runs would start from a
+        // position that is not where the axis will be.
+        if self.axes.busy() {
+            return Err(Error::AxisMoving.into());
         }
         // No axis moves from a position the console does not know.
         for (id, want) in AxisId::ALL.into_iter().zip(goal) {
@@ -117,6 +132,42 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         }
         Ok(None)
     }
+    /// Ends a reply with `unknown=` and the fitted axes whose position the console
+    /// does not know (nothing when it knows them all): their angles are only the
+    /// counters read in the calibration now in force.
+    pub(super) fn write_unknown<W: Write>(&self, rw: &mut Rw<'_, W>) {
+        let mut names = [0u8; 32];
+        let mut n = 0;
+        for id in AxisId::ALL {
+            let fitted = axis_of(&self.settings.rig, id).is_some();
+            if fitted && !self.position_known(id) {
+                let sep: &[u8] = if n == 0 { b"" } else { b"," };
+                for &b in sep.iter().chain(id.name().as_bytes()) {
+                    if let Some(slot) = names.get_mut(n) {
+                        *slot = b;
+                        n += 1;
+                    }
+                }
+            }
+        }
+        if let Some(list) = names.get(..n).and_then(|b| core::str::from_utf8(b).ok()) {
+            if !list.is_empty() {
+                rw.field_str("unknown", list);
+            }
+        }
+    }
+
+    /// Adds `trip=` (and `trip_axis=` for an axis fault) when the console stopped
+    /// motion on its own since the last `enable`.
+    pub(super) fn write_trip<W: Write>(&self, rw: &mut Rw<'_, W>) {
+        if let Some(t) = self.trip {
+            rw.field_str("trip", t.name());
+            if let Trip::Axis(f) = t {
+                rw.field_str("trip_axis", f.axis.name());
+            }
+        }
+    }
+
     pub(super) fn cmd_stop<W: Write>(&mut self, rw: &mut Rw<'_, W>) -> Result<Option<Stream>> {
         self.axes.stop();
         // `stop` latches: no motion until a new `enable`.
@@ -137,27 +188,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             .field_i32("elevation_steps", p[1])
             .field_i32("tilt_steps", p[2])
             .field_i32("azimuth_steps", p[3]);
-        // The fitted axes whose position is unknown: their angles above are only the
-        // counters read in the calibration now in force.
-        let mut names = [0u8; 32];
-        let mut n = 0;
-        for id in AxisId::ALL {
-            let fitted = axis_of(&self.settings.rig, id).is_some();
-            if fitted && !self.position_known(id) {
-                let sep: &[u8] = if n == 0 { b"" } else { b"," };
-                for &b in sep.iter().chain(id.name().as_bytes()) {
-                    if let Some(slot) = names.get_mut(n) {
-                        *slot = b;
-                        n += 1;
-                    }
-                }
-            }
-        }
-        if let Some(list) = names.get(..n).and_then(|b| core::str::from_utf8(b).ok()) {
-            if !list.is_empty() {
-                rw.field_str("unknown", list);
-            }
-        }
+        self.write_unknown(rw);
         Ok(None)
     }
 
@@ -198,6 +229,11 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         }
         self.enabled = true;
         rw.ok().field_i32("enabled", 1);
+        // The operator has seen to what stopped the motion: the trip is cleared (and
+        // named once more here).
+        if let Some(t) = self.trip.take() {
+            rw.field_str("cleared", t.name());
+        }
         Ok(None)
     }
 
