@@ -51,9 +51,38 @@ pub enum Command {
     Safety,
     /// Talk to a controller console: requests from stdin, replies to stdout.
     Talk {
-        /// The link: `sim` (in-process simulator of the controller).
+        /// The link: `sim` (in-process simulator), `pty` (the simulator behind a
+        /// pseudo-terminal), `serial:PATH[@BAUD]`, `qemu[:IMAGE]`.
         #[arg(long, value_name = "LINK", default_value = "sim")]
         link: String,
+    },
+    /// Run a file of requests (one per line, `#` comments) on a controller, every reply
+    /// echoed with its request; stops at the first err unless --keep-going.
+    Run {
+        /// The script.
+        script: std::path::PathBuf,
+        /// The link (as for talk).
+        #[arg(long, value_name = "LINK", default_value = "sim")]
+        link: String,
+        /// Go on after a request answered err (the exit status is still 2).
+        #[arg(long)]
+        keep_going: bool,
+        /// With --link pty: send no faster than a UART at this baud rate (8N1).
+        #[arg(long, value_name = "BAUD")]
+        baud: Option<u32>,
+    },
+    /// Serve the simulated controller on a pseudo-terminal for any serial client: prints
+    /// the device path on its first line, then serves until interrupted or --for.
+    Serve {
+        /// Serve on a pseudo-terminal (the one kind of port served now).
+        #[arg(long, required = true)]
+        pty: bool,
+        /// Stop after this many seconds.
+        #[arg(long = "for", value_name = "SECONDS")]
+        for_s: Option<f64>,
+        /// Reply no faster than a UART at this baud rate (8N1).
+        #[arg(long, value_name = "BAUD")]
+        baud: Option<u32>,
     },
 }
 
@@ -327,6 +356,40 @@ fn usage_line(e: &clap::Error, args: &[std::ffi::OsString]) -> String {
 /// never held as one string). A write error (e.g. a closed pipe) ends the output
 /// quietly.
 pub fn run(cli: &Cli, out: &mut dyn std::io::Write) -> CliResult<()> {
+    // Commands that write as they talk to a controller.
+    let f = cli.format;
+    match &cli.command {
+        Command::Run {
+            script,
+            link,
+            keep_going,
+            baud,
+        } => {
+            if f == crate::output::Format::Csv {
+                return Err(CliError::new(
+                    "run --format csv: replies are lines, not a table; use table or json",
+                ));
+            }
+            let spec = crate::link::LinkSpec::parse(link, *baud)?;
+            crate::remote::run_script(
+                script,
+                &spec,
+                *keep_going,
+                f == crate::output::Format::Json,
+                out,
+            )?;
+            return Ok(());
+        }
+        Command::Serve {
+            pty: _,
+            for_s,
+            baud,
+        } => {
+            crate::remote::serve_pty(*for_s, *baud, out)?;
+            return Ok(());
+        }
+        _ => {}
+    }
     let text = match run_report(cli)? {
         Output::Text(t) => out.write_all(t.as_bytes()),
         Output::Report(r) => r.write_to(cli.format, out),
@@ -380,6 +443,8 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
             crate::talk::run(link, f)?;
             return Ok(Output::Text(String::new()));
         }
+        // Handled in `run`, which writes as it goes.
+        Command::Run { .. } | Command::Serve { .. } => return Ok(Output::Text(String::new())),
         Command::Calc(c) => match c {
             Calc::Wavelength {
                 gun,

@@ -193,10 +193,9 @@ pub fn run(link: &str, format: crate::output::Format) -> CliResult<()> {
             "talk --format csv: replies are lines, not a table; use --format table (raw lines) or json (one object per line)",
         ));
     }
-    if link != "sim" {
-        return Err(CliError::new(format!(
-            "--link {link}: only the in-process simulator 'sim' is available in this build"
-        )));
+    let spec = crate::link::LinkSpec::parse(link, None)?;
+    if spec != crate::link::LinkSpec::Sim {
+        return crate::remote::talk(&spec, format == Format::Json);
     }
     let mut console = sim_console()?;
     let json = format == Format::Json;

@@ -85,12 +85,26 @@ fn piped_requests_get_the_consoles_replies_in_order() {
 }
 
 #[test]
+fn talk_over_a_pty_answers_as_the_simulator() {
+    let input = b"hello\nset crystal=cu face=111 energy=120\nbeams\nquit\nstatus\n";
+    let (code_sim, sim, _) = talk(&["--link", "sim"], input);
+    let (code_pty, pty, err) = talk(&["--link", "pty"], input);
+    assert_eq!((code_sim, code_pty), (0, 0), "{err}");
+    assert_eq!(sim, pty);
+    let sim = String::from_utf8(sim).expect("ASCII replies");
+    assert!(
+        sim.lines().last().unwrap_or("").starts_with("ok count="),
+        "{sim}"
+    );
+}
+
+#[test]
 fn unknown_link_is_one_line() {
     let (code, out, err) = talk(&["--link", "serial"], b"hello\n");
     assert_eq!(code, 2);
     assert!(out.is_empty());
     assert_eq!(
         err,
-        "mwctl: error: --link serial: only the in-process simulator 'sim' is available in this build\n"
+        "mwctl: error: --link serial: unknown link; accepted: sim, pty, serial:PATH[@BAUD] (e.g. serial:/dev/ttyUSB0@115200), qemu[:IMAGE]\n"
     );
 }

@@ -59,4 +59,19 @@ for backend in libm fast-math; do
     status=1
   fi
 done
+# The console image over mwctl's qemu link (checksums on, every reply line checked):
+# the same replies as the in-process simulator, byte for byte.
+echo "--- the console image over mwctl --link qemu against --link sim"
+# Built from the workspace root: this folder's .cargo/config.toml targets the board.
+(cd ../.. && cargo build --quiet -p matterwave-console --bin mwctl)
+mwctl=(../../target/debug/mwctl)
+if "${mwctl[@]}" run --link "qemu:$PWD/target/thumbv7em-none-eabihf/firmware/console" link-script.txt >target/link-qemu.txt 2>&1 &&
+  "${mwctl[@]}" run --link sim link-script.txt >target/link-sim.txt 2>&1 &&
+  cmp -s target/link-qemu.txt target/link-sim.txt; then
+  echo "ok: $(grep -c '^> ' target/link-sim.txt) requests, $(grep -c '^< ' target/link-sim.txt) reply lines alike over qemu and sim"
+else
+  echo "FAIL: replies over --link qemu differ from --link sim (or a run failed):"
+  diff target/link-qemu.txt target/link-sim.txt | head -20 || true
+  status=1
+fi
 exit $status

@@ -1,0 +1,352 @@
+//! A request/reply session over any [`Wire`]: every request goes with a line checksum,
+//! every reply line is checked; a reply that does not arrive in time or arrives damaged
+//! is asked for again — only for requests that may safely run twice — after the link is
+//! resynchronised; a device that restarted under the session is noticed.
+//!
+//! What "safely run twice" means (common practice, no source: a retry must never repeat
+//! motion or add data twice): every request except `move` (motion) and `pt x=…` (adds a
+//! point). Those get one try; when their reply is lost the session says so and stops,
+//! since the device may have run them.
+
+use super::wire::Wire;
+use matterwave_core::console::crc;
+use std::time::{Duration, Instant};
+
+/// A complete reply: streamed `- …` items (checksums removed) and the final line.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Reply {
+    /// The streamed items, in order.
+    pub items: Vec<String>,
+    /// The final `ok …` or `err …` line.
+    pub last: String,
+}
+
+impl Reply {
+    /// Whether the final line is `ok`.
+    pub fn ok(&self) -> bool {
+        self.last == "ok" || self.last.starts_with("ok ")
+    }
+}
+
+/// What a session reports while a request runs.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Event<'a> {
+    /// A streamed item arrived (checksum checked and removed).
+    Item(&'a str),
+    /// The reply was lost or damaged and the request is sent again, for this reason;
+    /// its items come again from the first.
+    Retry(&'a str),
+}
+
+/// Why a request got no usable reply.
+#[derive(Debug)]
+pub enum LinkError {
+    /// No complete reply within the timeout, after every allowed try.
+    Silent { request: String, tries: u32 },
+    /// A damaged reply to a request that must not be sent twice.
+    Unsure { request: String, why: String },
+    /// The device answered with fewer requests counted than it had answered before: it
+    /// restarted (power, watchdog, reset button) and holds factory settings again.
+    DeviceReset { before: u64, now: u64 },
+    /// The port failed.
+    Io(std::io::Error),
+}
+
+impl std::fmt::Display for LinkError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            LinkError::Silent { request, tries } => write!(
+                f,
+                "no reply to `{request}` after {tries} tries; check the cable, the baud rate and that the controller is powered"
+            ),
+            LinkError::Unsure { request, why } => write!(
+                f,
+                "`{request}`: {why}; it may have run — check with pos/status before going on (not retried: it must not run twice)"
+            ),
+            LinkError::DeviceReset { before, now } => write!(
+                f,
+                "the controller restarted during the session (its request count fell from {before} to {now}): it holds factory settings, and its axes must be homed again"
+            ),
+            LinkError::Io(e) => write!(f, "link failed: {e}"),
+        }
+    }
+}
+
+/// What a session saw, for reports.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct LinkStats {
+    /// Requests sent (first tries).
+    pub requests: u64,
+    /// Extra tries after a lost or damaged reply.
+    pub retries: u64,
+    /// Reply lines dropped as damaged (checksum wrong or malformed) or not expected.
+    pub dropped_lines: u64,
+    /// Bytes sent and received.
+    pub bytes_out: u64,
+    /// Bytes received.
+    pub bytes_in: u64,
+}
+
+/// A session with one controller.
+pub struct Session<W: Wire> {
+    wire: W,
+    /// How long to wait for the next reply line.
+    pub timeout: Duration,
+    /// Tries for a request that may run twice.
+    pub tries: u32,
+    rx: Vec<u8>,
+    /// The device's request count when last seen (`status`), to notice a restart.
+    seen_requests: Option<u64>,
+    stats: LinkStats,
+}
+
+/// How many streamed items a final line says came before it: `count=` of the lists
+/// (`help`, `crystals`, `faces`, `beams`, `aim`) and `points=` of the plans. `None` for
+/// replies that do not say (`dump`, `budget`, single-line replies): for those a lost
+/// item line cannot be told from the final line.
+pub fn announced_items(request: &str, last: &str) -> Option<u64> {
+    let key = match request.split_whitespace().next()? {
+        "help" | "crystals" | "faces" | "beams" | "aim" => "count=",
+        "plan" => "points=",
+        _ => return None,
+    };
+    if !last.starts_with("ok") {
+        return None;
+    }
+    last.split(' ')
+        .find_map(|w| w.strip_prefix(key))
+        .and_then(|v| v.parse().ok())
+}
+
+/// Whether `request` may be sent again when its reply is lost.
+pub fn may_repeat(request: &str) -> bool {
+    let mut w = request.split_whitespace();
+    match w.next() {
+        Some("move") => false,
+        Some("pt") => w.next() == Some("clear"),
+        _ => true,
+    }
+}
+
+impl<W: Wire> Session<W> {
+    /// A session on `wire` with a 2 s reply timeout and 3 tries.
+    pub fn new(wire: W) -> Self {
+        Session {
+            wire,
+            timeout: Duration::from_secs(2),
+            tries: 3,
+            rx: Vec::new(),
+            seen_requests: None,
+            stats: LinkStats::default(),
+        }
+    }
+
+    /// The link underneath.
+    pub fn wire(&mut self) -> &mut W {
+        &mut self.wire
+    }
+
+    /// What the session saw so far.
+    pub fn stats(&self) -> LinkStats {
+        self.stats
+    }
+
+    /// Sends `request` (one line, without checksum or line end) and returns its
+    /// complete reply. `on_event` sees each streamed item as it arrives, and each retry
+    /// (after which the items come again from the first).
+    pub fn request_with(
+        &mut self,
+        request: &str,
+        mut on_event: impl FnMut(Event<'_>),
+    ) -> Result<Reply, LinkError> {
+        let repeat = may_repeat(request);
+        let tries = if repeat { self.tries.max(1) } else { 1 };
+        self.stats.requests += 1;
+        let mut last_why = String::new();
+        for attempt in 0..tries {
+            if attempt > 0 {
+                self.stats.retries += 1;
+                on_event(Event::Retry(&last_why));
+                self.resync()?;
+            }
+            let mut line = request.as_bytes().to_vec();
+            line.extend_from_slice(&crc::suffix_for(request.as_bytes()));
+            line.push(b'\n');
+            self.stats.bytes_out += line.len() as u64;
+            self.wire.send(&line).map_err(LinkError::Io)?;
+            let mut items = Vec::new();
+            match self.collect(request, &mut items, &mut |i: &str| on_event(Event::Item(i))) {
+                Ok(Some(last)) => {
+                    // The device saw a damaged request (err 402): nothing ran, so even a
+                    // request that must not run twice may go again — but we stay
+                    // conservative for motion and points.
+                    if last.starts_with("err 402") && repeat && attempt + 1 < tries {
+                        last_why = "the controller received the request damaged".into();
+                        continue;
+                    }
+                    self.note_status(request, &last)?;
+                    return Ok(Reply { items, last });
+                }
+                Ok(None) => last_why = "no complete reply in time".into(),
+                Err(why) => last_why = why,
+            }
+            if !repeat {
+                return Err(LinkError::Unsure {
+                    request: request.to_string(),
+                    why: last_why,
+                });
+            }
+        }
+        if last_why.starts_with("no complete") {
+            Err(LinkError::Silent {
+                request: request.to_string(),
+                tries,
+            })
+        } else {
+            Err(LinkError::Unsure {
+                request: request.to_string(),
+                why: last_why,
+            })
+        }
+    }
+
+    /// [`Session::request_with`] without a per-item callback.
+    pub fn request(&mut self, request: &str) -> Result<Reply, LinkError> {
+        self.request_with(request, |_| {})
+    }
+
+    /// Asks `status` and checks the device has not restarted since it was last asked.
+    pub fn check_alive(&mut self) -> Result<(), LinkError> {
+        self.request("status").map(|_| ())
+    }
+
+    /// A reply to `status` (or `hello` at the start) tells the device's request count.
+    fn note_status(&mut self, request: &str, last: &str) -> Result<(), LinkError> {
+        if request.trim() != "status" {
+            return Ok(());
+        }
+        let now = last
+            .split(' ')
+            .find_map(|w| w.strip_prefix("requests="))
+            .and_then(|v| v.parse::<u64>().ok());
+        if let (Some(before), Some(now)) = (self.seen_requests, now) {
+            // Each status counts itself: a count that did not grow is a new device.
+            if now <= before {
+                self.seen_requests = Some(now);
+                return Err(LinkError::DeviceReset { before, now });
+            }
+        }
+        if now.is_some() {
+            self.seen_requests = now;
+        }
+        Ok(())
+    }
+
+    /// Reads reply lines until a final line: `Ok(Some(final))`, `Ok(None)` on timeout,
+    /// `Err` when a line arrived damaged (the reply cannot be trusted whole).
+    fn collect(
+        &mut self,
+        request: &str,
+        items: &mut Vec<String>,
+        on_item: &mut impl FnMut(&str),
+    ) -> Result<Option<String>, String> {
+        let mut damaged: Option<String> = None;
+        loop {
+            let Some(raw) = self.next_line().map_err(|e| e.to_string())? else {
+                return match damaged {
+                    Some(w) => Err(w),
+                    None => Ok(None),
+                };
+            };
+            let text = String::from_utf8_lossy(&raw)
+                .trim_end_matches('\r')
+                .to_string();
+            if text.is_empty() {
+                continue;
+            }
+            let body = match crc::verify(&text) {
+                Ok((body, true)) => body.to_string(),
+                Ok((_, false)) | Err(_) => {
+                    self.stats.dropped_lines += 1;
+                    damaged
+                        .get_or_insert_with(|| format!("a reply line arrived damaged: {text:?}"));
+                    continue;
+                }
+            };
+            if body.starts_with("- ") || body == "-" {
+                if damaged.is_none() {
+                    on_item(&body);
+                    items.push(body);
+                }
+            } else if body == "ok" || body.starts_with("ok ") || body.starts_with("err ") {
+                if damaged.is_none() {
+                    if let Some(n) = announced_items(request, &body) {
+                        if n != items.len() as u64 {
+                            self.stats.dropped_lines += 1;
+                            damaged = Some(format!(
+                                "a streamed line was lost: {n} announced, {} received",
+                                items.len()
+                            ));
+                        }
+                    }
+                }
+                return match damaged {
+                    Some(w) => Err(w),
+                    None => Ok(Some(body)),
+                };
+            } else {
+                self.stats.dropped_lines += 1;
+            }
+        }
+    }
+
+    /// The next line from the wire (without its LF), or `None` after `timeout` of
+    /// silence. Lines are bounded: bytes past twice the reply limit are dropped.
+    fn next_line(&mut self) -> std::io::Result<Option<Vec<u8>>> {
+        let limit = 2 * matterwave_core::console::controller::MAX_REPLY;
+        let mut deadline = Instant::now() + self.timeout;
+        loop {
+            if let Some(i) = self.rx.iter().position(|&b| b == b'\n') {
+                let mut line: Vec<u8> = self.rx.drain(..=i).collect();
+                line.pop();
+                line.truncate(limit);
+                return Ok(Some(line));
+            }
+            let now = Instant::now();
+            if now >= deadline {
+                return Ok(None);
+            }
+            let mut buf = [0u8; 1024];
+            let n = self.wire.recv(&mut buf, deadline - now)?;
+            if n > 0 {
+                self.stats.bytes_in += n as u64;
+                self.rx.extend_from_slice(&buf[..n]);
+                if self.rx.len() > 4 * limit && !self.rx.contains(&b'\n') {
+                    // Garbage without line ends: keep only the tail.
+                    let cut = self.rx.len() - limit;
+                    self.rx.drain(..cut);
+                }
+                deadline = Instant::now() + self.timeout;
+            }
+        }
+    }
+
+    /// Brings the link back to a line boundary: ends any partial request on the
+    /// device with a line end (an empty line is ignored there), then drops whatever
+    /// arrives until the line has been quiet for a moment (bounded).
+    fn resync(&mut self) -> Result<(), LinkError> {
+        self.wire.send(b"\n").map_err(LinkError::Io)?;
+        self.rx.clear();
+        let quiet = Duration::from_millis(50).min(self.timeout);
+        let give_up = Instant::now() + self.timeout * 4;
+        let mut buf = [0u8; 1024];
+        while Instant::now() < give_up {
+            let n = self.wire.recv(&mut buf, quiet).map_err(LinkError::Io)?;
+            if n == 0 {
+                break;
+            }
+            self.stats.bytes_in += n as u64;
+        }
+        Ok(())
+    }
+}

@@ -1,0 +1,213 @@
+//! Commands that reach a controller over a link ([`crate::link`]): `mwctl run SCRIPT`,
+//! `mwctl talk` on links other than the in-process simulator, and `mwctl serve --pty`.
+
+use crate::error::{CliError, CliResult};
+use crate::link::session::{Event, LinkError, Reply, Session};
+use crate::link::wire::Wire;
+use crate::link::{self, LinkSpec};
+use serialport::SerialPort as _;
+use std::io::{BufRead, Write};
+
+/// How a script or session went.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct Tally {
+    /// Requests sent.
+    pub requests: u64,
+    /// Requests answered `err`.
+    pub failed: u64,
+}
+
+/// The request on a script line: `None` for blank lines and `#` comments.
+fn request_of(line: &str) -> Option<&str> {
+    let t = line.trim();
+    (!t.is_empty() && !t.starts_with('#')).then_some(t)
+}
+
+/// Prints one exchange: `> request`, then every reply line as `< line` (raw), or one
+/// JSON object per reply line with the request beside it.
+fn print_reply(
+    out: &mut dyn Write,
+    request: &str,
+    reply: &Reply,
+    json: bool,
+) -> std::io::Result<()> {
+    if json {
+        for l in reply.items.iter().chain(std::iter::once(&reply.last)) {
+            let mut v = crate::talk::reply_json(l);
+            if let Some(o) = v.as_object_mut() {
+                o.insert("request".into(), serde_json::Value::from(request));
+            }
+            writeln!(out, "{v}")?;
+        }
+    } else {
+        writeln!(out, "> {request}")?;
+        for l in reply.items.iter().chain(std::iter::once(&reply.last)) {
+            writeln!(out, "< {l}")?;
+        }
+    }
+    out.flush()
+}
+
+/// Sends each request of `lines` in order over `session`, echoing every reply with its
+/// request; stops at the first `err` unless `keep_going`.
+pub fn run_lines<W: Wire>(
+    session: &mut Session<W>,
+    lines: impl Iterator<Item = String>,
+    keep_going: bool,
+    json: bool,
+    out: &mut dyn Write,
+) -> CliResult<Tally> {
+    let mut t = Tally::default();
+    for (n, line) in lines.enumerate() {
+        let Some(req) = request_of(&line) else {
+            continue;
+        };
+        if req.len() > matterwave_core::console::line::MAX_LINE {
+            return Err(CliError::new(format!(
+                "line {}: request longer than the controller's {} bytes",
+                n + 1,
+                matterwave_core::console::line::MAX_LINE
+            )));
+        }
+        t.requests += 1;
+        let reply = session
+            .request(req)
+            .map_err(|e| CliError::new(format!("line {}: {e}", n + 1)))?;
+        print_reply(out, req, &reply, json).map_err(|e| CliError::new(format!("output: {e}")))?;
+        if !reply.ok() {
+            t.failed += 1;
+            if !keep_going {
+                break;
+            }
+        }
+    }
+    Ok(t)
+}
+
+/// `mwctl run SCRIPT`: the script's requests over `spec`; exit status 2 when any
+/// request was answered `err` (the first one ends the run unless `keep_going`).
+pub fn run_script(
+    path: &std::path::Path,
+    spec: &LinkSpec,
+    keep_going: bool,
+    json: bool,
+    out: &mut dyn Write,
+) -> CliResult<()> {
+    let file = std::fs::File::open(path).map_err(|e| {
+        CliError::new(format!(
+            "run {}: {e}; give a text file with one request per line",
+            path.display()
+        ))
+    })?;
+    let mut lines = Vec::new();
+    for (i, l) in std::io::BufReader::new(file).lines().enumerate() {
+        let l = l.map_err(|e| {
+            CliError::new(format!(
+                "run {}: line {}: {e} (requests are ASCII text)",
+                path.display(),
+                i + 1
+            ))
+        })?;
+        lines.push(l);
+    }
+    let mut s = link::connect(spec)?;
+    let t = run_lines(&mut s, lines.into_iter(), keep_going, json, out)?;
+    finish(&mut s, t, "run")
+}
+
+/// After a session: the device must not have restarted under it, and any `err` makes
+/// the exit status 2.
+fn finish<W: Wire>(s: &mut Session<W>, t: Tally, what: &str) -> CliResult<()> {
+    s.check_alive()
+        .map_err(|e: LinkError| CliError::new(format!("{what}: {e}")))?;
+    if t.failed > 0 {
+        return Err(CliError::new(format!(
+            "{what}: {} of {} requests answered err",
+            t.failed, t.requests
+        )));
+    }
+    Ok(())
+}
+
+/// `mwctl talk` over a link other than `sim`: one request per input line, its reply
+/// printed as it completes (streamed items as they come); `quit`/`exit` end it.
+pub fn talk(spec: &LinkSpec, json: bool) -> CliResult<()> {
+    let mut s = link::connect(spec)?;
+    let stdin = std::io::stdin();
+    let mut out = std::io::stdout().lock();
+    let mut t = Tally::default();
+    for line in stdin.lock().lines() {
+        let line = line.map_err(|e| CliError::new(format!("reading requests: {e}")))?;
+        let req = line.trim();
+        if matches!(req, "quit" | "exit") {
+            break;
+        }
+        if req.is_empty() {
+            continue;
+        }
+        t.requests += 1;
+        let reply = s.request_with(req, |ev| {
+            if json {
+                return;
+            }
+            let _ = match ev {
+                Event::Item(item) => writeln!(out, "{item}"),
+                // Not a reply line: the lines above it are asked for again.
+                Event::Retry(why) => writeln!(out, "# mwctl: {why}; asking again"),
+            };
+        });
+        let reply = reply.map_err(|e| CliError::new(format!("talk: {e}")))?;
+        if json {
+            for l in reply.items.iter().chain(std::iter::once(&reply.last)) {
+                let mut v = crate::talk::reply_json(l);
+                if let Some(o) = v.as_object_mut() {
+                    o.insert("request".into(), serde_json::Value::from(req));
+                }
+                let _ = writeln!(out, "{v}");
+            }
+        } else {
+            let _ = writeln!(out, "{}", reply.last);
+        }
+        let _ = out.flush();
+        t.failed += u64::from(!reply.ok());
+    }
+    finish(&mut s, t, "talk")
+}
+
+/// `mwctl serve --pty`: the simulated controller behind a pseudo-terminal. Prints the
+/// device path on the first line, then serves until `for_s` seconds have passed (or
+/// until interrupted).
+pub fn serve_pty(for_s: Option<f64>, baud: Option<u32>, out: &mut dyn Write) -> CliResult<()> {
+    let (mut master, slave) = serialport::TTYPort::pair()
+        .map_err(|e| CliError::new(format!("serve --pty: no pseudo-terminal: {e}")))?;
+    let path = slave
+        .name()
+        .ok_or_else(|| CliError::new("serve --pty: the pseudo-terminal has no name"))?;
+    writeln!(out, "{path}").map_err(|e| CliError::new(format!("output: {e}")))?;
+    out.flush()
+        .map_err(|e| CliError::new(format!("output: {e}")))?;
+    let until = match for_s {
+        Some(s) if s.is_finite() && s > 0.0 => {
+            Some(std::time::Instant::now() + std::time::Duration::from_secs_f64(s))
+        }
+        Some(s) => {
+            return Err(CliError::new(format!(
+                "--for {s}: give a positive number of seconds"
+            )))
+        }
+        None => None,
+    };
+    let mut console = link::device::sim_console()?;
+    // The terminal side stays open here, so that clients may come and go.
+    let _keep = slave;
+    loop {
+        match link::device::serve(&mut console, &mut master, until, baud) {
+            Ok(()) => return Ok(()),
+            // No client has the terminal open (EIO on Linux): wait for one.
+            Err(e) if e.raw_os_error() == Some(5) => {
+                std::thread::sleep(std::time::Duration::from_millis(20));
+            }
+            Err(e) => return Err(CliError::new(format!("serve --pty {path}: {e}"))),
+        }
+    }
+}
