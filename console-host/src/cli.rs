@@ -71,6 +71,22 @@ pub enum Command {
         #[arg(long, value_name = "BAUD")]
         baud: Option<u32>,
     },
+    /// Check a controller's math: a sweep of beams and aims over the link, every reply
+    /// compared with the host's own core (identical lines) and with the f64 oracle.
+    Verify {
+        /// The link (as for talk).
+        #[arg(long, value_name = "LINK", default_value = "sim")]
+        link: String,
+        /// A short sweep (one face per crystal, four energies).
+        #[arg(long)]
+        quick: bool,
+        /// Write the report as JSON to this file.
+        #[arg(long, value_name = "FILE")]
+        report: Option<std::path::PathBuf>,
+        /// With --link pty: send no faster than a UART at this baud rate (8N1).
+        #[arg(long, value_name = "BAUD")]
+        baud: Option<u32>,
+    },
     /// Serve the simulated controller on a pseudo-terminal for any serial client: prints
     /// the device path on its first line, then serves until interrupted or --for.
     Serve {
@@ -380,6 +396,32 @@ pub fn run(cli: &Cli, out: &mut dyn std::io::Write) -> CliResult<()> {
             )?;
             return Ok(());
         }
+        Command::Verify {
+            link,
+            quick,
+            report,
+            baud,
+        } => {
+            let spec = crate::link::LinkSpec::parse(link, *baud)?;
+            let extent = if *quick {
+                crate::verify::Extent::Quick
+            } else {
+                crate::verify::Extent::Full
+            };
+            let o = crate::verify::run(&spec, extent, out)?;
+            if let Some(path) = report {
+                let text = serde_json::to_string_pretty(&o.report)
+                    .map_err(|e| CliError::new(format!("--report: {e}")))?;
+                std::fs::write(path, text + "\n")
+                    .map_err(|e| CliError::new(format!("--report {}: {e}", path.display())))?;
+            }
+            if !o.pass {
+                return Err(CliError::new(
+                    "verify: the controller's replies differ from the host's core or lie beyond the oracle tolerances (see above)",
+                ));
+            }
+            return Ok(());
+        }
         Command::Serve {
             pty: _,
             for_s,
@@ -444,7 +486,9 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
             return Ok(Output::Text(String::new()));
         }
         // Handled in `run`, which writes as it goes.
-        Command::Run { .. } | Command::Serve { .. } => return Ok(Output::Text(String::new())),
+        Command::Run { .. } | Command::Serve { .. } | Command::Verify { .. } => {
+            return Ok(Output::Text(String::new()))
+        }
         Command::Calc(c) => match c {
             Calc::Wavelength {
                 gun,

@@ -19,3 +19,4 @@ mod table_sources;
 pub mod tables;
 pub mod talk;
 mod toml_value;
+pub mod verify;

@@ -63,6 +63,10 @@ pub fn serve<P: serialport::SerialPort + ?Sized>(
         }
         if !reply.is_empty() {
             let start = Instant::now();
+            // A reader slower than the console: wait for room (a full pseudo-terminal
+            // buffer), as a UART's transmitter would.
+            port.set_timeout(Duration::from_secs(10))
+                .map_err(io::Error::other)?;
             port.write_all(&reply)?;
             port.flush()?;
             if let Some(r) = rate {
