@@ -87,6 +87,23 @@ pub enum Command {
         #[arg(long, value_name = "BAUD")]
         baud: Option<u32>,
     },
+    /// Save a controller's whole configuration (settings, axes, zones) to a file.
+    Backup {
+        /// The file to write.
+        file: std::path::PathBuf,
+        /// The link (as for talk).
+        #[arg(long, value_name = "LINK", default_value = "sim")]
+        link: String,
+    },
+    /// Put a configuration saved by backup onto a controller: all or nothing, read back
+    /// and compared.
+    Restore {
+        /// The backup file.
+        file: std::path::PathBuf,
+        /// The link (as for talk).
+        #[arg(long, value_name = "LINK", default_value = "sim")]
+        link: String,
+    },
     /// Serve the simulated controller on a pseudo-terminal for any serial client: prints
     /// the device path on its first line, then serves until interrupted or --for.
     Serve {
@@ -396,6 +413,14 @@ pub fn run(cli: &Cli, out: &mut dyn std::io::Write) -> CliResult<()> {
             )?;
             return Ok(());
         }
+        Command::Backup { file, link } => {
+            crate::backup::backup(file, &crate::link::LinkSpec::parse(link, None)?, out)?;
+            return Ok(());
+        }
+        Command::Restore { file, link } => {
+            crate::backup::restore(file, &crate::link::LinkSpec::parse(link, None)?, out)?;
+            return Ok(());
+        }
         Command::Verify {
             link,
             quick,
@@ -486,9 +511,11 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
             return Ok(Output::Text(String::new()));
         }
         // Handled in `run`, which writes as it goes.
-        Command::Run { .. } | Command::Serve { .. } | Command::Verify { .. } => {
-            return Ok(Output::Text(String::new()))
-        }
+        Command::Run { .. }
+        | Command::Serve { .. }
+        | Command::Verify { .. }
+        | Command::Backup { .. }
+        | Command::Restore { .. } => return Ok(Output::Text(String::new())),
         Command::Calc(c) => match c {
             Calc::Wavelength {
                 gun,
