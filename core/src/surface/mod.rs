@@ -141,6 +141,20 @@ impl Incidence {
         })
     }
 
+    /// The same energy and tilt at azimuth `azimuth_deg` (finite, any value): equal to
+    /// `Incidence::new(self.energy_ev, self.tilt_deg, azimuth_deg)`, without computing
+    /// the wavenumber and the tilt's sine again.
+    pub fn at_azimuth(&self, azimuth_deg: f32) -> Result<Incidence> {
+        let a = finite(azimuth_deg, Quantity::Azimuth)?;
+        let (sin_az, cos_az) = math::sin_cos_deg(a);
+        Ok(Incidence {
+            azimuth_deg: a,
+            cos_az,
+            sin_az,
+            ..*self
+        })
+    }
+
     /// Normal incidence at azimuth 0.
     pub fn normal(energy_ev: f32) -> Result<Incidence> {
         Incidence::new(energy_ev, 0.0, 0.0)
@@ -522,6 +536,13 @@ impl Face {
         self.beam_from(rod, g, inc).ok_or(Error::Evanescent)
     }
 
+    /// k∥ (surface frame of `inc`, 1/Å) of the beam on rod (h, k) and its square, or
+    /// `None` when the beam is evanescent: the part of [`Face::beam`] that aiming needs
+    /// (no exit angles, no emergence energy), with the same arithmetic.
+    pub(crate) fn k_par_of(&self, rod: [i32; 2], inc: &Incidence) -> Option<([f32; 2], f32)> {
+        k_par_from(self.rod_turned(rod, inc), inc)
+    }
+
     pub(crate) fn beam_from(
         &self,
         rod: [i32; 2],
@@ -529,20 +550,14 @@ impl Face {
         inc: &Incidence,
     ) -> Option<SurfaceBeam> {
         let u = inc.k_inv_a;
-        let kin = inc.sin_tilt * u;
-        let kx = kin + g[0];
-        let ky = g[1];
-        let q = kx * kx + ky * ky;
-        if q > u * u {
-            return None;
-        }
+        let ([kx, ky], q) = k_par_from(g, inc)?;
         let g2 = g[0] * g[0] + g[1] * g[1];
         let k_par = math::sqrt(q);
         Some(SurfaceBeam {
             rod,
             g_inv_a: math::sqrt(g2),
             k_par_inv_a: [kx, ky],
-            exit_deg: math::deg(math::asin_clamped(k_par / u)),
+            exit_deg: exit_deg_of(k_par, u),
             exit_azimuth_deg: if q > 0.0 {
                 math::deg(math::atan2(ky, kx))
             } else {
@@ -568,6 +583,24 @@ impl Face {
         }
         r
     }
+}
+
+/// k∥ = k∥,in + g of turned rod vector `g` at `inc` and |k∥|², or `None` beyond 1/λ.
+fn k_par_from(g: [f32; 2], inc: &Incidence) -> Option<([f32; 2], f32)> {
+    let u = inc.k_inv_a;
+    let kin = inc.sin_tilt * u;
+    let kx = kin + g[0];
+    let ky = g[1];
+    let q = kx * kx + ky * ky;
+    if q > u * u {
+        return None;
+    }
+    Some(([kx, ky], q))
+}
+
+/// The polar exit angle, degrees, of a beam with |k∥| = `k_par` (1/Å) at 1/λ = `u`.
+pub(crate) fn exit_deg_of(k_par: f32, u: f32) -> f32 {
+    math::deg(math::asin_clamped(k_par / u))
 }
 
 /// Emergence energy for turned rod vector `g` (|g|² = `g2`) at sin(tilt) `s`.

@@ -50,7 +50,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         let s = &self.settings;
         let req = s.aim_request(rod, e, branch);
         let mut out = [Solution::EMPTY; MAX_SOLUTIONS];
-        let l = match goniometer::aim(&s.rig, &req, &pos, &mut out) {
+        let l = match goniometer::aim_checked(&s.rig, &req, &pos, &mut out) {
             Ok(l) => l,
             Err(e)
                 if e == Error::Evanescent
@@ -58,7 +58,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                     || e == Error::NoReachableSolution =>
             {
                 // Say everything that stands in the way, then the error.
-                let r = goniometer::refusals(&s.rig, &req, &pos)?;
+                let r = goniometer::refusals_checked(&s.rig, &req, &pos)?;
                 self.refusals = r;
                 self.errors = self.errors.saturating_add(1);
                 return Ok(Some(Stream::Refused(0)));
@@ -93,7 +93,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         let plan = match kind {
             "track" | "iv" => {
                 let t = TrackPlan::new(
-                    s.rig,
+                    *s.rig,
                     s.face,
                     s.beam,
                     s.gun,
@@ -114,7 +114,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 let e = s.gun.kinetic_energy_ev()?;
                 let ang = s.rig.angles(&pos);
                 let inc = Incidence::new(e, s.tilt_deg, s.azimuth_deg.unwrap_or(ang[3]))?;
-                Plan::Sweep(SweepPlan::new(s.rig, s.face, inc, ang[1], from, to, step)?)
+                Plan::Sweep(SweepPlan::new(*s.rig, s.face, inc, ang[1], from, to, step)?)
             }
             _ => {
                 return Err(Fault::from(Error::BadValue)

@@ -10,7 +10,8 @@
 //!   `goniometer::in_plane_arm_deg` for Ni(111) (1,0) at tilt 10°, 50 + 0.1·i eV, then
 //!   `AxisConfig::check_angle` and `steps_for_deg` on an arm with ±170° limits and a
 //!   ±10° zone;
-//! * `aim`: `goniometer::aim` as the console calls it (bench rig, in-plane, nearest
+//! * `aim`: `goniometer::aim_checked` as the console calls it (the bench rig checked
+//!   once, as the console holds it; in-plane, nearest
 //!   branch, same beam and energies);
 //! * `beam_list`: `Face::beams` for Ni(111), a = 3.524 Å, at 200 eV, normal incidence
 //!   (the sorted list, specular beam included);
@@ -121,13 +122,15 @@ fn main() -> ! {
     });
     report(&mut uart, "inplane_steps", v);
 
-    let rig = black_box(Rig::bench_default());
+    let Ok(rig) = black_box(Rig::bench_default()).checked() else {
+        fail("the bench rig is invalid")
+    };
     let pos = [0i32; 4];
     let mut out = [Solution::EMPTY; 8];
     let v = per_call(500, |i| {
         let e = black_box(50.0 + i as f32 * 0.1);
         let req = AimRequest::new(&face, [1, 0], e, 10.0).with_mode(Mode::InPlane);
-        black_box(goniometer::aim(&rig, &req, &pos, &mut out).ok());
+        black_box(goniometer::aim_checked(&rig, &req, &pos, &mut out).ok());
     });
     report(&mut uart, "aim", v);
 
