@@ -325,15 +325,42 @@ impl<'w, W: Write, const N: usize> ReplyWriter<'w, W, N> {
             ok &= self.push(b' ', cap);
         }
         for &(s, mode) in parts {
-            for ch in s.chars() {
-                ok &= self.push_char(ch, mode, cap);
-            }
+            ok = ok && self.push_str(s, mode, cap);
         }
         if !ok {
             self.len = start;
             self.overflow = true;
         }
         self
+    }
+
+    /// Appends `s` made safe in `mode`; false when it does not fit (the line is then
+    /// cut back by the caller). Printable ASCII other than `*` — every number, key and
+    /// command word — is copied byte by byte without decoding characters; the rest
+    /// goes through [`ReplyWriter::push_char`].
+    fn push_str(&mut self, s: &str, mode: Mode, cap: usize) -> bool {
+        let bytes = s.as_bytes();
+        let room = cap.saturating_sub(self.len);
+        let mut n = 0;
+        if let Some(dst) = self.buf.get_mut(self.len..) {
+            for (&b, slot) in bytes.iter().zip(dst.iter_mut()) {
+                if !b.is_ascii_graphic() || b == b'*' {
+                    break;
+                }
+                if n >= room {
+                    return false;
+                }
+                *slot = b;
+                n += 1;
+            }
+        }
+        self.len += n;
+        if n == bytes.len() {
+            return true;
+        }
+        // The copied bytes are ASCII, so `n` is a character boundary.
+        s.get(n..)
+            .is_some_and(|rest| rest.chars().all(|ch| self.push_char(ch, mode, cap)))
     }
 
     fn push(&mut self, b: u8, cap: usize) -> bool {
