@@ -509,7 +509,7 @@ pub fn beams_in_view(
         return Err(Error::EmptyBuffer);
     }
     let d = detector_direction(arm, elev);
-    let acc = acc.clamp(0.0, 90.0);
+    let acc = math::clamp(acc, 0.0, 90.0);
     let cos_acc = math::cos(math::rad(acc));
     let (centre, radius) = view_disk(inc, d, acc);
     let mut stored = 0usize;
@@ -577,7 +577,7 @@ pub fn nearest_in_view(
 ) -> Result<Option<InView>> {
     let arm = finite(arm_deg, Quantity::Angle)?;
     let elev = finite(elevation_deg, Quantity::Angle)?;
-    let acc = finite(acceptance_deg, Quantity::Angle)?.clamp(0.0, 90.0);
+    let acc = math::clamp(finite(acceptance_deg, Quantity::Angle)?, 0.0, 90.0);
     let d = detector_direction(arm, elev);
     let cos_acc = math::cos(math::rad(acc));
     let (centre, radius0) = view_disk(inc, d, acc);

@@ -22,6 +22,8 @@
 //! assert_eq!(num::format_i32(i32::MIN, &mut buf), "-2147483648");
 //! ```
 
+mod decimal;
+
 /// Size of a formatting buffer.
 pub const NUM_BUF_LEN: usize = 24;
 
@@ -100,8 +102,10 @@ fn is_decimal_syntax(b: &[u8]) -> bool {
 /// Parse a decimal `f32`: optional sign, digits with an optional point, optional
 /// exponent (`-12.5`, `3e2`, `.5`, `5.`, `+1E-3`).
 ///
-/// The result is the nearest `f32` to the decimal value (correct rounding, via
-/// `core`'s parser after a strict syntax check). Rejected: empty text, a lone sign,
+/// The result is the nearest `f32` to the decimal value (correct rounding, ties to
+/// even, as Rust's `str::parse`), after a strict syntax check, by the module's own
+/// exact routine (`decimal.rs`: an `f32` estimate corrected by exact integer
+/// comparisons), a small fraction of the flash `core`'s parser takes. Rejected: empty text, a lone sign,
 /// spaces anywhere, hex, `_` separators, NaN and infinities ([`NumError::NotFinite`]),
 /// and values that round beyond the largest finite `f32` ([`NumError::OutOfRange`] —
 /// never infinity). Values below the smallest subnormal round to zero. Negative zero
@@ -122,7 +126,7 @@ pub fn parse_f32(s: &str) -> Result<f32, NumError> {
     if bytes.is_empty() {
         return Err(NumError::Empty);
     }
-    let (_, body) = split_sign(bytes);
+    let (negative, body) = split_sign(bytes);
     for word in [&b"nan"[..], b"inf", b"infinity"] {
         if body.eq_ignore_ascii_case(word) {
             return Err(NumError::NotFinite);
@@ -131,14 +135,11 @@ pub fn parse_f32(s: &str) -> Result<f32, NumError> {
     if !is_decimal_syntax(body) {
         return Err(NumError::Syntax);
     }
-    let value: f32 = s.parse().map_err(|_| NumError::Syntax)?;
-    if !value.is_finite() {
-        return Err(NumError::OutOfRange);
-    }
+    let value = decimal::to_f32(body).ok_or(NumError::OutOfRange)?;
     if value == 0.0 {
         return Ok(0.0);
     }
-    Ok(value)
+    Ok(if negative { -value } else { value })
 }
 
 /// Parse a decimal `i32`: optional sign and at least one digit (leading zeros allowed).
