@@ -7,7 +7,7 @@ use super::args::{
     keyed, parse_branch, parse_num, parse_rod, req_num, req_word, write_point_error,
 };
 use super::fault::{check_used, Accepted, Fault, Result};
-use super::{Console, Rw, Stream, MAX_SOLUTIONS};
+use super::{Console, Rw, Stream, ANGLE_DECIMALS, ENERGY_DECIMALS, MAX_SOLUTIONS};
 use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::console::wire::token::Args;
 use crate::error::Error;
@@ -162,12 +162,12 @@ impl PlanRun {
                     Plan::Track(t) => (t.point(self.i, &self.pos), None),
                     Plan::Sweep(_) => return false,
                 };
-                rw.field_f32_rt("nominal", point.nominal_ev);
+                rw.field_f32("nominal", point.nominal_ev, ENERGY_DECIMALS);
                 match point.result {
                     Ok(s) => {
-                        rw.field_f32_rt("arm", s.arm.angle_deg)
-                            .field_f32_rt("elevation", s.elevation_deg())
-                            .field_f32_rt("azimuth", s.azimuth.angle_deg)
+                        rw.field_f32("arm", s.arm.angle_deg, ANGLE_DECIMALS)
+                            .field_f32("elevation", s.elevation_deg(), ANGLE_DECIMALS)
+                            .field_f32("azimuth", s.azimuth.angle_deg, ANGLE_DECIMALS)
                             .field_i32("arm_steps", s.arm.steps);
                         self.time_s += scan::estimate_s(
                             rig,
@@ -185,13 +185,13 @@ impl PlanRun {
                 if let Some(p) = peak {
                     // In the line's own frame (the gun setting), and at the sample.
                     let correction = point.energy_ev - point.nominal_ev;
-                    rw.field_f32_rt("peak", p.energy_ev - correction)
-                        .field_f32_rt("peak_sample", p.energy_ev);
+                    rw.field_f32("peak", p.energy_ev - correction, ENERGY_DECIMALS)
+                        .field_f32("peak_sample", p.energy_ev, ENERGY_DECIMALS);
                 }
             }
             Plan::Sweep(p) => {
                 let point = p.point(self.i, self.pos[0]);
-                rw.field_f32_rt("arm", point.arm_deg);
+                rw.field_f32("arm", point.arm_deg, ANGLE_DECIMALS);
                 match point.setpoint {
                     Ok(sp) => {
                         rw.field_i32("arm_steps", sp.steps);
@@ -204,7 +204,7 @@ impl PlanRun {
                 if let Some(v) = point.in_view {
                     rw.field_i32("h", v.beam.rod[0])
                         .field_i32("k", v.beam.rod[1])
-                        .field_f32_rt("offset", v.offset_deg);
+                        .field_f32("offset", v.offset_deg, ANGLE_DECIMALS);
                 }
             }
         }

@@ -293,23 +293,46 @@ impl<'w, W: Write, const N: usize> ReplyWriter<'w, W, N> {
 
     /// Append `key=<x with decimals places>` (see [`num::format_f32`]).
     pub fn field_f32(&mut self, key: &str, x: f32, decimals: u8) -> &mut Self {
-        let mut nb: NumBuf = [0; num::NUM_BUF_LEN];
-        let v = num::format_f32(x, decimals, &mut nb);
-        self.field_str(key, v)
+        self.field_with(key, |dst| num::write_f32(x, decimals, dst))
     }
 
     /// Append `key=<x, round-trip exact>` (see [`num::format_f32_roundtrip`]).
     pub fn field_f32_rt(&mut self, key: &str, x: f32) -> &mut Self {
-        let mut nb: NumBuf = [0; num::NUM_BUF_LEN];
-        let v = num::format_f32_roundtrip(x, &mut nb);
-        self.field_str(key, v)
+        self.field_with(key, |dst| num::write_f32_roundtrip(x, dst))
     }
 
     /// Append `key=<x>`.
     pub fn field_i32(&mut self, key: &str, x: i32) -> &mut Self {
-        let mut nb: NumBuf = [0; num::NUM_BUF_LEN];
-        let v = num::format_i32(x, &mut nb);
-        self.field_str(key, v)
+        self.field_with(key, |dst| num::write_i32(x, dst))
+    }
+
+    /// Append `key=` and a number that `value` writes (printable ASCII, no `*`)
+    /// straight into the line, as one piece: whole or not at all.
+    fn field_with(
+        &mut self,
+        key: &str,
+        value: impl FnOnce(&mut [u8]) -> Option<usize>,
+    ) -> &mut Self {
+        if self.overflow {
+            return self;
+        }
+        let start = self.len;
+        let cap = self.capacity();
+        let mut ok = (self.len == 0 || self.push(b' ', cap))
+            && self.push_str(key, Mode::Token, cap)
+            && self.push(b'=', cap);
+        if ok {
+            let end = cap.max(self.len);
+            match self.buf.get_mut(self.len..end).and_then(value) {
+                Some(n) => self.len += n,
+                None => ok = false,
+            }
+        }
+        if !ok {
+            self.len = start;
+            self.overflow = true;
+        }
+        self
     }
 
     /// Append the parts as one piece (preceded by a space unless the line is empty),
