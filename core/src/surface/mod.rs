@@ -267,6 +267,58 @@ fn icross(a: [i32; 3], b: [i32; 3]) -> [i32; 3] {
     ]
 }
 
+/// x·a + y·b = gcd(a, b) ≥ 0: `(gcd, x, y)` (extended Euclid).
+fn ext_gcd(a: i32, b: i32) -> (i32, i32, i32) {
+    let (mut r0, mut r1, mut x0, mut x1, mut y0, mut y1) = (a, b, 1i32, 0i32, 0i32, 1i32);
+    while r1 != 0 {
+        let q = r0 / r1;
+        (r0, r1) = (r1, r0 - q * r1);
+        (x0, x1) = (x1, x0 - q * x1);
+        (y0, y1) = (y1, y0 - q * y1);
+    }
+    if r0 < 0 {
+        (-r0, -x0, -y0)
+    } else {
+        (r0, x0, y0)
+    }
+}
+
+/// The longer vector, Å, of a Lagrange-reduced basis of the conventional-cell lattice
+/// vectors in the plane m·x = 0 (m reduced, not zero). With g = gcd(m₀, m₁) and
+/// x·m₀ + y·m₁ = g, the vectors (m₁/g, −m₀/g, 0) and (x·m₂, y·m₂, −g) lie in the plane
+/// and their cross product is m itself, so they are a basis of it (for m₀ = m₁ = 0,
+/// the plane z = 0: x̂ and ŷ). Reduction replaces the longer vector by itself minus the
+/// nearest whole multiple of the shorter until that multiple is 0, keeping a basis of
+/// the same lattice; at most 32 steps (indices ≤ 12 need a handful).
+fn plane_basis_len(cell: &Cell, m: [i32; 3]) -> f32 {
+    let (g, x, y) = ext_gcd(m[0], m[1]);
+    let (mut a, mut b) = if g == 0 {
+        ([1, 0, 0], [0, 1, 0])
+    } else {
+        ([m[1] / g, -m[0] / g, 0], [x * m[2], y * m[2], -g])
+    };
+    let cart = |w: [i32; 3]| cell.point([w[0] as f32, w[1] as f32, w[2] as f32]);
+    let (mut ca, mut cb) = (cart(a), cart(b));
+    for _ in 0..32 {
+        if math::dot(ca, ca) > math::dot(cb, cb) {
+            core::mem::swap(&mut a, &mut b);
+            core::mem::swap(&mut ca, &mut cb);
+        }
+        let aa = math::dot(ca, ca);
+        if aa <= 0.0 {
+            break;
+        }
+        let mu = math::round(math::dot(ca, cb) / aa);
+        if !(mu.abs() >= 1.0 && mu.abs() <= 1.0e4) {
+            break;
+        }
+        let k = mu as i32;
+        b = [b[0] - k * a[0], b[1] - k * a[1], b[2] - k * a[2]];
+        cb = cart(b);
+    }
+    math::norm(ca).max(math::norm(cb))
+}
+
 /// Best-so-far candidate of the lattice search: shortest, ties to larger coordinates.
 #[derive(Clone, Copy)]
 struct Best {
@@ -328,6 +380,12 @@ impl Face {
                 }
             }
         }
+        // A reduced basis of the plane's conventional lattice vectors: two independent
+        // lattice vectors in the plane like the pair above, so the longer is still at
+        // least the second shortest in-plane vector and the covering radius — but on a
+        // high-index face several times shorter, and the box below, with its work,
+        // shrinks with the cube.
+        bound = bound.min(plane_basis_len(cell, m));
         if !(bound > 0.0 && bound.is_finite()) {
             return Err(Error::NoSurfaceMesh);
         }
@@ -343,11 +401,16 @@ impl Face {
         for u in -n[0]..=n[0] {
             for v in -n[1]..=n[1] {
                 for w in -n[2]..=n[2] {
-                    let half = [u, v, w];
-                    if half == [0, 0, 0] || !s.is_lattice_point_half(half) {
+                    // The height first: most points are neither in the plane nor
+                    // below the lowest positive height found, and need no lattice test.
+                    let p = m[0] * u + m[1] * v + m[2] * w;
+                    if p < 0 || p >= p_min || (u == 0 && v == 0 && w == 0) {
                         continue;
                     }
-                    let p = m[0] * u + m[1] * v + m[2] * w;
+                    let half = [u, v, w];
+                    if !s.is_lattice_point_half(half) {
+                        continue;
+                    }
                     if p == 0 {
                         let c = half_to_cart(cell, half);
                         t1.offer(half, math::dot(c, c));
@@ -367,13 +430,17 @@ impl Face {
         for u in -n[0]..=n[0] {
             for v in -n[1]..=n[1] {
                 for w in -n[2]..=n[2] {
+                    let p = m[0] * u + m[1] * v + m[2] * w;
+                    if p != 0 && p != p_min {
+                        continue;
+                    }
                     let half = [u, v, w];
                     if !s.is_lattice_point_half(half) {
                         continue;
                     }
-                    let p = m[0] * u + m[1] * v + m[2] * w;
                     if p == 0 {
-                        if icross(t1.half, half) != [0, 0, 0] {
+                        let c = icross(t1.half, half);
+                        if c[0] != 0 || c[1] != 0 || c[2] != 0 {
                             let c = half_to_cart(cell, half);
                             t2.offer(half, math::dot(c, c));
                         }
