@@ -690,7 +690,14 @@ fn emergence_from(g: [f32; 2], g2: f32, s: f32) -> Option<f32> {
 }
 
 fn beam_before(a: &SurfaceBeam, b: &SurfaceBeam) -> bool {
-    let tol = 1e-5 * a.g_inv_a.max(b.g_inv_a);
+    // The larger |g| by comparison, not f32::max (a libm call on the target); |g| is a
+    // square root, never NaN.
+    let larger = if a.g_inv_a > b.g_inv_a {
+        a.g_inv_a
+    } else {
+        b.g_inv_a
+    };
+    let tol = 1e-5 * larger;
     if a.g_inv_a < b.g_inv_a - tol {
         true
     } else if a.g_inv_a > b.g_inv_a + tol {
