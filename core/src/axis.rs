@@ -451,6 +451,17 @@ impl AxisConfig {
     /// backlash turn-round point, must be clear of zones ([`AxisConfig::check_path`]).
     pub fn setpoint(&self, target_deg: f32, current_steps: i32) -> Result<Setpoint> {
         self.validate()?;
+        self.setpoint_of_valid(target_deg, current_steps)
+    }
+
+    /// [`AxisConfig::setpoint`] of an axis that has passed [`AxisConfig::validate`]
+    /// (the caller holds the proof: a [`crate::goniometer::CheckedRig`]), without
+    /// validating it again.
+    pub(crate) fn setpoint_of_valid(
+        &self,
+        target_deg: f32,
+        current_steps: i32,
+    ) -> Result<Setpoint> {
         if !target_deg.is_finite() {
             return Err(Error::NotFinite(Quantity::Angle));
         }
@@ -530,6 +541,16 @@ impl AxisConfig {
     /// residual is `target`'s.
     pub fn setpoint_to_steps(&self, target: &Setpoint, current_steps: i32) -> Result<Setpoint> {
         self.validate()?;
+        self.setpoint_to_steps_of_valid(target, current_steps)
+    }
+
+    /// [`AxisConfig::setpoint_to_steps`] of an axis that has passed
+    /// [`AxisConfig::validate`], without validating it again.
+    pub(crate) fn setpoint_to_steps_of_valid(
+        &self,
+        target: &Setpoint,
+        current_steps: i32,
+    ) -> Result<Setpoint> {
         if current_steps.unsigned_abs() > STEPS_MAX as u32
             || target.steps.unsigned_abs() > STEPS_MAX as u32
         {

@@ -326,7 +326,7 @@ pub fn arm_budget(
     let mut de = (0.005 * energy_ev).max(0.05);
     let d_energy = loop {
         // At the ends of the energy range the difference is taken just inside it.
-        let centre = energy_ev.clamp(ENERGY_MIN_EV + de, ENERGY_MAX_EV - de);
+        let centre = math::clamp(energy_ev, ENERGY_MIN_EV + de, ENERGY_MAX_EV - de);
         match sensitivity(|x| arm_at(req.face, x), centre, de) {
             Ok(s) => break s,
             Err(_) if de > 1e-3 => de *= 0.1,

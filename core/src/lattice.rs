@@ -464,10 +464,14 @@ pub fn check_indices(hkl: Miller) -> Result<()> {
 /// Parses a small signed decimal integer (at most 4 digits); no floats, no `+` prefix
 /// needed but accepted.
 pub(crate) fn parse_int(s: &str) -> Option<i32> {
-    let (neg, digits) = match s.as_bytes().first()? {
-        b'-' => (true, &s[1..]),
-        b'+' => (false, &s[1..]),
-        _ => (false, s),
+    // `strip_prefix`, not `&s[1..]`: no str slicing, whose panic path drags core::fmt's
+    // char and str formatting into a controller image.
+    let (neg, digits) = if let Some(d) = s.strip_prefix('-') {
+        (true, d)
+    } else if let Some(d) = s.strip_prefix('+') {
+        (false, d)
+    } else {
+        (false, s)
     };
     if digits.is_empty() || digits.len() > 4 {
         return None;

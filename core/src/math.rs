@@ -222,10 +222,26 @@ pub fn deg(rad: f32) -> f32 {
     rad * (180.0 / PI)
 }
 
+/// `x` limited to [`lo`, `hi`] (for `lo` ≤ `hi`, the same value as `f32::clamp`; NaN
+/// stays NaN). Unlike `f32::clamp` it never panics — bounds in the wrong order give `lo`
+/// or `hi`, not a panic — so no panic message with `core::fmt`'s float formatting
+/// (about 10 KB of flash) is linked into a controller image.
+#[inline]
+pub fn clamp(x: f32, lo: f32, hi: f32) -> f32 {
+    let mut y = x;
+    if y < lo {
+        y = lo;
+    }
+    if y > hi {
+        y = hi;
+    }
+    y
+}
+
 /// `asin` with the argument clamped to [-1, 1], so rounding just past 1 gives 90°, not NaN.
 #[inline]
 pub fn asin_clamped(x: f32) -> f32 {
-    asin(x.clamp(-1.0, 1.0))
+    asin(clamp(x, -1.0, 1.0))
 }
 
 /// Sine and cosine of an angle in degrees.

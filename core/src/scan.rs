@@ -299,7 +299,7 @@ impl SweepPlan {
         // Elevation ν of a beam: sin ν = k∥,y/k (e2 is the lab's vertical), so the band
         // of elevations within the acceptance is a strip of k∥,y.
         let acc = self.rig.acceptance_deg;
-        let band = |x: f32| inc.k_inv_a * math::sin(math::rad(x.clamp(-90.0, 90.0)));
+        let band = |x: f32| inc.k_inv_a * math::sin(math::rad(math::clamp(x, -90.0, 90.0)));
         let (ky_lo, ky_hi) = (
             band(self.elevation_deg - acc),
             band(self.elevation_deg + acc),

@@ -78,6 +78,7 @@ echo "| sorted beam list, Ni(111) a = 3.524 Å, 200 eV | ≤ 1.3× C | $(r libm 
 echo "| console \`beams\` request ($(r libm console_beams_lines) reply lines) | ≤ 40,000 | $(r libm console_beams) | $(r fast-math console_beams) | — | — |"
 echo "| console \`aim\` request round trip ($(r libm console_aim_lines) lines) | ≤ 10,000 | $(r libm console_aim) | $(r fast-math console_aim) | — | — |"
 echo "| one number written by the console: shortest round trip / 4 fixed decimals | | $(r libm format_roundtrip) / $(r libm format_fixed4) | $(r fast-math format_roundtrip) / $(r fast-math format_fixed4) | | |"
+echo "| longest single \`Console::push\` / \`poll\` over the heavy requests (what a \`stop\` waits for; $(r libm worst_call_calls) calls) | | $(r libm worst_call) (\`$(r libm worst_call_request)\`) | $(r fast-math worst_call) (\`$(r fast-math worst_call_request)\`) | | |"
 echo "| flash of the console image (vectors + text + rodata) | ≤ 64 KiB | $(kib "$(r libm flash)") | $(kib "$(r fast-math flash)") | $(kib "$(c O2 text)") (math only) | $(kib "$(c Os text)") |"
 echo "| stack of one \`beams\` / \`aim\` request | | $(r libm console_beams_stack) / $(r libm console_aim_stack) B | $(r fast-math console_beams_stack) / $(r fast-math console_aim_stack) B | | |"
 echo "| RAM: static + deepest stack over the PROTOCOL.md sessions (console on the stack, $(r libm console_size) B) | ≤ 16 KiB | $(ram "$(r libm static_ram)" "$(r libm sweep_stack)") | $(ram "$(r fast-math static_ram)" "$(r fast-math sweep_stack)") | | |"

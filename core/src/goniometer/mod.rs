@@ -34,7 +34,10 @@ mod resolve;
 
 use crate::math::{self, Vec3};
 use crate::surface::{Face, Incidence, SurfaceBeam};
-pub use resolve::{aim, refusals, AimRequest, Branch, Refusal, Refusals, MAX_REFUSALS};
+pub use resolve::{
+    aim, aim_checked, refusals, refusals_checked, AimRequest, Branch, Refusal, Refusals,
+    MAX_REFUSALS,
+};
 
 /// Index of each axis in a step-count array `[i32; 4]`.
 pub const fn axis_index(id: AxisId) -> usize {
@@ -170,6 +173,12 @@ impl Rig {
         self.check_residual(sp)
     }
 
+    /// The rig checked once ([`Rig::validate`]), as a [`CheckedRig`] whose setpoints do
+    /// not validate the axes again.
+    pub fn checked(&self) -> Result<CheckedRig> {
+        CheckedRig::new(*self)
+    }
+
     fn check_residual(&self, sp: Setpoint) -> Result<Setpoint> {
         let miss = sp.residual_deg.abs();
         if miss.is_nan() || miss > self.acceptance_deg {
@@ -220,6 +229,86 @@ impl Rig {
             self.tilt.steps_to_deg(p[2]),
             self.azimuth.steps_to_deg(p[3]),
         ]
+    }
+}
+
+/// A rig that has passed [`Rig::validate`]. Its fields can be read (it dereferences to
+/// the [`Rig`]) but not changed: a changed rig is checked again by [`CheckedRig::new`].
+/// So its setpoints skip the validation [`Rig::setpoint`] repeats on every call — the
+/// console holds its rig this way, checked when an `axis`, `zone` or `set acceptance=`
+/// request changes it, and aiming checks a plain rig once per call, not per setpoint.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct CheckedRig {
+    rig: Rig,
+}
+
+impl CheckedRig {
+    /// `rig`, once [`Rig::validate`] accepts it (its error otherwise).
+    pub fn new(rig: Rig) -> Result<CheckedRig> {
+        rig.validate()?;
+        Ok(CheckedRig { rig })
+    }
+
+    /// The rig.
+    pub const fn rig(&self) -> &Rig {
+        &self.rig
+    }
+
+    /// [`Rig::setpoint`] without validating the axis again.
+    pub fn setpoint(&self, id: AxisId, target_deg: f32, current_steps: i32) -> Result<Setpoint> {
+        Valid(&self.rig).setpoint(id, target_deg, current_steps)
+    }
+
+    /// [`Rig::setpoint_to_steps`] without validating the axis again.
+    pub fn setpoint_to_steps(
+        &self,
+        id: AxisId,
+        target: &Setpoint,
+        current_steps: i32,
+    ) -> Result<Setpoint> {
+        let sp = self
+            .rig
+            .axis(id)?
+            .setpoint_to_steps_of_valid(target, current_steps)?;
+        self.rig.check_residual(sp)
+    }
+}
+
+/// A borrowed rig that has passed [`Rig::validate`] (what [`CheckedRig`] holds, or a
+/// plain rig checked at the start of one [`aim`] call): setpoints without validation.
+#[derive(Clone, Copy)]
+struct Valid<'a>(&'a Rig);
+
+impl<'a> Valid<'a> {
+    /// `rig`, once [`Rig::validate`] accepts it.
+    fn check(rig: &'a Rig) -> Result<Valid<'a>> {
+        rig.validate()?;
+        Ok(Valid(rig))
+    }
+
+    fn setpoint(self, id: AxisId, target_deg: f32, current_steps: i32) -> Result<Setpoint> {
+        let sp = self
+            .0
+            .axis(id)?
+            .setpoint_of_valid(target_deg, current_steps)?;
+        self.0.check_residual(sp)
+    }
+}
+
+impl core::ops::Deref for Valid<'_> {
+    type Target = Rig;
+
+    fn deref(&self) -> &Rig {
+        self.0
+    }
+}
+
+impl core::ops::Deref for CheckedRig {
+    type Target = Rig;
+
+    fn deref(&self) -> &Rig {
+        &self.rig
     }
 }
 
@@ -315,10 +404,15 @@ pub fn arm_elevation_deg(d: Vec3) -> (f32, f32) {
 
 /// Lab direction (unit) of a surface beam leaving a sample at tilt α.
 pub fn beam_direction_lab(b: &SurfaceBeam, inc: &Incidence) -> Vec3 {
-    let [e1, e2, n] = surface_frame_lab(inc.tilt_deg);
-    let u = inc.k_inv_a;
-    let kx = b.k_par_inv_a[0] / u;
-    let ky = b.k_par_inv_a[1] / u;
+    direction_lab(&surface_frame_lab(inc.tilt_deg), b.k_par_inv_a, inc.k_inv_a)
+}
+
+/// Lab direction (unit) of a beam with k∥ `k_par` (surface frame, 1/Å) at 1/λ = `u`
+/// from a surface with lab frame `frame` ([`surface_frame_lab`]).
+fn direction_lab(frame: &[Vec3; 3], k_par: [f32; 2], u: f32) -> Vec3 {
+    let [e1, e2, n] = *frame;
+    let kx = k_par[0] / u;
+    let ky = k_par[1] / u;
     let kz = math::sqrt((1.0 - kx * kx - ky * ky).max(0.0));
     math::add(
         math::add(math::scale(e1, kx), math::scale(e2, ky)),
@@ -415,7 +509,7 @@ pub fn beams_in_view(
         return Err(Error::EmptyBuffer);
     }
     let d = detector_direction(arm, elev);
-    let acc = acc.clamp(0.0, 90.0);
+    let acc = math::clamp(acc, 0.0, 90.0);
     let cos_acc = math::cos(math::rad(acc));
     let (centre, radius) = view_disk(inc, d, acc);
     let mut stored = 0usize;
@@ -483,7 +577,7 @@ pub fn nearest_in_view(
 ) -> Result<Option<InView>> {
     let arm = finite(arm_deg, Quantity::Angle)?;
     let elev = finite(elevation_deg, Quantity::Angle)?;
-    let acc = finite(acceptance_deg, Quantity::Angle)?.clamp(0.0, 90.0);
+    let acc = math::clamp(finite(acceptance_deg, Quantity::Angle)?, 0.0, 90.0);
     let d = detector_direction(arm, elev);
     let cos_acc = math::cos(math::rad(acc));
     let (centre, radius0) = view_disk(inc, d, acc);

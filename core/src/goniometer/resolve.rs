@@ -11,13 +11,16 @@
 
 use heapless::Vec as HVec;
 
-use super::{arm_elevation_deg, beam_direction_lab, wrap_180, Mode, Position, Rig, Solution};
+use super::{
+    arm_elevation_deg, direction_lab, surface_frame_lab, wrap_180, CheckedRig, Mode, Position, Rig,
+    Solution, Valid,
+};
 use crate::axis::AxisConfig;
 use crate::beam;
 use crate::error::{AxisId, Error, Result};
 use crate::listing::{insert_sorted, Listing};
 use crate::math;
-use crate::surface::{Face, Incidence};
+use crate::surface::{exit_deg_of, Face, Incidence};
 
 /// Which in-plane branch aiming may use: the rod g along +e1 (`Plus`), along −e1
 /// (`Minus`), or whichever solution is nearest the current position (`Nearest`). The
@@ -189,18 +192,18 @@ fn check_request(req: &AimRequest<'_>) -> Result<f32> {
     Ok(e)
 }
 
-/// The wanted poses at tilt `tilt` (the angle the tilt axis reaches, or the requested
-/// one), branch +1 first. `current_az` is the azimuth the specular beam keeps.
-fn wanted(req: &AimRequest<'_>, e: f32, tilt: f32, current_az: f32) -> Result<HVec<Wanted, 2>> {
+/// The wanted poses at the tilt of `base` (the angle the tilt axis reaches, or the
+/// requested one; `base` at azimuth 0), branch +1 first. `current_az` is the azimuth the
+/// specular beam keeps.
+fn wanted(req: &AimRequest<'_>, base: &Incidence, current_az: f32) -> Result<HVec<Wanted, 2>> {
     let mut out = HVec::new();
     match req.mode {
         Mode::InPlane => {
-            let inc = Incidence::new(e, tilt, 0.0)?;
-            let lambda = 1.0 / inc.k_inv_a;
+            let lambda = 1.0 / base.k_inv_a;
             let g = req.face.rod_inv_a(req.rod);
             let g_len = math::sqrt(g[0] * g[0] + g[1] * g[1]);
             let psi = math::deg(math::atan2(g[1], g[0]));
-            let s_alpha = math::sin(math::rad(tilt));
+            let s_alpha = math::sin(math::rad(base.tilt_deg));
             let branches: &[i8] = if g_len == 0.0 { &[1] } else { &[1, -1] };
             for &br in branches {
                 if g_len != 0.0 && !req.branch.allows(br) {
@@ -227,12 +230,12 @@ fn wanted(req: &AimRequest<'_>, e: f32, tilt: f32, current_az: f32) -> Result<HV
             }
         }
         Mode::AtAzimuth(az) => {
-            let inc = Incidence::new(e, tilt, az)?;
-            if let Ok(b) = req.face.beam(req.rod, &inc) {
+            let inc = base.at_azimuth(az)?;
+            if let Some((_, q)) = req.face.k_par_of(req.rod, &inc) {
                 let _ = out.push(Wanted {
                     azimuth_deg: inc.azimuth_deg,
                     branch: 0,
-                    exit_deg: b.exit_deg,
+                    exit_deg: exit_deg_of(math::sqrt(q), inc.k_inv_a),
                 });
             }
         }
@@ -260,38 +263,67 @@ pub fn aim(
     current: &Position,
     out: &mut [Solution],
 ) -> Result<Listing> {
+    aim_valid(Valid::check(rig)?, req, current, out)
+}
+
+/// [`aim`] on a rig checked beforehand (no validation per call): what the console
+/// calls with the rig it holds.
+pub fn aim_checked(
+    rig: &CheckedRig,
+    req: &AimRequest<'_>,
+    current: &Position,
+    out: &mut [Solution],
+) -> Result<Listing> {
+    aim_valid(Valid(rig.rig()), req, current, out)
+}
+
+fn aim_valid(
+    rig: Valid<'_>,
+    req: &AimRequest<'_>,
+    current: &Position,
+    out: &mut [Solution],
+) -> Result<Listing> {
     if out.is_empty() {
         return Err(Error::EmptyBuffer);
     }
     let e = check_request(req)?;
     let Ok(tilt_sp) = rig.setpoint(AxisId::Tilt, req.tilt_deg, current[2]) else {
-        return Err(refusals(rig, req, current)?.first_error());
+        return Err(refusals_valid(rig, req, current)?.first_error());
     };
     let tilt = tilt_sp.angle_deg;
     let current_az = rig.azimuth.steps_to_deg(current[3]);
-    let poses = wanted(req, e, tilt, current_az)?;
+    // The energy and the reached tilt, once: each pose only turns the azimuth.
+    let base = Incidence::new(e, tilt, 0.0)?;
+    let frame = surface_frame_lab(tilt);
+    let poses = wanted(req, &base, current_az)?;
     let mut stored = 0usize;
     let mut truncated = false;
     let cur = rig.angles(current);
-    let copies = |ax: &AxisConfig| -> &'static [f32] {
-        if ax.wrap {
+    // The ±360° copies of a target on an axis that does not wrap, those within its
+    // limits only (a setpoint beyond them is refused anyway).
+    let copies = |ax: &AxisConfig, target: f32| {
+        let offsets: &'static [f32] = if ax.wrap {
             &[0.0]
         } else {
             &[0.0, 360.0, -360.0]
-        }
+        };
+        let (lo, hi, wrap) = (ax.min_deg, ax.max_deg, ax.wrap);
+        offsets
+            .iter()
+            .map(move |off| target + off)
+            .filter(move |t| wrap || (lo..=hi).contains(t))
     };
     for w in &poses {
-        for az_off in copies(&rig.azimuth) {
-            let Ok(az_sp) = rig.setpoint(AxisId::Azimuth, w.azimuth_deg + az_off, current[3])
-            else {
+        for az_target in copies(&rig.azimuth, w.azimuth_deg) {
+            let Ok(az_sp) = rig.setpoint(AxisId::Azimuth, az_target, current[3]) else {
                 continue;
             };
             // The beam as the sample really sits.
-            let inc = Incidence::new(e, tilt, az_sp.angle_deg)?;
-            let Ok(b) = req.face.beam(req.rod, &inc) else {
+            let inc = base.at_azimuth(az_sp.angle_deg)?;
+            let Some((k_par, q)) = req.face.k_par_of(req.rod, &inc) else {
                 continue;
             };
-            let (arm_deg, elev_deg) = arm_elevation_deg(beam_direction_lab(&b, &inc));
+            let (arm_deg, elev_deg) = arm_elevation_deg(direction_lab(&frame, k_par, inc.k_inv_a));
             let elev_sp = match &rig.elevation {
                 Some(_) => match rig.setpoint(AxisId::Elevation, elev_deg, current[1]) {
                     Ok(s) => Some(s),
@@ -300,8 +332,14 @@ pub fn aim(
                 None if elev_deg.abs() > rig.acceptance_deg => continue,
                 None => None,
             };
-            for arm_off in copies(&rig.arm) {
-                let Ok(arm_sp) = rig.setpoint(AxisId::Arm, arm_deg + arm_off, current[0]) else {
+            // Two-circle: the polar exit at the reached azimuth.
+            let exit_deg = if w.branch == 0 {
+                exit_deg_of(math::sqrt(q), inc.k_inv_a)
+            } else {
+                w.exit_deg
+            };
+            for arm_target in copies(&rig.arm, arm_deg) {
+                let Ok(arm_sp) = rig.setpoint(AxisId::Arm, arm_target, current[0]) else {
                     continue;
                 };
                 let travel = (arm_sp.angle_deg - cur[0]).abs()
@@ -314,12 +352,7 @@ pub fn aim(
                     elevation: elev_sp,
                     tilt: tilt_sp,
                     branch: w.branch,
-                    // Two-circle: the polar exit at the reached azimuth.
-                    exit_deg: if w.branch == 0 {
-                        b.exit_deg
-                    } else {
-                        w.exit_deg
-                    },
+                    exit_deg,
                     travel_deg: travel,
                 };
                 truncated |=
@@ -328,7 +361,7 @@ pub fn aim(
         }
     }
     if stored == 0 {
-        return Err(refusals(rig, req, current)?.first_error());
+        return Err(refusals_valid(rig, req, current)?.first_error());
     }
     Ok(Listing { stored, truncated })
 }
@@ -341,6 +374,19 @@ pub fn aim(
 ///
 /// Errors: the same bad inputs as [`aim`].
 pub fn refusals(rig: &Rig, req: &AimRequest<'_>, current: &Position) -> Result<Refusals> {
+    refusals_valid(Valid::check(rig)?, req, current)
+}
+
+/// [`refusals`] on a rig checked beforehand.
+pub fn refusals_checked(
+    rig: &CheckedRig,
+    req: &AimRequest<'_>,
+    current: &Position,
+) -> Result<Refusals> {
+    refusals_valid(Valid(rig.rig()), req, current)
+}
+
+fn refusals_valid(rig: Valid<'_>, req: &AimRequest<'_>, current: &Position) -> Result<Refusals> {
     let e = check_request(req)?;
     let mut r = Refusals {
         poses: 0,
@@ -348,34 +394,39 @@ pub fn refusals(rig: &Rig, req: &AimRequest<'_>, current: &Position) -> Result<R
         emerges_ev: None,
     };
     let current_az = rig.azimuth.steps_to_deg(current[3]);
-    let poses = wanted(req, e, req.tilt_deg, current_az)?;
+    let base = Incidence::new(e, req.tilt_deg, 0.0)?;
+    let frame = surface_frame_lab(req.tilt_deg);
+    let poses = wanted(req, &base, current_az)?;
     if poses.is_empty() {
         r.emerges_ev = emergence_ev(req);
         return Ok(r);
     }
+    // The tilt's refusal is the same for every pose.
+    let tilt_refusal = rig.setpoint(AxisId::Tilt, req.tilt_deg, current[2]).err();
     for w in &poses {
         let az = if rig.azimuth.wrap {
             w.azimuth_deg
         } else {
             wrap_180(w.azimuth_deg)
         };
-        let inc = Incidence::new(e, req.tilt_deg, az)?;
-        let Ok(b) = req.face.beam(req.rod, &inc) else {
+        let inc = base.at_azimuth(az)?;
+        let Some((k_par, _)) = req.face.k_par_of(req.rod, &inc) else {
             continue;
         };
         r.poses = r.poses.saturating_add(1);
-        let (arm, elev) = arm_elevation_deg(beam_direction_lab(&b, &inc));
+        let (arm, elev) = arm_elevation_deg(direction_lab(&frame, k_par, inc.k_inv_a));
         let arm = wrap_180(arm);
+        let refusal = |axis: &AxisConfig, target: f32, err: Error| Refusal {
+            branch: w.branch,
+            axis: axis.id,
+            target_deg: target,
+            error: err,
+            by_deg: by_deg(axis, target, err),
+        };
         let refuse = |axis: &AxisConfig, target: f32, from: i32| {
             rig.setpoint(axis.id, target, from)
                 .err()
-                .map(|err| Refusal {
-                    branch: w.branch,
-                    axis: axis.id,
-                    target_deg: target,
-                    error: err,
-                    by_deg: by_deg(axis, target, err),
-                })
+                .map(|err| refusal(axis, target, err))
         };
         let elevation = match &rig.elevation {
             Some(ax) => refuse(ax, elev, current[1]),
@@ -390,7 +441,7 @@ pub fn refusals(rig: &Rig, req: &AimRequest<'_>, current: &Position) -> Result<R
         };
         // The fixed order: tilt, azimuth, elevation, arm.
         for x in [
-            refuse(&rig.tilt, req.tilt_deg, current[2]),
+            tilt_refusal.map(|err| refusal(&rig.tilt, req.tilt_deg, err)),
             refuse(&rig.azimuth, az, current[3]),
             elevation,
             refuse(&rig.arm, arm, current[0]),

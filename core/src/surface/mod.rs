@@ -141,6 +141,20 @@ impl Incidence {
         })
     }
 
+    /// The same energy and tilt at azimuth `azimuth_deg` (finite, any value): equal to
+    /// `Incidence::new(self.energy_ev, self.tilt_deg, azimuth_deg)`, without computing
+    /// the wavenumber and the tilt's sine again.
+    pub fn at_azimuth(&self, azimuth_deg: f32) -> Result<Incidence> {
+        let a = finite(azimuth_deg, Quantity::Azimuth)?;
+        let (sin_az, cos_az) = math::sin_cos_deg(a);
+        Ok(Incidence {
+            azimuth_deg: a,
+            cos_az,
+            sin_az,
+            ..*self
+        })
+    }
+
     /// Normal incidence at azimuth 0.
     pub fn normal(energy_ev: f32) -> Result<Incidence> {
         Incidence::new(energy_ev, 0.0, 0.0)
@@ -253,6 +267,58 @@ fn icross(a: [i32; 3], b: [i32; 3]) -> [i32; 3] {
     ]
 }
 
+/// x·a + y·b = gcd(a, b) ≥ 0: `(gcd, x, y)` (extended Euclid).
+fn ext_gcd(a: i32, b: i32) -> (i32, i32, i32) {
+    let (mut r0, mut r1, mut x0, mut x1, mut y0, mut y1) = (a, b, 1i32, 0i32, 0i32, 1i32);
+    while r1 != 0 {
+        let q = r0 / r1;
+        (r0, r1) = (r1, r0 - q * r1);
+        (x0, x1) = (x1, x0 - q * x1);
+        (y0, y1) = (y1, y0 - q * y1);
+    }
+    if r0 < 0 {
+        (-r0, -x0, -y0)
+    } else {
+        (r0, x0, y0)
+    }
+}
+
+/// The longer vector, Å, of a Lagrange-reduced basis of the conventional-cell lattice
+/// vectors in the plane m·x = 0 (m reduced, not zero). With g = gcd(m₀, m₁) and
+/// x·m₀ + y·m₁ = g, the vectors (m₁/g, −m₀/g, 0) and (x·m₂, y·m₂, −g) lie in the plane
+/// and their cross product is m itself, so they are a basis of it (for m₀ = m₁ = 0,
+/// the plane z = 0: x̂ and ŷ). Reduction replaces the longer vector by itself minus the
+/// nearest whole multiple of the shorter until that multiple is 0, keeping a basis of
+/// the same lattice; at most 32 steps (indices ≤ 12 need a handful).
+fn plane_basis_len(cell: &Cell, m: [i32; 3]) -> f32 {
+    let (g, x, y) = ext_gcd(m[0], m[1]);
+    let (mut a, mut b) = if g == 0 {
+        ([1, 0, 0], [0, 1, 0])
+    } else {
+        ([m[1] / g, -m[0] / g, 0], [x * m[2], y * m[2], -g])
+    };
+    let cart = |w: [i32; 3]| cell.point([w[0] as f32, w[1] as f32, w[2] as f32]);
+    let (mut ca, mut cb) = (cart(a), cart(b));
+    for _ in 0..32 {
+        if math::dot(ca, ca) > math::dot(cb, cb) {
+            core::mem::swap(&mut a, &mut b);
+            core::mem::swap(&mut ca, &mut cb);
+        }
+        let aa = math::dot(ca, ca);
+        if aa <= 0.0 {
+            break;
+        }
+        let mu = math::round(math::dot(ca, cb) / aa);
+        if !(mu.abs() >= 1.0 && mu.abs() <= 1.0e4) {
+            break;
+        }
+        let k = mu as i32;
+        b = [b[0] - k * a[0], b[1] - k * a[1], b[2] - k * a[2]];
+        cb = cart(b);
+    }
+    math::norm(ca).max(math::norm(cb))
+}
+
 /// Best-so-far candidate of the lattice search: shortest, ties to larger coordinates.
 #[derive(Clone, Copy)]
 struct Best {
@@ -314,6 +380,12 @@ impl Face {
                 }
             }
         }
+        // A reduced basis of the plane's conventional lattice vectors: two independent
+        // lattice vectors in the plane like the pair above, so the longer is still at
+        // least the second shortest in-plane vector and the covering radius — but on a
+        // high-index face several times shorter, and the box below, with its work,
+        // shrinks with the cube.
+        bound = bound.min(plane_basis_len(cell, m));
         if !(bound > 0.0 && bound.is_finite()) {
             return Err(Error::NoSurfaceMesh);
         }
@@ -329,11 +401,16 @@ impl Face {
         for u in -n[0]..=n[0] {
             for v in -n[1]..=n[1] {
                 for w in -n[2]..=n[2] {
-                    let half = [u, v, w];
-                    if half == [0, 0, 0] || !s.is_lattice_point_half(half) {
+                    // The height first: most points are neither in the plane nor
+                    // below the lowest positive height found, and need no lattice test.
+                    let p = m[0] * u + m[1] * v + m[2] * w;
+                    if p < 0 || p >= p_min || (u == 0 && v == 0 && w == 0) {
                         continue;
                     }
-                    let p = m[0] * u + m[1] * v + m[2] * w;
+                    let half = [u, v, w];
+                    if !s.is_lattice_point_half(half) {
+                        continue;
+                    }
                     if p == 0 {
                         let c = half_to_cart(cell, half);
                         t1.offer(half, math::dot(c, c));
@@ -353,13 +430,17 @@ impl Face {
         for u in -n[0]..=n[0] {
             for v in -n[1]..=n[1] {
                 for w in -n[2]..=n[2] {
+                    let p = m[0] * u + m[1] * v + m[2] * w;
+                    if p != 0 && p != p_min {
+                        continue;
+                    }
                     let half = [u, v, w];
                     if !s.is_lattice_point_half(half) {
                         continue;
                     }
-                    let p = m[0] * u + m[1] * v + m[2] * w;
                     if p == 0 {
-                        if icross(t1.half, half) != [0, 0, 0] {
+                        let c = icross(t1.half, half);
+                        if c[0] != 0 || c[1] != 0 || c[2] != 0 {
                             let c = half_to_cart(cell, half);
                             t2.offer(half, math::dot(c, c));
                         }
@@ -522,6 +603,13 @@ impl Face {
         self.beam_from(rod, g, inc).ok_or(Error::Evanescent)
     }
 
+    /// k∥ (surface frame of `inc`, 1/Å) of the beam on rod (h, k) and its square, or
+    /// `None` when the beam is evanescent: the part of [`Face::beam`] that aiming needs
+    /// (no exit angles, no emergence energy), with the same arithmetic.
+    pub(crate) fn k_par_of(&self, rod: [i32; 2], inc: &Incidence) -> Option<([f32; 2], f32)> {
+        k_par_from(self.rod_turned(rod, inc), inc)
+    }
+
     pub(crate) fn beam_from(
         &self,
         rod: [i32; 2],
@@ -529,20 +617,14 @@ impl Face {
         inc: &Incidence,
     ) -> Option<SurfaceBeam> {
         let u = inc.k_inv_a;
-        let kin = inc.sin_tilt * u;
-        let kx = kin + g[0];
-        let ky = g[1];
-        let q = kx * kx + ky * ky;
-        if q > u * u {
-            return None;
-        }
+        let ([kx, ky], q) = k_par_from(g, inc)?;
         let g2 = g[0] * g[0] + g[1] * g[1];
         let k_par = math::sqrt(q);
         Some(SurfaceBeam {
             rod,
             g_inv_a: math::sqrt(g2),
             k_par_inv_a: [kx, ky],
-            exit_deg: math::deg(math::asin_clamped(k_par / u)),
+            exit_deg: exit_deg_of(k_par, u),
             exit_azimuth_deg: if q > 0.0 {
                 math::deg(math::atan2(ky, kx))
             } else {
@@ -570,6 +652,24 @@ impl Face {
     }
 }
 
+/// k∥ = k∥,in + g of turned rod vector `g` at `inc` and |k∥|², or `None` beyond 1/λ.
+fn k_par_from(g: [f32; 2], inc: &Incidence) -> Option<([f32; 2], f32)> {
+    let u = inc.k_inv_a;
+    let kin = inc.sin_tilt * u;
+    let kx = kin + g[0];
+    let ky = g[1];
+    let q = kx * kx + ky * ky;
+    if q > u * u {
+        return None;
+    }
+    Some(([kx, ky], q))
+}
+
+/// The polar exit angle, degrees, of a beam with |k∥| = `k_par` (1/Å) at 1/λ = `u`.
+pub(crate) fn exit_deg_of(k_par: f32, u: f32) -> f32 {
+    math::deg(math::asin_clamped(k_par / u))
+}
+
 /// Emergence energy for turned rod vector `g` (|g|² = `g2`) at sin(tilt) `s`.
 ///
 /// |s·u·e1 + g| = u has the positive root u = (s·g1 + √(s²g1² + c²|g|²)) / c²; the
@@ -590,7 +690,14 @@ fn emergence_from(g: [f32; 2], g2: f32, s: f32) -> Option<f32> {
 }
 
 fn beam_before(a: &SurfaceBeam, b: &SurfaceBeam) -> bool {
-    let tol = 1e-5 * a.g_inv_a.max(b.g_inv_a);
+    // The larger |g| by comparison, not f32::max (a libm call on the target); |g| is a
+    // square root, never NaN.
+    let larger = if a.g_inv_a > b.g_inv_a {
+        a.g_inv_a
+    } else {
+        b.g_inv_a
+    };
+    let tol = 1e-5 * larger;
     if a.g_inv_a < b.g_inv_a - tol {
         true
     } else if a.g_inv_a > b.g_inv_a + tol {

@@ -124,7 +124,8 @@ impl Face {
         let g = self.g_of_k_par(inc, k_par_inv_a);
         let a = &self.mesh_2d_a;
         let lim = INDEX_LIMIT as f32;
-        let idx = |v: [f32; 2]| math::round(g[0] * v[0] + g[1] * v[1]).clamp(-lim, lim) as i32;
+        let idx =
+            |v: [f32; 2]| math::clamp(math::round(g[0] * v[0] + g[1] * v[1]), -lim, lim) as i32;
         [idx(a[0]), idx(a[1])]
     }
 
@@ -217,8 +218,8 @@ impl BeamIter {
             },
             max_g_inv_a,
             band: None,
-            h: lo.clamp(-lim, lim + 1.0) as i32,
-            h_end: hi.clamp(-lim, lim + 1.0) as i32,
+            h: math::clamp(lo, -lim, lim + 1.0) as i32,
+            h_end: math::clamp(hi, -lim, lim + 1.0) as i32,
             k: 0,
             k_end: 0,
         };
@@ -263,8 +264,8 @@ impl BeamIter {
             }
         }
         let lim = INDEX_LIMIT as f32;
-        self.k = k_lo.clamp(-lim, lim + 1.0) as i32;
-        self.k_end = k_hi.max(k_lo).clamp(-lim, lim + 1.0) as i32;
+        self.k = math::clamp(k_lo, -lim, lim + 1.0) as i32;
+        self.k_end = math::clamp(k_hi.max(k_lo), -lim, lim + 1.0) as i32;
     }
 
     /// Moves to the next row and its chord.

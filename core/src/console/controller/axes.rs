@@ -9,7 +9,7 @@ use crate::axis::{keys, Approach, AxisConfig, Zone, MAX_ZONES};
 use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::console::wire::token::Args;
 use crate::error::{AxisId, Error};
-use crate::goniometer::Rig;
+use crate::goniometer::{CheckedRig, Rig};
 
 /// The numeric fields `axis` sets, named as in rig files ([`keys`]).
 const NUMBER_FIELDS: [&str; 7] = [
@@ -92,7 +92,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         rw: &mut Rw<'_, W>,
     ) -> Result<Option<Stream>> {
         let id = read_axis_name(a)?;
-        let mut rig = self.settings.rig;
+        let mut rig = *self.settings.rig.rig();
         let fitted = keyed(a, "fitted", |v| match (parse_bool(v)?, id) {
             (f, AxisId::Elevation) => Ok(f),
             _ => Err(Fault::from(Error::BadValue)
@@ -146,8 +146,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             }
             let recalibrated = calibration_changed(axis_of(&rig, id), cfg.as_ref());
             set_axis(&mut rig, id, cfg);
-            rig.validate()?;
-            self.settings.rig = rig;
+            self.settings.rig = CheckedRig::new(rig)?;
             self.solutions.clear();
             if recalibrated {
                 self.forget_position(id);
@@ -191,7 +190,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         let from = opt_num(a, "from")?;
         let to = opt_num(a, "to")?;
         check_used(a)?;
-        let mut rig = self.settings.rig;
+        let mut rig = *self.settings.rig.rig();
         let mut cfg = *axis_of(&rig, id).ok_or(Error::NoSuchAxis(id))?;
         let zone = match (off, from, to) {
             (true, None, None) => None,
@@ -211,7 +210,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         self.require_at_rest()?;
         cfg.validate()?;
         set_axis(&mut rig, id, Some(cfg));
-        self.settings.rig = rig;
+        self.settings.rig = CheckedRig::new(rig)?;
         self.solutions.clear();
         rw.ok()
             .field_str("name", id.name())

@@ -60,6 +60,25 @@ pub const PROTOCOL_VERSION: u16 = 1;
 /// Longest reply line, bytes, including a checksum suffix (requests: [`MAX_LINE`]).
 pub const MAX_REPLY: usize = 256;
 
+/// Decimals of the angles (degrees) in the items of the high-volume streams — `beams`,
+/// `aim` solutions, `plan` points: 1e-4°, finer than the core's agreement with the f64
+/// oracle (2.5e-4°) and a tenth of the factory axes' microstep (1/888.9°). Values that
+/// must read back exactly (`get`, `dump`, the final lines, refusals) keep the shortest
+/// round-trip form.
+pub const ANGLE_DECIMALS: u8 = 4;
+
+/// Decimals of an aim solution's `residual=` (degrees, a fraction of one microstep):
+/// 1e-6°.
+pub const RESIDUAL_DECIMALS: u8 = 6;
+
+/// Decimals of the energies (eV) in stream items (`emerge=`, `nominal=`, `peak=`,
+/// `peak_sample=`): 1 meV, far below any gun's energy spread.
+pub const ENERGY_DECIMALS: u8 = 3;
+
+/// Decimals of the lengths (Å) in stream items (`row=`): 1e-4 Å, as fine as the
+/// crystal table's lattice constants.
+pub const LENGTH_DECIMALS: u8 = 4;
+
 /// Aim solutions kept for `move sol=N`.
 pub const MAX_SOLUTIONS: usize = 8;
 

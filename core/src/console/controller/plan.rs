@@ -7,7 +7,7 @@ use super::args::{
     keyed, parse_branch, parse_num, parse_rod, req_num, req_word, write_point_error,
 };
 use super::fault::{check_used, Accepted, Fault, Result};
-use super::{Console, Rw, Stream, MAX_SOLUTIONS};
+use super::{Console, Rw, Stream, ANGLE_DECIMALS, ENERGY_DECIMALS, MAX_SOLUTIONS};
 use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::console::wire::token::Args;
 use crate::error::Error;
@@ -50,7 +50,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         let s = &self.settings;
         let req = s.aim_request(rod, e, branch);
         let mut out = [Solution::EMPTY; MAX_SOLUTIONS];
-        let l = match goniometer::aim(&s.rig, &req, &pos, &mut out) {
+        let l = match goniometer::aim_checked(&s.rig, &req, &pos, &mut out) {
             Ok(l) => l,
             Err(e)
                 if e == Error::Evanescent
@@ -58,7 +58,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                     || e == Error::NoReachableSolution =>
             {
                 // Say everything that stands in the way, then the error.
-                let r = goniometer::refusals(&s.rig, &req, &pos)?;
+                let r = goniometer::refusals_checked(&s.rig, &req, &pos)?;
                 self.refusals = r;
                 self.errors = self.errors.saturating_add(1);
                 return Ok(Some(Stream::Refused(0)));
@@ -93,7 +93,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         let plan = match kind {
             "track" | "iv" => {
                 let t = TrackPlan::new(
-                    s.rig,
+                    *s.rig,
                     s.face,
                     s.beam,
                     s.gun,
@@ -114,7 +114,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 let e = s.gun.kinetic_energy_ev()?;
                 let ang = s.rig.angles(&pos);
                 let inc = Incidence::new(e, s.tilt_deg, s.azimuth_deg.unwrap_or(ang[3]))?;
-                Plan::Sweep(SweepPlan::new(s.rig, s.face, inc, ang[1], from, to, step)?)
+                Plan::Sweep(SweepPlan::new(*s.rig, s.face, inc, ang[1], from, to, step)?)
             }
             _ => {
                 return Err(Fault::from(Error::BadValue)
@@ -162,12 +162,12 @@ impl PlanRun {
                     Plan::Track(t) => (t.point(self.i, &self.pos), None),
                     Plan::Sweep(_) => return false,
                 };
-                rw.field_f32_rt("nominal", point.nominal_ev);
+                rw.field_f32("nominal", point.nominal_ev, ENERGY_DECIMALS);
                 match point.result {
                     Ok(s) => {
-                        rw.field_f32_rt("arm", s.arm.angle_deg)
-                            .field_f32_rt("elevation", s.elevation_deg())
-                            .field_f32_rt("azimuth", s.azimuth.angle_deg)
+                        rw.field_f32("arm", s.arm.angle_deg, ANGLE_DECIMALS)
+                            .field_f32("elevation", s.elevation_deg(), ANGLE_DECIMALS)
+                            .field_f32("azimuth", s.azimuth.angle_deg, ANGLE_DECIMALS)
                             .field_i32("arm_steps", s.arm.steps);
                         self.time_s += scan::estimate_s(
                             rig,
@@ -185,13 +185,13 @@ impl PlanRun {
                 if let Some(p) = peak {
                     // In the line's own frame (the gun setting), and at the sample.
                     let correction = point.energy_ev - point.nominal_ev;
-                    rw.field_f32_rt("peak", p.energy_ev - correction)
-                        .field_f32_rt("peak_sample", p.energy_ev);
+                    rw.field_f32("peak", p.energy_ev - correction, ENERGY_DECIMALS)
+                        .field_f32("peak_sample", p.energy_ev, ENERGY_DECIMALS);
                 }
             }
             Plan::Sweep(p) => {
                 let point = p.point(self.i, self.pos[0]);
-                rw.field_f32_rt("arm", point.arm_deg);
+                rw.field_f32("arm", point.arm_deg, ANGLE_DECIMALS);
                 match point.setpoint {
                     Ok(sp) => {
                         rw.field_i32("arm_steps", sp.steps);
@@ -204,7 +204,7 @@ impl PlanRun {
                 if let Some(v) = point.in_view {
                     rw.field_i32("h", v.beam.rod[0])
                         .field_i32("k", v.beam.rod[1])
-                        .field_f32_rt("offset", v.offset_deg);
+                        .field_f32("offset", v.offset_deg, ANGLE_DECIMALS);
                 }
             }
         }

@@ -10,7 +10,7 @@ use crate::beam::{self, Gun, GunInput};
 use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::console::wire::token::Args;
 use crate::error::{Error, Quantity};
-use crate::goniometer::{AimRequest, Branch, Mode, Rig};
+use crate::goniometer::{AimRequest, Branch, CheckedRig, Mode, Rig};
 use crate::lattice::{parse_miller, Miller, System};
 use crate::surface::Face;
 use crate::table::{self, Crystal};
@@ -34,8 +34,8 @@ pub struct Settings {
     pub azimuth_deg: Option<f32>,
     /// The beam (rod) `aim` and the plans use.
     pub beam: [i32; 2],
-    /// Axes and detector acceptance.
-    pub rig: Rig,
+    /// Axes and detector acceptance, checked whenever they change.
+    pub rig: CheckedRig,
     /// Branch preference of `aim`, `budget` and the plans.
     pub branch: Branch,
 }
@@ -54,7 +54,7 @@ impl Settings {
             tilt_deg: 20.0,
             azimuth_deg: None,
             beam: [0, 0],
-            rig: Rig::bench_default(),
+            rig: CheckedRig::new(Rig::bench_default())?,
             branch: Branch::Nearest,
         })
     }
@@ -179,6 +179,8 @@ struct SetNotes {
     crystal: bool,
     /// Whether a key of the rig's geometry (`acceptance=`) was given.
     geometry: bool,
+    /// The detector acceptance given with `acceptance=`, degrees.
+    acceptance_deg: Option<f32>,
 }
 
 /// Applies `key=value` to `s`.
@@ -221,7 +223,7 @@ fn apply(s: &mut Settings, notes: &mut SetNotes, key: Key, v: &str) -> Result<()
             }
         }
         Key::Beam => s.beam = parse_rod(v)?,
-        Key::Acceptance => s.rig.acceptance_deg = parse_num(v)?,
+        Key::Acceptance => notes.acceptance_deg = Some(parse_num(v)?),
         Key::Branch => s.branch = parse_branch(v)?,
         Key::Kinetic | Key::Wavelength => return Err(Error::UnknownArgument.into()),
     }
@@ -341,7 +343,11 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 GunInput::Offset => "offset",
             })
         })?;
-        s.rig.validate()?;
+        if let Some(a) = notes.acceptance_deg {
+            let mut rig = *s.rig.rig();
+            rig.acceptance_deg = a;
+            s.rig = CheckedRig::new(rig)?;
+        }
         s.check_branch()?;
         self.settings = s;
         self.solutions.clear();

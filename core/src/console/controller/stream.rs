@@ -9,7 +9,10 @@ use super::fault::Result;
 use super::fault::{write_err, Fault};
 use super::plan::PlanRun;
 use super::settings::Settings;
-use super::{Console, Rw, COMMANDS, MAX_SOLUTIONS};
+use super::{
+    Console, Rw, ANGLE_DECIMALS, COMMANDS, ENERGY_DECIMALS, LENGTH_DECIMALS, MAX_SOLUTIONS,
+    RESIDUAL_DECIMALS,
+};
 use crate::budget::ArmBudget;
 use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::goniometer::{Refusals, Solution};
@@ -132,13 +135,13 @@ impl Stream {
                     rw.item()
                         .field_i32("h", b.rod[0])
                         .field_i32("k", b.rod[1])
-                        .field_f32_rt("exit", b.exit_deg)
-                        .field_f32_rt("exit_azimuth", b.exit_azimuth_deg);
+                        .field_f32("exit", b.exit_deg, ANGLE_DECIMALS)
+                        .field_f32("exit_azimuth", b.exit_azimuth_deg, ANGLE_DECIMALS);
                     if let Some(d) = b.row_spacing_a() {
-                        rw.field_f32_rt("row", d);
+                        rw.field_f32("row", d, LENGTH_DECIMALS);
                     }
                     if let Some(e) = b.emergence_ev {
-                        rw.field_f32_rt("emerge", e);
+                        rw.field_f32("emerge", e, ENERGY_DECIMALS);
                     }
                     *n = n.saturating_add(1);
                     true
@@ -156,14 +159,14 @@ impl Stream {
                 if let Some(s) = ctx.solutions.get(k) {
                     rw.item()
                         .field_i32("sol", k as i32)
-                        .field_f32_rt("arm", s.arm.angle_deg)
-                        .field_f32_rt("elevation", s.elevation_deg())
-                        .field_f32_rt("tilt", s.tilt.angle_deg)
-                        .field_f32_rt("azimuth", s.azimuth.angle_deg)
+                        .field_f32("arm", s.arm.angle_deg, ANGLE_DECIMALS)
+                        .field_f32("elevation", s.elevation_deg(), ANGLE_DECIMALS)
+                        .field_f32("tilt", s.tilt.angle_deg, ANGLE_DECIMALS)
+                        .field_f32("azimuth", s.azimuth.angle_deg, ANGLE_DECIMALS)
                         .field_i32("arm_steps", s.arm.steps)
-                        .field_f32_rt("residual", s.arm.residual_deg)
+                        .field_f32("residual", s.arm.residual_deg, RESIDUAL_DECIMALS)
                         .field_i32("branch", s.branch as i32)
-                        .field_f32_rt("travel", s.travel_deg);
+                        .field_f32("travel", s.travel_deg, ANGLE_DECIMALS);
                     *i += 1;
                     true
                 } else {

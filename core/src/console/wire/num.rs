@@ -22,6 +22,8 @@
 //! assert_eq!(num::format_i32(i32::MIN, &mut buf), "-2147483648");
 //! ```
 
+mod decimal;
+
 /// Size of a formatting buffer.
 pub const NUM_BUF_LEN: usize = 24;
 
@@ -100,8 +102,10 @@ fn is_decimal_syntax(b: &[u8]) -> bool {
 /// Parse a decimal `f32`: optional sign, digits with an optional point, optional
 /// exponent (`-12.5`, `3e2`, `.5`, `5.`, `+1E-3`).
 ///
-/// The result is the nearest `f32` to the decimal value (correct rounding, via
-/// `core`'s parser after a strict syntax check). Rejected: empty text, a lone sign,
+/// The result is the nearest `f32` to the decimal value (correct rounding, ties to
+/// even, as Rust's `str::parse`), after a strict syntax check, by the module's own
+/// exact routine (`decimal.rs`: an `f32` estimate corrected by exact integer
+/// comparisons), a small fraction of the flash `core`'s parser takes. Rejected: empty text, a lone sign,
 /// spaces anywhere, hex, `_` separators, NaN and infinities ([`NumError::NotFinite`]),
 /// and values that round beyond the largest finite `f32` ([`NumError::OutOfRange`] —
 /// never infinity). Values below the smallest subnormal round to zero. Negative zero
@@ -122,7 +126,7 @@ pub fn parse_f32(s: &str) -> Result<f32, NumError> {
     if bytes.is_empty() {
         return Err(NumError::Empty);
     }
-    let (_, body) = split_sign(bytes);
+    let (negative, body) = split_sign(bytes);
     for word in [&b"nan"[..], b"inf", b"infinity"] {
         if body.eq_ignore_ascii_case(word) {
             return Err(NumError::NotFinite);
@@ -131,14 +135,11 @@ pub fn parse_f32(s: &str) -> Result<f32, NumError> {
     if !is_decimal_syntax(body) {
         return Err(NumError::Syntax);
     }
-    let value: f32 = s.parse().map_err(|_| NumError::Syntax)?;
-    if !value.is_finite() {
-        return Err(NumError::OutOfRange);
-    }
+    let value = decimal::to_f32(body).ok_or(NumError::OutOfRange)?;
     if value == 0.0 {
         return Ok(0.0);
     }
-    Ok(value)
+    Ok(if negative { -value } else { value })
 }
 
 /// Parse a decimal `i32`: optional sign and at least one digit (leading zeros allowed).
@@ -233,9 +234,47 @@ fn u64_digits(mut v: u64, digits: &mut [u8; 20]) -> usize {
     n
 }
 
-/// `10^n` as u64 for n ≤ 19.
+/// `10^n` for n ≤ 19, the largest power of ten below 2^64.
+const POW10_U64: [u64; 20] = [
+    1,
+    10,
+    100,
+    1_000,
+    10_000,
+    100_000,
+    1_000_000,
+    10_000_000,
+    100_000_000,
+    1_000_000_000,
+    10_000_000_000,
+    100_000_000_000,
+    1_000_000_000_000,
+    10_000_000_000_000,
+    100_000_000_000_000,
+    1_000_000_000_000_000,
+    10_000_000_000_000_000,
+    100_000_000_000_000_000,
+    1_000_000_000_000_000_000,
+    10_000_000_000_000_000_000,
+];
+
+/// `10^n` for n ≤ 9, the powers of ten below 2^32.
+const POW10_U32: [u32; 10] = [
+    1,
+    10,
+    100,
+    1_000,
+    10_000,
+    100_000,
+    1_000_000,
+    10_000_000,
+    100_000_000,
+    1_000_000_000,
+];
+
+/// `10^n` as u64 for n ≤ 19 (a table look-up).
 fn pow10_u64(n: u32) -> Option<u64> {
-    10u64.checked_pow(n)
+    POW10_U64.get(n as usize).copied()
 }
 
 /// Write "nan", "inf" or "-inf" for a non-finite value; `None` if finite.
@@ -321,34 +360,70 @@ fn scaled_round(x: f32, d: u32) -> Option<u64> {
 /// assert_eq!(format_f32(3.0e20, 2, &mut buf), "3e20");
 /// ```
 pub fn format_f32(x: f32, decimals: u8, buf: &mut NumBuf) -> &str {
-    let d = u32::from(decimals.min(MAX_DECIMALS));
-    // Non-finite values and values without a fixed-point form here.
-    let Some(q) = x.is_finite().then(|| scaled_round(x, d)).flatten() else {
-        return format_f32_roundtrip(x, buf);
-    };
-    let mut out = Out::new(buf);
-    let mut digits = [0u8; 20];
-    let n = u64_digits(q, &mut digits);
-    let d = d as usize;
-    if q != 0 && x.is_sign_negative() {
-        out.push(b'-');
-    }
-    // Pad with leading zeros to at least d + 1 digits.
-    let width = n.max(d + 1);
-    let pad = width - n;
-    for i in 0..width {
-        if i == width - d && d > 0 {
-            out.push(b'.');
-        }
-        let digit = if i < pad {
-            b'0'
-        } else {
-            digits.get(i - pad).copied().unwrap_or(b'0')
-        };
-        out.push(digit);
-    }
-    let len = out.len;
+    let len = write_f32(x, decimals, buf).unwrap_or(0);
     text(buf, len)
+}
+
+/// [`format_f32`] written to the front of `dst` (printable ASCII); the length, or
+/// `None` (nothing usable written) when it does not fit. The digits are written in
+/// place from the right, with 32-bit division where the scaled value allows.
+pub fn write_f32(x: f32, decimals: u8, dst: &mut [u8]) -> Option<usize> {
+    let d = usize::from(decimals.min(MAX_DECIMALS));
+    // Non-finite values and values without a fixed-point form here.
+    let Some(q) = x.is_finite().then(|| scaled_round(x, d as u32)).flatten() else {
+        return write_f32_roundtrip(x, dst);
+    };
+    let negative = q != 0 && x.is_sign_negative();
+    // q < 10^19: the first power of ten above it gives the digit count (32-bit
+    // comparisons for the usual magnitudes).
+    let n = match u32::try_from(q) {
+        Ok(w) => POW10_U32.iter().position(|&p| p > w).unwrap_or(10),
+        Err(_) => POW10_U64.iter().position(|&p| p > q).unwrap_or(19),
+    }
+    .max(1);
+    // At least d + 1 digits: leading zeros pad.
+    let width = n.max(d + 1);
+    let len = usize::from(negative) + width + usize::from(d > 0);
+    let out = dst.get_mut(..len)?;
+    let mut v = q;
+    let mut written = 0;
+    for (i, slot) in out.iter_mut().rev().enumerate() {
+        *slot = if d > 0 && i == d {
+            b'.'
+        } else if written < width {
+            written += 1;
+            let (rest, digit) = match u32::try_from(v) {
+                Ok(w) => (u64::from(w / 10), w % 10),
+                Err(_) => (v / 10, (v % 10) as u32),
+            };
+            v = rest;
+            b'0' + digit as u8
+        } else {
+            b'-'
+        };
+    }
+    Some(len)
+}
+
+/// [`format_f32_roundtrip`] written to the front of `dst`; the length, or `None` when it
+/// does not fit.
+pub fn write_f32_roundtrip(x: f32, dst: &mut [u8]) -> Option<usize> {
+    let mut nb: NumBuf = [0; NUM_BUF_LEN];
+    copy_to(format_f32_roundtrip(x, &mut nb).as_bytes(), dst)
+}
+
+/// [`format_i32`] written to the front of `dst`; the length, or `None` when it does not
+/// fit.
+pub fn write_i32(x: i32, dst: &mut [u8]) -> Option<usize> {
+    let mut nb: NumBuf = [0; NUM_BUF_LEN];
+    copy_to(format_i32(x, &mut nb).as_bytes(), dst)
+}
+
+/// `src` copied to the front of `dst`: its length, or `None` when it does not fit.
+fn copy_to(src: &[u8], dst: &mut [u8]) -> Option<usize> {
+    let out = dst.get_mut(..src.len())?;
+    out.copy_from_slice(src);
+    Some(src.len())
 }
 
 /// Unsigned integers for the exact digit generation of [`shortest_digits`]: `u64` for

@@ -293,23 +293,46 @@ impl<'w, W: Write, const N: usize> ReplyWriter<'w, W, N> {
 
     /// Append `key=<x with decimals places>` (see [`num::format_f32`]).
     pub fn field_f32(&mut self, key: &str, x: f32, decimals: u8) -> &mut Self {
-        let mut nb: NumBuf = [0; num::NUM_BUF_LEN];
-        let v = num::format_f32(x, decimals, &mut nb);
-        self.field_str(key, v)
+        self.field_with(key, |dst| num::write_f32(x, decimals, dst))
     }
 
     /// Append `key=<x, round-trip exact>` (see [`num::format_f32_roundtrip`]).
     pub fn field_f32_rt(&mut self, key: &str, x: f32) -> &mut Self {
-        let mut nb: NumBuf = [0; num::NUM_BUF_LEN];
-        let v = num::format_f32_roundtrip(x, &mut nb);
-        self.field_str(key, v)
+        self.field_with(key, |dst| num::write_f32_roundtrip(x, dst))
     }
 
     /// Append `key=<x>`.
     pub fn field_i32(&mut self, key: &str, x: i32) -> &mut Self {
-        let mut nb: NumBuf = [0; num::NUM_BUF_LEN];
-        let v = num::format_i32(x, &mut nb);
-        self.field_str(key, v)
+        self.field_with(key, |dst| num::write_i32(x, dst))
+    }
+
+    /// Append `key=` and a number that `value` writes (printable ASCII, no `*`)
+    /// straight into the line, as one piece: whole or not at all.
+    fn field_with(
+        &mut self,
+        key: &str,
+        value: impl FnOnce(&mut [u8]) -> Option<usize>,
+    ) -> &mut Self {
+        if self.overflow {
+            return self;
+        }
+        let start = self.len;
+        let cap = self.capacity();
+        let mut ok = (self.len == 0 || self.push(b' ', cap))
+            && self.push_str(key, Mode::Token, cap)
+            && self.push(b'=', cap);
+        if ok {
+            let end = cap.max(self.len);
+            match self.buf.get_mut(self.len..end).and_then(value) {
+                Some(n) => self.len += n,
+                None => ok = false,
+            }
+        }
+        if !ok {
+            self.len = start;
+            self.overflow = true;
+        }
+        self
     }
 
     /// Append the parts as one piece (preceded by a space unless the line is empty),
@@ -325,15 +348,42 @@ impl<'w, W: Write, const N: usize> ReplyWriter<'w, W, N> {
             ok &= self.push(b' ', cap);
         }
         for &(s, mode) in parts {
-            for ch in s.chars() {
-                ok &= self.push_char(ch, mode, cap);
-            }
+            ok = ok && self.push_str(s, mode, cap);
         }
         if !ok {
             self.len = start;
             self.overflow = true;
         }
         self
+    }
+
+    /// Appends `s` made safe in `mode`; false when it does not fit (the line is then
+    /// cut back by the caller). Printable ASCII other than `*` — every number, key and
+    /// command word — is copied byte by byte without decoding characters; the rest
+    /// goes through [`ReplyWriter::push_char`].
+    fn push_str(&mut self, s: &str, mode: Mode, cap: usize) -> bool {
+        let bytes = s.as_bytes();
+        let room = cap.saturating_sub(self.len);
+        let mut n = 0;
+        if let Some(dst) = self.buf.get_mut(self.len..) {
+            for (&b, slot) in bytes.iter().zip(dst.iter_mut()) {
+                if !b.is_ascii_graphic() || b == b'*' {
+                    break;
+                }
+                if n >= room {
+                    return false;
+                }
+                *slot = b;
+                n += 1;
+            }
+        }
+        self.len += n;
+        if n == bytes.len() {
+            return true;
+        }
+        // The copied bytes are ASCII, so `n` is a character boundary.
+        s.get(n..)
+            .is_some_and(|rest| rest.chars().all(|ch| self.push_char(ch, mode, cap)))
     }
 
     fn push(&mut self, b: u8, cap: usize) -> bool {

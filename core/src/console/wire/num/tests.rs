@@ -206,3 +206,151 @@ mod against_std {
         }
     }
 }
+
+/// The float parser against Rust's own, on many inputs.
+mod parser {
+    extern crate std;
+    use super::*;
+    use std::format;
+    use std::string::{String, ToString};
+    use std::vec::Vec;
+
+    /// A small xorshift generator for the parser sweeps (no dependency).
+    struct XorShift(u64);
+
+    impl XorShift {
+        fn next(&mut self) -> u64 {
+            self.0 ^= self.0 << 13;
+            self.0 ^= self.0 >> 7;
+            self.0 ^= self.0 << 17;
+            self.0
+        }
+        fn below(&mut self, n: u64) -> u64 {
+            self.next() % n
+        }
+    }
+
+    /// What `parse_f32` must give for a syntactically valid decimal: Rust's `str::parse`
+    /// (correctly rounded, ties to even — the reference), infinities as `OutOfRange`,
+    /// −0 as +0.
+    fn rust_reference(s: &str) -> Result<u32, NumError> {
+        let v: f32 = s.parse().expect("valid decimal");
+        if v.is_infinite() {
+            Err(NumError::OutOfRange)
+        } else if v == 0.0 {
+            Ok(0)
+        } else {
+            Ok(v.to_bits())
+        }
+    }
+
+    #[test]
+    fn parse_agrees_with_rust_on_random_decimals() {
+        let mut r = XorShift(0x9e37_79b9_7f4a_7c15);
+        let mut slow = 0;
+        for _ in 0..200_000 {
+            let long = r.below(10) == 0;
+            let n = 1 + r.below(if long { 140 } else { 12 }) as usize;
+            let mut s = String::new();
+            if r.below(3) == 0 {
+                s.push('-');
+            }
+            let point = r.below(n as u64 + 1) as usize;
+            for i in 0..n {
+                if i == point {
+                    s.push('.');
+                }
+                s.push(char::from(b'0' + r.below(10) as u8));
+            }
+            if r.below(2) == 0 {
+                s.push('e');
+                s.push_str(&(r.below(100) as i64 - 55).to_string());
+            }
+            let digits = s.bytes().filter(u8::is_ascii_digit).count();
+            if digits > 7 {
+                slow += 1;
+            }
+            assert_eq!(parse_f32(&s).map(f32::to_bits), rust_reference(&s), "{s}");
+        }
+        assert!(slow > 10_000, "{slow} inputs beyond the fast path");
+    }
+
+    #[test]
+    fn parse_rounds_halfway_points_to_even() {
+        // The exact decimal expansion of the point halfway between two adjacent f32 (exact
+        // in f64; at most 113 significant digits, so 120 in `{:.119e}` are exact), and the
+        // same text nudged just below and above in its last digit.
+        let mut r = XorShift(0x2545_f491_4f6c_dd1d);
+        let mut bits: Vec<u32> = (0..20_000)
+            .map(|_| (r.next() as u32) % 0x7F7F_FFFF)
+            .collect();
+        bits.extend([0, 1, 2, 0x007F_FFFF, 0x0080_0000, 0x7F7F_FFFE, 0x7F7F_FFFF]);
+        for b in bits {
+            let lo = f64::from(f32::from_bits(b));
+            let hi = if b == 0x7F7F_FFFF {
+                2f64.powi(128)
+            } else {
+                f64::from(f32::from_bits(b + 1))
+            };
+            let mid = (lo + hi) / 2.0;
+            let exact = format!("{mid:.119e}");
+            let (mant, exp) = exact.split_once('e').unwrap();
+            let trimmed = mant.trim_end_matches('0');
+            assert!(
+                trimmed.len() < mant.len(),
+                "{exact}: not exact in 120 digits"
+            );
+            for s in [
+                exact.clone(),
+                format!("{trimmed}e{exp}"),
+                format!("{trimmed}1e{exp}"),
+                format!("{mant}1e{exp}"),
+            ] {
+                assert_eq!(parse_f32(&s).map(f32::to_bits), rust_reference(&s), "{s}");
+            }
+            // Just below the halfway point: the last nonzero digit lowered by one, then
+            // nines.
+            let last = trimmed.len() - 1;
+            let d = trimmed.as_bytes()[last];
+            if d > b'1' && trimmed.contains('.') {
+                let below = format!("{}{}999e{exp}", &trimmed[..last], char::from(d - 1));
+                assert_eq!(
+                    parse_f32(&below).map(f32::to_bits),
+                    rust_reference(&below),
+                    "{below}"
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn parse_long_inputs_and_extremes() {
+        let long_one = format!("0.{}1e1", "0".repeat(300));
+        for s in [
+            format!("1{}", "0".repeat(38)),
+            format!("3{}", "0".repeat(38)),
+            format!("34028235{}", "0".repeat(31)),
+            format!("340282356779733661637539395458142568448{}", "0".repeat(3)),
+            "340282356779733661637539395458142568447".to_string(),
+            "340282356779733661637539395458142568448".to_string(),
+            format!("{}1", "0".repeat(500)),
+            format!("1.{}1", "0".repeat(500)),
+            format!("9{}", "9".repeat(200)),
+            long_one,
+            "7.006492321624085e-46".to_string(),
+            "7.006492321624086e-46".to_string(),
+            "1.401298464324817e-45".to_string(),
+            "1.1754942e-38".to_string(),
+            "1.17549435e-38".to_string(),
+            "0.000000000000000000000000000000000000000000001".to_string(),
+            "16777217".to_string(),
+            "16777219".to_string(),
+            "1e-10".to_string(),
+            "123456789e-20".to_string(),
+            "1e99999999999999999999".to_string(),
+            "1e-99999999999999999999".to_string(),
+        ] {
+            assert_eq!(parse_f32(&s).map(f32::to_bits), rust_reference(&s), "{s}");
+        }
+    }
+}
