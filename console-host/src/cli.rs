@@ -54,6 +54,11 @@ pub enum Command {
         /// The link: `sim` (in-process simulator of the controller).
         #[arg(long, value_name = "LINK", default_value = "sim")]
         link: String,
+        /// Load this rig file into the controller first, with the console's own `axis`,
+        /// `zone` and `set acceptance=` requests (the lines `mwctl rig show --console`
+        /// prints). Default: the controller's factory rig.
+        #[arg(long, value_name = "FILE")]
+        rig: Option<PathBuf>,
     },
 }
 
@@ -66,14 +71,19 @@ pub enum RigCmd {
         #[command(flatten)]
         rig: RigArgs,
         /// Print it as a rig file (TOML) that `rig check` and `--rig` read back.
-        #[arg(long)]
+        #[arg(long, conflicts_with = "console")]
         toml: bool,
+        /// Print it as the console requests that load it into a controller (`axis`,
+        /// `zone`, `set acceptance=`: the rig's lines of the console's `dump`), one per
+        /// line, for `mwctl talk` or a serial terminal.
+        #[arg(long)]
+        console: bool,
     },
     /// Check a rig file: every field, then the controller's own validation.
     Check {
-        /// The rig file (TOML).
-        #[arg(value_name = "FILE")]
-        file: PathBuf,
+        /// The rig file (TOML; see docs/RIG.md).
+        #[arg(long, value_name = "FILE")]
+        rig: PathBuf,
     },
 }
 
@@ -360,14 +370,32 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
             }
         }
         Command::Demo => return crate::demo::run(f).map(Output::Text),
-        Command::Rig(RigCmd::Show { rig: r, toml }) => {
+        Command::Rig(RigCmd::Show {
+            rig: r,
+            toml,
+            console,
+        }) => {
             let rf = r.load()?;
-            if *toml {
-                return Ok(Output::Text(rig::to_toml(&rf)));
+            if *toml || *console {
+                if f != Format::Table {
+                    return Err(CliError::new(format!(
+                        "rig show --{} --format {}: that prints a file's text; leave out --format, or use rig show --format json for the rig as JSON",
+                        if *toml { "toml" } else { "console" },
+                        if f == Format::Json { "json" } else { "csv" }
+                    )));
+                }
+                let text = if *toml {
+                    rig::to_toml(&rf)
+                } else {
+                    let mut t = rig::console_requests(&rf).join("\n");
+                    t.push('\n');
+                    t
+                };
+                return Ok(Output::Text(text));
             }
             rig::report(&rf)
         }
-        Command::Rig(RigCmd::Check { file }) => {
+        Command::Rig(RigCmd::Check { rig: file }) => {
             let rf = rig::load(file)?;
             let mut r = rig::report(&rf);
             r.fields.insert(
@@ -376,8 +404,12 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
             );
             r
         }
-        Command::Talk { link } => {
-            crate::talk::run(link, f)?;
+        Command::Talk { link, rig: file } => {
+            let rf = match file {
+                Some(p) => Some(rig::load(p)?),
+                None => None,
+            };
+            crate::talk::run(link, f, rf.as_ref())?;
             return Ok(Output::Text(String::new()));
         }
         Command::Calc(c) => match c {
