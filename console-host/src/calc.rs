@@ -14,16 +14,16 @@ use matterwave_core::table::{self, Crystal};
 #[derive(Clone, Copy, Debug, clap::Args)]
 pub struct GunArgs {
     /// Nominal beam energy e·V_acc, eV (1 to 300000).
-    #[arg(long, value_name = "EV")]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV")]
     pub energy: f32,
     /// Cathode work function, eV (adds to the energy at the sample; 0 = no correction).
-    #[arg(long, value_name = "EV", default_value_t = 0.0)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
     pub cathode_work_function: f32,
     /// Sample work function, eV (subtracts from the energy at the sample; 0 = none).
-    #[arg(long, value_name = "EV", default_value_t = 0.0)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
     pub sample_work_function: f32,
     /// Fitted gun energy offset, eV (added to the energy at the sample).
-    #[arg(long, value_name = "EV", default_value_t = 0.0)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
     pub energy_offset: f32,
 }
 
@@ -544,7 +544,7 @@ pub fn beams(
     let c = crystal(id)?;
     let (_, face) = face_of(c, face_text)?;
     let e = g.kinetic_ev()?;
-    let tilt = check_angle(tilt, "tilt", 89.9)?;
+    let tilt = check_angle(tilt, "tilt", matterwave_core::surface::TILT_MAX_DEG)?;
     let azimuth = check_angle(azimuth, "azimuth", 360.0)?;
     let inc = Incidence::new(e, tilt, azimuth).ctx("incidence")?;
     let mut buf = vec![SurfaceBeam::EMPTY; check_max(max)?];
@@ -616,7 +616,7 @@ pub struct IvArgs {
 pub fn ivpeaks(id: &str, face_text: &str, a: &IvArgs, max: usize) -> CliResult<Report> {
     let c = crystal(id)?;
     let (_, face) = face_of(c, face_text)?;
-    let tilt = check_angle(a.tilt, "tilt", 89.9)?;
+    let tilt = check_angle(a.tilt, "tilt", matterwave_core::surface::TILT_MAX_DEG)?;
     let azimuth = check_angle(a.azimuth, "azimuth", 360.0)?;
     let v0 = match a
         .inner_potential

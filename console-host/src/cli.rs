@@ -98,7 +98,7 @@ pub enum Calc {
         #[command(flatten)]
         gun: GunArgs,
         /// Inner potential V0, eV (0 to 100), for the wavelength inside the crystal.
-        #[arg(long, value_name = "EV")]
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV")]
         inner_potential: Option<f32>,
     },
     /// Bulk reflection families in order of decreasing d, with Bragg angles.
@@ -124,7 +124,7 @@ pub enum Calc {
         #[command(flatten)]
         gun: GunArgs,
         /// Sample-to-screen distance, mm.
-        #[arg(long, value_name = "MM")]
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "MM")]
         screen_distance: f32,
         /// Most rings to list.
         #[arg(long, value_name = "N", default_value_t = 20)]
@@ -143,11 +143,11 @@ pub enum Calc {
         /// Gun settings.
         #[command(flatten)]
         gun: GunArgs,
-        /// Sample tilt α, degrees (0 = normal incidence).
-        #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+        /// Sample tilt α, degrees, within ±89.9 (0: normal incidence).
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
         tilt: f32,
-        /// Sample azimuth φ, degrees.
-        #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+        /// Sample azimuth φ, degrees, within ±360 (0: a1 along e1, in the scattering plane).
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
         azimuth: f32,
         /// Most beams to list (smallest |g| first).
         #[arg(long, value_name = "N", default_value_t = 500)]
@@ -174,28 +174,28 @@ pub enum Calc {
         #[arg(long, value_name = "H,K", allow_hyphen_values = true)]
         beam: String,
         /// Start of the nominal energy range, eV.
-        #[arg(long, value_name = "EV")]
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV")]
         from: f32,
         /// End of the nominal energy range, eV.
-        #[arg(long, value_name = "EV")]
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV")]
         to: f32,
-        /// Sample tilt α, degrees.
-        #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+        /// Sample tilt α, degrees, within ±89.9 (0: normal incidence).
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
         tilt: f32,
-        /// Sample azimuth φ, degrees.
-        #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+        /// Sample azimuth φ, degrees, within ±360 (0: a1 along e1, in the scattering plane).
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
         azimuth: f32,
         /// Inner potential V0, eV (default: the table's value for the face).
-        #[arg(long, value_name = "EV")]
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV")]
         inner_potential: Option<f32>,
         /// Cathode work function, eV.
-        #[arg(long, value_name = "EV", default_value_t = 0.0)]
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
         cathode_work_function: f32,
         /// Sample work function, eV.
-        #[arg(long, value_name = "EV", default_value_t = 0.0)]
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
         sample_work_function: f32,
         /// Gun energy offset, eV.
-        #[arg(long, value_name = "EV", default_value_t = 0.0)]
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
         energy_offset: f32,
         /// Most peaks to list.
         #[arg(long, value_name = "N", default_value_t = 100)]

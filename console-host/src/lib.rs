@@ -10,6 +10,7 @@ pub mod cli;
 pub mod demo;
 pub mod error;
 pub mod gonio;
+pub mod number;
 pub mod oracle;
 pub mod output;
 pub mod rig;

@@ -168,10 +168,12 @@ fn bad_input_exits_2_with_one_line() {
     let bad: &[(&[&str], Option<&str>)] = &[
         (&["calc", "wavelength", "--energy", "0"], Some("E102: --energy 0: energy below 1 eV; accepted 1 eV to 300000 eV")),
         (&["calc", "wavelength", "--energy", "-5"], Some("E102: --energy -5: energy below 1 eV; accepted 1 eV to 300000 eV")),
-        (&["calc", "wavelength", "--energy", "nan"], Some("E101: --energy NaN: value is NaN or infinite; give a finite number")),
-        (&["calc", "wavelength", "--energy", "inf"], Some("E101: --energy inf: value is NaN or infinite; give a finite number")),
-        (&["calc", "wavelength", "--energy", "1e39"], Some("E101: --energy inf: value is NaN or infinite; give a finite number")),
-        (&["calc", "wavelength", "--energy", "abc"], Some("invalid value 'abc' for '--energy <EV>': invalid float literal; --energy <EV>: Nominal beam energy e·V_acc, eV (1 to 300000)")),
+        (&["calc", "wavelength", "--energy", "nan"], Some("invalid value 'nan' for '--energy <EV>': 'nan' is not a finite number; give plain digits such as 100, -2.5 or 1.5e3; --energy <EV>: Nominal beam energy e·V_acc, eV (1 to 300000)")),
+        (&["calc", "wavelength", "--energy", "inf"], Some("invalid value 'inf' for '--energy <EV>': 'inf' is not a finite number; give plain digits such as 100, -2.5 or 1.5e3; --energy <EV>: Nominal beam energy e·V_acc, eV (1 to 300000)")),
+        // Echoed as typed, not as the f32 infinity it would round to.
+        (&["calc", "wavelength", "--energy", "1e39"], Some("invalid value '1e39' for '--energy <EV>': '1e39' is beyond the f32 range (magnitude at most 3.4028235e38), far beyond what any option accepts; --energy <EV>: Nominal beam energy e·V_acc, eV (1 to 300000)")),
+        (&["calc", "wavelength", "--energy", "100eV"], Some("invalid value '100eV' for '--energy <EV>': '100eV' is not a number; give plain digits such as 100, -2.5 or 1.5e3, without a unit; --energy <EV>: Nominal beam energy e·V_acc, eV (1 to 300000)")),
+        (&["calc", "wavelength", "--energy", "abc"], Some("invalid value 'abc' for '--energy <EV>': 'abc' is not a number; give plain digits such as 100, -2.5 or 1.5e3, without a unit; --energy <EV>: Nominal beam energy e·V_acc, eV (1 to 300000)")),
         (&["calc", "wavelength", "--energy", "400000"], Some("E103: --energy 400000: energy above 300 keV; accepted 1 eV to 300000 eV")),
         (&["calc", "wavelength", "--energy", "100", "--inner-potential", "-3"], Some("E102: --inner-potential -3: inner potential negative; accepted 0 to 100 eV")),
         (&["calc", "wavelength", "--energy", "2", "--sample-work-function", "5"], Some("E104: --energy 2 --sample-work-function 5: kinetic energy at the sample below 1 eV after work-function and offset corrections; raise the gun energy")),
@@ -184,7 +186,7 @@ fn bad_input_exits_2_with_one_line() {
         (&["calc", "beams", "--crystal", "cu", "--face", "0001", "--energy", "100"], Some("E113: --face '0001': four-index indices only apply to hexagonal crystals; write e.g. 111, 1-10, 1,1,0 or (1 -1 0)")),
         (&["calc", "beams", "--crystal", "zn", "--face", "1,1,1,1", "--energy", "100"], Some("E112: --face '1,1,1,1': four-index (hkil) needs i = -(h+k); write e.g. 111, 1-10, 1,1,0 or (1 -1 0); four-index 0001 or 10-10")),
         (&["calc", "beams", "--crystal", "cu", "--face", "111", "--energy", "100", "--tilt", "95"], Some("--tilt 95: give a finite angle in degrees within ±89.9")),
-        (&["calc", "beams", "--crystal", "cu", "--face", "111", "--energy", "100", "--tilt", "nan"], Some("--tilt NaN: give a finite angle in degrees within ±89.9")),
+        (&["calc", "beams", "--crystal", "cu", "--face", "111", "--energy", "100", "--tilt", "nan"], Some("invalid value 'nan' for '--tilt <DEG>': 'nan' is not a finite number; give plain digits such as 100, -2.5 or 1.5e3; --tilt <DEG>: Sample tilt α, degrees, within ±89.9 (0: normal incidence)")),
         (&["calc", "ivpeaks", "--crystal", "cu", "--face", "111", "--beam", "3,0", "--from", "10", "--to", "20"], Some("E201: --beam 3,0: the beam emerges only at 276.17 eV at the sample (276.17 eV nominal), above --to 20: beam is evanescent at this energy and incidence; raise the energy or change the tilt")),
         (&["calc", "ivpeaks", "--crystal", "cu", "--face", "111", "--beam", "x", "--from", "10", "--to", "20"], Some("--beam 'x': give two integers H,K such as 1,0 or -1,1 (compact 10 or -11 also works)")),
         (&["calc", "ivpeaks", "--crystal", "cu", "--face", "111", "--beam", "0,0", "--from", "200", "--to", "20"], Some("--from 200 --to 20: 'from' must be below 'to'")),
@@ -695,4 +697,65 @@ fn crystal_faces_show_the_values_the_controller_uses() {
             }
         }
     }
+}
+
+/// `--tilt` and `--azimuth` mean the same and default the same on every command: the
+/// tilt always 0 (normal incidence) with one help text; the azimuth 0 with one help text
+/// where it is fixed (beams, ivpeaks, sweep, view), and absent — in-plane aiming — with
+/// one other help text where it selects two-circle aiming (aim, track, budget).
+#[test]
+fn tilt_and_azimuth_have_one_default_and_one_meaning_everywhere() {
+    use clap::CommandFactory;
+    let root = matterwave_console::cli::Cli::command();
+    let calc = root.find_subcommand("calc").unwrap();
+    let (mut tilts, mut fixed, mut aiming) = (Vec::new(), Vec::new(), Vec::new());
+    for sc in calc.get_subcommands() {
+        let name = sc.get_name().to_string();
+        for a in sc.get_arguments() {
+            let help = a.get_help().map(|h| h.to_string()).unwrap_or_default();
+            let default: Vec<String> = a
+                .get_default_values()
+                .iter()
+                .map(|v| v.to_string_lossy().into_owned())
+                .collect();
+            match a.get_long() {
+                Some("tilt") => tilts.push((name.clone(), help, default)),
+                Some("azimuth") if default.is_empty() => aiming.push((name.clone(), help)),
+                Some("azimuth") => fixed.push((name.clone(), help, default)),
+                _ => {}
+            }
+        }
+    }
+    let names = |v: &[(String, String, Vec<String>)]| -> Vec<String> {
+        v.iter().map(|x| x.0.clone()).collect()
+    };
+    assert_eq!(
+        names(&tilts),
+        ["beams", "ivpeaks", "aim", "track", "sweep", "view", "fit", "budget"]
+    );
+    for (n, help, default) in &tilts {
+        assert_eq!(default, &["0"], "{n}");
+        let h = help
+            .trim_start_matches("arm-zero: s")
+            .trim_start_matches('S');
+        assert_eq!(
+            h, "ample tilt α, degrees, within ±89.9 (0: normal incidence)",
+            "{n}"
+        );
+    }
+    assert_eq!(names(&fixed), ["beams", "ivpeaks", "sweep", "view"]);
+    for (n, help, default) in &fixed {
+        assert_eq!(default, &["0"], "{n}");
+        assert_eq!(help, &fixed[0].1, "{n}");
+    }
+    let aim: Vec<&str> = aiming.iter().map(|x| x.0.as_str()).collect();
+    assert_eq!(aim, ["aim", "track", "budget"]);
+    for (n, help) in &aiming {
+        assert_eq!(help, &aiming[0].1, "{n}");
+        assert!(help.contains("Without it, in-plane aiming"), "{n}: {help}");
+    }
+    // The tilt's accepted range in the help is the core's.
+    assert!(tilts[0]
+        .1
+        .contains(&format!("±{}", matterwave_core::surface::TILT_MAX_DEG)));
 }

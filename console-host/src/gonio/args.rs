@@ -47,13 +47,13 @@ pub struct TargetArgs {
 #[derive(Clone, Copy, Debug, clap::Args)]
 pub struct CorrectionArgs {
     /// Cathode work function, eV (adds to the energy at the sample; 0 = no correction).
-    #[arg(long, value_name = "EV", default_value_t = 0.0)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
     pub cathode_work_function: f32,
     /// Sample work function, eV (subtracts from the energy at the sample; 0 = none).
-    #[arg(long, value_name = "EV", default_value_t = 0.0)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
     pub sample_work_function: f32,
     /// Fitted gun energy offset, eV (added to the energy at the sample).
-    #[arg(long, value_name = "EV", default_value_t = 0.0)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
     pub energy_offset: f32,
 }
 
@@ -84,12 +84,13 @@ pub struct AimArgs {
     /// Gun settings.
     #[command(flatten)]
     pub gun: GunArgs,
-    /// Sample tilt α, degrees (0 = normal incidence).
-    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+    /// Sample tilt α, degrees, within ±89.9 (0: normal incidence).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub tilt: f32,
-    /// Two-circle mode: keep this sample azimuth φ (degrees) and use the elevation axis.
-    /// Without it: in-plane mode (the azimuth turns the beam into the scattering plane).
-    #[arg(long, value_name = "DEG")]
+    /// Sample azimuth φ, degrees, within ±360: aim two-circle at this azimuth (with the
+    /// elevation axis unless the beam stays in the plane). Without it, in-plane aiming: the
+    /// azimuth axis turns the beam into the scattering plane.
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG")]
     pub azimuth: Option<f32>,
     /// Branch preference in in-plane mode: `+1` (g along +e1), `-1`, or `nearest`
     /// (whichever solution is nearest the current position).
@@ -111,22 +112,24 @@ pub struct TrackArgs {
     #[command(flatten)]
     pub target: TargetArgs,
     /// First nominal energy, eV.
-    #[arg(long, value_name = "EV")]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV")]
     pub from: f32,
     /// Last nominal energy, eV (included when the steps land on it).
-    #[arg(long, value_name = "EV")]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV")]
     pub to: f32,
     /// Nominal energy step, eV.
-    #[arg(long, value_name = "EV")]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV")]
     pub step: f32,
     /// Gun corrections.
     #[command(flatten)]
     pub corrections: CorrectionArgs,
-    /// Sample tilt α, degrees.
-    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+    /// Sample tilt α, degrees, within ±89.9 (0: normal incidence).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub tilt: f32,
-    /// Two-circle mode at this azimuth, degrees (default: in-plane mode).
-    #[arg(long, value_name = "DEG")]
+    /// Sample azimuth φ, degrees, within ±360: aim two-circle at this azimuth (with the
+    /// elevation axis unless the beam stays in the plane). Without it, in-plane aiming: the
+    /// azimuth axis turns the beam into the scattering plane.
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG")]
     pub azimuth: Option<f32>,
     /// Branch preference in in-plane mode: `+1` or `-1` holds the track on that branch
     /// over the whole range; `nearest` follows the solution nearest the previous point.
@@ -134,7 +137,7 @@ pub struct TrackArgs {
           value_parser = parse_branch, allow_hyphen_values = true)]
     pub branch: Branch,
     /// Dwell at every reachable point, seconds, for the time estimate.
-    #[arg(long, value_name = "S", default_value_t = 0.0)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "S", default_value_t = 0.0)]
     pub dwell: f32,
     /// The rig.
     #[command(flatten)]
@@ -157,25 +160,25 @@ pub struct SweepArgs {
     #[command(flatten)]
     pub gun: GunArgs,
     /// First arm angle, degrees.
-    #[arg(long, value_name = "DEG")]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG")]
     pub arm_from: f32,
     /// Last arm angle, degrees.
-    #[arg(long, value_name = "DEG")]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG")]
     pub arm_to: f32,
     /// Arm step, degrees.
-    #[arg(long, value_name = "DEG")]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG")]
     pub step: f32,
-    /// Sample tilt α, degrees.
-    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+    /// Sample tilt α, degrees, within ±89.9 (0: normal incidence).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub tilt: f32,
-    /// Sample azimuth φ, degrees.
-    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+    /// Sample azimuth φ, degrees, within ±360 (0: a1 along e1, in the scattering plane).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub azimuth: f32,
     /// Detector elevation during the sweep, degrees (needs an elevation axis unless 0).
-    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub elevation: f32,
     /// Dwell at every reachable point, seconds, for the time estimate.
-    #[arg(long, value_name = "S", default_value_t = 0.0)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "S", default_value_t = 0.0)]
     pub dwell: f32,
     /// Also list every sweep point with its arm setpoint and the beam in view.
     #[arg(long)]
@@ -201,19 +204,19 @@ pub struct ViewArgs {
     #[command(flatten)]
     pub gun: GunArgs,
     /// Arm angle δ, degrees.
-    #[arg(long, value_name = "DEG")]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG")]
     pub arm: f32,
     /// Elevation ν, degrees (needs an elevation axis unless 0).
-    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub elevation: f32,
-    /// Sample azimuth φ, degrees.
-    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+    /// Sample azimuth φ, degrees, within ±360 (0: a1 along e1, in the scattering plane).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub azimuth: f32,
-    /// Sample tilt α, degrees.
-    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+    /// Sample tilt α, degrees, within ±89.9 (0: normal incidence).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub tilt: f32,
     /// Acceptance half-angle, degrees (above 0, up to 90; default: the rig's detector).
-    #[arg(long, value_name = "DEG")]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG")]
     pub acceptance: Option<f32>,
     /// The rig.
     #[command(flatten)]
@@ -294,7 +297,7 @@ pub struct FitArgs {
     pub method: PeakMethod,
     /// peak, centroid: background level subtracted from every current (default: the
     /// smallest current in the file).
-    #[arg(long, value_name = "CURRENT")]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "CURRENT")]
     pub threshold: Option<f32>,
     /// arm-zero: crystal id.
     #[arg(long, value_name = "ID")]
@@ -305,15 +308,15 @@ pub struct FitArgs {
     /// arm-zero: the beam measured, H,K.
     #[arg(long, value_name = "H,K", allow_hyphen_values = true)]
     pub beam: Option<String>,
-    /// arm-zero: sample tilt α, degrees.
-    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+    /// arm-zero: sample tilt α, degrees, within ±89.9 (0: normal incidence).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub tilt: f32,
     /// arm-zero: cathode work function, eV (the fitted ΔE is then the offset beyond the
     /// contact-potential correction).
-    #[arg(long, value_name = "EV", default_value_t = 0.0)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
     pub cathode_work_function: f32,
     /// arm-zero: sample work function, eV.
-    #[arg(long, value_name = "EV", default_value_t = 0.0)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
     pub sample_work_function: f32,
 }
 
@@ -326,11 +329,13 @@ pub struct BudgetArgs {
     /// Gun settings.
     #[command(flatten)]
     pub gun: GunArgs,
-    /// Sample tilt α, degrees.
-    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+    /// Sample tilt α, degrees, within ±89.9 (0: normal incidence).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub tilt: f32,
-    /// Two-circle mode at this azimuth, degrees (default: in-plane mode).
-    #[arg(long, value_name = "DEG")]
+    /// Sample azimuth φ, degrees, within ±360: aim two-circle at this azimuth (with the
+    /// elevation axis unless the beam stays in the plane). Without it, in-plane aiming: the
+    /// azimuth axis turns the beam into the scattering plane.
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG")]
     pub azimuth: Option<f32>,
     /// Branch preference in in-plane mode: `+1` (g along +e1), `-1`, or `nearest`
     /// (whichever solution is nearest the current position).
@@ -339,10 +344,10 @@ pub struct BudgetArgs {
     pub branch: Branch,
     /// One standard deviation of the beam energy, eV (default 0.3: a thermionic
     /// cathode's spread is a few tenths of an eV, common practice).
-    #[arg(long, value_name = "EV", default_value_t = 0.3)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.3)]
     pub energy_spread: f32,
     /// One standard deviation of the arm zero, degrees (e.g. the σ of `fit arm-zero`).
-    #[arg(long, value_name = "DEG", default_value_t = 0.02)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.02)]
     pub arm_zero_sigma: f32,
     /// The rig.
     #[command(flatten)]
