@@ -98,8 +98,8 @@ pub enum Calc {
         #[command(flatten)]
         gun: GunArgs,
         /// Inner potential V0, eV (0 to 100), for the wavelength inside the crystal.
-        #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV")]
-        inner_potential: Option<f32>,
+        #[arg(value_parser = calc::ev_or_face, long, value_name = "EV")]
+        inner_potential: Option<calc::EvOrFace>,
     },
     /// Bulk reflection families in order of decreasing d, with Bragg angles.
     #[command(allow_negative_numbers = true)]
@@ -185,15 +185,17 @@ pub enum Calc {
         /// Sample azimuth φ, degrees, within ±360 (0: a1 along e1, in the scattering plane).
         #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
         azimuth: f32,
-        /// Inner potential V0, eV (default: the table's value for the face).
-        #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV")]
-        inner_potential: Option<f32>,
+        /// Inner potential V0, eV (0 to 100), or `face`: the crystal table's value for the
+        /// face (the default).
+        #[arg(value_parser = calc::ev_or_face, long, value_name = "EV|face")]
+        inner_potential: Option<calc::EvOrFace>,
         /// Cathode work function, eV.
         #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
         cathode_work_function: f32,
-        /// Sample work function, eV.
-        #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
-        sample_work_function: f32,
+        /// Sample work function, eV (subtracts from the energy at the sample; 0 = none), or
+        /// `face`: the crystal table's value for the face.
+        #[arg(value_parser = calc::ev_or_face, long, value_name = "EV|face", default_value = "0")]
+        sample_work_function: calc::EvOrFace,
         /// Gun energy offset, eV.
         #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
         energy_offset: f32,

@@ -15,7 +15,7 @@ pub fn run(format: Format) -> CliResult<String> {
     let gun = GunArgs {
         energy: 95.0,
         cathode_work_function: 2.7,
-        sample_work_function: 4.64,
+        sample_work_function: calc::EvOrFace::Ev(4.64),
         energy_offset: 0.0,
     };
     let iv = IvArgs {
@@ -26,14 +26,14 @@ pub fn run(format: Format) -> CliResult<String> {
         azimuth: 0.0,
         inner_potential: None,
         cathode_work_function: 2.7,
-        sample_work_function: 4.64,
+        sample_work_function: calc::EvOrFace::Ev(4.64),
         energy_offset: 0.0,
     };
     let sections = [
         (
             "beam",
             "beam: 95 eV nominal, LaB6 cathode 2.7 eV, Ag sample 4.64 eV",
-            calc::wavelength(&gun, Some(10.0))?,
+            calc::wavelength(&gun, Some(calc::EvOrFace::Ev(10.0)))?,
         ),
         (
             "beams",

@@ -25,9 +25,11 @@ pub fn f32_arg(s: &str) -> Result<f32, String> {
                 "'{s}' is not a finite number; give plain digits such as 100, -2.5 or 1.5e3"
             ))
         }
-        Err(_) => return Err(format!(
+        Err(_) => {
+            return Err(format!(
             "'{s}' is not a number; give plain digits such as 100, -2.5 or 1.5e3, without a unit"
-        )),
+        ))
+        }
     };
     if wide.abs() > f64::from(f32::MAX) {
         return Err(format!(

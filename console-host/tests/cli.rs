@@ -190,7 +190,7 @@ fn bad_input_exits_2_with_one_line() {
         (&["calc", "ivpeaks", "--crystal", "cu", "--face", "111", "--beam", "3,0", "--from", "10", "--to", "20"], Some("E201: --beam 3,0: the beam emerges only at 276.17 eV at the sample (276.17 eV nominal), above --to 20: beam is evanescent at this energy and incidence; raise the energy or change the tilt")),
         (&["calc", "ivpeaks", "--crystal", "cu", "--face", "111", "--beam", "x", "--from", "10", "--to", "20"], Some("--beam 'x': give two integers H,K such as 1,0 or -1,1 (compact 10 or -11 also works)")),
         (&["calc", "ivpeaks", "--crystal", "cu", "--face", "111", "--beam", "0,0", "--from", "200", "--to", "20"], Some("--from 200 --to 20: 'from' must be below 'to'")),
-        (&["calc", "ivpeaks", "--crystal", "gaas", "--face", "100", "--beam", "0,0", "--from", "20", "--to", "200"], Some("no inner potential in the table for gaas; give --inner-potential EV")),
+        (&["calc", "ivpeaks", "--crystal", "gaas", "--face", "100", "--beam", "0,0", "--from", "20", "--to", "200"], Some("E132: --inner-potential face: the crystal table has no inner potential for gaas (100); give it in eV (`mwctl crystals --crystal gaas` lists the table's values)")),
         (&["calc", "nonsense"], Some("unknown command 'nonsense' for `mwctl calc`: accepted: wavelength, reflections, rings, beams, ivpeaks, aim, track, sweep, view, fit, budget")),
         (&["calc"], Some("`mwctl calc` needs a command: one of wavelength, reflections, rings, beams, ivpeaks, aim, track, sweep, view, fit, budget")),
         (&[], Some("`mwctl` needs a command: one of crystals, calc, demo, rig, safety, talk")),
@@ -758,4 +758,249 @@ fn tilt_and_azimuth_have_one_default_and_one_meaning_everywhere() {
     assert!(tilts[0]
         .1
         .contains(&format!("±{}", matterwave_core::surface::TILT_MAX_DEG)));
+}
+
+/// `--sample-work-function face` and `--inner-potential face` take the crystal table's
+/// value for the face: the source is tables/crystals.toml itself (read here, not through
+/// the core), the face's own value where it has one, else the crystal's. A face without
+/// one, or a command without a face, is refused naming the option.
+#[test]
+fn face_takes_the_tables_value_for_the_face() {
+    let toml: toml::Table = std::fs::read_to_string(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/../tables/crystals.toml"
+    ))
+    .unwrap()
+    .parse()
+    .unwrap();
+    let crystal = |id: &str| -> toml::Table {
+        toml["crystal"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|c| c["id"].as_str() == Some(id))
+            .unwrap()
+            .as_table()
+            .unwrap()
+            .clone()
+    };
+    let num = |v: &toml::Value| v.as_float().or(v.as_integer().map(|i| i as f64)).unwrap();
+    let table = |id: &str, miller: [i64; 3], key: &str| -> Option<f64> {
+        let c = crystal(id);
+        let own = c.get("face").and_then(|f| {
+            f.as_array().unwrap().iter().find_map(|f| {
+                let m: Vec<i64> = f["miller"]
+                    .as_array()
+                    .unwrap()
+                    .iter()
+                    .map(|x| x.as_integer().unwrap())
+                    .collect();
+                (m == miller).then(|| f.get(key).map(num)).flatten()
+            })
+        });
+        own.or_else(|| c.get(key).map(num))
+    };
+    // Invented scenarios: W(110) at 80 eV with a 2.7 eV cathode; Pt(111) and Pt(100).
+    for (id, face, m) in [
+        ("w", "110", [1, 1, 0]),
+        ("pt", "111", [1, 1, 1]),
+        ("pt", "100", [1, 0, 0]),
+    ] {
+        let want = table(id, m, "work_function_ev").unwrap();
+        let base = [
+            "calc",
+            "beams",
+            "--crystal",
+            id,
+            "--face",
+            face,
+            "--energy",
+            "80",
+            "--cathode-work-function",
+            "2.7",
+        ];
+        let mut args = base.to_vec();
+        args.extend(["--sample-work-function", "face"]);
+        let v = json(&args);
+        let got = v["sample_work_function_ev"].as_f64().unwrap();
+        assert!((got - want).abs() < 1e-5, "{id} {face}: {got} vs {want}");
+        // The same as giving the number.
+        let typed = format!("{want}");
+        let mut by_hand = base.to_vec();
+        by_hand.extend(["--sample-work-function", &typed]);
+        assert_eq!(json(&by_hand)["energy_ev"], v["energy_ev"], "{id} {face}");
+        // aim, sweep, view, track, budget and ivpeaks take it too.
+        let aim = json(&[
+            "calc",
+            "aim",
+            "--crystal",
+            id,
+            "--face",
+            face,
+            "--beam",
+            "1,0",
+            "--energy",
+            "80",
+            "--tilt",
+            "10",
+            "--sample-work-function",
+            "face",
+        ]);
+        assert!((aim["sample_work_function_ev"].as_f64().unwrap() - want).abs() < 1e-5);
+        let iv = json(&[
+            "calc",
+            "ivpeaks",
+            "--crystal",
+            id,
+            "--face",
+            face,
+            "--beam",
+            "0,0",
+            "--from",
+            "30",
+            "--to",
+            "200",
+            "--sample-work-function",
+            "face",
+            "--inner-potential",
+            "face",
+        ]);
+        assert!((iv["sample_work_function_ev"].as_f64().unwrap() - want).abs() < 1e-5);
+        let v0 = table(id, m, "inner_potential_ev").unwrap();
+        assert!((iv["inner_potential_ev"].as_f64().unwrap() - v0).abs() < 1e-5);
+        for cmd in [
+            vec![
+                "calc",
+                "sweep",
+                "--crystal",
+                id,
+                "--face",
+                face,
+                "--energy",
+                "80",
+                "--arm-from",
+                "20",
+                "--arm-to",
+                "60",
+                "--step",
+                "1",
+                "--sample-work-function",
+                "face",
+            ],
+            vec![
+                "calc",
+                "view",
+                "--crystal",
+                id,
+                "--face",
+                face,
+                "--energy",
+                "80",
+                "--arm",
+                "40",
+                "--sample-work-function",
+                "face",
+            ],
+            vec![
+                "calc",
+                "budget",
+                "--crystal",
+                id,
+                "--face",
+                face,
+                "--beam",
+                "1,0",
+                "--energy",
+                "80",
+                "--tilt",
+                "10",
+                "--sample-work-function",
+                "face",
+            ],
+        ] {
+            let v = json(&cmd);
+            assert!(
+                (v["sample_work_function_ev"].as_f64().unwrap() - want).abs() < 1e-5,
+                "{cmd:?}"
+            );
+        }
+        let tr = json(&[
+            "calc",
+            "track",
+            "--crystal",
+            id,
+            "--face",
+            face,
+            "--beam",
+            "1,0",
+            "--from",
+            "60",
+            "--to",
+            "100",
+            "--step",
+            "20",
+            "--tilt",
+            "10",
+            "--sample-work-function",
+            "face",
+        ]);
+        assert!(
+            (tr["correction_ev"].as_f64().unwrap() + want).abs() < 1e-5,
+            "{tr}"
+        );
+    }
+    // No value in the table: refused, naming the option (GaAs has no work function).
+    assert_eq!(table("gaas", [1, 0, 0], "work_function_ev"), None);
+    let (code, _, err) = mwctl(&[
+        "calc",
+        "beams",
+        "--crystal",
+        "gaas",
+        "--face",
+        "100",
+        "--energy",
+        "80",
+        "--sample-work-function",
+        "face",
+    ]);
+    assert_eq!(code, 2);
+    assert_eq!(err.trim_end(), "mwctl: error: E132: --sample-work-function face: the crystal table has no work function for gaas (100); give it in eV (`mwctl crystals --crystal gaas` lists the table's values)");
+    // A command without a face cannot look it up.
+    for (opt, cmd) in [
+        (
+            "--sample-work-function",
+            vec!["calc", "wavelength", "--energy", "80"],
+        ),
+        (
+            "--inner-potential",
+            vec!["calc", "wavelength", "--energy", "80"],
+        ),
+        (
+            "--sample-work-function",
+            vec!["calc", "reflections", "--crystal", "cu", "--energy", "8000"],
+        ),
+    ] {
+        let mut a = cmd.clone();
+        a.extend([opt, "face"]);
+        let (code, _, err) = mwctl(&a);
+        assert_eq!(code, 2, "{a:?}");
+        assert!(
+            err.starts_with(&format!("mwctl: error: {opt} face: `calc ")),
+            "{err}"
+        );
+        assert!(err.contains("give it in eV"), "{err}");
+    }
+    // `mwctl crystals --crystal ID` shows each face's value and where it came from.
+    let v = json(&["crystals", "--crystal", "pt"]);
+    let faces = v["faces"].as_array().unwrap();
+    let f111 = faces.iter().find(|f| f["face"] == "(111)").unwrap();
+    assert_eq!(f111["work_function_from"], "face");
+    assert!(
+        (f111["work_function_ev"].as_f64().unwrap()
+            - table("pt", [1, 1, 1], "work_function_ev").unwrap())
+        .abs()
+            < 1e-9
+    );
+    let f100 = faces.iter().find(|f| f["face"] == "(100)").unwrap();
+    assert_eq!(f100["work_function_from"], "crystal");
 }

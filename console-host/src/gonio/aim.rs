@@ -189,8 +189,9 @@ pub(super) fn aim_query<'a>(
     azimuth: Option<f32>,
     branch: Branch,
     position: &PositionArgs,
-) -> CliResult<(&'static Crystal, Cell, f32, AimQuery<'a>)> {
+) -> CliResult<(&'static Crystal, Cell, f32, AimQuery<'a>, GunArgs)> {
     let (c, cell, face, rod) = target(target_args)?;
+    let gun = gun.at_face(c, &face)?;
     let e = gun.kinetic_ev()?;
     let q = AimQuery {
         rig: &rf.rig,
@@ -201,7 +202,7 @@ pub(super) fn aim_query<'a>(
         branch,
         current: parse_position(position.position.as_deref(), &rf.rig)?,
     };
-    Ok((c, cell, e, q))
+    Ok((c, cell, e, q, gun))
 }
 
 // ---------------------------------------------------------------------------------------
@@ -210,7 +211,7 @@ pub(super) fn aim_query<'a>(
 /// `mwctl calc aim`.
 pub fn aim(a: &AimArgs) -> CliResult<Report> {
     let rf = a.rig.load()?;
-    let (c, _, e, q) = aim_query(
+    let (c, _, e, q, gun) = aim_query(
         &rf,
         &a.target,
         &a.gun,
@@ -220,11 +221,11 @@ pub fn aim(a: &AimArgs) -> CliResult<Report> {
         &a.position,
     )?;
     let mut buf = [Solution::EMPTY; MAX_SOLUTIONS];
-    let n = q.reachable(e, a.gun.energy, a.gun.correction_ev(), &mut buf)?;
+    let n = q.reachable(e, gun.energy, gun.correction_ev(), &mut buf)?;
     let mut r = Report::default();
     crystal_face_fields(&mut r, c, &q.face);
     r.field("beam", "beam", text(rod_text(q.rod)));
-    a.gun.fields(&mut r, e);
+    gun.fields(&mut r, e);
     r.field(
         "wavelength_a",
         "wavelength (Å)",
@@ -256,7 +257,7 @@ pub fn aim(a: &AimArgs) -> CliResult<Report> {
 pub fn budget_cmd(a: &BudgetArgs) -> CliResult<Report> {
     let rf = a.rig.load()?;
     let rig = &rf.rig;
-    let (c, _, e, q) = aim_query(
+    let (c, _, e, q, gun) = aim_query(
         &rf,
         &a.target,
         &a.gun,
@@ -288,7 +289,7 @@ pub fn budget_cmd(a: &BudgetArgs) -> CliResult<Report> {
         }
         // Refused by the rig: say which axis refuses each geometric pose.
         let mut buf = [Solution::EMPTY; MAX_SOLUTIONS];
-        q.reachable(e, a.gun.energy, a.gun.correction_ev(), &mut buf)?;
+        q.reachable(e, gun.energy, gun.correction_ev(), &mut buf)?;
         Err(CliError::core(
             er,
             "energy sensitivity (the beam is too close to its emergence energy)",
@@ -314,7 +315,7 @@ pub fn budget_cmd(a: &BudgetArgs) -> CliResult<Report> {
     let mut r = Report::default();
     crystal_face_fields(&mut r, c, &face);
     r.field("beam", "beam", text(rod_text(rod)));
-    a.gun.fields(&mut r, e);
+    gun.fields(&mut r, e);
     r.field("tilt_deg", "tilt (deg)", f(tilt, 3));
     r.field("mode", "mode", text(mode_text(mode)));
     r.field(
@@ -377,7 +378,7 @@ pub fn add_reach(
 ) -> CliResult<()> {
     let c = calc::crystal(crystal)?;
     let (_, face) = calc::face_of(c, face_text)?;
-    let e = gun.kinetic_ev()?;
+    let e = gun.at_face(c, &face)?.kinetic_ev()?;
     let mode = if rf.rig.elevation.is_some() {
         Mode::AtAzimuth(azimuth_deg)
     } else {

@@ -49,26 +49,42 @@ pub struct CorrectionArgs {
     /// Cathode work function, eV (adds to the energy at the sample; 0 = no correction).
     #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
     pub cathode_work_function: f32,
-    /// Sample work function, eV (subtracts from the energy at the sample; 0 = none).
-    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
-    pub sample_work_function: f32,
+    /// Sample work function, eV (subtracts from the energy at the sample; 0 = none), or
+    /// `face`: the crystal table's value for the face.
+    #[arg(value_parser = crate::calc::ev_or_face, long, value_name = "EV|face", default_value = "0")]
+    pub sample_work_function: crate::calc::EvOrFace,
     /// Fitted gun energy offset, eV (added to the energy at the sample).
     #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
     pub energy_offset: f32,
 }
 
 impl CorrectionArgs {
-    pub(super) fn gun(&self, nominal_ev: f32) -> Gun {
-        Gun {
-            nominal_ev,
-            cathode_work_function_ev: self.cathode_work_function,
-            sample_work_function_ev: self.sample_work_function,
-            offset_ev: self.energy_offset,
+    /// These corrections with `--sample-work-function face` replaced by the table's value
+    /// for `face` of `c`.
+    pub(super) fn at_face(&self, c: &Crystal, face: &Face) -> CliResult<CorrectionArgs> {
+        let g = self.gun_args(0.0).at_face(c, face)?;
+        Ok(CorrectionArgs {
+            sample_work_function: g.sample_work_function,
+            ..*self
+        })
+    }
+
+    /// The corrections with a nominal energy, as [`GunArgs`].
+    pub(super) fn gun_args(&self, nominal_ev: f32) -> GunArgs {
+        GunArgs {
+            energy: nominal_ev,
+            cathode_work_function: self.cathode_work_function,
+            sample_work_function: self.sample_work_function,
+            energy_offset: self.energy_offset,
         }
     }
 
+    pub(super) fn gun(&self, nominal_ev: f32) -> Gun {
+        self.gun_args(nominal_ev).gun()
+    }
+
     pub(super) fn correction_ev(&self) -> f32 {
-        self.cathode_work_function - self.sample_work_function + self.energy_offset
+        self.gun_args(0.0).correction_ev()
     }
 }
 
@@ -315,9 +331,10 @@ pub struct FitArgs {
     /// contact-potential correction).
     #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
     pub cathode_work_function: f32,
-    /// arm-zero: sample work function, eV.
-    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
-    pub sample_work_function: f32,
+    /// arm-zero: sample work function, eV, or `face`: the crystal table's value for the
+    /// face.
+    #[arg(value_parser = crate::calc::ev_or_face, long, value_name = "EV|face", default_value = "0")]
+    pub sample_work_function: crate::calc::EvOrFace,
 }
 
 /// Arguments of `mwctl calc budget`.

@@ -305,13 +305,22 @@ pub(super) fn fit_arm_zero(
     let (_, face) = calc::face_of(c, face_t)?;
     let rod = calc::parse_rod(beam_t)?;
     let tilt = check_angle(a.tilt, "tilt", TILT_MAX_DEG)?;
+    let sample = match a.sample_work_function {
+        calc::EvOrFace::Ev(x) => x,
+        calc::EvOrFace::Face => calc::table_value(
+            calc::TableValue::WorkFunction,
+            "--sample-work-function",
+            c,
+            &face,
+        )?,
+    };
     for (name, x) in [
         ("cathode-work-function", a.cathode_work_function),
-        ("sample-work-function", a.sample_work_function),
+        ("sample-work-function", sample),
     ] {
         beam::check_work_function(x).ctx(format_args!("--{name} {x}"))?;
     }
-    let wf = a.cathode_work_function - a.sample_work_function;
+    let wf = a.cathode_work_function - sample;
     if face.rod_inv_a(rod) == [0.0, 0.0] {
         return Err(CliError::new(format!(
             "fit arm-zero --beam {}: the specular beam sits at twice the tilt at every energy, so it cannot fix the gun offset; measure a diffracted beam",

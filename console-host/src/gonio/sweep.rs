@@ -62,7 +62,8 @@ pub fn sweep(a: &SweepArgs) -> CliResult<SweepOutput> {
     let rig = &rf.rig;
     let c = calc::crystal(&a.crystal)?;
     let (_, face) = calc::face_of(c, &a.face)?;
-    let e = a.gun.kinetic_ev()?;
+    let gun = a.gun.at_face(c, &face)?;
+    let e = gun.kinetic_ev()?;
     let tilt = check_angle(a.tilt, "tilt", TILT_MAX_DEG)?;
     let azimuth = check_angle(a.azimuth, "azimuth", 360.0)?;
     let elevation = check_angle(a.elevation, "elevation", 90.0)?;
@@ -143,7 +144,7 @@ pub fn sweep(a: &SweepArgs) -> CliResult<SweepOutput> {
     let est = scan::estimate_sweep_s(&plan, start[0], dwell);
     let mut r = Report::default();
     crystal_face_fields(&mut r, c, &face);
-    a.gun.fields(&mut r, e);
+    gun.fields(&mut r, e);
     r.field("tilt_deg", "tilt (deg)", f(tilt, 3));
     r.field("azimuth_deg", "azimuth (deg)", f(azimuth, 3));
     r.field("elevation_deg", "elevation (deg)", f(elevation, 3));
@@ -209,7 +210,8 @@ pub fn view(a: &ViewArgs) -> CliResult<Report> {
     let rig = &rf.rig;
     let c = calc::crystal(&a.crystal)?;
     let (_, face) = calc::face_of(c, &a.face)?;
-    let e = a.gun.kinetic_ev()?;
+    let gun = a.gun.at_face(c, &face)?;
+    let e = gun.kinetic_ev()?;
     let tilt = check_angle(a.tilt, "tilt", TILT_MAX_DEG)?;
     let azimuth = check_angle(a.azimuth, "azimuth", 360.0)?;
     let arm = check_angle(a.arm, "arm", 360.0)?;
@@ -236,7 +238,7 @@ pub fn view(a: &ViewArgs) -> CliResult<Report> {
     };
     let mut r = Report::default();
     crystal_face_fields(&mut r, c, &face);
-    a.gun.fields(&mut r, e);
+    gun.fields(&mut r, e);
     r.field("tilt_deg", "tilt (deg)", f(tilt, 3));
     r.field("azimuth_deg", "azimuth (deg)", f(azimuth, 3));
     r.field("arm_deg", "arm (deg)", f(arm, 4));

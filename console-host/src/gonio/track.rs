@@ -13,7 +13,7 @@ pub fn track(a: &TrackArgs) -> CliResult<Report> {
     let mode = mode_of(a.azimuth)?;
     let dwell = check_dwell(a.dwell)?;
     let start = parse_position(a.position.position.as_deref(), &rf.rig)?;
-    let corr = &a.corrections;
+    let corr = &a.corrections.at_face(c, &face)?;
     for (name, x) in [("from", a.from), ("to", a.to)] {
         corr.gun(x)
             .kinetic_energy_ev()
