@@ -151,14 +151,16 @@ pub(super) fn solution_columns() -> Vec<crate::output::Column> {
         col("elevation_steps", "elevation steps"),
         col("tilt_steps", "tilt steps"),
         col("arm_residual_deg", "arm residual (deg)"),
-        col("arm_approach_steps", "arm turn-round"),
+        col("arm_approach_steps", "arm turn-round (steps)"),
         col("branch", "branch"),
         col("exit_deg", "exit (deg)"),
+        col("exit_azimuth_deg", "exit azimuth (deg)"),
         col("travel_deg", "travel (deg)"),
     ]
 }
 
-pub(super) fn solution_row(s: &Solution) -> Vec<Value> {
+pub(super) fn solution_row(s: &Solution, exit: [Value; 2]) -> Vec<Value> {
+    let [exit_deg, exit_azimuth] = exit;
     vec![
         f(s.azimuth.angle_deg, 4),
         f(s.arm.angle_deg, 4),
@@ -174,7 +176,8 @@ pub(super) fn solution_row(s: &Solution) -> Vec<Value> {
             .approach_steps
             .map_or(Value::Missing, |a| Value::Int(a.into())),
         Value::Int(s.branch.into()),
-        f(s.exit_deg, 4),
+        exit_deg,
+        exit_azimuth,
         f(s.travel_deg, 3),
     ]
 }
@@ -243,7 +246,10 @@ pub fn aim(a: &AimArgs) -> CliResult<Report> {
     r.list = Some(List {
         key: "solutions",
         columns: solution_columns(),
-        rows: buf[..n].iter().map(solution_row).collect(),
+        rows: buf[..n]
+            .iter()
+            .map(|s| solution_row(s, exit_of(&q.face, q.rod, e, s)))
+            .collect(),
     });
     r.notes
         .push("Solutions nearest the current position (least total travel) first.".into());

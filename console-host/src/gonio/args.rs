@@ -155,6 +155,11 @@ pub struct TrackArgs {
     /// Dwell at every reachable point, seconds, for the time estimate.
     #[arg(value_parser = crate::number::f32_arg, long, value_name = "S", default_value_t = 0.0)]
     pub dwell: f32,
+    /// Inner potential V0, eV (0 to 100), for marking the points nearest the predicted
+    /// kinematic I-V maxima, or `face`: the crystal table's value (the default; no marks
+    /// when the table has none).
+    #[arg(value_parser = crate::calc::ev_or_face, long, value_name = "EV|face")]
+    pub inner_potential: Option<crate::calc::EvOrFace>,
     /// The rig.
     #[command(flatten)]
     pub rig: RigArgs,
