@@ -464,8 +464,11 @@ pub fn wavelength(g: &GunArgs, inner_potential: Option<EvOrFace>) -> CliResult<R
 }
 
 fn check_max(max: usize) -> CliResult<usize> {
-    if max == 0 || max > 10_000 {
-        Err(CliError::new(format!("--max {max}: give 1 to 10000")))
+    if max == 0 || max > crate::number::MAX_ROWS {
+        Err(CliError::new(format!(
+            "--max {max}: give 1 to {}",
+            crate::number::MAX_ROWS
+        )))
     } else {
         Ok(max)
     }

@@ -110,8 +110,8 @@ pub enum Calc {
         /// Gun settings.
         #[command(flatten)]
         gun: GunArgs,
-        /// Most families to list.
-        #[arg(long, value_name = "N", default_value_t = 20)]
+        /// Most families to list, 1 to 10000.
+        #[arg(value_parser = crate::number::max_arg, long, value_name = "N", default_value_t = 20)]
         max: usize,
     },
     /// Transmission rings on a flat screen at a distance.
@@ -126,8 +126,8 @@ pub enum Calc {
         /// Sample-to-screen distance, mm.
         #[arg(value_parser = crate::number::f32_arg, long, value_name = "MM")]
         screen_distance: f32,
-        /// Most rings to list.
-        #[arg(long, value_name = "N", default_value_t = 20)]
+        /// Most rings to list, 1 to 10000.
+        #[arg(value_parser = crate::number::max_arg, long, value_name = "N", default_value_t = 20)]
         max: usize,
     },
     /// Diffracted beams of a face at an energy: row spacings, exit angles, emergence
@@ -149,8 +149,8 @@ pub enum Calc {
         /// Sample azimuth φ, degrees, within ±360 (0: a1 along e1, in the scattering plane).
         #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
         azimuth: f32,
-        /// Most beams to list (smallest |g| first).
-        #[arg(long, value_name = "N", default_value_t = 500)]
+        /// Most beams to list (smallest |g| first), 1 to 10000.
+        #[arg(value_parser = crate::number::max_arg, long, value_name = "N", default_value_t = 500)]
         max: usize,
         /// With a rig file: say for each beam whether the arm can be put on it from home
         /// (in-plane, turning the azimuth, on a one-circle arm; at this azimuth with the
@@ -199,8 +199,8 @@ pub enum Calc {
         /// Gun energy offset, eV.
         #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
         energy_offset: f32,
-        /// Most peaks to list.
-        #[arg(long, value_name = "N", default_value_t = 100)]
+        /// Most peaks to list, 1 to 10000.
+        #[arg(value_parser = crate::number::max_arg, long, value_name = "N", default_value_t = 100)]
         max: usize,
     },
     /// Point the arm (and turn the sample) at a beam: setpoints of every axis, nearest

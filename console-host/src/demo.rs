@@ -62,15 +62,18 @@ pub fn run(format: Format) -> CliResult<String> {
                     .map_err(|e| CliError::new(format!("demo: {e}")))?;
                 doc.insert((*key).into(), v);
             }
-            let controller: Vec<serde_json::Value> = session
-                .iter()
-                .map(|(req, replies)| {
-                    serde_json::json!({
-                        "request": req,
-                        "replies": replies.iter().map(|l| crate::talk::reply_json(l)).collect::<Vec<_>>(),
-                    })
-                })
-                .collect();
+            // One object per reply line, each with its request: what `mwctl talk
+            // --format json` prints for the same session.
+            let mut controller: Vec<serde_json::Value> = Vec::new();
+            for (req, replies) in &session {
+                for l in replies {
+                    let mut v = crate::talk::reply_json(l);
+                    if let Some(o) = v.as_object_mut() {
+                        o.insert("request".into(), serde_json::Value::from(&**req));
+                    }
+                    controller.push(v);
+                }
+            }
             doc.insert("controller".into(), serde_json::Value::from(controller));
             Ok(crate::output::json_text(&serde_json::Value::Object(doc)))
         }

@@ -1,4 +1,5 @@
-//! Numbers on the command line: every f32 option is read by [`f32_arg`], which echoes
+//! Numbers on the command line: every f32 option is read by [`f32_arg`] (and every
+//! `--max` by [`max_arg`]), which echoes
 //! what was typed and says what is wrong (a unit or other text, an infinity, a value
 //! beyond the f32 range), instead of Rust's "invalid float literal" or a silent `inf`.
 
@@ -38,4 +39,24 @@ pub fn f32_arg(s: &str) -> Result<f32, String> {
         ));
     }
     Ok(wide as f32)
+}
+
+/// Most rows a `--max` accepts.
+pub const MAX_ROWS: usize = 10_000;
+
+/// Reads a `--max` count: a whole number from 1 to [`MAX_ROWS`]; the error quotes the
+/// text as typed (instead of Rust's "invalid digit found in string").
+///
+/// ```
+/// use matterwave_console::number::max_arg;
+/// assert_eq!(max_arg("20"), Ok(20));
+/// assert!(max_arg("-1").unwrap_err().contains("'-1' is not a count"));
+/// ```
+pub fn max_arg(s: &str) -> Result<usize, String> {
+    match s.trim().parse::<usize>() {
+        Ok(n) if (1..=MAX_ROWS).contains(&n) => Ok(n),
+        _ => Err(format!(
+            "'{s}' is not a count from 1 to {MAX_ROWS}; give a whole number such as 20"
+        )),
+    }
 }

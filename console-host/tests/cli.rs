@@ -178,7 +178,8 @@ fn bad_input_exits_2_with_one_line() {
         (&["calc", "wavelength", "--energy", "100", "--inner-potential", "-3"], Some("E102: --inner-potential -3: inner potential negative; accepted 0 to 100 eV")),
         (&["calc", "wavelength", "--energy", "2", "--sample-work-function", "5"], Some("E104: --energy 2 --sample-work-function 5: kinetic energy at the sample below 1 eV after work-function and offset corrections; raise the gun energy")),
         (&["calc", "reflections", "--crystal", "unobtainium", "--energy", "100"], None),
-        (&["calc", "reflections", "--crystal", "cu", "--energy", "100", "--max", "0"], Some("--max 0: give 1 to 10000")),
+        (&["calc", "reflections", "--crystal", "cu", "--energy", "100", "--max", "0"], Some("invalid value '0' for '--max <N>': '0' is not a count from 1 to 10000; give a whole number such as 20; --max <N>: Most families to list, 1 to 10000")),
+        (&["calc", "reflections", "--crystal", "cu", "--energy", "100", "--max", "-1"], Some("invalid value '-1' for '--max <N>': '-1' is not a count from 1 to 10000; give a whole number such as 20; --max <N>: Most families to list, 1 to 10000")),
         (&["calc", "rings", "--crystal", "cu", "--energy", "1e5", "--screen-distance", "0"], Some("--screen-distance 0: give a distance in mm, above 0 and at most 100000")),
         (&["calc", "beams", "--crystal", "cu", "--face", "11", "--energy", "100"], Some("E116: --face '11': indices must be three integers (four, h k i l, for hexagonal crystals); write e.g. 111, 1-10, 1,1,0 or (1 -1 0)")),
         (&["calc", "beams", "--crystal", "cu", "--face", "000", "--energy", "100"], Some("E110: --face '000': indices (0,0,0) name no plane; write e.g. 111, 1-10, 1,1,0 or (1 -1 0)")),
@@ -490,15 +491,17 @@ fn format_is_honoured_or_refused() {
     for key in ["cautions", "beam", "beams", "iv_peaks", "controller"] {
         assert!(v.get(key).is_some(), "demo JSON lacks {key}: {v}");
     }
-    let aim = v["controller"]
+    // The controller part: one object per reply line, as `talk --format json`.
+    let aim: Vec<&serde_json::Value> = v["controller"]
         .as_array()
         .unwrap()
         .iter()
-        .find(|x| x["request"] == "aim")
-        .expect("the demo aims");
-    let last = aim["replies"].as_array().unwrap().last().unwrap().clone();
-    assert_eq!(last["kind"], "ok", "{aim}");
-    assert!(last["fields"]["count"].as_i64().unwrap() >= 1, "{aim}");
+        .filter(|x| x["request"] == "aim")
+        .collect();
+    let last = aim.last().expect("the demo aims");
+    assert_eq!(last["kind"], "ok", "{aim:?}");
+    assert!(last["fields"]["count"].as_i64().unwrap() >= 1, "{aim:?}");
+    assert!(aim.len() >= 2 && aim[0]["kind"] == "item", "{aim:?}");
     let v = json(&["safety"]);
     assert!(
         v["cautions"].as_str().unwrap().contains("not an interlock"),
@@ -583,7 +586,8 @@ fn csv_rows_carry_their_context() {
     assert_eq!(rows.len(), 3, "{out}");
     for r in rows {
         assert!(
-            r.starts_with("cu,(1 0 0),\"1,0\",20,in-plane,nearest,"),
+            // crystal, face, beam, tilt, V0 and I-V maxima in range, mode, branch
+            r.starts_with("cu,(1 0 0),\"1,0\",20,10,1,in-plane,nearest,"),
             "{r}"
         );
     }
@@ -1003,4 +1007,100 @@ fn face_takes_the_tables_value_for_the_face() {
     );
     let f100 = faces.iter().find(|f| f["face"] == "(100)").unwrap();
     assert_eq!(f100["work_function_from"], "crystal");
+}
+
+/// A sweep whose range runs past the arm's limits says so (a boolean in JSON, a note in
+/// the table naming the option and the limit), and a zero step names the step alone.
+/// The limits are the built-in rig's, ±165° (`mwctl rig show`).
+#[test]
+fn sweep_beyond_the_limits_and_a_zero_step_say_what_is_wrong() {
+    let base = [
+        "calc",
+        "sweep",
+        "--crystal",
+        "ag",
+        "--face",
+        "100",
+        "--energy",
+        "95",
+        "--arm-from",
+        "12",
+        "--step",
+        "1",
+    ];
+    let mut a = base.to_vec();
+    a.extend(["--arm-to", "500"]);
+    let v = json(&a);
+    assert_eq!(v["beyond_limits"], true);
+    let (code, out, _) = mwctl(&a);
+    assert_eq!(code, 0);
+    assert!(
+        out.contains("The range runs past the arm's soft limits (--arm-to 500: above the arm upper limit 165 deg)"),
+        "{out}"
+    );
+    let mut a = base.to_vec();
+    a.extend(["--arm-to", "110"]);
+    assert_eq!(json(&a)["beyond_limits"], false);
+    let (code, _, err) = mwctl(&[
+        "calc",
+        "sweep",
+        "--crystal",
+        "ag",
+        "--face",
+        "100",
+        "--energy",
+        "95",
+        "--arm-from",
+        "12",
+        "--arm-to",
+        "110",
+        "--step",
+        "0",
+    ]);
+    assert_eq!(code, 2);
+    assert_eq!(
+        err.trim_end(),
+        "mwctl: error: E102: --step 0: the step must be above 0 (the range --arm-from 12 --arm-to 110 is walked in steps of this size, at most 100000 points)"
+    );
+}
+
+/// A peak fit with too few usable points says how many it could use of how many and why
+/// the others were dropped (non-positive currents for the parabola of ln(current),
+/// currents at or below the threshold for the centroid), and the minimum.
+#[test]
+fn too_few_points_says_which_were_dropped_and_the_minimum() {
+    let dir = std::env::temp_dir().join(format!("mwctl-cli-few-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let p = dir.join("cli-too-few-points.csv");
+    std::fs::write(&p, "angle_deg,current\n1,5\n2,9\n3,-1\n4,0\n").unwrap();
+    let f = p.to_str().unwrap();
+    let (code, _, err) = mwctl(&["calc", "fit", "peak", "--input", f]);
+    assert_eq!(code, 2);
+    assert!(err.contains("E250"), "{err}");
+    assert!(
+        err.contains("too few usable points: 2 of 4 have a positive current"),
+        "{err}"
+    );
+    assert!(
+        err.contains("zero and negative currents are dropped"),
+        "{err}"
+    );
+    assert!(err.contains("at least 3"), "{err}");
+    let (code, _, err) = mwctl(&[
+        "calc",
+        "fit",
+        "peak",
+        "--input",
+        f,
+        "--method",
+        "centroid",
+        "--threshold",
+        "4",
+    ]);
+    assert_eq!(code, 2);
+    assert!(
+        err.contains("2 of 4 have a current above the threshold 4"),
+        "{err}"
+    );
+    assert!(err.contains("give a lower --threshold"), "{err}");
 }

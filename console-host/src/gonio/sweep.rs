@@ -165,6 +165,28 @@ pub fn sweep(a: &SweepArgs) -> CliResult<SweepOutput> {
                 .collect(),
         ),
     );
+    // Whether the range itself runs past the arm's soft limits (the core's check of
+    // each end).
+    let beyond: Vec<String> = [("arm-from", a.arm_from), ("arm-to", a.arm_to)]
+        .into_iter()
+        .filter_map(|(n, x)| match rig.arm.check_angle(x) {
+            Err(er @ (Error::BelowLimit(_) | Error::AboveLimit(_))) => {
+                Some(format!("--{n} {x}: {}", axis_reason(rig, er)))
+            }
+            _ => None,
+        })
+        .collect();
+    r.field(
+        "beyond_limits",
+        "range beyond the arm limits",
+        Value::Bool(!beyond.is_empty()),
+    );
+    if !beyond.is_empty() {
+        r.notes.push(format!(
+            "The range runs past the arm's soft limits ({}); the points beyond them are unreachable.",
+            beyond.join("; ")
+        ));
+    }
     r.field("dwell_s", "dwell per point (s)", f(dwell, 3));
     r.field("estimate_s", "estimated time (s)", f(est, 1));
     r.field(
