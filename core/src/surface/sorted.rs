@@ -7,8 +7,8 @@
 use super::Face;
 use super::{beam_before, BeamIter, SurfaceBeam};
 
-/// Iterator over the beams of a [`BeamIter`] in the order of [`Face::beams`] (see the
-/// [module docs](self)). Each `next` walks the underlying search once (its disk of rods,
+/// Iterator over the beams of a [`BeamIter`] in the order of [`Face::beams`]: increasing
+/// |g|, equal |g| by rod indices descending. Each `next` walks the underlying search once (its disk of rods,
 /// bounded as the [`BeamIter`] is) and returns the first beam after the previous one;
 /// nothing is stored but that previous beam.
 #[derive(Clone, Copy, Debug)]

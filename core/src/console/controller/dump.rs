@@ -31,7 +31,7 @@ use crate::console::wire::reply::ReplyWriter;
 use crate::error::AxisId;
 use crate::goniometer::{Rig, ACCEPTANCE_MAX_DEG};
 
-/// What one line of the dump ([`Settings::dump_line`]) or of a rig's requests
+/// What one line of the console's `dump` or of a rig's requests
 /// ([`rig_request`]) came to.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Dump {
@@ -92,7 +92,8 @@ fn rig_line<W: Write, const N: usize>(
 
 /// Line `i` of the requests that load `rig` — its axes, zones and detector acceptance —
 /// onto a console with motion disabled: the rig's lines of `dump` (the widest
-/// acceptance, then every axis as the [module docs](self) describe), as requests
+/// acceptance, then for each axis its zone slots off, its configuration lines and its
+/// zones, in the order docs/PROTOCOL.md gives for `dump`), as requests
 /// without the leading `- `, then `set acceptance=` with the rig's own acceptance. The
 /// line is built in `rw` (send it with [`ReplyWriter::finish`]); [`Dump::Skip`] means
 /// nothing to send at this index (an absent axis, a free zone slot), [`Dump::End`]
