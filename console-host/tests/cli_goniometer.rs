@@ -1,5 +1,5 @@
 //! End-to-end tests of the goniometer commands of `mwctl`: `calc aim`, `track`,
-//! `sweep`, `where`, `fit`, `budget` and `rig show` / `rig check`, in every format,
+//! `sweep`, `view`, `fit`, `budget` and `rig show` / `rig check`, in every format,
 //! with exit status 2 and one line naming the axis, zone, field or CSV line on bad
 //! input.
 //!

@@ -1,4 +1,4 @@
-//! Goniometer commands of `mwctl calc`: `aim`, `track`, `sweep`, `where`, `fit` and
+//! Goniometer commands of `mwctl calc`: `aim`, `track`, `sweep`, `view`, `fit` and
 //! `budget`. Every number comes from the core's f32 code (goniometer, axis, scan, fit
 //! and budget modules), the same code the controller runs; this module reads the
 //! command line, the rig and the CSV files, and turns core errors into one line that
@@ -31,7 +31,7 @@ use crate::rig::{self, RigFile};
 /// Most aim solutions listed (two branches × three copies of azimuth and arm).
 const MAX_SOLUTIONS: usize = 32;
 
-/// Most beams listed by `sweep` and `where`.
+/// Most beams listed by `sweep` and `view`.
 const MAX_BEAMS: usize = 2000;
 
 /// Longest accepted dwell per point, seconds.
