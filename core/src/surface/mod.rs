@@ -39,7 +39,7 @@ mod rods;
 mod sorted;
 
 pub use rods::BeamIter;
-pub use sorted::SortedBeams;
+pub use sorted::{SortedBeams, SORTED_WINDOW};
 
 /// Largest |tilt| accepted, degrees.
 pub const TILT_MAX_DEG: f32 = 89.9;
