@@ -1,7 +1,8 @@
 //! The beams of a [`BeamIter`] in the one listing order of the crate — increasing |g|
 //! (specular first), equal |g| by rod indices descending, as [`Face::beams`] sorts them
-//! — streamed one at a time without a buffer, so the console's `beams` list and
-//! `mwctl calc beams` print the same sequence.
+//! — streamed one at a time with a fixed window of [`SORTED_WINDOW`] beams (no buffer
+//! the size of the list), so the console's `beams` list and `mwctl calc beams` print the
+//! same sequence.
 
 #[cfg(doc)]
 use super::Face;
