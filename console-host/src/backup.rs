@@ -151,7 +151,12 @@ pub fn parse(text: &str) -> Result<Backup, String> {
 }
 
 /// `mwctl backup FILE`.
-pub fn backup(path: &std::path::Path, spec: &LinkSpec, out: &mut dyn Write) -> CliResult<()> {
+pub fn backup(
+    path: &std::path::Path,
+    spec: &LinkSpec,
+    json: bool,
+    out: &mut dyn Write,
+) -> CliResult<()> {
     let mut s = link::connect(spec)?;
     let hello = s
         .request("hello")
@@ -160,34 +165,63 @@ pub fn backup(path: &std::path::Path, spec: &LinkSpec, out: &mut dyn Write) -> C
     let text = file_text(&hello.last, &lines);
     std::fs::write(path, &text)
         .map_err(|e| CliError::new(format!("backup {}: {e}", path.display())))?;
-    writeln!(
-        out,
-        "backup: {} configuration lines from {} written to {}",
-        lines.len(),
-        hello_field(&hello.last, "name"),
-        path.display()
-    )
-    .map_err(|e| CliError::new(format!("output: {e}")))?;
+    let r = if json {
+        let v = serde_json::json!({
+            "file": path.display().to_string(),
+            "lines": lines.len(),
+            "device": hello_field(&hello.last, "name"),
+            "version": hello_field(&hello.last, "version"),
+            "protocol": hello_field(&hello.last, "protocol").parse::<u64>().ok(),
+        });
+        writeln!(out, "{v}")
+    } else {
+        writeln!(
+            out,
+            "backup: {} configuration lines from {} written to {}",
+            lines.len(),
+            hello_field(&hello.last, "name"),
+            path.display()
+        )
+    };
+    r.map_err(|e| CliError::new(format!("output: {e}")))?;
     Ok(())
 }
 
 /// `mwctl restore FILE`.
-pub fn restore(path: &std::path::Path, spec: &LinkSpec, out: &mut dyn Write) -> CliResult<()> {
+pub fn restore(
+    path: &std::path::Path,
+    spec: &LinkSpec,
+    json: bool,
+    out: &mut dyn Write,
+) -> CliResult<()> {
     let text = std::fs::read_to_string(path)
         .map_err(|e| CliError::new(format!("restore {}: {e}", path.display())))?;
     let b = parse(&text)
         .map_err(|e| CliError::new(format!("restore {}: {e}; nothing was sent", path.display())))?;
     let mut s = link::connect(spec)?;
-    restore_session(&mut s, &b, out)
-        .map_err(|e| CliError::new(format!("restore {}: {e}", path.display())))
+    let mut sink = std::io::sink();
+    let text_out: &mut dyn Write = if json { &mut sink } else { out };
+    let unknown = restore_session(&mut s, &b, text_out)
+        .map_err(|e| CliError::new(format!("restore {}: {e}", path.display())))?;
+    if json {
+        let v = serde_json::json!({
+            "file": path.display().to_string(),
+            "lines": b.lines.len(),
+            "read_back_identical": true,
+            "unknown_axes": unknown,
+        });
+        writeln!(out, "{v}").map_err(|e| CliError::new(format!("output: {e}")))?;
+    }
+    Ok(())
 }
 
 /// Restores `b` on an open session, all or nothing (see the module documentation).
+/// Returns the axes whose position is unknown afterwards (their calibration was sent).
 pub fn restore_session<W: Wire>(
     s: &mut Session<W>,
     b: &Backup,
     out: &mut dyn Write,
-) -> Result<(), String> {
+) -> Result<Vec<String>, String> {
     let hello = s.request("hello").map_err(|e| e.to_string())?.last;
     let (name, protocol) = (hello_field(&hello, "name"), hello_field(&hello, "protocol"));
     if b.device != name {
@@ -256,7 +290,11 @@ pub fn restore_session<W: Wire>(
             "restore: positions now unknown (calibration changed): {unknown}; home them before enable"
         );
     }
-    Ok(())
+    Ok(unknown
+        .split(',')
+        .filter(|a| !a.is_empty())
+        .map(str::to_string)
+        .collect())
 }
 
 #[cfg(test)]

@@ -10,30 +10,135 @@ use matterwave_core::reflections::{self, Reflection};
 use matterwave_core::surface::{Face, Incidence, IvPeak, SurfaceBeam};
 use matterwave_core::table::{self, Crystal};
 
+/// A value in eV, or `face`: the crystal table's value for the face in use (the value
+/// the controller's `sample=table` and `v0=table` take, from the same core facts:
+/// [`Crystal::work_function_for`] and [`Crystal::inner_potential_for`]).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum EvOrFace {
+    /// A value, eV.
+    Ev(f32),
+    /// The table's value for the face (`face`, also spelled `table` as on the console).
+    Face,
+}
+
+impl EvOrFace {
+    /// The value in eV once resolved ([`GunArgs::at_face`]); NaN while it is still
+    /// `face`, which the core refuses as not finite.
+    pub fn ev(self) -> f32 {
+        match self {
+            EvOrFace::Ev(x) => x,
+            EvOrFace::Face => f32::NAN,
+        }
+    }
+}
+
+/// Reads an eV value or `face` (or `table`).
+pub fn ev_or_face(s: &str) -> Result<EvOrFace, String> {
+    match s.trim() {
+        "face" | "table" => Ok(EvOrFace::Face),
+        _ => crate::number::f32_arg(s)
+            .map(EvOrFace::Ev)
+            .map_err(|e| format!("{e}; or face for the crystal table's value for the face")),
+    }
+}
+
+/// Which table value a `face` option asks for.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum TableValue {
+    /// The sample's work function, eV.
+    WorkFunction,
+    /// The inner potential V0, eV.
+    InnerPotential,
+}
+
+/// The crystal table's value for `face` of `c` (the face's own, else the crystal's),
+/// or an error naming `option` when the table has none.
+pub fn table_value(what: TableValue, option: &str, c: &Crystal, face: &Face) -> CliResult<f32> {
+    let (v, q, word) = match what {
+        TableValue::WorkFunction => (
+            c.work_function_for(face.miller),
+            matterwave_core::Quantity::WorkFunction,
+            "work function",
+        ),
+        TableValue::InnerPotential => (
+            c.inner_potential_for(face.miller),
+            matterwave_core::Quantity::InnerPotential,
+            "inner potential",
+        ),
+    };
+    let hex = c.structure.system() == System::Hexagonal;
+    v.ok_or_else(|| CliError {
+        code: Some(matterwave_core::Error::NoTableValue(q).code()),
+        message: format!(
+            "{option} face: the crystal table has no {word} for {} {}; give it in eV (`mwctl crystals --crystal {}` lists the table's values)",
+            c.id,
+            miller_text(face.miller, hex).replace(' ', ""),
+            c.id
+        ),
+    })
+}
+
+/// An error for `option face` on a command without a crystal face.
+pub fn no_face_for(option: &str, command: &str) -> CliError {
+    CliError::new(format!(
+        "{option} face: `{command}` has no --face to look the value up for; give it in eV"
+    ))
+}
+
 /// Gun energy and its corrections, as given on the command line.
 #[derive(Clone, Copy, Debug, clap::Args)]
 pub struct GunArgs {
     /// Nominal beam energy e·V_acc, eV (1 to 300000).
-    #[arg(long, value_name = "EV")]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV")]
     pub energy: f32,
     /// Cathode work function, eV (adds to the energy at the sample; 0 = no correction).
-    #[arg(long, value_name = "EV", default_value_t = 0.0)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
     pub cathode_work_function: f32,
-    /// Sample work function, eV (subtracts from the energy at the sample; 0 = none).
-    #[arg(long, value_name = "EV", default_value_t = 0.0)]
-    pub sample_work_function: f32,
+    /// Sample work function, eV (subtracts from the energy at the sample; 0 = none), or
+    /// `face`: the crystal table's value for the face.
+    #[arg(value_parser = ev_or_face, long, value_name = "EV|face", default_value = "0")]
+    pub sample_work_function: EvOrFace,
     /// Fitted gun energy offset, eV (added to the energy at the sample).
-    #[arg(long, value_name = "EV", default_value_t = 0.0)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
     pub energy_offset: f32,
 }
 
 impl GunArgs {
+    /// These settings with `--sample-work-function face` replaced by the table's value
+    /// for `face` of `c`.
+    pub fn at_face(&self, c: &Crystal, face: &Face) -> CliResult<GunArgs> {
+        let mut g = *self;
+        if g.sample_work_function == EvOrFace::Face {
+            g.sample_work_function = EvOrFace::Ev(table_value(
+                TableValue::WorkFunction,
+                "--sample-work-function",
+                c,
+                face,
+            )?);
+        }
+        Ok(g)
+    }
+
+    /// These settings on a command without a face: `--sample-work-function face` is
+    /// refused.
+    pub fn without_face(&self, command: &str) -> CliResult<GunArgs> {
+        if self.sample_work_function == EvOrFace::Face {
+            return Err(no_face_for("--sample-work-function", command));
+        }
+        Ok(*self)
+    }
+
+    /// The sample work function, eV (resolved).
+    fn sample_ev(&self) -> f32 {
+        self.sample_work_function.ev()
+    }
+
     /// The core's gun settings.
     pub fn gun(&self) -> Gun {
         Gun {
             nominal_ev: self.energy,
             cathode_work_function_ev: self.cathode_work_function,
-            sample_work_function_ev: self.sample_work_function,
+            sample_work_function_ev: self.sample_ev(),
             offset_ev: self.energy_offset,
         }
     }
@@ -41,21 +146,27 @@ impl GunArgs {
     /// Kinetic energy at the sample, eV; an error names the option at fault (the sum
     /// names every option that went into it).
     pub fn kinetic_ev(&self) -> CliResult<f32> {
+        self.kinetic_ev_named("--energy")
+    }
+
+    /// [`GunArgs::kinetic_ev`] with the nominal energy given by `energy_option` (e.g.
+    /// `--from` for the start of a range).
+    pub fn kinetic_ev_named(&self, energy_option: &str) -> CliResult<f32> {
         self.gun().kinetic_energy_at().map_err(|(input, e)| {
             let flag = match input {
-                GunInput::Nominal => format!("--energy {}", self.energy),
+                GunInput::Nominal => format!("{energy_option} {}", self.energy),
                 GunInput::CathodeWorkFunction => {
                     format!("--cathode-work-function {}", self.cathode_work_function)
                 }
                 GunInput::SampleWorkFunction => {
-                    format!("--sample-work-function {}", self.sample_work_function)
+                    format!("--sample-work-function {}", self.sample_ev())
                 }
                 GunInput::Offset => format!("--energy-offset {}", self.energy_offset),
                 GunInput::Sum => {
-                    let mut s = format!("--energy {}", self.energy);
+                    let mut s = format!("{energy_option} {}", self.energy);
                     for (name, x) in [
                         ("--cathode-work-function", self.cathode_work_function),
-                        ("--sample-work-function", self.sample_work_function),
+                        ("--sample-work-function", self.sample_ev()),
                         ("--energy-offset", self.energy_offset),
                     ] {
                         if x != 0.0 {
@@ -71,7 +182,7 @@ impl GunArgs {
 
     /// The correction added to a nominal energy to get the kinetic energy, eV.
     pub fn correction_ev(&self) -> f32 {
-        self.cathode_work_function - self.sample_work_function + self.energy_offset
+        self.cathode_work_function - self.sample_ev() + self.energy_offset
     }
 
     /// The gun fields of a report: nominal energy, the corrections when any is set, and
@@ -91,7 +202,7 @@ impl GunArgs {
             r.field(
                 "sample_work_function_ev",
                 "sample work function (eV)",
-                Value::F32(self.sample_work_function, 3),
+                Value::F32(self.sample_ev(), 3),
             );
             r.field(
                 "energy_offset_ev",
@@ -285,12 +396,21 @@ pub fn crystals() -> CliResult<Report> {
     }
     Ok(Report {
         list: Some(list),
+        notes: vec![
+            "φ and V0 are each crystal's own values; a face may have its own: `mwctl crystals --crystal ID` lists them per face.".into(),
+        ],
         ..Report::default()
     })
 }
 
 /// `mwctl calc wavelength`.
-pub fn wavelength(g: &GunArgs, inner_potential: Option<f32>) -> CliResult<Report> {
+pub fn wavelength(g: &GunArgs, inner_potential: Option<EvOrFace>) -> CliResult<Report> {
+    let g = &g.without_face("calc wavelength")?;
+    let inner_potential = match inner_potential {
+        Some(EvOrFace::Face) => return Err(no_face_for("--inner-potential", "calc wavelength")),
+        Some(EvOrFace::Ev(x)) => Some(x),
+        None => None,
+    };
     let e = g.kinetic_ev()?;
     let b = Beam::new(e).ctx("energy at the sample")?;
     let mut r = Report::default();
@@ -344,8 +464,11 @@ pub fn wavelength(g: &GunArgs, inner_potential: Option<f32>) -> CliResult<Report
 }
 
 fn check_max(max: usize) -> CliResult<usize> {
-    if max == 0 || max > 10_000 {
-        Err(CliError::new(format!("--max {max}: give 1 to 10000")))
+    if max == 0 || max > crate::number::MAX_ROWS {
+        Err(CliError::new(format!(
+            "--max {max}: give 1 to {}",
+            crate::number::MAX_ROWS
+        )))
     } else {
         Ok(max)
     }
@@ -365,7 +488,8 @@ fn truncated_field(r: &mut Report, truncated: bool) {
 
 /// What `reflections` and `rings` start with: the crystal's cell, the wavelength at the
 /// sample, and a report holding the crystal, the gun fields and the wavelength.
-fn bulk_start(id: &str, g: &GunArgs) -> CliResult<(Cell, f32, Report)> {
+fn bulk_start(id: &str, g: &GunArgs, command: &str) -> CliResult<(Cell, f32, Report)> {
+    let g = &g.without_face(command)?;
     let c = crystal(id)?;
     let cell = cell_of(c)?;
     let e = g.kinetic_ev()?;
@@ -411,7 +535,7 @@ fn family_row(f: &Reflection, middle: [Value; 2]) -> Vec<Value> {
 
 /// `mwctl calc reflections`.
 pub fn reflections(id: &str, g: &GunArgs, max: usize) -> CliResult<Report> {
-    let (cell, lambda, mut r) = bulk_start(id, g)?;
+    let (cell, lambda, mut r) = bulk_start(id, g, "calc reflections")?;
     let (fams, truncated) = family_list(&cell, lambda / 2.0, max)?;
     let mut rows = Vec::new();
     for f in &fams {
@@ -432,7 +556,7 @@ pub fn reflections(id: &str, g: &GunArgs, max: usize) -> CliResult<Report> {
 
 /// `mwctl calc rings`.
 pub fn rings(id: &str, g: &GunArgs, screen_mm: f32, max: usize) -> CliResult<Report> {
-    let (cell, lambda, mut r) = bulk_start(id, g)?;
+    let (cell, lambda, mut r) = bulk_start(id, g, "calc rings")?;
     if !(screen_mm.is_finite() && screen_mm > 0.0 && screen_mm <= 1.0e5) {
         return Err(CliError::new(format!(
             "--screen-distance {screen_mm}: give a distance in mm, above 0 and at most 100000"
@@ -543,8 +667,9 @@ pub fn beams(
 ) -> CliResult<Report> {
     let c = crystal(id)?;
     let (_, face) = face_of(c, face_text)?;
+    let g = &g.at_face(c, &face)?;
     let e = g.kinetic_ev()?;
-    let tilt = check_angle(tilt, "tilt", 89.9)?;
+    let tilt = check_angle(tilt, "tilt", matterwave_core::surface::TILT_MAX_DEG)?;
     let azimuth = check_angle(azimuth, "azimuth", 360.0)?;
     let inc = Incidence::new(e, tilt, azimuth).ctx("incidence")?;
     let mut buf = vec![SurfaceBeam::EMPTY; check_max(max)?];
@@ -602,12 +727,12 @@ pub struct IvArgs {
     pub tilt: f32,
     /// Azimuth, degrees.
     pub azimuth: f32,
-    /// V0, eV; `None` = the table's value for the face.
-    pub inner_potential: Option<f32>,
+    /// V0, eV; `None` or `face` = the table's value for the face.
+    pub inner_potential: Option<EvOrFace>,
     /// Work functions and offset (energy field unused).
     pub cathode_work_function: f32,
-    /// Sample work function, eV.
-    pub sample_work_function: f32,
+    /// Sample work function, eV, or the table's for the face.
+    pub sample_work_function: EvOrFace,
     /// Gun offset, eV.
     pub energy_offset: f32,
 }
@@ -616,29 +741,30 @@ pub struct IvArgs {
 pub fn ivpeaks(id: &str, face_text: &str, a: &IvArgs, max: usize) -> CliResult<Report> {
     let c = crystal(id)?;
     let (_, face) = face_of(c, face_text)?;
-    let tilt = check_angle(a.tilt, "tilt", 89.9)?;
+    let tilt = check_angle(a.tilt, "tilt", matterwave_core::surface::TILT_MAX_DEG)?;
     let azimuth = check_angle(a.azimuth, "azimuth", 360.0)?;
-    let v0 = match a
-        .inner_potential
-        .or_else(|| c.inner_potential_for(face.miller))
-    {
-        Some(v) => v,
-        None => {
-            return Err(CliError::new(format!(
-                "no inner potential in the table for {}; give --inner-potential EV",
-                c.id
-            )))
+    let v0 = match a.inner_potential {
+        Some(EvOrFace::Ev(v)) => v,
+        Some(EvOrFace::Face) | None => {
+            table_value(TableValue::InnerPotential, "--inner-potential", c, &face)?
         }
     };
-    let corr = a.cathode_work_function - a.sample_work_function + a.energy_offset;
+    let sample = match a.sample_work_function {
+        EvOrFace::Ev(x) => x,
+        EvOrFace::Face => {
+            table_value(TableValue::WorkFunction, "--sample-work-function", c, &face)?
+        }
+    };
+    let corr = a.cathode_work_function - sample + a.energy_offset;
+    // Each end of the range through the core's gun model: an error names the option.
     let gun = |nominal: f32, name: &str| {
-        beam::kinetic_energy_ev(
-            nominal,
-            a.cathode_work_function,
-            a.sample_work_function,
-            a.energy_offset,
-        )
-        .ctx(format_args!("--{name} {nominal}"))
+        GunArgs {
+            energy: nominal,
+            cathode_work_function: a.cathode_work_function,
+            sample_work_function: EvOrFace::Ev(sample),
+            energy_offset: a.energy_offset,
+        }
+        .kinetic_ev_named(&format!("--{name}"))
     };
     let lo = gun(a.from, "from")?;
     let hi = gun(a.to, "to")?;
@@ -679,6 +805,21 @@ pub fn ivpeaks(id: &str, face_text: &str, a: &IvArgs, max: usize) -> CliResult<R
         "inner_potential_ev",
         "inner potential (eV)",
         Value::F32(v0, 2),
+    );
+    r.field(
+        "cathode_work_function_ev",
+        "cathode work function (eV)",
+        Value::F32(a.cathode_work_function, 3),
+    );
+    r.field(
+        "sample_work_function_ev",
+        "sample work function (eV)",
+        Value::F32(sample, 3),
+    );
+    r.field(
+        "energy_offset_ev",
+        "energy offset (eV)",
+        Value::F32(a.energy_offset, 3),
     );
     r.field("tilt_deg", "tilt (deg)", Value::F32(tilt, 3));
     r.field("azimuth_deg", "azimuth (deg)", Value::F32(azimuth, 3));

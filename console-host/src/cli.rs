@@ -55,6 +55,11 @@ pub enum Command {
         /// pseudo-terminal), `serial:PATH[@BAUD]`, `qemu[:IMAGE]`.
         #[arg(long, value_name = "LINK", default_value = "sim")]
         link: String,
+        /// Load this rig file into the controller first, with the console's own `axis`,
+        /// `zone` and `set acceptance=` requests (the lines `mwctl rig show --console`
+        /// prints). Default: the controller's factory rig.
+        #[arg(long, value_name = "FILE")]
+        rig: Option<PathBuf>,
     },
     /// Run a file of requests (one per line, `#` comments) on a controller, every reply
     /// echoed with its request; stops at the first err unless --keep-going.
@@ -128,14 +133,19 @@ pub enum RigCmd {
         #[command(flatten)]
         rig: RigArgs,
         /// Print it as a rig file (TOML) that `rig check` and `--rig` read back.
-        #[arg(long)]
+        #[arg(long, conflicts_with = "console")]
         toml: bool,
+        /// Print it as the console requests that load it into a controller (`axis`,
+        /// `zone`, `set acceptance=`: the rig's lines of the console's `dump`), one per
+        /// line, for `mwctl talk` or a serial terminal.
+        #[arg(long)]
+        console: bool,
     },
     /// Check a rig file: every field, then the controller's own validation.
     Check {
-        /// The rig file (TOML).
-        #[arg(value_name = "FILE")]
-        file: PathBuf,
+        /// The rig file (TOML; see docs/RIG.md).
+        #[arg(long, value_name = "FILE")]
+        rig: PathBuf,
     },
 }
 
@@ -150,8 +160,8 @@ pub enum Calc {
         #[command(flatten)]
         gun: GunArgs,
         /// Inner potential V0, eV (0 to 100), for the wavelength inside the crystal.
-        #[arg(long, value_name = "EV")]
-        inner_potential: Option<f32>,
+        #[arg(value_parser = calc::ev_or_face, long, value_name = "EV")]
+        inner_potential: Option<calc::EvOrFace>,
     },
     /// Bulk reflection families in order of decreasing d, with Bragg angles.
     #[command(allow_negative_numbers = true)]
@@ -162,8 +172,8 @@ pub enum Calc {
         /// Gun settings.
         #[command(flatten)]
         gun: GunArgs,
-        /// Most families to list.
-        #[arg(long, value_name = "N", default_value_t = 20)]
+        /// Most families to list, 1 to 10000.
+        #[arg(value_parser = crate::number::max_arg, long, value_name = "N", default_value_t = 20)]
         max: usize,
     },
     /// Transmission rings on a flat screen at a distance.
@@ -176,10 +186,10 @@ pub enum Calc {
         #[command(flatten)]
         gun: GunArgs,
         /// Sample-to-screen distance, mm.
-        #[arg(long, value_name = "MM")]
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "MM")]
         screen_distance: f32,
-        /// Most rings to list.
-        #[arg(long, value_name = "N", default_value_t = 20)]
+        /// Most rings to list, 1 to 10000.
+        #[arg(value_parser = crate::number::max_arg, long, value_name = "N", default_value_t = 20)]
         max: usize,
     },
     /// Diffracted beams of a face at an energy: row spacings, exit angles, emergence
@@ -195,14 +205,14 @@ pub enum Calc {
         /// Gun settings.
         #[command(flatten)]
         gun: GunArgs,
-        /// Sample tilt α, degrees (0 = normal incidence).
-        #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+        /// Sample tilt α, degrees, within ±89.9 (0: normal incidence).
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
         tilt: f32,
-        /// Sample azimuth φ, degrees.
-        #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+        /// Sample azimuth φ, degrees, within ±360 (0: a1 along e1, in the scattering plane).
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
         azimuth: f32,
-        /// Most beams to list (smallest |g| first).
-        #[arg(long, value_name = "N", default_value_t = 500)]
+        /// Most beams to list (smallest |g| first), 1 to 10000.
+        #[arg(value_parser = crate::number::max_arg, long, value_name = "N", default_value_t = 500)]
         max: usize,
         /// With a rig file: say for each beam whether the arm can be put on it from home
         /// (in-plane, turning the azimuth, on a one-circle arm; at this azimuth with the
@@ -226,31 +236,33 @@ pub enum Calc {
         #[arg(long, value_name = "H,K", allow_hyphen_values = true)]
         beam: String,
         /// Start of the nominal energy range, eV.
-        #[arg(long, value_name = "EV")]
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV")]
         from: f32,
         /// End of the nominal energy range, eV.
-        #[arg(long, value_name = "EV")]
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV")]
         to: f32,
-        /// Sample tilt α, degrees.
-        #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+        /// Sample tilt α, degrees, within ±89.9 (0: normal incidence).
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
         tilt: f32,
-        /// Sample azimuth φ, degrees.
-        #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+        /// Sample azimuth φ, degrees, within ±360 (0: a1 along e1, in the scattering plane).
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
         azimuth: f32,
-        /// Inner potential V0, eV (default: the table's value for the face).
-        #[arg(long, value_name = "EV")]
-        inner_potential: Option<f32>,
+        /// Inner potential V0, eV (0 to 100), or `face`: the crystal table's value for the
+        /// face (the default).
+        #[arg(value_parser = calc::ev_or_face, long, value_name = "EV|face")]
+        inner_potential: Option<calc::EvOrFace>,
         /// Cathode work function, eV.
-        #[arg(long, value_name = "EV", default_value_t = 0.0)]
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
         cathode_work_function: f32,
-        /// Sample work function, eV.
-        #[arg(long, value_name = "EV", default_value_t = 0.0)]
-        sample_work_function: f32,
+        /// Sample work function, eV (subtracts from the energy at the sample; 0 = none), or
+        /// `face`: the crystal table's value for the face.
+        #[arg(value_parser = calc::ev_or_face, long, value_name = "EV|face", default_value = "0")]
+        sample_work_function: calc::EvOrFace,
         /// Gun energy offset, eV.
-        #[arg(long, value_name = "EV", default_value_t = 0.0)]
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
         energy_offset: f32,
-        /// Most peaks to list.
-        #[arg(long, value_name = "N", default_value_t = 100)]
+        /// Most peaks to list, 1 to 10000.
+        #[arg(value_parser = crate::number::max_arg, long, value_name = "N", default_value_t = 100)]
         max: usize,
     },
     /// Point the arm (and turn the sample) at a beam: setpoints of every axis, nearest
@@ -398,11 +410,7 @@ pub fn run(cli: &Cli, out: &mut dyn std::io::Write) -> CliResult<()> {
             keep_going,
             baud,
         } => {
-            if f == crate::output::Format::Csv {
-                return Err(CliError::new(
-                    "run --format csv: replies are lines, not a table; use table or json",
-                ));
-            }
+            no_csv(f, "run")?;
             let spec = crate::link::LinkSpec::parse(link, *baud)?;
             crate::remote::run_script(
                 script,
@@ -414,11 +422,15 @@ pub fn run(cli: &Cli, out: &mut dyn std::io::Write) -> CliResult<()> {
             return Ok(());
         }
         Command::Backup { file, link } => {
-            crate::backup::backup(file, &crate::link::LinkSpec::parse(link, None)?, out)?;
+            no_csv(f, "backup")?;
+            let spec = crate::link::LinkSpec::parse(link, None)?;
+            crate::backup::backup(file, &spec, f == crate::output::Format::Json, out)?;
             return Ok(());
         }
         Command::Restore { file, link } => {
-            crate::backup::restore(file, &crate::link::LinkSpec::parse(link, None)?, out)?;
+            no_csv(f, "restore")?;
+            let spec = crate::link::LinkSpec::parse(link, None)?;
+            crate::backup::restore(file, &spec, f == crate::output::Format::Json, out)?;
             return Ok(());
         }
         Command::Verify {
@@ -433,7 +445,15 @@ pub fn run(cli: &Cli, out: &mut dyn std::io::Write) -> CliResult<()> {
             } else {
                 crate::verify::Extent::Full
             };
-            let o = crate::verify::run(&spec, extent, out)?;
+            no_csv(f, "verify")?;
+            let json = f == crate::output::Format::Json;
+            let mut sink = std::io::sink();
+            let text_out: &mut dyn std::io::Write = if json { &mut sink } else { out };
+            let o = crate::verify::run(&spec, extent, text_out)?;
+            if json {
+                // A closed pipe ends the output quietly, as for every report.
+                let _ = writeln!(out, "{}", o.report);
+            }
             if let Some(path) = report {
                 let text = serde_json::to_string_pretty(&o.report)
                     .map_err(|e| CliError::new(format!("--report: {e}")))?;
@@ -452,7 +472,8 @@ pub fn run(cli: &Cli, out: &mut dyn std::io::Write) -> CliResult<()> {
             for_s,
             baud,
         } => {
-            crate::remote::serve_pty(*for_s, *baud, out)?;
+            no_csv(f, "serve")?;
+            crate::remote::serve_pty(*for_s, *baud, f == crate::output::Format::Json, out)?;
             return Ok(());
         }
         _ => {}
@@ -463,6 +484,16 @@ pub fn run(cli: &Cli, out: &mut dyn std::io::Write) -> CliResult<()> {
         Output::Sweep(s) => s.write_to(cli.format, out),
     };
     let _ = text.and_then(|()| out.flush());
+    Ok(())
+}
+
+/// Commands whose output is lines or one document, not a table, refuse CSV.
+fn no_csv(f: crate::output::Format, what: &str) -> CliResult<()> {
+    if f == crate::output::Format::Csv {
+        return Err(CliError::new(format!(
+            "{what} --format csv: its output is not a table; use --format table or json"
+        )));
+    }
     Ok(())
 }
 
@@ -490,14 +521,32 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
             }
         }
         Command::Demo => return crate::demo::run(f).map(Output::Text),
-        Command::Rig(RigCmd::Show { rig: r, toml }) => {
+        Command::Rig(RigCmd::Show {
+            rig: r,
+            toml,
+            console,
+        }) => {
             let rf = r.load()?;
-            if *toml {
-                return Ok(Output::Text(rig::to_toml(&rf)));
+            if *toml || *console {
+                if f != Format::Table {
+                    return Err(CliError::new(format!(
+                        "rig show --{} --format {}: that prints a file's text; leave out --format, or use rig show --format json for the rig as JSON",
+                        if *toml { "toml" } else { "console" },
+                        if f == Format::Json { "json" } else { "csv" }
+                    )));
+                }
+                let text = if *toml {
+                    rig::to_toml(&rf)
+                } else {
+                    let mut t = rig::console_requests(&rf).join("\n");
+                    t.push('\n');
+                    t
+                };
+                return Ok(Output::Text(text));
             }
             rig::report(&rf)
         }
-        Command::Rig(RigCmd::Check { file }) => {
+        Command::Rig(RigCmd::Check { rig: file }) => {
             let rf = rig::load(file)?;
             let mut r = rig::report(&rf);
             r.fields.insert(
@@ -506,8 +555,12 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
             );
             r
         }
-        Command::Talk { link } => {
-            crate::talk::run(link, f)?;
+        Command::Talk { link, rig: file } => {
+            let rf = match file {
+                Some(p) => Some(rig::load(p)?),
+                None => None,
+            };
+            crate::talk::run(link, f, rf.as_ref())?;
             return Ok(Output::Text(String::new()));
         }
         // Handled in `run`, which writes as it goes.

@@ -15,7 +15,7 @@ pub fn run(format: Format) -> CliResult<String> {
     let gun = GunArgs {
         energy: 95.0,
         cathode_work_function: 2.7,
-        sample_work_function: 4.64,
+        sample_work_function: calc::EvOrFace::Ev(4.64),
         energy_offset: 0.0,
     };
     let iv = IvArgs {
@@ -26,14 +26,14 @@ pub fn run(format: Format) -> CliResult<String> {
         azimuth: 0.0,
         inner_potential: None,
         cathode_work_function: 2.7,
-        sample_work_function: 4.64,
+        sample_work_function: calc::EvOrFace::Ev(4.64),
         energy_offset: 0.0,
     };
     let sections = [
         (
             "beam",
             "beam: 95 eV nominal, LaB6 cathode 2.7 eV, Ag sample 4.64 eV",
-            calc::wavelength(&gun, Some(10.0))?,
+            calc::wavelength(&gun, Some(calc::EvOrFace::Ev(10.0)))?,
         ),
         (
             "beams",
@@ -62,15 +62,18 @@ pub fn run(format: Format) -> CliResult<String> {
                     .map_err(|e| CliError::new(format!("demo: {e}")))?;
                 doc.insert((*key).into(), v);
             }
-            let controller: Vec<serde_json::Value> = session
-                .iter()
-                .map(|(req, replies)| {
-                    serde_json::json!({
-                        "request": req,
-                        "replies": replies.iter().map(|l| crate::talk::reply_json(l)).collect::<Vec<_>>(),
-                    })
-                })
-                .collect();
+            // One object per reply line, each with its request: what `mwctl talk
+            // --format json` prints for the same session.
+            let mut controller: Vec<serde_json::Value> = Vec::new();
+            for (req, replies) in &session {
+                for l in replies {
+                    let mut v = crate::talk::reply_json(l);
+                    if let Some(o) = v.as_object_mut() {
+                        o.insert("request".into(), serde_json::Value::from(&**req));
+                    }
+                    controller.push(v);
+                }
+            }
             doc.insert("controller".into(), serde_json::Value::from(controller));
             Ok(crate::output::json_text(&serde_json::Value::Object(doc)))
         }

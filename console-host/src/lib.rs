@@ -12,6 +12,7 @@ pub mod demo;
 pub mod error;
 pub mod gonio;
 pub mod link;
+pub mod number;
 pub mod oracle;
 pub mod output;
 pub mod remote;

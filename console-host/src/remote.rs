@@ -129,10 +129,31 @@ fn finish<W: Wire>(s: &mut Session<W>, t: Tally, what: &str) -> CliResult<()> {
     Ok(())
 }
 
-/// `mwctl talk` over a link other than `sim`: one request per input line, its reply
-/// printed as it completes (streamed items as they come); `quit`/`exit` end it.
-pub fn talk(spec: &LinkSpec, json: bool) -> CliResult<()> {
+/// `mwctl talk` over a link other than `sim`: with `rig`, the rig's requests first; then
+/// one request per input line, its reply printed as it completes (streamed items as
+/// they come); `quit`/`exit` end it.
+pub fn talk(spec: &LinkSpec, json: bool, rig: Option<&crate::rig::RigFile>) -> CliResult<()> {
     let mut s = link::connect(spec)?;
+    if let Some(rf) = rig {
+        // The same requests as on the simulator (`mwctl rig show --console`), each of
+        // which the controller must accept (it refuses them while motion is enabled).
+        let lines = crate::rig::console_requests(rf);
+        for line in &lines {
+            let r = s
+                .request(line)
+                .map_err(|e| CliError::new(format!("--rig: {e}")))?;
+            if !r.ok() {
+                return Err(CliError::new(format!(
+                    "--rig: the controller refused `{line}`: {}",
+                    r.last
+                )));
+            }
+        }
+        eprintln!(
+            "mwctl: rig loaded into the controller with {} requests; declare where an axis stands with home name=AXIS before moving it",
+            lines.len()
+        );
+    }
     let stdin = std::io::stdin();
     let mut out = std::io::stdout().lock();
     let mut t = Tally::default();
@@ -177,13 +198,23 @@ pub fn talk(spec: &LinkSpec, json: bool) -> CliResult<()> {
 /// `mwctl serve --pty`: the simulated controller behind a pseudo-terminal. Prints the
 /// device path on the first line, then serves until `for_s` seconds have passed (or
 /// until interrupted).
-pub fn serve_pty(for_s: Option<f64>, baud: Option<u32>, out: &mut dyn Write) -> CliResult<()> {
+pub fn serve_pty(
+    for_s: Option<f64>,
+    baud: Option<u32>,
+    json: bool,
+    out: &mut dyn Write,
+) -> CliResult<()> {
     let (mut master, slave) = serialport::TTYPort::pair()
         .map_err(|e| CliError::new(format!("serve --pty: no pseudo-terminal: {e}")))?;
     let path = slave
         .name()
         .ok_or_else(|| CliError::new("serve --pty: the pseudo-terminal has no name"))?;
-    writeln!(out, "{path}").map_err(|e| CliError::new(format!("output: {e}")))?;
+    let first = if json {
+        serde_json::json!({ "device": path, "for_s": for_s, "baud": baud }).to_string()
+    } else {
+        path.clone()
+    };
+    writeln!(out, "{first}").map_err(|e| CliError::new(format!("output: {e}")))?;
     out.flush()
         .map_err(|e| CliError::new(format!("output: {e}")))?;
     let until = match for_s {

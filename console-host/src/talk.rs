@@ -37,6 +37,24 @@ pub fn exchange(console: &mut SimConsole, line: &str) -> Vec<String> {
         .collect()
 }
 
+/// Loads a rig into the console with the requests of [`crate::rig::console_requests`];
+/// returns how many were sent. A refused line (the console must be at rest) is an error
+/// naming the line and the reply.
+pub fn load_rig(console: &mut SimConsole, rf: &crate::rig::RigFile) -> CliResult<usize> {
+    let lines = crate::rig::console_requests(rf);
+    for line in &lines {
+        let reply = exchange(console, line);
+        if !reply.last().is_some_and(|l| l.starts_with("ok")) {
+            return Err(CliError::new(format!(
+                "--rig {}: the controller refused `{line}`: {}",
+                rf.source,
+                reply.join(" | ")
+            )));
+        }
+    }
+    Ok(lines.len())
+}
+
 /// One reply line as JSON: `kind` (`ok`, `err`, `item` or `text`), for `err` its `code`
 /// and `message`, and the `key=value` fields with numbers as numbers. A line that ends
 /// in a checksum (`*XXXX`) keeps it under `crc`.
@@ -185,8 +203,13 @@ impl<W: Write> Printer<W> {
 /// Runs a session on stdin/stdout: replies as they come (`table`: the lines as sent),
 /// or one JSON object per reply line (`json`, JSON Lines: see [`reply_json`]). Each
 /// request runs when its line ends (CR or LF); a stream is written line by line and a
-/// `stop` arriving meanwhile stops it. CSV is refused.
-pub fn run(link: &str, format: crate::output::Format) -> CliResult<()> {
+/// `stop` arriving meanwhile stops it. CSV is refused. With `rig`, the rig is loaded
+/// first ([`load_rig`]).
+pub fn run(
+    link: &str,
+    format: crate::output::Format,
+    rig: Option<&crate::rig::RigFile>,
+) -> CliResult<()> {
     use crate::output::Format;
     if format == Format::Csv {
         return Err(CliError::new(
@@ -195,9 +218,17 @@ pub fn run(link: &str, format: crate::output::Format) -> CliResult<()> {
     }
     let spec = crate::link::LinkSpec::parse(link, None)?;
     if spec != crate::link::LinkSpec::Sim {
-        return crate::remote::talk(&spec, format == Format::Json);
+        return crate::remote::talk(&spec, format == Format::Json, rig);
     }
     let mut console = sim_console()?;
+    if let Some(rf) = rig {
+        let n = load_rig(&mut console, rf)?;
+        // On stderr: the replies on stdout stay the session's own.
+        eprintln!(
+            "mwctl: rig {:?} ({}) loaded into the simulator with {n} requests (the lines of `mwctl rig show --rig {} --console`); declare where an axis stands with home name=AXIS before moving it",
+            rf.name, rf.source, rf.source
+        );
+    }
     let json = format == Format::Json;
     let interactive = std::io::stdin().is_terminal() && !json;
     let mut p = Printer {

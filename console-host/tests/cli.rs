@@ -168,15 +168,18 @@ fn bad_input_exits_2_with_one_line() {
     let bad: &[(&[&str], Option<&str>)] = &[
         (&["calc", "wavelength", "--energy", "0"], Some("E102: --energy 0: energy below 1 eV; accepted 1 eV to 300000 eV")),
         (&["calc", "wavelength", "--energy", "-5"], Some("E102: --energy -5: energy below 1 eV; accepted 1 eV to 300000 eV")),
-        (&["calc", "wavelength", "--energy", "nan"], Some("E101: --energy NaN: value is NaN or infinite; give a finite number")),
-        (&["calc", "wavelength", "--energy", "inf"], Some("E101: --energy inf: value is NaN or infinite; give a finite number")),
-        (&["calc", "wavelength", "--energy", "1e39"], Some("E101: --energy inf: value is NaN or infinite; give a finite number")),
-        (&["calc", "wavelength", "--energy", "abc"], Some("invalid value 'abc' for '--energy <EV>': invalid float literal; --energy <EV>: Nominal beam energy e·V_acc, eV (1 to 300000)")),
+        (&["calc", "wavelength", "--energy", "nan"], Some("invalid value 'nan' for '--energy <EV>': 'nan' is not a finite number; give plain digits such as 100, -2.5 or 1.5e3; --energy <EV>: Nominal beam energy e·V_acc, eV (1 to 300000)")),
+        (&["calc", "wavelength", "--energy", "inf"], Some("invalid value 'inf' for '--energy <EV>': 'inf' is not a finite number; give plain digits such as 100, -2.5 or 1.5e3; --energy <EV>: Nominal beam energy e·V_acc, eV (1 to 300000)")),
+        // Echoed as typed, not as the f32 infinity it would round to.
+        (&["calc", "wavelength", "--energy", "1e39"], Some("invalid value '1e39' for '--energy <EV>': '1e39' is beyond the f32 range (magnitude at most 3.4028235e38), far beyond what any option accepts; --energy <EV>: Nominal beam energy e·V_acc, eV (1 to 300000)")),
+        (&["calc", "wavelength", "--energy", "100eV"], Some("invalid value '100eV' for '--energy <EV>': '100eV' is not a number; give plain digits such as 100, -2.5 or 1.5e3, without a unit; --energy <EV>: Nominal beam energy e·V_acc, eV (1 to 300000)")),
+        (&["calc", "wavelength", "--energy", "abc"], Some("invalid value 'abc' for '--energy <EV>': 'abc' is not a number; give plain digits such as 100, -2.5 or 1.5e3, without a unit; --energy <EV>: Nominal beam energy e·V_acc, eV (1 to 300000)")),
         (&["calc", "wavelength", "--energy", "400000"], Some("E103: --energy 400000: energy above 300 keV; accepted 1 eV to 300000 eV")),
         (&["calc", "wavelength", "--energy", "100", "--inner-potential", "-3"], Some("E102: --inner-potential -3: inner potential negative; accepted 0 to 100 eV")),
         (&["calc", "wavelength", "--energy", "2", "--sample-work-function", "5"], Some("E104: --energy 2 --sample-work-function 5: kinetic energy at the sample below 1 eV after work-function and offset corrections; raise the gun energy")),
         (&["calc", "reflections", "--crystal", "unobtainium", "--energy", "100"], None),
-        (&["calc", "reflections", "--crystal", "cu", "--energy", "100", "--max", "0"], Some("--max 0: give 1 to 10000")),
+        (&["calc", "reflections", "--crystal", "cu", "--energy", "100", "--max", "0"], Some("invalid value '0' for '--max <N>': '0' is not a count from 1 to 10000; give a whole number such as 20; --max <N>: Most families to list, 1 to 10000")),
+        (&["calc", "reflections", "--crystal", "cu", "--energy", "100", "--max", "-1"], Some("invalid value '-1' for '--max <N>': '-1' is not a count from 1 to 10000; give a whole number such as 20; --max <N>: Most families to list, 1 to 10000")),
         (&["calc", "rings", "--crystal", "cu", "--energy", "1e5", "--screen-distance", "0"], Some("--screen-distance 0: give a distance in mm, above 0 and at most 100000")),
         (&["calc", "beams", "--crystal", "cu", "--face", "11", "--energy", "100"], Some("E116: --face '11': indices must be three integers (four, h k i l, for hexagonal crystals); write e.g. 111, 1-10, 1,1,0 or (1 -1 0)")),
         (&["calc", "beams", "--crystal", "cu", "--face", "000", "--energy", "100"], Some("E110: --face '000': indices (0,0,0) name no plane; write e.g. 111, 1-10, 1,1,0 or (1 -1 0)")),
@@ -184,11 +187,11 @@ fn bad_input_exits_2_with_one_line() {
         (&["calc", "beams", "--crystal", "cu", "--face", "0001", "--energy", "100"], Some("E113: --face '0001': four-index indices only apply to hexagonal crystals; write e.g. 111, 1-10, 1,1,0 or (1 -1 0)")),
         (&["calc", "beams", "--crystal", "zn", "--face", "1,1,1,1", "--energy", "100"], Some("E112: --face '1,1,1,1': four-index (hkil) needs i = -(h+k); write e.g. 111, 1-10, 1,1,0 or (1 -1 0); four-index 0001 or 10-10")),
         (&["calc", "beams", "--crystal", "cu", "--face", "111", "--energy", "100", "--tilt", "95"], Some("--tilt 95: give a finite angle in degrees within ±89.9")),
-        (&["calc", "beams", "--crystal", "cu", "--face", "111", "--energy", "100", "--tilt", "nan"], Some("--tilt NaN: give a finite angle in degrees within ±89.9")),
+        (&["calc", "beams", "--crystal", "cu", "--face", "111", "--energy", "100", "--tilt", "nan"], Some("invalid value 'nan' for '--tilt <DEG>': 'nan' is not a finite number; give plain digits such as 100, -2.5 or 1.5e3; --tilt <DEG>: Sample tilt α, degrees, within ±89.9 (0: normal incidence)")),
         (&["calc", "ivpeaks", "--crystal", "cu", "--face", "111", "--beam", "3,0", "--from", "10", "--to", "20"], Some("E201: --beam 3,0: the beam emerges only at 276.17 eV at the sample (276.17 eV nominal), above --to 20: beam is evanescent at this energy and incidence; raise the energy or change the tilt")),
         (&["calc", "ivpeaks", "--crystal", "cu", "--face", "111", "--beam", "x", "--from", "10", "--to", "20"], Some("--beam 'x': give two integers H,K such as 1,0 or -1,1 (compact 10 or -11 also works)")),
         (&["calc", "ivpeaks", "--crystal", "cu", "--face", "111", "--beam", "0,0", "--from", "200", "--to", "20"], Some("--from 200 --to 20: 'from' must be below 'to'")),
-        (&["calc", "ivpeaks", "--crystal", "gaas", "--face", "100", "--beam", "0,0", "--from", "20", "--to", "200"], Some("no inner potential in the table for gaas; give --inner-potential EV")),
+        (&["calc", "ivpeaks", "--crystal", "gaas", "--face", "100", "--beam", "0,0", "--from", "20", "--to", "200"], Some("E132: --inner-potential face: the crystal table has no inner potential for gaas (100); give it in eV (`mwctl crystals --crystal gaas` lists the table's values)")),
         (&["calc", "nonsense"], Some("unknown command 'nonsense' for `mwctl calc`: accepted: wavelength, reflections, rings, beams, ivpeaks, aim, track, sweep, view, fit, budget")),
         (&["calc"], Some("`mwctl calc` needs a command: one of wavelength, reflections, rings, beams, ivpeaks, aim, track, sweep, view, fit, budget")),
         (&[], Some("`mwctl` needs a command: one of crystals, calc, demo, rig, safety, talk, run, verify, backup, restore, serve")),
@@ -488,15 +491,17 @@ fn format_is_honoured_or_refused() {
     for key in ["cautions", "beam", "beams", "iv_peaks", "controller"] {
         assert!(v.get(key).is_some(), "demo JSON lacks {key}: {v}");
     }
-    let aim = v["controller"]
+    // The controller part: one object per reply line, as `talk --format json`.
+    let aim: Vec<&serde_json::Value> = v["controller"]
         .as_array()
         .unwrap()
         .iter()
-        .find(|x| x["request"] == "aim")
-        .expect("the demo aims");
-    let last = aim["replies"].as_array().unwrap().last().unwrap().clone();
-    assert_eq!(last["kind"], "ok", "{aim}");
-    assert!(last["fields"]["count"].as_i64().unwrap() >= 1, "{aim}");
+        .filter(|x| x["request"] == "aim")
+        .collect();
+    let last = aim.last().expect("the demo aims");
+    assert_eq!(last["kind"], "ok", "{aim:?}");
+    assert!(last["fields"]["count"].as_i64().unwrap() >= 1, "{aim:?}");
+    assert!(aim.len() >= 2 && aim[0]["kind"] == "item", "{aim:?}");
     let v = json(&["safety"]);
     assert!(
         v["cautions"].as_str().unwrap().contains("not an interlock"),
@@ -581,7 +586,8 @@ fn csv_rows_carry_their_context() {
     assert_eq!(rows.len(), 3, "{out}");
     for r in rows {
         assert!(
-            r.starts_with("cu,(1 0 0),\"1,0\",20,in-plane,nearest,"),
+            // crystal, face, beam, tilt, V0 and I-V maxima in range, mode, branch
+            r.starts_with("cu,(1 0 0),\"1,0\",20,10,1,in-plane,nearest,"),
             "{r}"
         );
     }
@@ -695,4 +701,406 @@ fn crystal_faces_show_the_values_the_controller_uses() {
             }
         }
     }
+}
+
+/// `--tilt` and `--azimuth` mean the same and default the same on every command: the
+/// tilt always 0 (normal incidence) with one help text; the azimuth 0 with one help text
+/// where it is fixed (beams, ivpeaks, sweep, view), and absent — in-plane aiming — with
+/// one other help text where it selects two-circle aiming (aim, track, budget).
+#[test]
+fn tilt_and_azimuth_have_one_default_and_one_meaning_everywhere() {
+    use clap::CommandFactory;
+    let root = matterwave_console::cli::Cli::command();
+    let calc = root.find_subcommand("calc").unwrap();
+    let (mut tilts, mut fixed, mut aiming) = (Vec::new(), Vec::new(), Vec::new());
+    for sc in calc.get_subcommands() {
+        let name = sc.get_name().to_string();
+        for a in sc.get_arguments() {
+            let help = a.get_help().map(|h| h.to_string()).unwrap_or_default();
+            let default: Vec<String> = a
+                .get_default_values()
+                .iter()
+                .map(|v| v.to_string_lossy().into_owned())
+                .collect();
+            match a.get_long() {
+                Some("tilt") => tilts.push((name.clone(), help, default)),
+                Some("azimuth") if default.is_empty() => aiming.push((name.clone(), help)),
+                Some("azimuth") => fixed.push((name.clone(), help, default)),
+                _ => {}
+            }
+        }
+    }
+    let names = |v: &[(String, String, Vec<String>)]| -> Vec<String> {
+        v.iter().map(|x| x.0.clone()).collect()
+    };
+    assert_eq!(
+        names(&tilts),
+        ["beams", "ivpeaks", "aim", "track", "sweep", "view", "fit", "budget"]
+    );
+    for (n, help, default) in &tilts {
+        assert_eq!(default, &["0"], "{n}");
+        let h = help
+            .trim_start_matches("arm-zero: s")
+            .trim_start_matches('S');
+        assert_eq!(
+            h, "ample tilt α, degrees, within ±89.9 (0: normal incidence)",
+            "{n}"
+        );
+    }
+    assert_eq!(names(&fixed), ["beams", "ivpeaks", "sweep", "view"]);
+    for (n, help, default) in &fixed {
+        assert_eq!(default, &["0"], "{n}");
+        assert_eq!(help, &fixed[0].1, "{n}");
+    }
+    let aim: Vec<&str> = aiming.iter().map(|x| x.0.as_str()).collect();
+    assert_eq!(aim, ["aim", "track", "budget"]);
+    for (n, help) in &aiming {
+        assert_eq!(help, &aiming[0].1, "{n}");
+        assert!(help.contains("Without it, in-plane aiming"), "{n}: {help}");
+    }
+    // The tilt's accepted range in the help is the core's.
+    assert!(tilts[0]
+        .1
+        .contains(&format!("±{}", matterwave_core::surface::TILT_MAX_DEG)));
+}
+
+/// `--sample-work-function face` and `--inner-potential face` take the crystal table's
+/// value for the face: the source is tables/crystals.toml itself (read here, not through
+/// the core), the face's own value where it has one, else the crystal's. A face without
+/// one, or a command without a face, is refused naming the option.
+#[test]
+fn face_takes_the_tables_value_for_the_face() {
+    let toml: toml::Table = std::fs::read_to_string(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/../tables/crystals.toml"
+    ))
+    .unwrap()
+    .parse()
+    .unwrap();
+    let crystal = |id: &str| -> toml::Table {
+        toml["crystal"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|c| c["id"].as_str() == Some(id))
+            .unwrap()
+            .as_table()
+            .unwrap()
+            .clone()
+    };
+    let num = |v: &toml::Value| v.as_float().or(v.as_integer().map(|i| i as f64)).unwrap();
+    let table = |id: &str, miller: [i64; 3], key: &str| -> Option<f64> {
+        let c = crystal(id);
+        let own = c.get("face").and_then(|f| {
+            f.as_array().unwrap().iter().find_map(|f| {
+                let m: Vec<i64> = f["miller"]
+                    .as_array()
+                    .unwrap()
+                    .iter()
+                    .map(|x| x.as_integer().unwrap())
+                    .collect();
+                (m == miller).then(|| f.get(key).map(num)).flatten()
+            })
+        });
+        own.or_else(|| c.get(key).map(num))
+    };
+    // Invented scenarios: W(110) at 80 eV with a 2.7 eV cathode; Pt(111) and Pt(100).
+    for (id, face, m) in [
+        ("w", "110", [1, 1, 0]),
+        ("pt", "111", [1, 1, 1]),
+        ("pt", "100", [1, 0, 0]),
+    ] {
+        let want = table(id, m, "work_function_ev").unwrap();
+        let base = [
+            "calc",
+            "beams",
+            "--crystal",
+            id,
+            "--face",
+            face,
+            "--energy",
+            "80",
+            "--cathode-work-function",
+            "2.7",
+        ];
+        let mut args = base.to_vec();
+        args.extend(["--sample-work-function", "face"]);
+        let v = json(&args);
+        let got = v["sample_work_function_ev"].as_f64().unwrap();
+        assert!((got - want).abs() < 1e-5, "{id} {face}: {got} vs {want}");
+        // The same as giving the number.
+        let typed = format!("{want}");
+        let mut by_hand = base.to_vec();
+        by_hand.extend(["--sample-work-function", &typed]);
+        assert_eq!(json(&by_hand)["energy_ev"], v["energy_ev"], "{id} {face}");
+        // aim, sweep, view, track, budget and ivpeaks take it too.
+        let aim = json(&[
+            "calc",
+            "aim",
+            "--crystal",
+            id,
+            "--face",
+            face,
+            "--beam",
+            "1,0",
+            "--energy",
+            "80",
+            "--tilt",
+            "10",
+            "--sample-work-function",
+            "face",
+        ]);
+        assert!((aim["sample_work_function_ev"].as_f64().unwrap() - want).abs() < 1e-5);
+        let iv = json(&[
+            "calc",
+            "ivpeaks",
+            "--crystal",
+            id,
+            "--face",
+            face,
+            "--beam",
+            "0,0",
+            "--from",
+            "30",
+            "--to",
+            "200",
+            "--sample-work-function",
+            "face",
+            "--inner-potential",
+            "face",
+        ]);
+        assert!((iv["sample_work_function_ev"].as_f64().unwrap() - want).abs() < 1e-5);
+        let v0 = table(id, m, "inner_potential_ev").unwrap();
+        assert!((iv["inner_potential_ev"].as_f64().unwrap() - v0).abs() < 1e-5);
+        for cmd in [
+            vec![
+                "calc",
+                "sweep",
+                "--crystal",
+                id,
+                "--face",
+                face,
+                "--energy",
+                "80",
+                "--arm-from",
+                "20",
+                "--arm-to",
+                "60",
+                "--step",
+                "1",
+                "--sample-work-function",
+                "face",
+            ],
+            vec![
+                "calc",
+                "view",
+                "--crystal",
+                id,
+                "--face",
+                face,
+                "--energy",
+                "80",
+                "--arm",
+                "40",
+                "--sample-work-function",
+                "face",
+            ],
+            vec![
+                "calc",
+                "budget",
+                "--crystal",
+                id,
+                "--face",
+                face,
+                "--beam",
+                "1,0",
+                "--energy",
+                "80",
+                "--tilt",
+                "10",
+                "--sample-work-function",
+                "face",
+            ],
+        ] {
+            let v = json(&cmd);
+            assert!(
+                (v["sample_work_function_ev"].as_f64().unwrap() - want).abs() < 1e-5,
+                "{cmd:?}"
+            );
+        }
+        let tr = json(&[
+            "calc",
+            "track",
+            "--crystal",
+            id,
+            "--face",
+            face,
+            "--beam",
+            "1,0",
+            "--from",
+            "60",
+            "--to",
+            "100",
+            "--step",
+            "20",
+            "--tilt",
+            "10",
+            "--sample-work-function",
+            "face",
+        ]);
+        assert!(
+            (tr["correction_ev"].as_f64().unwrap() + want).abs() < 1e-5,
+            "{tr}"
+        );
+    }
+    // No value in the table: refused, naming the option (GaAs has no work function).
+    assert_eq!(table("gaas", [1, 0, 0], "work_function_ev"), None);
+    let (code, _, err) = mwctl(&[
+        "calc",
+        "beams",
+        "--crystal",
+        "gaas",
+        "--face",
+        "100",
+        "--energy",
+        "80",
+        "--sample-work-function",
+        "face",
+    ]);
+    assert_eq!(code, 2);
+    assert_eq!(err.trim_end(), "mwctl: error: E132: --sample-work-function face: the crystal table has no work function for gaas (100); give it in eV (`mwctl crystals --crystal gaas` lists the table's values)");
+    // A command without a face cannot look it up.
+    for (opt, cmd) in [
+        (
+            "--sample-work-function",
+            vec!["calc", "wavelength", "--energy", "80"],
+        ),
+        (
+            "--inner-potential",
+            vec!["calc", "wavelength", "--energy", "80"],
+        ),
+        (
+            "--sample-work-function",
+            vec!["calc", "reflections", "--crystal", "cu", "--energy", "8000"],
+        ),
+    ] {
+        let mut a = cmd.clone();
+        a.extend([opt, "face"]);
+        let (code, _, err) = mwctl(&a);
+        assert_eq!(code, 2, "{a:?}");
+        assert!(
+            err.starts_with(&format!("mwctl: error: {opt} face: `calc ")),
+            "{err}"
+        );
+        assert!(err.contains("give it in eV"), "{err}");
+    }
+    // `mwctl crystals --crystal ID` shows each face's value and where it came from.
+    let v = json(&["crystals", "--crystal", "pt"]);
+    let faces = v["faces"].as_array().unwrap();
+    let f111 = faces.iter().find(|f| f["face"] == "(111)").unwrap();
+    assert_eq!(f111["work_function_from"], "face");
+    assert!(
+        (f111["work_function_ev"].as_f64().unwrap()
+            - table("pt", [1, 1, 1], "work_function_ev").unwrap())
+        .abs()
+            < 1e-9
+    );
+    let f100 = faces.iter().find(|f| f["face"] == "(100)").unwrap();
+    assert_eq!(f100["work_function_from"], "crystal");
+}
+
+/// A sweep whose range runs past the arm's limits says so (a boolean in JSON, a note in
+/// the table naming the option and the limit), and a zero step names the step alone.
+/// The limits are the built-in rig's, ±165° (`mwctl rig show`).
+#[test]
+fn sweep_beyond_the_limits_and_a_zero_step_say_what_is_wrong() {
+    let base = [
+        "calc",
+        "sweep",
+        "--crystal",
+        "ag",
+        "--face",
+        "100",
+        "--energy",
+        "95",
+        "--arm-from",
+        "12",
+        "--step",
+        "1",
+    ];
+    let mut a = base.to_vec();
+    a.extend(["--arm-to", "500"]);
+    let v = json(&a);
+    assert_eq!(v["beyond_limits"], true);
+    let (code, out, _) = mwctl(&a);
+    assert_eq!(code, 0);
+    assert!(
+        out.contains("The range runs past the arm's soft limits (--arm-to 500: above the arm upper limit 165 deg)"),
+        "{out}"
+    );
+    let mut a = base.to_vec();
+    a.extend(["--arm-to", "110"]);
+    assert_eq!(json(&a)["beyond_limits"], false);
+    let (code, _, err) = mwctl(&[
+        "calc",
+        "sweep",
+        "--crystal",
+        "ag",
+        "--face",
+        "100",
+        "--energy",
+        "95",
+        "--arm-from",
+        "12",
+        "--arm-to",
+        "110",
+        "--step",
+        "0",
+    ]);
+    assert_eq!(code, 2);
+    assert_eq!(
+        err.trim_end(),
+        "mwctl: error: E102: --step 0: the step must be above 0 (the range --arm-from 12 --arm-to 110 is walked in steps of this size, at most 100000 points)"
+    );
+}
+
+/// A peak fit with too few usable points says how many it could use of how many and why
+/// the others were dropped (non-positive currents for the parabola of ln(current),
+/// currents at or below the threshold for the centroid), and the minimum.
+#[test]
+fn too_few_points_says_which_were_dropped_and_the_minimum() {
+    let dir = std::env::temp_dir().join(format!("mwctl-cli-few-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let p = dir.join("cli-too-few-points.csv");
+    std::fs::write(&p, "angle_deg,current\n1,5\n2,9\n3,-1\n4,0\n").unwrap();
+    let f = p.to_str().unwrap();
+    let (code, _, err) = mwctl(&["calc", "fit", "peak", "--input", f]);
+    assert_eq!(code, 2);
+    assert!(err.contains("E250"), "{err}");
+    assert!(
+        err.contains("too few usable points: 2 of 4 have a positive current"),
+        "{err}"
+    );
+    assert!(
+        err.contains("zero and negative currents are dropped"),
+        "{err}"
+    );
+    assert!(err.contains("at least 3"), "{err}");
+    let (code, _, err) = mwctl(&[
+        "calc",
+        "fit",
+        "peak",
+        "--input",
+        f,
+        "--method",
+        "centroid",
+        "--threshold",
+        "4",
+    ]);
+    assert_eq!(code, 2);
+    assert!(
+        err.contains("2 of 4 have a current above the threshold 4"),
+        "{err}"
+    );
+    assert!(err.contains("give a lower --threshold"), "{err}");
 }

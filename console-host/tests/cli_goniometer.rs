@@ -1,5 +1,5 @@
 //! End-to-end tests of the goniometer commands of `mwctl`: `calc aim`, `track`,
-//! `sweep`, `where`, `fit`, `budget` and `rig show` / `rig check`, in every format,
+//! `sweep`, `view`, `fit`, `budget` and `rig show` / `rig check`, in every format,
 //! with exit status 2 and one line naming the axis, zone, field or CSV line on bad
 //! input.
 //!
@@ -247,7 +247,7 @@ fn every_command_answers_in_every_format() {
         vec!["calc", "fit", "iv", "--input", iv],
         vec!["rig", "show"],
         vec!["rig", "show", "--rig", BENCH_B],
-        vec!["rig", "check", BENCH_B],
+        vec!["rig", "check", "--rig", BENCH_B],
     ];
     for cmd in &commands {
         for fmt in ["table", "json", "csv"] {
@@ -1011,7 +1011,7 @@ fn bad_rig_files_name_the_field() {
         let p = temp_file(&format!("bad-rig-{i}.toml"), text);
         let ps = p.to_str().unwrap();
         for args in [
-            vec!["rig", "check", ps],
+            vec!["rig", "check", "--rig", ps],
             vec![
                 "calc",
                 "aim",
@@ -1039,7 +1039,7 @@ fn bad_rig_files_name_the_field() {
         }
     }
     assert_eq!(
-        fails(&["rig", "check", "/nonexistent/rig.toml"]).trim_end(),
+        fails(&["rig", "check", "--rig", "/nonexistent/rig.toml"]).trim_end(),
         "mwctl: error: rig file /nonexistent/rig.toml: cannot read it: No such file or \
          directory (os error 2)"
     );
@@ -1061,7 +1061,7 @@ fn rig_show_dumps_a_file_that_reads_back() {
         let again = json(&["rig", "show", "--rig", p.to_str().unwrap()]);
         assert_eq!(before["axes"], again["axes"]);
         assert_eq!(before["name"], again["name"]);
-        let (code, _, err) = mwctl(&["rig", "check", p.to_str().unwrap()]);
+        let (code, _, err) = mwctl(&["rig", "check", "--rig", p.to_str().unwrap()]);
         assert_eq!(code, 0, "{err}");
     }
     let b = json(&["rig", "show", "--rig", BENCH_B]);
@@ -1369,7 +1369,7 @@ fn rig_check_refuses_home_outside_limits_and_overlapping_zones() {
             "{name}: the example rig file changed; update the test"
         );
         let p = temp_file(name, &body);
-        let (status, _, err) = mwctl(&["rig", "check", p.to_str().unwrap()]);
+        let (status, _, err) = mwctl(&["rig", "check", "--rig", p.to_str().unwrap()]);
         assert_eq!(status, 2, "{name}: {err}");
         assert!(err.contains(code), "{name}: {err}");
     }
@@ -1544,7 +1544,7 @@ fn oversized_inputs_are_refused_with_a_short_message() {
             "x".repeat(5_000_000)
         ),
     );
-    let err = fails(&["rig", "check", p.to_str().unwrap()]);
+    let err = fails(&["rig", "check", "--rig", p.to_str().unwrap()]);
     assert!(
         err.len() < 400 && err.contains("a rig file is at most"),
         "{err}"
@@ -1556,7 +1556,7 @@ fn oversized_inputs_are_refused_with_a_short_message() {
             "x".repeat(500_000)
         ),
     );
-    let err = fails(&["rig", "check", p.to_str().unwrap()]);
+    let err = fails(&["rig", "check", "--rig", p.to_str().unwrap()]);
     assert!(
         err.len() < 400 && !err.contains('\u{1b}'),
         "{} bytes: {}",

@@ -99,6 +99,20 @@ fn talk_over_a_pty_answers_as_the_simulator() {
 }
 
 #[test]
+fn a_rig_loads_the_same_over_a_pty_as_into_the_simulator() {
+    let rig = concat!(env!("CARGO_MANIFEST_DIR"), "/../docs/rigs/bench-b.toml");
+    let (code_sim, sim, _) = talk(&["--link", "sim", "--rig", rig], b"dump\n");
+    let (code_pty, pty, err) = talk(&["--link", "pty", "--rig", rig], b"dump\n");
+    assert_eq!((code_sim, code_pty), (0, 0), "{err}");
+    assert_eq!(sim, pty);
+    let text = String::from_utf8(sim).expect("ASCII");
+    assert!(
+        text.contains("axis name=arm steps_per_deg=1422.2222"),
+        "{text}"
+    );
+}
+
+#[test]
 fn unknown_link_is_one_line() {
     let (code, out, err) = talk(&["--link", "serial"], b"hello\n");
     assert_eq!(code, 2);

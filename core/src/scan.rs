@@ -391,6 +391,16 @@ pub struct IvPoint {
     pub peak: Option<IvPeak>,
 }
 
+impl IvPoint {
+    /// The marked peak as a gun setting, eV: its energy at the sample shifted into the
+    /// frame of the point's own key (the nominal energy), by the point's correction
+    /// energy − nominal. `None` when no peak is marked.
+    pub fn peak_nominal_ev(&self) -> Option<f32> {
+        let correction = self.point.energy_ev - self.point.nominal_ev;
+        self.peak.map(|p| p.energy_ev - correction)
+    }
+}
+
 impl IvPlan {
     /// Builds the plan and predicts the peaks over its energy range, at the azimuth of
     /// the first reachable solution (in-plane mode) or the given azimuth.

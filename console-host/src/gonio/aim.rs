@@ -151,14 +151,16 @@ pub(super) fn solution_columns() -> Vec<crate::output::Column> {
         col("elevation_steps", "elevation steps"),
         col("tilt_steps", "tilt steps"),
         col("arm_residual_deg", "arm residual (deg)"),
-        col("arm_approach_steps", "arm turn-round"),
+        col("arm_approach_steps", "arm turn-round (steps)"),
         col("branch", "branch"),
         col("exit_deg", "exit (deg)"),
+        col("exit_azimuth_deg", "exit azimuth (deg)"),
         col("travel_deg", "travel (deg)"),
     ]
 }
 
-pub(super) fn solution_row(s: &Solution) -> Vec<Value> {
+pub(super) fn solution_row(s: &Solution, exit: [Value; 2]) -> Vec<Value> {
+    let [exit_deg, exit_azimuth] = exit;
     vec![
         f(s.azimuth.angle_deg, 4),
         f(s.arm.angle_deg, 4),
@@ -174,7 +176,8 @@ pub(super) fn solution_row(s: &Solution) -> Vec<Value> {
             .approach_steps
             .map_or(Value::Missing, |a| Value::Int(a.into())),
         Value::Int(s.branch.into()),
-        f(s.exit_deg, 4),
+        exit_deg,
+        exit_azimuth,
         f(s.travel_deg, 3),
     ]
 }
@@ -189,8 +192,9 @@ pub(super) fn aim_query<'a>(
     azimuth: Option<f32>,
     branch: Branch,
     position: &PositionArgs,
-) -> CliResult<(&'static Crystal, Cell, f32, AimQuery<'a>)> {
+) -> CliResult<(&'static Crystal, Cell, f32, AimQuery<'a>, GunArgs)> {
     let (c, cell, face, rod) = target(target_args)?;
+    let gun = gun.at_face(c, &face)?;
     let e = gun.kinetic_ev()?;
     let q = AimQuery {
         rig: &rf.rig,
@@ -201,7 +205,7 @@ pub(super) fn aim_query<'a>(
         branch,
         current: parse_position(position.position.as_deref(), &rf.rig)?,
     };
-    Ok((c, cell, e, q))
+    Ok((c, cell, e, q, gun))
 }
 
 // ---------------------------------------------------------------------------------------
@@ -210,7 +214,7 @@ pub(super) fn aim_query<'a>(
 /// `mwctl calc aim`.
 pub fn aim(a: &AimArgs) -> CliResult<Report> {
     let rf = a.rig.load()?;
-    let (c, _, e, q) = aim_query(
+    let (c, _, e, q, gun) = aim_query(
         &rf,
         &a.target,
         &a.gun,
@@ -220,11 +224,11 @@ pub fn aim(a: &AimArgs) -> CliResult<Report> {
         &a.position,
     )?;
     let mut buf = [Solution::EMPTY; MAX_SOLUTIONS];
-    let n = q.reachable(e, a.gun.energy, a.gun.correction_ev(), &mut buf)?;
+    let n = q.reachable(e, gun.energy, gun.correction_ev(), &mut buf)?;
     let mut r = Report::default();
     crystal_face_fields(&mut r, c, &q.face);
     r.field("beam", "beam", text(rod_text(q.rod)));
-    a.gun.fields(&mut r, e);
+    gun.fields(&mut r, e);
     r.field(
         "wavelength_a",
         "wavelength (Å)",
@@ -242,7 +246,10 @@ pub fn aim(a: &AimArgs) -> CliResult<Report> {
     r.list = Some(List {
         key: "solutions",
         columns: solution_columns(),
-        rows: buf[..n].iter().map(solution_row).collect(),
+        rows: buf[..n]
+            .iter()
+            .map(|s| solution_row(s, exit_of(&q.face, q.rod, e, s)))
+            .collect(),
     });
     r.notes
         .push("Solutions nearest the current position (least total travel) first.".into());
@@ -256,7 +263,7 @@ pub fn aim(a: &AimArgs) -> CliResult<Report> {
 pub fn budget_cmd(a: &BudgetArgs) -> CliResult<Report> {
     let rf = a.rig.load()?;
     let rig = &rf.rig;
-    let (c, _, e, q) = aim_query(
+    let (c, _, e, q, gun) = aim_query(
         &rf,
         &a.target,
         &a.gun,
@@ -288,7 +295,7 @@ pub fn budget_cmd(a: &BudgetArgs) -> CliResult<Report> {
         }
         // Refused by the rig: say which axis refuses each geometric pose.
         let mut buf = [Solution::EMPTY; MAX_SOLUTIONS];
-        q.reachable(e, a.gun.energy, a.gun.correction_ev(), &mut buf)?;
+        q.reachable(e, gun.energy, gun.correction_ev(), &mut buf)?;
         Err(CliError::core(
             er,
             "energy sensitivity (the beam is too close to its emergence energy)",
@@ -314,7 +321,7 @@ pub fn budget_cmd(a: &BudgetArgs) -> CliResult<Report> {
     let mut r = Report::default();
     crystal_face_fields(&mut r, c, &face);
     r.field("beam", "beam", text(rod_text(rod)));
-    a.gun.fields(&mut r, e);
+    gun.fields(&mut r, e);
     r.field("tilt_deg", "tilt (deg)", f(tilt, 3));
     r.field("mode", "mode", text(mode_text(mode)));
     r.field(
@@ -377,7 +384,7 @@ pub fn add_reach(
 ) -> CliResult<()> {
     let c = calc::crystal(crystal)?;
     let (_, face) = calc::face_of(c, face_text)?;
-    let e = gun.kinetic_ev()?;
+    let e = gun.at_face(c, &face)?.kinetic_ev()?;
     let mode = if rf.rig.elevation.is_some() {
         Mode::AtAzimuth(azimuth_deg)
     } else {

@@ -47,28 +47,44 @@ pub struct TargetArgs {
 #[derive(Clone, Copy, Debug, clap::Args)]
 pub struct CorrectionArgs {
     /// Cathode work function, eV (adds to the energy at the sample; 0 = no correction).
-    #[arg(long, value_name = "EV", default_value_t = 0.0)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
     pub cathode_work_function: f32,
-    /// Sample work function, eV (subtracts from the energy at the sample; 0 = none).
-    #[arg(long, value_name = "EV", default_value_t = 0.0)]
-    pub sample_work_function: f32,
+    /// Sample work function, eV (subtracts from the energy at the sample; 0 = none), or
+    /// `face`: the crystal table's value for the face.
+    #[arg(value_parser = crate::calc::ev_or_face, long, value_name = "EV|face", default_value = "0")]
+    pub sample_work_function: crate::calc::EvOrFace,
     /// Fitted gun energy offset, eV (added to the energy at the sample).
-    #[arg(long, value_name = "EV", default_value_t = 0.0)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
     pub energy_offset: f32,
 }
 
 impl CorrectionArgs {
-    pub(super) fn gun(&self, nominal_ev: f32) -> Gun {
-        Gun {
-            nominal_ev,
-            cathode_work_function_ev: self.cathode_work_function,
-            sample_work_function_ev: self.sample_work_function,
-            offset_ev: self.energy_offset,
+    /// These corrections with `--sample-work-function face` replaced by the table's value
+    /// for `face` of `c`.
+    pub(super) fn at_face(&self, c: &Crystal, face: &Face) -> CliResult<CorrectionArgs> {
+        let g = self.gun_args(0.0).at_face(c, face)?;
+        Ok(CorrectionArgs {
+            sample_work_function: g.sample_work_function,
+            ..*self
+        })
+    }
+
+    /// The corrections with a nominal energy, as [`GunArgs`].
+    pub(super) fn gun_args(&self, nominal_ev: f32) -> GunArgs {
+        GunArgs {
+            energy: nominal_ev,
+            cathode_work_function: self.cathode_work_function,
+            sample_work_function: self.sample_work_function,
+            energy_offset: self.energy_offset,
         }
     }
 
+    pub(super) fn gun(&self, nominal_ev: f32) -> Gun {
+        self.gun_args(nominal_ev).gun()
+    }
+
     pub(super) fn correction_ev(&self) -> f32 {
-        self.cathode_work_function - self.sample_work_function + self.energy_offset
+        self.gun_args(0.0).correction_ev()
     }
 }
 
@@ -84,12 +100,13 @@ pub struct AimArgs {
     /// Gun settings.
     #[command(flatten)]
     pub gun: GunArgs,
-    /// Sample tilt α, degrees (0 = normal incidence).
-    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+    /// Sample tilt α, degrees, within ±89.9 (0: normal incidence).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub tilt: f32,
-    /// Two-circle mode: keep this sample azimuth φ (degrees) and use the elevation axis.
-    /// Without it: in-plane mode (the azimuth turns the beam into the scattering plane).
-    #[arg(long, value_name = "DEG")]
+    /// Sample azimuth φ, degrees, within ±360: aim two-circle at this azimuth (with the
+    /// elevation axis unless the beam stays in the plane). Without it, in-plane aiming: the
+    /// azimuth axis turns the beam into the scattering plane.
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG")]
     pub azimuth: Option<f32>,
     /// Branch preference in in-plane mode: `+1` (g along +e1), `-1`, or `nearest`
     /// (whichever solution is nearest the current position).
@@ -111,22 +128,24 @@ pub struct TrackArgs {
     #[command(flatten)]
     pub target: TargetArgs,
     /// First nominal energy, eV.
-    #[arg(long, value_name = "EV")]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV")]
     pub from: f32,
     /// Last nominal energy, eV (included when the steps land on it).
-    #[arg(long, value_name = "EV")]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV")]
     pub to: f32,
     /// Nominal energy step, eV.
-    #[arg(long, value_name = "EV")]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV")]
     pub step: f32,
     /// Gun corrections.
     #[command(flatten)]
     pub corrections: CorrectionArgs,
-    /// Sample tilt α, degrees.
-    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+    /// Sample tilt α, degrees, within ±89.9 (0: normal incidence).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub tilt: f32,
-    /// Two-circle mode at this azimuth, degrees (default: in-plane mode).
-    #[arg(long, value_name = "DEG")]
+    /// Sample azimuth φ, degrees, within ±360: aim two-circle at this azimuth (with the
+    /// elevation axis unless the beam stays in the plane). Without it, in-plane aiming: the
+    /// azimuth axis turns the beam into the scattering plane.
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG")]
     pub azimuth: Option<f32>,
     /// Branch preference in in-plane mode: `+1` or `-1` holds the track on that branch
     /// over the whole range; `nearest` follows the solution nearest the previous point.
@@ -134,8 +153,13 @@ pub struct TrackArgs {
           value_parser = parse_branch, allow_hyphen_values = true)]
     pub branch: Branch,
     /// Dwell at every reachable point, seconds, for the time estimate.
-    #[arg(long, value_name = "S", default_value_t = 0.0)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "S", default_value_t = 0.0)]
     pub dwell: f32,
+    /// Inner potential V0, eV (0 to 100), for marking the points nearest the predicted
+    /// kinematic I-V maxima, or `face`: the crystal table's value (the default; no marks
+    /// when the table has none).
+    #[arg(value_parser = crate::calc::ev_or_face, long, value_name = "EV|face")]
+    pub inner_potential: Option<crate::calc::EvOrFace>,
     /// The rig.
     #[command(flatten)]
     pub rig: RigArgs,
@@ -157,25 +181,25 @@ pub struct SweepArgs {
     #[command(flatten)]
     pub gun: GunArgs,
     /// First arm angle, degrees.
-    #[arg(long, value_name = "DEG")]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG")]
     pub arm_from: f32,
     /// Last arm angle, degrees.
-    #[arg(long, value_name = "DEG")]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG")]
     pub arm_to: f32,
     /// Arm step, degrees.
-    #[arg(long, value_name = "DEG")]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG")]
     pub step: f32,
-    /// Sample tilt α, degrees.
-    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+    /// Sample tilt α, degrees, within ±89.9 (0: normal incidence).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub tilt: f32,
-    /// Sample azimuth φ, degrees.
-    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+    /// Sample azimuth φ, degrees, within ±360 (0: a1 along e1, in the scattering plane).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub azimuth: f32,
     /// Detector elevation during the sweep, degrees (needs an elevation axis unless 0).
-    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub elevation: f32,
     /// Dwell at every reachable point, seconds, for the time estimate.
-    #[arg(long, value_name = "S", default_value_t = 0.0)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "S", default_value_t = 0.0)]
     pub dwell: f32,
     /// Also list every sweep point with its arm setpoint and the beam in view.
     #[arg(long)]
@@ -201,19 +225,19 @@ pub struct ViewArgs {
     #[command(flatten)]
     pub gun: GunArgs,
     /// Arm angle δ, degrees.
-    #[arg(long, value_name = "DEG")]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG")]
     pub arm: f32,
     /// Elevation ν, degrees (needs an elevation axis unless 0).
-    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub elevation: f32,
-    /// Sample azimuth φ, degrees.
-    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+    /// Sample azimuth φ, degrees, within ±360 (0: a1 along e1, in the scattering plane).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub azimuth: f32,
-    /// Sample tilt α, degrees.
-    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+    /// Sample tilt α, degrees, within ±89.9 (0: normal incidence).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub tilt: f32,
     /// Acceptance half-angle, degrees (above 0, up to 90; default: the rig's detector).
-    #[arg(long, value_name = "DEG")]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG")]
     pub acceptance: Option<f32>,
     /// The rig.
     #[command(flatten)]
@@ -294,7 +318,7 @@ pub struct FitArgs {
     pub method: PeakMethod,
     /// peak, centroid: background level subtracted from every current (default: the
     /// smallest current in the file).
-    #[arg(long, value_name = "CURRENT")]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "CURRENT")]
     pub threshold: Option<f32>,
     /// arm-zero: crystal id.
     #[arg(long, value_name = "ID")]
@@ -305,16 +329,17 @@ pub struct FitArgs {
     /// arm-zero: the beam measured, H,K.
     #[arg(long, value_name = "H,K", allow_hyphen_values = true)]
     pub beam: Option<String>,
-    /// arm-zero: sample tilt α, degrees.
-    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+    /// arm-zero: sample tilt α, degrees, within ±89.9 (0: normal incidence).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub tilt: f32,
     /// arm-zero: cathode work function, eV (the fitted ΔE is then the offset beyond the
     /// contact-potential correction).
-    #[arg(long, value_name = "EV", default_value_t = 0.0)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
     pub cathode_work_function: f32,
-    /// arm-zero: sample work function, eV.
-    #[arg(long, value_name = "EV", default_value_t = 0.0)]
-    pub sample_work_function: f32,
+    /// arm-zero: sample work function, eV, or `face`: the crystal table's value for the
+    /// face.
+    #[arg(value_parser = crate::calc::ev_or_face, long, value_name = "EV|face", default_value = "0")]
+    pub sample_work_function: crate::calc::EvOrFace,
 }
 
 /// Arguments of `mwctl calc budget`.
@@ -326,11 +351,13 @@ pub struct BudgetArgs {
     /// Gun settings.
     #[command(flatten)]
     pub gun: GunArgs,
-    /// Sample tilt α, degrees.
-    #[arg(long, value_name = "DEG", default_value_t = 0.0)]
+    /// Sample tilt α, degrees, within ±89.9 (0: normal incidence).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub tilt: f32,
-    /// Two-circle mode at this azimuth, degrees (default: in-plane mode).
-    #[arg(long, value_name = "DEG")]
+    /// Sample azimuth φ, degrees, within ±360: aim two-circle at this azimuth (with the
+    /// elevation axis unless the beam stays in the plane). Without it, in-plane aiming: the
+    /// azimuth axis turns the beam into the scattering plane.
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG")]
     pub azimuth: Option<f32>,
     /// Branch preference in in-plane mode: `+1` (g along +e1), `-1`, or `nearest`
     /// (whichever solution is nearest the current position).
@@ -339,10 +366,10 @@ pub struct BudgetArgs {
     pub branch: Branch,
     /// One standard deviation of the beam energy, eV (default 0.3: a thermionic
     /// cathode's spread is a few tenths of an eV, common practice).
-    #[arg(long, value_name = "EV", default_value_t = 0.3)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.3)]
     pub energy_spread: f32,
     /// One standard deviation of the arm zero, degrees (e.g. the σ of `fit arm-zero`).
-    #[arg(long, value_name = "DEG", default_value_t = 0.02)]
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.02)]
     pub arm_zero_sigma: f32,
     /// The rig.
     #[command(flatten)]

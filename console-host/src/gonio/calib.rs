@@ -131,6 +131,20 @@ pub(super) fn csv_i32(path: &Path, row: &CsvRow, i: usize, column: &str) -> CliR
     })
 }
 
+/// A peak fit's error; too few points says how many of the `(used, total)` the fit
+/// could use and `why` the others were left out.
+fn too_few(e: Error, ctx: &str, (used, total): (usize, usize), why: &str) -> CliError {
+    match e {
+        Error::TooFewPoints => CliError {
+            code: Some(e.code()),
+            message: format!(
+                "{ctx}: too few usable points: {used} of {total} {why}; a peak needs at least 3 around its maximum: add measurements across the peak"
+            ),
+        },
+        e => CliError::core(e, ctx),
+    }
+}
+
 /// `mwctl calc fit`.
 pub fn fit_cmd(a: &FitArgs) -> CliResult<Report> {
     let cols = a.kind.columns();
@@ -149,21 +163,35 @@ pub fn fit_cmd(a: &FitArgs) -> CliResult<Report> {
                     current: csv_f32(p, row, 1, cols[1])?,
                 });
             }
+            let n = samples.len();
             let (c, threshold) = match a.method {
-                PeakMethod::Parabola => (
-                    matterwave_core::fit::parabola_log(&samples).ctx(&ctx)?,
-                    None,
-                ),
+                PeakMethod::Parabola => {
+                    let positive = samples.iter().filter(|s| s.current > 0.0).count();
+                    (
+                        matterwave_core::fit::parabola_log(&samples).map_err(|e| {
+                            too_few(
+                                e,
+                                &ctx,
+                                (positive, n),
+                                "have a positive current (ln(current) needs one; zero and negative currents are dropped)",
+                            )
+                        })?,
+                        None,
+                    )
+                }
                 PeakMethod::Centroid => {
+                    // The one background rule of the core, as the controller uses it.
                     let t = match a.threshold {
                         Some(t) => t,
-                        None => samples
-                            .iter()
-                            .map(|s| s.current)
-                            .fold(f32::INFINITY, f32::min),
+                        None => matterwave_core::fit::centroid_background(&samples).ctx(&ctx)?,
                     };
+                    let above = samples.iter().filter(|s| s.current > t).count();
+                    let why = format!(
+                        "have a current above the threshold {t} (the others weigh nothing); give a lower --threshold"
+                    );
                     (
-                        matterwave_core::fit::centroid(&samples, t).ctx(&ctx)?,
+                        matterwave_core::fit::centroid(&samples, t)
+                            .map_err(|e| too_few(e, &ctx, (above, n), &why))?,
                         Some(t),
                     )
                 }
@@ -176,7 +204,21 @@ pub fn fit_cmd(a: &FitArgs) -> CliResult<Report> {
                     PeakMethod::Centroid => "centroid",
                 }),
             );
-            r.field("threshold", "threshold", Value::opt(threshold, 4));
+            r.field(
+                "threshold",
+                "threshold (background level)",
+                Value::opt(threshold, 4),
+            );
+            r.field(
+                "background_subtracted",
+                "background subtracted",
+                Value::Bool(threshold.is_some()),
+            );
+            if threshold.is_none() {
+                r.notes.push(
+                    "The parabola fits ln(current) as measured: no background is subtracted. A background under the peak widens the fitted FWHM and lowers the curvature; subtract it first, or use --method centroid (which subtracts --threshold, default the smallest current).".into(),
+                );
+            }
             r.field("angle_deg", "peak angle (deg)", f(c.angle_deg, 4));
             r.field("angle_sigma_deg", "σ angle (deg)", f(c.uncertainty_deg, 4));
             r.field("fwhm_deg", "FWHM (deg)", f(c.fwhm_deg, 4));
@@ -305,13 +347,22 @@ pub(super) fn fit_arm_zero(
     let (_, face) = calc::face_of(c, face_t)?;
     let rod = calc::parse_rod(beam_t)?;
     let tilt = check_angle(a.tilt, "tilt", TILT_MAX_DEG)?;
+    let sample = match a.sample_work_function {
+        calc::EvOrFace::Ev(x) => x,
+        calc::EvOrFace::Face => calc::table_value(
+            calc::TableValue::WorkFunction,
+            "--sample-work-function",
+            c,
+            &face,
+        )?,
+    };
     for (name, x) in [
         ("cathode-work-function", a.cathode_work_function),
-        ("sample-work-function", a.sample_work_function),
+        ("sample-work-function", sample),
     ] {
         beam::check_work_function(x).ctx(format_args!("--{name} {x}"))?;
     }
-    let wf = a.cathode_work_function - a.sample_work_function;
+    let wf = a.cathode_work_function - sample;
     if face.rod_inv_a(rod) == [0.0, 0.0] {
         return Err(CliError::new(format!(
             "fit arm-zero --beam {}: the specular beam sits at twice the tilt at every energy, so it cannot fix the gun offset; measure a diffracted beam",

@@ -1,4 +1,4 @@
-//! Goniometer commands of `mwctl calc`: `aim`, `track`, `sweep`, `where`, `fit` and
+//! Goniometer commands of `mwctl calc`: `aim`, `track`, `sweep`, `view`, `fit` and
 //! `budget`. Every number comes from the core's f32 code (goniometer, axis, scan, fit
 //! and budget modules), the same code the controller runs; this module reads the
 //! command line, the rig and the CSV files, and turns core errors into one line that
@@ -18,7 +18,7 @@ use matterwave_core::goniometer::{
     self, axis_index, AimRequest, Branch, InView, Mode, Position, Refusal, Refusals, Rig, Solution,
 };
 use matterwave_core::lattice::Cell;
-use matterwave_core::scan::{self, SweepPlan, TrackPlan};
+use matterwave_core::scan::{self, IvPlan, SweepPlan, TrackPlan};
 use matterwave_core::surface::{Face, Incidence, TILT_MAX_DEG};
 use matterwave_core::table::Crystal;
 use matterwave_core::{budget, math, AxisId, Error};
@@ -31,7 +31,7 @@ use crate::rig::{self, RigFile};
 /// Most aim solutions listed (two branches × three copies of azimuth and arm).
 const MAX_SOLUTIONS: usize = 32;
 
-/// Most beams listed by `sweep` and `where`.
+/// Most beams listed by `sweep` and `view`.
 const MAX_BEAMS: usize = 2000;
 
 /// Longest accepted dwell per point, seconds.
@@ -93,7 +93,15 @@ pub(super) fn plan_error(
     let hint = match e {
         Error::EmptyRange => format!("; give --{from} below --{to}"),
         Error::TooHigh(_) => "; at most 100000 points: use a larger --step".to_string(),
-        Error::TooLow(_) => "; give a positive --step".to_string(),
+        // The core's words say "count or step"; here it is the step, and only that.
+        Error::TooLow(_) => {
+            return CliError {
+                code: Some(e.code()),
+                message: format!(
+                    "--step {step}: the step must be above 0 (the range --{from} {x} --{to} {y} is walked in steps of this size, at most 100000 points)"
+                ),
+            }
+        }
         _ => String::new(),
     };
     CliError {
@@ -110,6 +118,20 @@ pub(super) fn no_elevation_axis(elevation: f32) -> CliError {
     CliError::new(format!(
         "--elevation {elevation}: this rig has no elevation axis; omit --elevation or give a rig file with an [elevation] axis"
     ))
+}
+
+/// The exit of beam `rod` at the energy at the sample `energy_ev` (eV) as solution `s`
+/// really sets the sample: the core's beam at the reached tilt and azimuth, as the polar
+/// exit angle from the surface normal and its azimuth in the surface frame (degrees) —
+/// the convention of `beams`, `sweep` and `view`, so a branch −1 beam is (θ, 180°) on
+/// every command, never a negative angle.
+pub(super) fn exit_of(face: &Face, rod: [i32; 2], energy_ev: f32, s: &Solution) -> [Value; 2] {
+    match Incidence::new(energy_ev, s.tilt.angle_deg, s.azimuth.angle_deg)
+        .and_then(|inc| face.beam(rod, &inc))
+    {
+        Ok(b) => [f(b.exit_deg, 4), f(b.exit_azimuth_deg, 3)],
+        Err(_) => [Value::Missing, Value::Missing],
+    }
 }
 
 pub(super) fn rig_field(r: &mut Report, rf: &RigFile) {

@@ -62,7 +62,8 @@ pub fn sweep(a: &SweepArgs) -> CliResult<SweepOutput> {
     let rig = &rf.rig;
     let c = calc::crystal(&a.crystal)?;
     let (_, face) = calc::face_of(c, &a.face)?;
-    let e = a.gun.kinetic_ev()?;
+    let gun = a.gun.at_face(c, &face)?;
+    let e = gun.kinetic_ev()?;
     let tilt = check_angle(a.tilt, "tilt", TILT_MAX_DEG)?;
     let azimuth = check_angle(a.azimuth, "azimuth", 360.0)?;
     let elevation = check_angle(a.elevation, "elevation", 90.0)?;
@@ -143,7 +144,7 @@ pub fn sweep(a: &SweepArgs) -> CliResult<SweepOutput> {
     let est = scan::estimate_sweep_s(&plan, start[0], dwell);
     let mut r = Report::default();
     crystal_face_fields(&mut r, c, &face);
-    a.gun.fields(&mut r, e);
+    gun.fields(&mut r, e);
     r.field("tilt_deg", "tilt (deg)", f(tilt, 3));
     r.field("azimuth_deg", "azimuth (deg)", f(azimuth, 3));
     r.field("elevation_deg", "elevation (deg)", f(elevation, 3));
@@ -164,6 +165,28 @@ pub fn sweep(a: &SweepArgs) -> CliResult<SweepOutput> {
                 .collect(),
         ),
     );
+    // Whether the range itself runs past the arm's soft limits (the core's check of
+    // each end).
+    let beyond: Vec<String> = [("arm-from", a.arm_from), ("arm-to", a.arm_to)]
+        .into_iter()
+        .filter_map(|(n, x)| match rig.arm.check_angle(x) {
+            Err(er @ (Error::BelowLimit(_) | Error::AboveLimit(_))) => {
+                Some(format!("--{n} {x}: {}", axis_reason(rig, er)))
+            }
+            _ => None,
+        })
+        .collect();
+    r.field(
+        "beyond_limits",
+        "range beyond the arm limits",
+        Value::Bool(!beyond.is_empty()),
+    );
+    if !beyond.is_empty() {
+        r.notes.push(format!(
+            "The range runs past the arm's soft limits ({}); the points beyond them are unreachable.",
+            beyond.join("; ")
+        ));
+    }
     r.field("dwell_s", "dwell per point (s)", f(dwell, 3));
     r.field("estimate_s", "estimated time (s)", f(est, 1));
     r.field(
@@ -209,7 +232,8 @@ pub fn view(a: &ViewArgs) -> CliResult<Report> {
     let rig = &rf.rig;
     let c = calc::crystal(&a.crystal)?;
     let (_, face) = calc::face_of(c, &a.face)?;
-    let e = a.gun.kinetic_ev()?;
+    let gun = a.gun.at_face(c, &face)?;
+    let e = gun.kinetic_ev()?;
     let tilt = check_angle(a.tilt, "tilt", TILT_MAX_DEG)?;
     let azimuth = check_angle(a.azimuth, "azimuth", 360.0)?;
     let arm = check_angle(a.arm, "arm", 360.0)?;
@@ -236,7 +260,7 @@ pub fn view(a: &ViewArgs) -> CliResult<Report> {
     };
     let mut r = Report::default();
     crystal_face_fields(&mut r, c, &face);
-    a.gun.fields(&mut r, e);
+    gun.fields(&mut r, e);
     r.field("tilt_deg", "tilt (deg)", f(tilt, 3));
     r.field("azimuth_deg", "azimuth (deg)", f(azimuth, 3));
     r.field("arm_deg", "arm (deg)", f(arm, 4));

@@ -13,7 +13,7 @@ pub fn track(a: &TrackArgs) -> CliResult<Report> {
     let mode = mode_of(a.azimuth)?;
     let dwell = check_dwell(a.dwell)?;
     let start = parse_position(a.position.position.as_deref(), &rf.rig)?;
-    let corr = &a.corrections;
+    let corr = &a.corrections.at_face(c, &face)?;
     for (name, x) in [("from", a.from), ("to", a.to)] {
         corr.gun(x)
             .kinetic_energy_ev()
@@ -37,6 +37,33 @@ pub fn track(a: &TrackArgs) -> CliResult<Report> {
         }
         e => plan_error(e, ("from", a.from), ("to", a.to), a.step),
     })?;
+    // The I-V maxima: the core's I-V plan over the same track marks the points within
+    // half a step of each predicted maximum.
+    let v0 = match a.inner_potential {
+        Some(calc::EvOrFace::Ev(v)) => Some(v),
+        Some(calc::EvOrFace::Face) => Some(calc::table_value(
+            calc::TableValue::InnerPotential,
+            "--inner-potential",
+            c,
+            &face,
+        )?),
+        None => c.inner_potential_for(face.miller),
+    };
+    let iv = match v0 {
+        Some(v) => Some(IvPlan::new(plan, v, start).ctx(format_args!("--inner-potential {v}"))?),
+        None => None,
+    };
+    let marks: Vec<Option<(f32, f32)>> = match &iv {
+        Some(iv) => iv
+            .iter(start)
+            .map(|q| {
+                q.peak
+                    .zip(q.peak_nominal_ev())
+                    .map(|(p, n)| (p.energy_ev, n))
+            })
+            .collect(),
+        None => Vec::new(),
+    };
     let mut rows = Vec::new();
     let mut reachable = 0i64;
     let mut at = start;
@@ -84,8 +111,16 @@ pub fn track(a: &TrackArgs) -> CliResult<Report> {
                     .map_or(Value::Missing, |e| Value::Int(e.steps.into()))
             }),
             opt(&|s| Value::Int(s.branch.into())),
-            opt(&|s| f(s.exit_deg, 4)),
         ]);
+        let exit = sol.map_or([Value::Missing, Value::Missing], |s| {
+            exit_of(&face, rod, p.energy_ev, s)
+        });
+        let mark = marks.get(p.index as usize).copied().flatten();
+        if let Some(row) = rows.last_mut() {
+            row.extend(exit);
+            row.push(mark.map_or(Value::Missing, |m| f(m.1, 3)));
+            row.push(mark.map_or(Value::Missing, |m| f(m.0, 3)));
+        }
     }
     let est = scan::estimate_s(
         &rf.rig,
@@ -104,6 +139,16 @@ pub fn track(a: &TrackArgs) -> CliResult<Report> {
         );
     }
     r.field("tilt_deg", "tilt (deg)", f(tilt, 3));
+    r.field(
+        "inner_potential_ev",
+        "inner potential for I-V maxima (eV)",
+        Value::opt(iv.as_ref().map(|p| p.inner_potential_ev), 2),
+    );
+    r.field(
+        "iv_maxima",
+        "predicted I-V maxima in range",
+        Value::Int(iv.as_ref().map_or(0, |p| p.peaks().len() as i64)),
+    );
     r.field("mode", "mode", text(mode_text(mode)));
     r.field(
         "branch_preference",
@@ -130,11 +175,14 @@ pub fn track(a: &TrackArgs) -> CliResult<Report> {
             col("elevation_steps", "elevation steps"),
             col("branch", "branch"),
             col("exit_deg", "exit (deg)"),
+            col("exit_azimuth_deg", "exit azimuth (deg)"),
+            col("iv_max_nominal_ev", "I-V max, nominal (eV)"),
+            col("iv_max_ev", "I-V max at sample (eV)"),
         ],
         rows,
     });
     r.notes.push(
-        "Each point follows on from the previous reachable one; the estimate is moves (slowest axis, trapezoidal) plus dwell."
+        "Each point follows on from the previous reachable one; the estimate is moves (slowest axis, trapezoidal) plus dwell. An I-V max marks a point within half a step of a predicted kinematic I-V maximum of the beam, as a gun setting and at the sample."
             .into(),
     );
     Ok(r)

@@ -728,7 +728,9 @@ fn one_line(s: &str) -> String {
     out
 }
 
+mod console;
 mod show;
+pub use console::console_requests;
 pub use show::{approach_word, report, to_toml, zones_text};
 
 #[cfg(test)]

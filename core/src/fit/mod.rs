@@ -49,7 +49,7 @@ pub use in_plane::{arm_zero_in_plane, InPlaneArmFit};
 pub use lattice_fits::{inner_potential_and_spacing, row_spacing};
 use lsq::{gauss_newton2, Lsq};
 use peak::count_u16;
-pub use peak::{centroid, parabola_log};
+pub use peak::{centroid, centroid_background, parabola_log};
 
 use crate::beam;
 use crate::constants::{HC_EV_A, ME_C2_EV, TWO_ME_C2_EV};

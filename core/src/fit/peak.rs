@@ -64,6 +64,28 @@ pub(super) fn neighbour(samples: &[Sample], cur: usize, up: bool) -> Option<usiz
     best.map(|(_, j)| j)
 }
 
+/// The background [`centroid`] subtracts when none is given, the same on the controller
+/// (`fit kind=centroid` without `threshold=`) and in `mwctl calc fit peak --method
+/// centroid` (without `--threshold`): the smallest current of the samples — the level of
+/// the flanks of a scan that spans the peak (same unit as the currents).
+///
+/// Errors: no samples → `TooFewPoints`; a NaN or infinite current → `NotFinite(Count)`.
+///
+/// ```
+/// use matterwave_core::fit::{centroid_background, Sample};
+/// let s = [(10.0, 2.5), (11.0, 12.0), (12.0, 2.0)]
+///     .map(|(a, c)| Sample { angle_deg: a, current: c });
+/// assert_eq!(centroid_background(&s), Ok(2.0));
+/// ```
+pub fn centroid_background(samples: &[Sample]) -> Result<f32> {
+    let mut low: Option<f32> = None;
+    for s in samples {
+        let c = finite(s.current, Quantity::Count)?;
+        low = Some(low.map_or(c, |l| l.min(c)));
+    }
+    low.ok_or(Error::TooFewPoints)
+}
+
 /// Current-weighted centroid of the samples above `threshold`.
 ///
 /// Each sample with `current > threshold` gets the weight w = current − threshold; the

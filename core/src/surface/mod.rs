@@ -36,8 +36,10 @@ use crate::math::{self, Vec3};
 
 mod iv;
 mod rods;
+mod sorted;
 
 pub use rods::BeamIter;
+pub use sorted::{SortedBeams, SORTED_WINDOW};
 
 /// Largest |tilt| accepted, degrees.
 pub const TILT_MAX_DEG: f32 = 89.9;

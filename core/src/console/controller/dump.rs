@@ -27,11 +27,14 @@ use super::axes::axis_of;
 use super::settings::{Settings, SETTING_DUMP_LINES, SETTING_KEYS};
 use super::Rw;
 use crate::axis::{keys, AxisConfig, MAX_ZONES, STEPS_MAX};
+use crate::console::wire::reply::ReplyWriter;
 use crate::error::AxisId;
-use crate::goniometer::ACCEPTANCE_MAX_DEG;
+use crate::goniometer::{Rig, ACCEPTANCE_MAX_DEG};
 
-/// What [`Settings::dump_line`] produced.
-pub(super) enum Dump {
+/// What one line of the console's `dump` or of a rig's requests
+/// ([`rig_request`]) came to.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Dump {
     /// A line was written.
     Line,
     /// Nothing to write at this index (an absent axis, a free zone slot); go on.
@@ -55,22 +58,90 @@ const AXIS_LINES: usize = 1 + MAX_ZONES + 4 + MAX_ZONES;
 /// Lines before the axes: `set acceptance=20`.
 const HEAD_LINES: usize = 1;
 
+/// Lines of the rig's part of the dump: the head and every axis's lines.
+const RIG_LINES: usize = HEAD_LINES + AxisId::ALL.len() * AXIS_LINES;
+
+/// Starts a line with `word`: as a dump item (`- word …`) or as a request (`word …`).
+fn start<'r, 'w, W: Write, const N: usize>(
+    rw: &'r mut ReplyWriter<'w, W, N>,
+    item: bool,
+    word: &str,
+) -> &'r mut ReplyWriter<'w, W, N> {
+    if item {
+        rw.item().word(word)
+    } else {
+        rw.begin(word)
+    }
+}
+
+/// Line `i` of the rig's part of the dump (the head and the axes), or `None` past it.
+fn rig_line<W: Write, const N: usize>(
+    rig: &Rig,
+    i: usize,
+    item: bool,
+    rw: &mut ReplyWriter<'_, W, N>,
+) -> Option<Dump> {
+    if i < HEAD_LINES {
+        start(rw, item, "set").field_f32_rt("acceptance", ACCEPTANCE_MAX_DEG);
+        return Some(Dump::Line);
+    }
+    let k = i - HEAD_LINES;
+    let id = AxisId::ALL.get(k / AXIS_LINES).filter(|_| i < RIG_LINES)?;
+    Some(axis_line(rig, *id, k % AXIS_LINES, item, rw))
+}
+
+/// Line `i` of the requests that load `rig` — its axes, zones and detector acceptance —
+/// onto a console with motion disabled: the rig's lines of `dump` (the widest
+/// acceptance, then for each axis its zone slots off, its configuration lines and its
+/// zones, in the order docs/PROTOCOL.md gives for `dump`), as requests
+/// without the leading `- `, then `set acceptance=` with the rig's own acceptance. The
+/// line is built in `rw` (send it with [`ReplyWriter::finish`]); [`Dump::Skip`] means
+/// nothing to send at this index (an absent axis, a free zone slot), [`Dump::End`]
+/// that `i` is past the last line. Sent in order, every line is accepted, whatever the
+/// console's configuration was, and the console then holds `rig` exactly (its `dump`
+/// prints the same axis lines); axes whose calibration changed must be declared with
+/// `home` before they move. At most 256 indices; each call does bounded work.
+///
+/// ```
+/// use matterwave_core::console::controller::{rig_request, Dump};
+/// use matterwave_core::console::reply::ReplyWriter;
+/// use matterwave_core::goniometer::Rig;
+/// let rig = Rig::bench_default();
+/// let mut wire = [0u8; 128];
+/// let mut port = &mut wire[..];
+/// let mut rw = ReplyWriter::new(&mut port, false);
+/// assert_eq!(rig_request(&rig, 0, &mut rw), Dump::Line);
+/// assert_eq!(rw.line(), "set acceptance=20");
+/// assert_eq!(rig_request(&rig, 255, &mut rw), Dump::End);
+/// ```
+pub fn rig_request<W: Write, const N: usize>(
+    rig: &Rig,
+    i: u8,
+    rw: &mut ReplyWriter<'_, W, N>,
+) -> Dump {
+    let i = usize::from(i);
+    if let Some(d) = rig_line(rig, i, false, rw) {
+        return d;
+    }
+    if i == RIG_LINES {
+        rw.begin("set")
+            .field_f32_rt("acceptance", rig.acceptance_deg);
+        return Dump::Line;
+    }
+    Dump::End
+}
+
+// Every index of the rig's requests fits a u8.
+const _: () = assert!(RIG_LINES < u8::MAX as usize);
+
 impl Settings {
     /// Line `i` of the dump into `rw`.
     pub(super) fn dump_line<W: Write>(&self, i: u8, rw: &mut Rw<'_, W>) -> Dump {
         let k = usize::from(i);
-        if k < HEAD_LINES {
-            rw.item()
-                .word("set")
-                .field_f32_rt("acceptance", ACCEPTANCE_MAX_DEG);
-            return Dump::Line;
+        if let Some(d) = rig_line(&self.rig, k, true, rw) {
+            return d;
         }
-        let k = k - HEAD_LINES;
-        let axis_lines = AxisId::ALL.len() * AXIS_LINES;
-        if let Some(&id) = AxisId::ALL.get(k / AXIS_LINES).filter(|_| k < axis_lines) {
-            return self.axis_line(id, k % AXIS_LINES, rw);
-        }
-        let line = k - axis_lines;
+        let line = k - RIG_LINES;
         if line >= usize::from(SETTING_DUMP_LINES) {
             return Dump::End;
         }
@@ -85,58 +156,64 @@ impl Settings {
         }
         Dump::Line
     }
-
-    /// Line `slot` (0 to [`AXIS_LINES`] − 1) of axis `id`'s part of the dump.
-    fn axis_line<W: Write>(&self, id: AxisId, slot: usize, rw: &mut Rw<'_, W>) -> Dump {
-        let cfg = axis_of(&self.rig, id);
-        if slot == 0 {
-            if id != AxisId::Elevation {
-                return Dump::Skip;
-            }
-            rw.item()
-                .word("axis")
-                .field_str("name", id.name())
-                .field_i32("fitted", cfg.is_some() as i32);
-            return Dump::Line;
-        }
-        let Some(c) = cfg else {
-            return Dump::Skip;
-        };
-        let zone_off = 1..1 + MAX_ZONES;
-        let config = zone_off.end..zone_off.end + 4;
-        if zone_off.contains(&slot) {
-            zone_head(rw, id, slot - zone_off.start).word("off");
-        } else if config.contains(&slot) {
-            rw.item().word("axis").field_str("name", id.name());
-            config_line(rw, c, slot - config.start);
-        } else {
-            let i = slot - config.end;
-            let Some(z) = c.zones.get(i).copied().flatten() else {
-                return Dump::Skip;
-            };
-            zone_head(rw, id, i)
-                .field_f32_rt("from", z.from_deg)
-                .field_f32_rt("to", z.to_deg);
-        }
-        Dump::Line
-    }
 }
 
-/// `- zone name=<id> i=<slot>`.
-fn zone_head<'r, 'w, W: Write>(
-    rw: &'r mut Rw<'w, W>,
+/// Line `slot` (0 to [`AXIS_LINES`] − 1) of axis `id`'s part of the dump (`item`) or of
+/// the rig's requests.
+fn axis_line<W: Write, const N: usize>(
+    rig: &Rig,
     id: AxisId,
     slot: usize,
-) -> &'r mut Rw<'w, W> {
-    rw.item()
-        .word("zone")
+    item: bool,
+    rw: &mut ReplyWriter<'_, W, N>,
+) -> Dump {
+    let cfg = axis_of(rig, id);
+    if slot == 0 {
+        if id != AxisId::Elevation {
+            return Dump::Skip;
+        }
+        start(rw, item, "axis")
+            .field_str("name", id.name())
+            .field_i32("fitted", cfg.is_some() as i32);
+        return Dump::Line;
+    }
+    let Some(c) = cfg else {
+        return Dump::Skip;
+    };
+    let zone_off = 1..1 + MAX_ZONES;
+    let config = zone_off.end..zone_off.end + 4;
+    if zone_off.contains(&slot) {
+        zone_head(rw, item, id, slot - zone_off.start).word("off");
+    } else if config.contains(&slot) {
+        start(rw, item, "axis").field_str("name", id.name());
+        config_line(rw, c, slot - config.start);
+    } else {
+        let i = slot - config.end;
+        let Some(z) = c.zones.get(i).copied().flatten() else {
+            return Dump::Skip;
+        };
+        zone_head(rw, item, id, i)
+            .field_f32_rt("from", z.from_deg)
+            .field_f32_rt("to", z.to_deg);
+    }
+    Dump::Line
+}
+
+/// `- zone name=<id> i=<slot>` (a request without the `- `).
+fn zone_head<'r, 'w, W: Write, const N: usize>(
+    rw: &'r mut ReplyWriter<'w, W, N>,
+    item: bool,
+    id: AxisId,
+    slot: usize,
+) -> &'r mut ReplyWriter<'w, W, N> {
+    start(rw, item, "zone")
         .field_str("name", id.name())
         .field_i32("i", slot as i32)
 }
 
 /// The fields of configuration line `n` (0 to 3) of an axis, in the order of the module
 /// docs, named as in rig files ([`keys`]).
-fn config_line<W: Write>(rw: &mut Rw<'_, W>, c: &AxisConfig, n: usize) {
+fn config_line<W: Write, const N: usize>(rw: &mut ReplyWriter<'_, W, N>, c: &AxisConfig, n: usize) {
     match n {
         0 => {
             rw.field_f32_rt(

@@ -60,13 +60,18 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                     };
                 }
                 let smp = samples.get(..pts.len()).unwrap_or(&[]);
-                let c = if kind == "peak" {
+                let (c, background) = if kind == "peak" {
                     if threshold.is_some() {
                         return Err(no_threshold());
                     }
-                    fit::parabola_log(smp)?
+                    (fit::parabola_log(smp)?, None)
                 } else {
-                    fit::centroid(smp, threshold.unwrap_or(0.0))?
+                    // The one background rule of the core, as `mwctl calc fit` uses it.
+                    let t = match threshold {
+                        Some(t) => t,
+                        None => fit::centroid_background(smp)?,
+                    };
+                    (fit::centroid(smp, t)?, Some(t))
                 };
                 rw.ok()
                     .field_f32_rt("angle", c.angle_deg)
@@ -74,6 +79,12 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                     .field_f32_rt("peak", c.peak_current)
                     .field_f32_rt("fwhm", c.fwhm_deg)
                     .field_i32("used", c.points_used as i32);
+                // The background subtracted: the threshold, or none for the parabola,
+                // which fits ln(current) as measured.
+                match background {
+                    Some(t) => rw.field_f32_rt("background", t),
+                    None => rw.field_str("background", "none"),
+                };
             }
             "armzero" => {
                 if threshold.is_some() {

@@ -50,6 +50,7 @@ use super::wire::token::Args;
 use crate::error::{AxisId, Error};
 use crate::goniometer::{axis_index, Position, Refusals, Solution};
 
+pub use dump::{rig_request, Dump, REPLAY_STEPS_PER_DEG};
 use fault::{no_args, write_err, Fault, Result};
 pub use settings::{SettingKey, Settings, SETTING_KEYS};
 use stream::Stream;

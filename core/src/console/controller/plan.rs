@@ -157,7 +157,7 @@ impl PlanRun {
                 let (point, peak) = match &self.plan {
                     Plan::Iv(p) => {
                         let q = p.point(self.i, &self.pos);
-                        (q.point, q.peak)
+                        (q.point, q.peak.zip(q.peak_nominal_ev()))
                     }
                     Plan::Track(t) => (t.point(self.i, &self.pos), None),
                     Plan::Sweep(_) => return false,
@@ -182,11 +182,13 @@ impl PlanRun {
                         write_point_error(rw, e);
                     }
                 }
-                if let Some(p) = peak {
+                if let Some((p, nominal)) = peak {
                     // In the line's own frame (the gun setting), and at the sample.
-                    let correction = point.energy_ev - point.nominal_ev;
-                    rw.field_f32("peak", p.energy_ev - correction, ENERGY_DECIMALS)
-                        .field_f32("peak_sample", p.energy_ev, ENERGY_DECIMALS);
+                    rw.field_f32("peak", nominal, ENERGY_DECIMALS).field_f32(
+                        "peak_sample",
+                        p.energy_ev,
+                        ENERGY_DECIMALS,
+                    );
                 }
             }
             Plan::Sweep(p) => {

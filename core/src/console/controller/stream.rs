@@ -17,7 +17,7 @@ use crate::budget::ArmBudget;
 use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::goniometer::{Refusals, Solution};
 use crate::lattice::System;
-use crate::surface::{BeamIter, Incidence};
+use crate::surface::{Incidence, SortedBeams};
 use crate::table;
 
 /// What a stream reads besides its own state: borrowed from the console beside it.
@@ -36,7 +36,7 @@ pub(super) enum Stream {
     Crystals(u8),
     Faces(u8),
     /// The beams, the count so far, and the |g| limit when it cuts the list.
-    Beams(BeamIter, u32, Option<f32>),
+    Beams(SortedBeams, u32, Option<f32>),
     Aim(u8),
     Refused(u8),
     Plan(PlanRun),
@@ -55,7 +55,11 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         let g_max =
             crate::math::sqrt(BEAM_LIST_RODS as f32 / (core::f32::consts::PI * f.area_a2()));
         let cut = (!f.covers_all(&inc, g_max)).then_some(g_max);
-        Ok(Some(Stream::Beams(f.beams_within(&inc, g_max), 0, cut)))
+        Ok(Some(Stream::Beams(
+            f.beams_within(&inc, g_max).sorted(),
+            0,
+            cut,
+        )))
     }
 }
 
