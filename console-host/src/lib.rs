@@ -16,6 +16,7 @@ pub mod number;
 pub mod oracle;
 pub mod output;
 pub mod remote;
+pub mod repl;
 pub mod rig;
 mod table_sources;
 pub mod tables;

@@ -7,6 +7,8 @@ use crate::link::wire::Wire;
 use crate::link::{self, LinkSpec};
 use serialport::SerialPort as _;
 use std::io::{BufRead, Write};
+use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
+use std::sync::{mpsc, Arc};
 
 /// How a script or session went.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
@@ -129,10 +131,16 @@ fn finish<W: Wire>(s: &mut Session<W>, t: Tally, what: &str) -> CliResult<()> {
     Ok(())
 }
 
-/// `mwctl talk` over a link other than `sim`: with `rig`, the rig's requests first; then
+/// `mwctl talk` over a link (and on a terminal, over every link): with `rig`, the
+/// rig's requests first; then, `interactive`, the line editor ([`crate::repl`]), else
 /// one request per input line, its reply printed as it completes (streamed items as
-/// they come); `quit`/`exit` end it.
-pub fn talk(spec: &LinkSpec, json: bool, rig: Option<&crate::rig::RigFile>) -> CliResult<()> {
+/// they come), a `stop` sent at once while a request runs; `quit`/`exit` end it.
+pub fn talk(
+    spec: &LinkSpec,
+    json: bool,
+    interactive: bool,
+    rig: Option<&crate::rig::RigFile>,
+) -> CliResult<()> {
     let mut s = link::connect(spec)?;
     if let Some(rf) = rig {
         // The same requests as on the simulator (`mwctl rig show --console`), each of
@@ -154,10 +162,43 @@ pub fn talk(spec: &LinkSpec, json: bool, rig: Option<&crate::rig::RigFile>) -> C
             lines.len()
         );
     }
-    let stdin = std::io::stdin();
+    if interactive {
+        let name = s.wire().describe();
+        let failed = crate::repl::run(&mut s, &name)?;
+        let t = Tally {
+            requests: 0,
+            failed,
+        };
+        return finish(&mut s, t, "talk");
+    }
+    // Requests come from a reader thread, so that a `stop` arriving while a request
+    // still runs (and nothing is queued before it) goes out at once, as on the
+    // in-process simulator.
+    let in_flight = Arc::new(AtomicBool::new(false));
+    let queued = Arc::new(AtomicUsize::new(0));
+    let (tx, rx) = mpsc::channel::<std::io::Result<String>>();
+    {
+        let (in_flight, queued, stop) = (in_flight.clone(), queued.clone(), s.stop_flag.clone());
+        std::thread::spawn(move || {
+            for line in std::io::stdin().lock().lines() {
+                let jump = matches!(&line, Ok(l) if l.trim() == "stop")
+                    && in_flight.load(Ordering::SeqCst)
+                    && queued.load(Ordering::SeqCst) == 0;
+                if jump {
+                    stop.store(true, Ordering::SeqCst);
+                    continue;
+                }
+                queued.fetch_add(1, Ordering::SeqCst);
+                if tx.send(line).is_err() {
+                    break;
+                }
+            }
+        });
+    }
     let mut out = std::io::stdout().lock();
     let mut t = Tally::default();
-    for line in stdin.lock().lines() {
+    for line in rx {
+        queued.fetch_sub(1, Ordering::SeqCst);
         let line = line.map_err(|e| CliError::new(format!("reading requests: {e}")))?;
         let req = line.trim();
         if matches!(req, "quit" | "exit") {
@@ -167,6 +208,7 @@ pub fn talk(spec: &LinkSpec, json: bool, rig: Option<&crate::rig::RigFile>) -> C
             continue;
         }
         t.requests += 1;
+        in_flight.store(true, Ordering::SeqCst);
         let reply = s.request_with(req, |ev| {
             if json {
                 return;
@@ -177,20 +219,35 @@ pub fn talk(spec: &LinkSpec, json: bool, rig: Option<&crate::rig::RigFile>) -> C
                 Event::Retry(why) => writeln!(out, "# mwctl: {why}; asking again"),
             };
         });
+        in_flight.store(false, Ordering::SeqCst);
         let reply = reply.map_err(|e| CliError::new(format!("talk: {e}")))?;
+        let stop_line = reply.stopped.clone();
+        let lines: Vec<(&str, &String)> = reply
+            .items
+            .iter()
+            .map(|l| (req, l))
+            .chain(std::iter::once((req, &reply.last)))
+            .chain(stop_line.iter().map(|l| ("stop", l)))
+            .collect();
         if json {
-            for l in reply.items.iter().chain(std::iter::once(&reply.last)) {
+            for (r, l) in lines {
                 let mut v = crate::talk::reply_json(l);
                 if let Some(o) = v.as_object_mut() {
-                    o.insert("request".into(), serde_json::Value::from(req));
+                    o.insert("request".into(), serde_json::Value::from(r));
                 }
                 let _ = writeln!(out, "{v}");
             }
         } else {
             let _ = writeln!(out, "{}", reply.last);
+            if let Some(l) = &stop_line {
+                let _ = writeln!(out, "{l}");
+            }
         }
         let _ = out.flush();
         t.failed += u64::from(!reply.ok());
+        if stop_line.is_some() {
+            t.requests += 1;
+        }
     }
     finish(&mut s, t, "talk")
 }

@@ -217,8 +217,10 @@ pub fn run(
         ));
     }
     let spec = crate::link::LinkSpec::parse(link, None)?;
-    if spec != crate::link::LinkSpec::Sim {
-        return crate::remote::talk(&spec, format == Format::Json, rig);
+    let json = format == Format::Json;
+    let terminal = std::io::stdin().is_terminal() && std::io::stdout().is_terminal() && !json;
+    if spec != crate::link::LinkSpec::Sim || terminal {
+        return crate::remote::talk(&spec, json, terminal, rig);
     }
     let mut console = sim_console()?;
     if let Some(rf) = rig {

@@ -113,6 +113,35 @@ fn a_rig_loads_the_same_over_a_pty_as_into_the_simulator() {
 }
 
 #[test]
+fn a_stop_piped_while_a_stream_runs_over_a_pty_stops_it() {
+    let mut child = Command::new(env!("CARGO_BIN_EXE_mwctl"))
+        .args(["talk", "--link", "pty"])
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .spawn()
+        .expect("mwctl runs");
+    let mut stdin = child.stdin.take().expect("stdin");
+    // 60,001 points; the stop follows while they stream.
+    stdin
+        .write_all(b"plan kind=sweep from=-150 to=150 step=0.005\n")
+        .expect("written");
+    stdin.flush().expect("flushed");
+    std::thread::sleep(std::time::Duration::from_millis(300));
+    stdin.write_all(b"stop\nstatus\n").expect("written");
+    drop(stdin);
+    let out = child.wait_with_output().expect("ends");
+    let text = String::from_utf8(out.stdout).expect("ASCII");
+    let finals: Vec<&str> = text.lines().filter(|l| !l.starts_with("- ")).collect();
+    assert_eq!(finals.len(), 3, "{finals:?}");
+    assert!(finals[0].starts_with("err 411"), "{finals:?}");
+    assert_eq!(finals[1], "ok stopped=stream");
+    assert!(finals[2].starts_with("ok enabled=0"), "{finals:?}");
+    let points = text.lines().filter(|l| l.starts_with("- i=")).count();
+    assert!(points < 60_001, "the stream ran to its end: {points}");
+    assert_eq!(out.status.code(), Some(2), "the aborted plan counts as err");
+}
+
+#[test]
 fn unknown_link_is_one_line() {
     let (code, out, err) = talk(&["--link", "serial"], b"hello\n");
     assert_eq!(code, 2);

@@ -74,4 +74,14 @@ else
   diff target/link-qemu.txt target/link-sim.txt | head -20 || true
   status=1
 fi
+# mwctl verify against the image: every reply identical to the host's core and within
+# the oracle's tolerances (the quick sweep: 533 requests).
+echo "--- mwctl verify --quick --link qemu"
+if "${mwctl[@]}" verify --quick --link "qemu:$PWD/target/thumbv7em-none-eabihf/firmware/console" >target/verify-qemu.txt 2>&1; then
+  grep -E '^(verify|reply lines)' target/verify-qemu.txt
+else
+  cat target/verify-qemu.txt | tail -20
+  echo "FAIL: mwctl verify over the QEMU image"
+  status=1
+fi
 exit $status

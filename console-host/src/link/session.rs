@@ -10,6 +10,8 @@
 
 use super::wire::Wire;
 use matterwave_core::console::crc;
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::Arc;
 use std::time::{Duration, Instant};
 
 /// A complete reply: streamed `- …` items (checksums removed) and the final line.
@@ -19,6 +21,9 @@ pub struct Reply {
     pub items: Vec<String>,
     /// The final `ok …` or `err …` line.
     pub last: String,
+    /// When a `stop` was sent while the request ran ([`Session::stop_flag`]): the
+    /// stop's own reply.
+    pub stopped: Option<String>,
 }
 
 impl Reply {
@@ -98,6 +103,10 @@ pub struct Session<W: Wire> {
     /// The device's request count when last seen (`status`), to notice a restart.
     seen_requests: Option<u64>,
     stats: LinkStats,
+    /// Set it (from a signal handler or an input thread) to send `stop` at once, while
+    /// a request still runs; it is cleared when the stop is sent.
+    pub stop_flag: Arc<AtomicBool>,
+    stop_sent: bool,
 }
 
 /// How many streamed items a final line says came before it: `count=` of the lists
@@ -138,6 +147,8 @@ impl<W: Wire> Session<W> {
             rx: Vec::new(),
             seen_requests: None,
             stats: LinkStats::default(),
+            stop_flag: Arc::new(AtomicBool::new(false)),
+            stop_sent: false,
         }
     }
 
@@ -185,12 +196,18 @@ impl<W: Wire> Session<W> {
                         continue;
                     }
                     self.note_status(request, &last)?;
-                    return Ok(Reply { items, last });
+                    let stopped = self.stop_reply()?;
+                    return Ok(Reply {
+                        items,
+                        last,
+                        stopped,
+                    });
                 }
                 Ok(None) => last_why = "no complete reply in time".into(),
                 Err(why) => last_why = why,
             }
-            if !repeat {
+            // Asked to stop: no second try of a request the user interrupted.
+            if !repeat || self.stop_sent {
                 return Err(LinkError::Unsure {
                     request: request.to_string(),
                     why: last_why,
@@ -207,6 +224,26 @@ impl<W: Wire> Session<W> {
                 request: request.to_string(),
                 why: last_why,
             })
+        }
+    }
+
+    /// After a request during which `stop` was sent: the stop's own reply.
+    fn stop_reply(&mut self) -> Result<Option<String>, LinkError> {
+        if !self.stop_sent {
+            return Ok(None);
+        }
+        self.stop_sent = false;
+        let mut none = Vec::new();
+        match self.collect("stop", &mut none, &mut |_| {}) {
+            Ok(Some(last)) => Ok(Some(last)),
+            Ok(None) => Err(LinkError::Silent {
+                request: "stop".into(),
+                tries: 1,
+            }),
+            Err(why) => Err(LinkError::Unsure {
+                request: "stop".into(),
+                why,
+            }),
         }
     }
 
@@ -316,8 +353,19 @@ impl<W: Wire> Session<W> {
             if now >= deadline {
                 return Ok(None);
             }
+            if self.stop_flag.swap(false, Ordering::SeqCst) && !self.stop_sent {
+                let mut line = b"stop".to_vec();
+                line.extend_from_slice(&crc::suffix_for(b"stop"));
+                line.push(b'\n');
+                self.wire.send(&line)?;
+                self.stats.bytes_out += line.len() as u64;
+                self.stop_sent = true;
+            }
             let mut buf = [0u8; 1024];
-            let n = self.wire.recv(&mut buf, deadline - now)?;
+            // In slices, so that a stop asked for meanwhile goes out at once.
+            let n = self
+                .wire
+                .recv(&mut buf, (deadline - now).min(Duration::from_millis(50)))?;
             if n > 0 {
                 self.stats.bytes_in += n as u64;
                 self.rx.extend_from_slice(&buf[..n]);
