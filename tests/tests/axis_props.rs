@@ -23,8 +23,8 @@
 //! ulps of the magnitudes involved (the core reduces modulo 360° in f32); everything
 //! else is compared exactly.
 
-use matterwave_console::oracle::{self, OCell};
-use matterwave_tests::{exact, Rng};
+use matterwave_console::oracle;
+use matterwave_tests::{exact, ocell_of_face, Rng};
 use std::cell::{Cell, RefCell};
 use std::collections::BTreeMap;
 use std::sync::OnceLock;
@@ -827,7 +827,7 @@ fn setpoints_obey_limits_zones_and_paths() {
 /// normal incidence and 100 keV (where every rod propagates at every azimuth; the
 /// in-plane azimuths depend on neither energy nor tilt).
 fn in_plane_azimuths(face: &Face, rod: [i32; 2]) -> Vec<f64> {
-    let oc = ocell_of(face);
+    let oc = ocell_of_face(face);
     let (a1, a2) = (exact(&oc, face.a1_half), exact(&oc, face.a2_half));
     let nrm = oracle::face_normal(&oc, face.miller);
     let elev = |az: f64| {
@@ -871,7 +871,7 @@ fn in_plane_reachable(
     else {
         return false;
     };
-    let oc = ocell_of(face);
+    let oc = ocell_of_face(face);
     let (a1, a2) = (exact(&oc, face.a1_half), exact(&oc, face.a2_half));
     let nrm = oracle::face_normal(&oc, face.miller);
     in_plane_azimuths(face, rod).into_iter().any(|az0| {
@@ -907,36 +907,20 @@ fn faces() -> &'static [Face] {
                 v.push(Face::new(&c.cell().unwrap(), fi.miller).unwrap());
             }
         }
-        // Random faces with indices ≤ 3 of every crystal, from a fixed sequence.
-        let mut s = 0x51ed_u64;
-        let mut next = || {
-            s ^= s << 13;
-            s ^= s >> 7;
-            s ^= s << 17;
-            s
-        };
+        // Random faces with indices ≤ 3 of every crystal, from a fixed seed.
+        let mut r = Rng::seeded(0x51ed);
         let crystals = table::all();
         while v.len() < 56 {
-            let c = &crystals[(next() % crystals.len() as u64) as usize];
-            let m = [0, 0, 0].map(|_: i32| (next() % 7) as i32 - 3);
+            let c = &crystals[r.below(crystals.len())];
+            let m = [0, 0, 0].map(|_: i32| r.int(-3, 3));
             let hex = c.structure.system() == System::Hexagonal;
-            if m == [0, 0, 0] || (hex && m[2] == 0 && next() % 2 == 0) {
+            if m == [0, 0, 0] || (hex && m[2] == 0 && r.chance(0.5)) {
                 continue;
             }
             v.push(Face::new(&c.cell().unwrap(), m).unwrap());
         }
         v
     })
-}
-
-/// The oracle's cell of a face's bulk cell.
-fn ocell_of(f: &Face) -> OCell {
-    OCell {
-        structure: oracle::structure_from_name(f.cell.structure.name()).expect("known"),
-        a: f.cell.a_a as f64,
-        b: f.cell.b_a as f64,
-        c: f.cell.c_a as f64,
-    }
 }
 
 fn gen_rig_axis(
@@ -1178,7 +1162,7 @@ fn aim_solutions_obey_every_axis() {
                         && surely_reachable(&rig.tilt, tilt, current[2])
                         && surely_reachable(&rig.azimuth, az, current[3]) =>
                 {
-                    let oc = ocell_of(face);
+                    let oc = ocell_of_face(face);
                     let (a1, a2) = (exact(&oc, face.a1_half), exact(&oc, face.a2_half));
                     let nrm = oracle::face_normal(&oc, face.miller);
                     let reached = |ax: &AxisConfig, a: f32, cur: i32| {
