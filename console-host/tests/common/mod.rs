@@ -188,7 +188,7 @@ pub fn formats_agree(args: &[&str]) -> serde_json::Value {
     let obj = v.as_object().unwrap_or_else(|| panic!("{args:?}: {v}"));
     // The lists: arrays of objects, and an empty array in the last place (where a
     // report puts its list); `sweep --points` has two. The other keys are the fields.
-    let last = obj.keys().last().cloned();
+    let last = obj.keys().next_back().cloned();
     let is_list = |k: &String, x: &serde_json::Value| {
         x.as_array().is_some_and(|a| {
             a.first().is_some_and(|r| r.is_object()) || (a.is_empty() && Some(k) == last.as_ref())
