@@ -1352,6 +1352,32 @@ fn aim_solutions_obey_every_axis() {
 // ---------------------------------------------------------------------------------
 
 #[test]
+fn soft_limits_are_the_last_allowed_angles() {
+    // A soft limit is the furthest the axis may go, itself allowed (common practice, no
+    // source; docs/RIG.md "Limits"): both limits reached exactly, one step beyond each
+    // refused, from either side. 100 steps/deg puts both limits on whole steps.
+    let mut a = AxisConfig::new(AxisId::Arm, 100.0);
+    a.min_deg = -165.0;
+    a.max_deg = 150.0;
+    a.backlash_deg = 0.0;
+    for (limit, beyond, err) in [
+        (-165.0f32, -165.01f32, Error::BelowLimit(AxisId::Arm)),
+        (150.0, 150.01, Error::AboveLimit(AxisId::Arm)),
+    ] {
+        assert_eq!(a.check_angle(limit), Ok(()), "{limit}");
+        assert_eq!(a.check_angle(beyond), Err(err), "{beyond}");
+        for from in [0, (limit * 100.0) as i32 / 2] {
+            let sp = a
+                .setpoint(limit, from)
+                .unwrap_or_else(|e| panic!("{limit} from {from}: {e:?}"));
+            assert_eq!(sp.steps, (limit * 100.0) as i32, "{sp:?}");
+            assert_eq!(sp.angle_deg, limit, "{sp:?}");
+            assert_eq!(a.setpoint(beyond, from).map(|s| s.steps), Err(err));
+        }
+    }
+}
+
+#[test]
 fn narrow_zone_takes_nearer_neighbour() {
     // 1 step/deg; a zone narrower than a step holds step 10; target 9.6° is allowed.
     // The nearest allowed step is 9 (residual 0.6 step, no zone on the way from 0);
