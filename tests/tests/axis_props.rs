@@ -1378,6 +1378,92 @@ fn soft_limits_are_the_last_allowed_angles() {
 }
 
 #[test]
+fn zone_edges_are_forbidden_and_the_turn_round_leg_is_checked() {
+    // A zone is a closed interval, both edges forbidden (docs/RIG.md "Zones"), and the
+    // backlash turn-round is part of the path (docs/RIG.md, backlash with a fixed
+    // approach: the axis passes the target by the backlash and comes back), so a zone
+    // the turn-round would enter refuses the move (common practice, no source: the
+    // whole travel must stay clear). 100 steps/deg: the edges lie on whole steps.
+    let mut a = AxisConfig::new(AxisId::Arm, 100.0);
+    a.min_deg = -165.0;
+    a.max_deg = 165.0;
+    a.backlash_deg = 0.0;
+    a.zones[0] = Some(Zone {
+        from_deg: 20.0,
+        to_deg: 30.0,
+    });
+    for edge in [20.0f32, 30.0] {
+        assert_eq!(
+            a.check_angle(edge),
+            Err(Error::InZone(AxisId::Arm, 0)),
+            "{edge}"
+        );
+    }
+    assert_eq!(a.check_angle(19.99), Ok(()));
+    assert_eq!(a.check_angle(30.01), Ok(()));
+    // From below, the lower edge is refused and one step short of it is reached.
+    assert_eq!(a.setpoint(20.0, 0), Err(Error::InZone(AxisId::Arm, 0)));
+    assert_eq!(a.setpoint(19.99, 0).map(|s| s.steps), Ok(1999));
+    // Backlash 0.5°, approached from below: coming down from 60° to 31° the axis turns
+    // round at 30.5°, outside the zone: allowed. To 30.2° it would turn round at 29.7°,
+    // inside the zone: refused, though the target itself is outside it.
+    a.backlash_deg = 0.5;
+    a.approach = Approach::FromBelow;
+    let sp = a.setpoint(31.0, 6000).unwrap();
+    assert_eq!(sp.approach_steps, Some(3050), "{sp:?}");
+    assert_eq!(
+        a.setpoint(30.2, 6000),
+        Err(Error::PathCrossesZone(AxisId::Arm, 0))
+    );
+}
+
+#[test]
+fn turn_round_leg_back_to_a_zone_edge_is_checked() {
+    // Found by the setpoint property (case 98780 of seed 0xa7150001, with a core that
+    // skipped the check of the leg from the turn-round back to the target): a wrapping
+    // azimuth three steps inside zone 0 below its upper edge, a target at that edge
+    // (−386.57953° ≡ −26.57953°, the edge is −26.579533°), approached from above with
+    // backlash. Leaving the zone through its nearer edge is allowed, but the way back
+    // from the turn-round must be checked as a path of its own: either the move is
+    // refused, or every leg passes the axis's own path check.
+    let ax = AxisConfig {
+        id: AxisId::Azimuth,
+        steps_per_deg: 24489.719,
+        home_offset_deg: -2.5852144,
+        min_deg: 538.03735,
+        max_deg: 720.0,
+        zones: [
+            Some(Zone {
+                from_deg: -64.11508,
+                to_deg: -26.579533,
+            }),
+            None,
+            Some(Zone {
+                from_deg: 92.62125,
+                to_deg: 93.06589,
+            }),
+            Some(Zone {
+                from_deg: 105.705826,
+                to_deg: 107.81325,
+            }),
+        ],
+        backlash_deg: 0.12629756,
+        approach: Approach::FromAbove,
+        wrap: true,
+        max_speed_deg_s: 968.1731,
+        accel_deg_s2: 376.02225,
+    };
+    let current = -9_403_916;
+    match ax.setpoint(-386.57953, current) {
+        Err(e) => assert_eq!(e, Error::PathCrossesZone(AxisId::Azimuth, 0)),
+        Ok(sp) => {
+            let turn = ax.steps_to_deg(sp.approach_steps.expect("a turn-round"));
+            assert_eq!(ax.check_path(turn, sp.angle_deg), Ok(()), "{sp:?}");
+        }
+    }
+}
+
+#[test]
 fn narrow_zone_takes_nearer_neighbour() {
     // 1 step/deg; a zone narrower than a step holds step 10; target 9.6° is allowed.
     // The nearest allowed step is 9 (residual 0.6 step, no zone on the way from 0);
