@@ -3,7 +3,7 @@
 
 mod common;
 
-use common::{json, mwctl};
+use common::{formats_agree, json, mwctl};
 
 const COMMANDS: &[&[&str]] = &[
     &["crystals"],
@@ -84,6 +84,7 @@ fn every_command_answers_in_every_format() {
                 }
             }
         }
+        formats_agree(cmd);
     }
 }
 

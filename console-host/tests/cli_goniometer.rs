@@ -11,7 +11,7 @@ mod common;
 
 use std::path::PathBuf;
 
-use common::{json, mwctl};
+use common::{formats_agree, json, mwctl};
 
 /// Runs a command that must fail: exit 2, one line on stderr, no panic. Returns stderr.
 fn fails(args: &[&str]) -> String {
@@ -275,6 +275,7 @@ fn every_command_answers_in_every_format() {
                 _ => {}
             }
         }
+        formats_agree(cmd);
     }
 }
 
@@ -355,10 +356,26 @@ fn aim_into_the_gun_shadow_names_the_zone() {
         "--tilt",
         "3",
     ]);
-    assert!(err.contains("E303"), "{err}");
-    assert!(err.contains("arm forbidden zone 0 [-12, 12]"), "{err}");
-    // Twice the tilt the axis reaches (3° to within a step).
-    assert!(err.contains("arm 6.00"), "{err}");
+    // The whole line: the code, the request quoted back, the pose (twice the tilt,
+    // 3° to within a step of the built-in tilt axis) and how deep it lies in the zone.
+    assert_eq!(
+        err.trim_end(),
+        "mwctl: error: E303: --beam 0,0 at 100 eV (100 eV at the sample), tilt 3 deg: \
+         no reachable solution: branch +1: arm 6.000 deg: inside arm forbidden zone 0 \
+         [-12, 12] deg (by 6.000 deg)"
+    );
+}
+
+/// `x` with three decimals, as the refusal messages print angles; the value must not
+/// lie within 1e-4 of a rounding boundary, where the f32 core and this f64 formula could
+/// round apart.
+fn deg3(x: f64) -> String {
+    let frac = (x.abs() * 1e3).fract();
+    assert!(
+        (frac - 0.5).abs() > 0.1,
+        "{x} is too near a rounding boundary"
+    );
+    format!("{x:.3}")
 }
 
 #[test]
@@ -382,8 +399,28 @@ fn aim_beyond_a_limit_names_the_limit() {
         "--rig",
         rig.to_str().unwrap(),
     ]);
-    assert!(err.contains("above the arm upper limit 40 deg"), "{err}");
-    assert!(err.contains("zone 0 [-11, 11]"), "{err}");
+    // The whole line, with both poses from the f64 formula δ = α + asin(sin α ± λ/d_row)
+    // (geometry rules), d_row = a/√2 with the table's a = 3.6149 Å: the +1 pose above
+    // the 40° limit by δ − 40°, the −1 pose inside the gun zone [-11, 11]° by its
+    // distance from the nearer edge, −11°.
+    let d_row = 3.6149 / 2f64.sqrt();
+    let (plus, minus) = (
+        arm_in_plane(10.0, 1.0, 100.0, d_row),
+        arm_in_plane(10.0, -1.0, 100.0, d_row),
+    );
+    assert_eq!(
+        err.trim_end(),
+        format!(
+            "mwctl: error: E302: --beam 1,0 at 100 eV (100 eV at the sample), tilt 10 deg: \
+             no reachable solution: branch +1: arm {} deg: above the arm upper limit 40 deg \
+             (by {} deg); branch -1: arm {} deg: inside arm forbidden zone 0 [-11, 11] deg \
+             (by {} deg)",
+            deg3(plus),
+            deg3(plus - 40.0),
+            deg3(minus),
+            deg3(minus + 11.0)
+        )
+    );
 }
 
 #[test]
@@ -554,7 +591,20 @@ fn two_circle_aim_uses_the_elevation() {
         "--azimuth",
         "0",
     ]);
-    assert!(err.contains("no elevation axis"), "{err}");
+    // The elevation the beam needs: asin of the out-of-plane component of the exit
+    // direction, |k| sin θ_y = |g_y| for rod (1,1) of Cu(100) at azimuth 0 (a1 along
+    // e1): g_y = 1/|a2| = √2/a (the surface and lab conventions), so sin ε = λ√2/a.
+    let eps = (lambda(150.0) * 2f64.sqrt() / 3.6149).asin().to_degrees();
+    assert_eq!(
+        err.trim_end(),
+        format!(
+            "mwctl: error: E307: --beam 1,1 at 150 eV (150 eV at the sample), tilt 15 deg: \
+             no reachable solution: elevation {} deg: out of the scattering plane, and this \
+             rig has no elevation axis; omit --azimuth for in-plane mode, or give a rig \
+             file with an [elevation] axis",
+            deg3(eps)
+        )
+    );
 }
 
 #[test]

@@ -245,21 +245,28 @@ pub fn velocity_m_s(energy_ev: f32) -> Result<f32> {
 }
 
 /// Kinetic energy (eV) for a wavelength `lambda_a` (Å); the inverse of [`wavelength_a`].
-/// The result must lie in 1 eV–300 keV.
+/// The result must lie in 1 eV–300 keV; one within a relative [`EDGE_REL`] of an edge
+/// (the f32 rounding of a round trip) is that edge, so the wavelength of every accepted
+/// energy has an inverse.
 pub fn energy_from_wavelength_ev(lambda_a: f32) -> Result<f32> {
     let l = finite(lambda_a, Quantity::Wavelength)?;
     if l <= 0.0 {
         return Err(Error::TooLow(Quantity::Wavelength));
     }
     let e = energy_from_wavenumber_ev(1.0 / l);
-    if e < ENERGY_MIN_EV {
+    if e < ENERGY_MIN_EV * (1.0 - EDGE_REL) {
         Err(Error::TooHigh(Quantity::Wavelength))
-    } else if e > ENERGY_MAX_EV {
+    } else if e > ENERGY_MAX_EV * (1.0 + EDGE_REL) {
         Err(Error::TooLow(Quantity::Wavelength))
     } else {
-        Ok(e)
+        Ok(e.clamp(ENERGY_MIN_EV, ENERGY_MAX_EV))
     }
 }
+
+/// Relative slack at the edges of the energy range in [`energy_from_wavelength_ev`]: a
+/// few f32 ulps (1.2e-7 each), more than a round trip λ(E) → E loses (at 1 eV it gave
+/// 0.99999994 eV).
+pub const EDGE_REL: f32 = 1.0e-6;
 
 /// Wavelength inside the crystal, Å: λ(E + V0), with V0 the inner potential (0–100 eV).
 pub fn inner_wavelength_a(energy_ev: f32, v0_ev: f32) -> Result<f32> {
@@ -338,11 +345,32 @@ mod tests {
 
     #[test]
     fn inverse_round_trips() {
+        // The inverse must succeed over the whole range, the 1 eV and 300 keV edges
+        // included, and give the energy back to a few f32 ulps.
         for e in [1.0f32, 3.7, 54.0, 150.0, 2000.0, 1.0e5, 3.0e5] {
             let l = wavelength_a(e).unwrap();
-            let back = energy_from_wavelength_ev(l).unwrap_or(e);
+            let back = energy_from_wavelength_ev(l)
+                .unwrap_or_else(|err| panic!("{e} eV: inverse of {l} Å failed: {err:?}"));
             assert!((back - e).abs() <= 4e-7 * e, "{e} -> {back}");
         }
+        // Beyond the range, the error says which way: a wavelength too long is an energy
+        // below 1 eV (λ(1 eV) = 12.264 Å, λ(300 keV) = 0.019687 Å: the beam rules).
+        assert_eq!(
+            energy_from_wavelength_ev(12.5),
+            Err(Error::TooHigh(Quantity::Wavelength))
+        );
+        assert_eq!(
+            energy_from_wavelength_ev(0.019),
+            Err(Error::TooLow(Quantity::Wavelength))
+        );
+        assert_eq!(
+            energy_from_wavelength_ev(0.0),
+            Err(Error::TooLow(Quantity::Wavelength))
+        );
+        assert!(matches!(
+            energy_from_wavelength_ev(f32::NAN),
+            Err(Error::NotFinite(_))
+        ));
     }
 
     #[test]

@@ -1,7 +1,8 @@
 //! The console test harness, one of each: a simulated controller (feature `sim`), the
-//! request/feed/poll helpers, an independent CRC-16 and line model, and
-//! [`byte_stream`] — the checks the fuzz target `fuzz/fuzz_targets/console_bytes.rs`
-//! runs on every input, which `tests/tests/fuzz_corpus.rs` also runs on every committed
+//! request/feed/poll helpers, an independent CRC-16 and line model, the random serial
+//! byte generator ([`serial_bytes`]), and [`byte_stream`] — the checking session the
+//! property tests drive and the fuzz target `fuzz/fuzz_targets/console_bytes.rs` runs
+//! on every input, which `tests/tests/fuzz_corpus.rs` also runs on every committed
 //! corpus file.
 
 use matterwave_core::console::line::MAX_LINE;
@@ -9,7 +10,40 @@ use matterwave_core::console::sim::{SimAxes, SimDetector, SimInterlock};
 use matterwave_core::console::{AxisDriver, AxisFault, Console, Detector, Interlock};
 use matterwave_core::AxisId;
 
+use crate::Rng;
+
 pub mod byte_stream;
+
+/// Bytes likely on a serial line: line ends, letters, digits, `=`, `*`, blanks, NUL,
+/// 0xFF, separators.
+pub const LIKELY_BYTES: &[u8] =
+    b"\n\r\n\r\n\rabcdefghijklmnopqrstuvwxyz0123456789====****  \t\x00\xff-.,";
+
+/// `len` random bytes of a serial stream: a fraction `uniform` of them uniformly random,
+/// the rest drawn from [`LIKELY_BYTES`]. With `sparse`, only 1 in 8 line ends and 1 in 64
+/// bytes outside printable ASCII and tab are kept (the others become `x` and `y`), so
+/// that lines around the 120-byte limit are common.
+pub fn serial_bytes(rng: &mut Rng, len: usize, uniform: f64, sparse: bool) -> Vec<u8> {
+    (0..len)
+        .map(|_| {
+            let b = if rng.chance(uniform) {
+                rng.next() as u8
+            } else {
+                rng.select(LIKELY_BYTES)
+            };
+            if !sparse {
+                return b;
+            }
+            let terminator = b == b'\n' || b == b'\r';
+            let bad = !(terminator || b == b'\t' || (0x20..=0x7E).contains(&b));
+            match (terminator, bad) {
+                (true, _) if rng.below(8) != 0 => b'x',
+                (_, true) if rng.below(64) != 0 => b'y',
+                _ => b,
+            }
+        })
+        .collect()
+}
 
 /// One started motion: axis, steps before, backlash turn-round, target.
 pub type Start = (AxisId, i32, Option<i32>, i32);

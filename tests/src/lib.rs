@@ -123,6 +123,18 @@ pub fn ocell(c: &table::Crystal) -> OCell {
     }
 }
 
+/// The oracle's cell for the bulk cell of a core `Face` (the same constants, in f64).
+pub fn ocell_of_face(f: &matterwave_core::surface::Face) -> OCell {
+    let s =
+        oracle::structure_from_name(f.cell.structure.name()).expect("oracle knows every structure");
+    OCell {
+        structure: s,
+        a: f.cell.a_a as f64,
+        b: f.cell.b_a as f64,
+        c: f.cell.c_a as f64,
+    }
+}
+
 /// A lattice vector given in half conventional axes (as the core's `Face` stores its
 /// mesh) rebuilt exactly in f64 from the oracle's cell vectors.
 pub fn exact(oc: &OCell, half: [i32; 3]) -> [f64; 3] {

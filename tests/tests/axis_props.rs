@@ -9,7 +9,9 @@
 //! * `aim_solutions_obey_every_axis`: 100,000 random `goniometer::aim` calls over random
 //!   valid rigs, faces of table crystals (indices ≤ 3, built once), rods, energies,
 //!   tilts, modes, positions and buffer sizes; where the oracle's beam and every axis
-//!   target are surely reachable (two-circle, given azimuth), a solution must be found.
+//!   target are surely reachable, a solution must be found — two-circle at the given
+//!   azimuth, and in-plane at an azimuth a brute-force f64 search over the oracle finds
+//!   (either in-plane direction, any ±360° copy).
 //!
 //! The cases come from a deterministic loop (SplitMix64, fixed seeds) rather than
 //! proptest strategies: in a debug build proptest spends ~0.4 ms generating one rig,
@@ -21,8 +23,8 @@
 //! ulps of the magnitudes involved (the core reduces modulo 360° in f32); everything
 //! else is compared exactly.
 
-use matterwave_console::oracle::{self, OCell};
-use matterwave_tests::{exact, Rng};
+use matterwave_console::oracle;
+use matterwave_tests::{exact, ocell_of_face, Rng};
 use std::cell::{Cell, RefCell};
 use std::collections::BTreeMap;
 use std::sync::OnceLock;
@@ -819,6 +821,81 @@ fn setpoints_obey_limits_zones_and_paths() {
 // Property 2: goniometer::aim
 // ---------------------------------------------------------------------------------
 
+/// The azimuths (degrees, in [−180, 180)) at which rod `rod` of `face` points along
+/// +e1 or −e1, so that its beam leaves in the scattering plane: found by the oracle
+/// alone, as the zeros of the exit elevation over a 10° scan refined by bisection, at
+/// normal incidence and 100 keV (where every rod propagates at every azimuth; the
+/// in-plane azimuths depend on neither energy nor tilt).
+fn in_plane_azimuths(face: &Face, rod: [i32; 2]) -> Vec<f64> {
+    let oc = ocell_of_face(face);
+    let (a1, a2) = (exact(&oc, face.a1_half), exact(&oc, face.a2_half));
+    let nrm = oracle::face_normal(&oc, face.miller);
+    let elev = |az: f64| {
+        oracle::beam_exit(a1, a2, nrm, rod, 1.0e5, 0.0, az).map_or(f64::NAN, |b| b.elevation_deg)
+    };
+    let mut out = Vec::new();
+    for i in 0..36 {
+        let (mut lo, mut hi) = (-180.0 + 10.0 * i as f64, -170.0 + 10.0 * i as f64);
+        let (mut flo, fhi) = (elev(lo), elev(hi));
+        if !(flo.is_finite() && fhi.is_finite()) || flo == 0.0 || flo.signum() == fhi.signum() {
+            continue;
+        }
+        for _ in 0..60 {
+            let mid = 0.5 * (lo + hi);
+            let fm = elev(mid);
+            if fm.signum() == flo.signum() {
+                (lo, flo) = (mid, fm);
+            } else {
+                hi = mid;
+            }
+        }
+        out.push(0.5 * (lo + hi));
+    }
+    out
+}
+
+/// Whether the oracle and interval checks alone say an in-plane aim of `rod` must
+/// succeed (see the in-plane completeness check of `aim_solutions_obey_every_axis`).
+fn in_plane_reachable(
+    rig: &Rig,
+    face: &Face,
+    rod: [i32; 2],
+    e: f32,
+    tilt: f32,
+    current: &Position,
+) -> bool {
+    let Ok(tr) = rig
+        .tilt
+        .setpoint(tilt, current[2])
+        .map(|sp| sp.angle_deg as f64)
+    else {
+        return false;
+    };
+    let oc = ocell_of_face(face);
+    let (a1, a2) = (exact(&oc, face.a1_half), exact(&oc, face.a2_half));
+    let nrm = oracle::face_normal(&oc, face.miller);
+    in_plane_azimuths(face, rod).into_iter().any(|az0| {
+        (-2..=2).any(|k| {
+            let az = (az0 + 360.0 * k as f64) as f32;
+            if !surely_reachable(&rig.azimuth, az, current[3]) {
+                return false;
+            }
+            let Ok(ar) = rig.azimuth.setpoint(az, current[3]) else {
+                return false;
+            };
+            let ar = ar.angle_deg as f64;
+            oracle::beam_exit(a1, a2, nrm, rod, e as f64, tr, ar).is_some_and(|ob| {
+                ob.exit_polar_deg <= 85.0
+                    && ob.elevation_deg.abs() <= 0.25 * rig.acceptance_deg as f64
+                    && surely_reachable(&rig.arm, ob.arm_deg as f32, current[0])
+                    && rig
+                        .elevation
+                        .is_none_or(|el| surely_reachable(&el, 0.0, current[1]))
+            })
+        })
+    })
+}
+
 /// A few dozen faces, built once (face construction is the expensive part).
 fn faces() -> &'static [Face] {
     static FACES: OnceLock<Vec<Face>> = OnceLock::new();
@@ -830,36 +907,20 @@ fn faces() -> &'static [Face] {
                 v.push(Face::new(&c.cell().unwrap(), fi.miller).unwrap());
             }
         }
-        // Random faces with indices ≤ 3 of every crystal, from a fixed sequence.
-        let mut s = 0x51ed_u64;
-        let mut next = || {
-            s ^= s << 13;
-            s ^= s >> 7;
-            s ^= s << 17;
-            s
-        };
+        // Random faces with indices ≤ 3 of every crystal, from a fixed seed.
+        let mut r = Rng::seeded(0x51ed);
         let crystals = table::all();
         while v.len() < 56 {
-            let c = &crystals[(next() % crystals.len() as u64) as usize];
-            let m = [0, 0, 0].map(|_: i32| (next() % 7) as i32 - 3);
+            let c = &crystals[r.below(crystals.len())];
+            let m = [0, 0, 0].map(|_: i32| r.int(-3, 3));
             let hex = c.structure.system() == System::Hexagonal;
-            if m == [0, 0, 0] || (hex && m[2] == 0 && next() % 2 == 0) {
+            if m == [0, 0, 0] || (hex && m[2] == 0 && r.chance(0.5)) {
                 continue;
             }
             v.push(Face::new(&c.cell().unwrap(), m).unwrap());
         }
         v
     })
-}
-
-/// The oracle's cell of a face's bulk cell.
-fn ocell_of(f: &Face) -> OCell {
-    OCell {
-        structure: oracle::structure_from_name(f.cell.structure.name()).expect("known"),
-        a: f.cell.a_a as f64,
-        b: f.cell.b_a as f64,
-        c: f.cell.c_a as f64,
-    }
 }
 
 fn gen_rig_axis(
@@ -1064,6 +1125,7 @@ fn aim_solutions_obey_every_axis() {
         Cell::new(0u64),
         Cell::new(0u64),
     );
+    let aim_reachable_in_plane = Cell::new(0u64);
     let t0 = std::time::Instant::now();
     run_cases(
         CASES,
@@ -1100,7 +1162,7 @@ fn aim_solutions_obey_every_axis() {
                         && surely_reachable(&rig.tilt, tilt, current[2])
                         && surely_reachable(&rig.azimuth, az, current[3]) =>
                 {
-                    let oc = ocell_of(face);
+                    let oc = ocell_of_face(face);
                     let (a1, a2) = (exact(&oc, face.a1_half), exact(&oc, face.a2_half));
                     let nrm = oracle::face_normal(&oc, face.miller);
                     let reached = |ax: &AxisConfig, a: f32, cur: i32| {
@@ -1121,6 +1183,23 @@ fn aim_solutions_obey_every_axis() {
                 }
                 _ => false,
             };
+            // Completeness in-plane: where the tilt is surely reachable and a brute-force
+            // f64 search finds an azimuth (either in-plane direction, any ±360° copy)
+            // that the azimuth axis surely reaches and at which the oracle's beam, at the
+            // tilt and azimuth those axes really reach, leaves within the plane (up to a
+            // quarter of the acceptance), at most 85° from the normal, with its arm angle
+            // (and zero elevation, on a rig that has the axis) surely reachable, aim must
+            // find a solution.
+            let reachable_in_plane = mode == Mode::InPlane
+                && c.rod != [0, 0]
+                && e.is_finite()
+                && (1.0..=3.0e5).contains(&e)
+                && surely_reachable(&rig.tilt, tilt, current[2])
+                && in_plane_reachable(rig, face, c.rod, e, tilt, &current);
+            if reachable_in_plane {
+                Stats::bump(&aim_reachable_in_plane);
+            }
+            let reachable = reachable || reachable_in_plane;
             if reachable {
                 Stats::bump(&aim_reachable);
             }
@@ -1236,7 +1315,7 @@ fn aim_solutions_obey_every_axis() {
     println!(
         "aim: {CASES} cases in {:.1?}: {} with solutions ({} in-plane, {} two-circle; {} \
          solutions checked, {} listings truncated by a short buffer), {} errors; {} surely \
-         reachable two-circle cases",
+         reachable cases ({} of them in-plane)",
         t0.elapsed(),
         stats.ok.get(),
         in_plane_ok.get(),
@@ -1245,19 +1324,144 @@ fn aim_solutions_obey_every_axis() {
         truncated.get(),
         stats.err.get(),
         aim_reachable.get(),
+        aim_reachable_in_plane.get(),
     );
     println!("aim errors: {}", stats.histogram());
-    // Measured at the time of writing: 17 % in-plane and 8.5 % two-circle cases with
-    // solutions, 1.6 % truncated listings.
+    // Measured: 15.1 % in-plane and 7.5 % two-circle cases with solutions, 1.4 %
+    // truncated listings.
     assert!(in_plane_ok.get() > CASES as u64 * 14 / 100);
     assert!(two_circle_ok.get() > CASES as u64 * 7 / 100);
     assert!(truncated.get() > CASES as u64 * 12 / 1000);
-    assert!(aim_reachable.get() > 1500, "{}", aim_reachable.get());
+    // Completeness reached (measured: 7,831 surely reachable cases, 6,104 of them
+    // in-plane).
+    assert!(aim_reachable.get() > 6_500, "{}", aim_reachable.get());
+    assert!(
+        aim_reachable_in_plane.get() > 5_000,
+        "{}",
+        aim_reachable_in_plane.get()
+    );
+    assert!(
+        aim_reachable.get() - aim_reachable_in_plane.get() > 1_500,
+        "{}",
+        aim_reachable.get()
+    );
 }
 
 // ---------------------------------------------------------------------------------
 // Regression tests for core findings (fixed)
 // ---------------------------------------------------------------------------------
+
+#[test]
+fn soft_limits_are_the_last_allowed_angles() {
+    // A soft limit is the furthest the axis may go, itself allowed (common practice, no
+    // source; docs/RIG.md "Limits"): both limits reached exactly, one step beyond each
+    // refused, from either side. 100 steps/deg puts both limits on whole steps.
+    let mut a = AxisConfig::new(AxisId::Arm, 100.0);
+    a.min_deg = -165.0;
+    a.max_deg = 150.0;
+    a.backlash_deg = 0.0;
+    for (limit, beyond, err) in [
+        (-165.0f32, -165.01f32, Error::BelowLimit(AxisId::Arm)),
+        (150.0, 150.01, Error::AboveLimit(AxisId::Arm)),
+    ] {
+        assert_eq!(a.check_angle(limit), Ok(()), "{limit}");
+        assert_eq!(a.check_angle(beyond), Err(err), "{beyond}");
+        for from in [0, (limit * 100.0) as i32 / 2] {
+            let sp = a
+                .setpoint(limit, from)
+                .unwrap_or_else(|e| panic!("{limit} from {from}: {e:?}"));
+            assert_eq!(sp.steps, (limit * 100.0) as i32, "{sp:?}");
+            assert_eq!(sp.angle_deg, limit, "{sp:?}");
+            assert_eq!(a.setpoint(beyond, from).map(|s| s.steps), Err(err));
+        }
+    }
+}
+
+#[test]
+fn zone_edges_are_forbidden_and_the_turn_round_leg_is_checked() {
+    // A zone is a closed interval, both edges forbidden (docs/RIG.md "Zones"), and the
+    // backlash turn-round is part of the path (docs/RIG.md, backlash with a fixed
+    // approach: the axis passes the target by the backlash and comes back), so a zone
+    // the turn-round would enter refuses the move (common practice, no source: the
+    // whole travel must stay clear). 100 steps/deg: the edges lie on whole steps.
+    let mut a = AxisConfig::new(AxisId::Arm, 100.0);
+    a.min_deg = -165.0;
+    a.max_deg = 165.0;
+    a.backlash_deg = 0.0;
+    a.zones[0] = Some(Zone {
+        from_deg: 20.0,
+        to_deg: 30.0,
+    });
+    for edge in [20.0f32, 30.0] {
+        assert_eq!(
+            a.check_angle(edge),
+            Err(Error::InZone(AxisId::Arm, 0)),
+            "{edge}"
+        );
+    }
+    assert_eq!(a.check_angle(19.99), Ok(()));
+    assert_eq!(a.check_angle(30.01), Ok(()));
+    // From below, the lower edge is refused and one step short of it is reached.
+    assert_eq!(a.setpoint(20.0, 0), Err(Error::InZone(AxisId::Arm, 0)));
+    assert_eq!(a.setpoint(19.99, 0).map(|s| s.steps), Ok(1999));
+    // Backlash 0.5°, approached from below: coming down from 60° to 31° the axis turns
+    // round at 30.5°, outside the zone: allowed. To 30.2° it would turn round at 29.7°,
+    // inside the zone: refused, though the target itself is outside it.
+    a.backlash_deg = 0.5;
+    a.approach = Approach::FromBelow;
+    let sp = a.setpoint(31.0, 6000).unwrap();
+    assert_eq!(sp.approach_steps, Some(3050), "{sp:?}");
+    assert_eq!(
+        a.setpoint(30.2, 6000),
+        Err(Error::PathCrossesZone(AxisId::Arm, 0))
+    );
+}
+
+#[test]
+fn turn_round_leg_back_to_a_zone_edge_is_checked() {
+    // Found by the setpoint property (case 98780 of seed 0xa7150001, with a core that
+    // skipped the check of the leg from the turn-round back to the target): a wrapping
+    // azimuth three steps inside zone 0 below its upper edge, a target at that edge
+    // (−386.57953° ≡ −26.57953°, the edge is −26.579533°), approached from above with
+    // backlash. Leaving the zone through its nearer edge is allowed, but the way back
+    // from the turn-round must be checked as a path of its own: either the move is
+    // refused, or every leg passes the axis's own path check.
+    let ax = AxisConfig {
+        id: AxisId::Azimuth,
+        steps_per_deg: 24489.719,
+        home_offset_deg: -2.5852144,
+        min_deg: 538.03735,
+        max_deg: 720.0,
+        zones: [
+            Some(Zone {
+                from_deg: -64.11508,
+                to_deg: -26.579533,
+            }),
+            None,
+            Some(Zone {
+                from_deg: 92.62125,
+                to_deg: 93.06589,
+            }),
+            Some(Zone {
+                from_deg: 105.705826,
+                to_deg: 107.81325,
+            }),
+        ],
+        backlash_deg: 0.12629756,
+        approach: Approach::FromAbove,
+        wrap: true,
+        max_speed_deg_s: 968.1731,
+        accel_deg_s2: 376.02225,
+    };
+    let current = -9_403_916;
+    match ax.setpoint(-386.57953, current) {
+        Err(e) => assert_eq!(e, Error::PathCrossesZone(AxisId::Azimuth, 0)),
+        Ok(sp) => {
+            let turn = ax.steps_to_deg(sp.approach_steps.expect("a turn-round"));
+            assert_eq!(ax.check_path(turn, sp.angle_deg), Ok(()), "{sp:?}");
+        }
+    }
+}
 
 #[test]
 fn narrow_zone_takes_nearer_neighbour() {

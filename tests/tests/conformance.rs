@@ -85,6 +85,33 @@ fn nonrelativistic_error_grows_with_energy() {
 }
 
 #[test]
+fn inner_wavelength_is_the_wavelength_at_e_plus_v0() {
+    // Inside the crystal the electron has gained the inner potential: λ_in = λ(E + V0),
+    // relativistic λ = hc/√(E(E + 2mc²)) in f64 with CODATA 2018 hc = 12398.419843320
+    // eV·Å, mc² = 510998.95 eV (the beam conventions of README "Energies"). Cases: a
+    // LEED energy with a typical V0 (10 eV, common practice, no source), the lowest
+    // energy with the largest V0 accepted (100 eV), and 300 keV.
+    let lambda = |e: f64| 12_398.419_843_320 / (e * (e + 2.0 * 510_998.95)).sqrt();
+    for (e, v0) in [
+        (150.0f32, 10.0f32),
+        (1.0, 100.0),
+        (3.0e5, 12.5),
+        (40.0, 0.0),
+    ] {
+        let got = beam::inner_wavelength_a(e, v0).unwrap() as f64;
+        let want = lambda(e as f64 + v0 as f64);
+        // f32: a few ulps; V0 moves λ by 3 % at 150 eV and by half at 1 eV.
+        assert!(
+            (got / want - 1.0).abs() < 1e-6,
+            "{e} eV, V0 {v0}: {got} vs {want}"
+        );
+    }
+    // Checked like the energy: V0 outside 0–100 eV is refused.
+    assert!(beam::inner_wavelength_a(150.0, -1.0).is_err());
+    assert!(beam::inner_wavelength_a(150.0, 100.5).is_err());
+}
+
+#[test]
 fn lattice_constants_against_handbooks() {
     // Room-temperature lattice constants, Å, as the handbooks print them, rounded to
     // 0.001 Å (values from memory): metals from the CRC Handbook of Chemistry and Physics,

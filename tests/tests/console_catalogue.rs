@@ -482,7 +482,7 @@ fn dump_replays_as_commands_on_a_fresh_console() {
     // each item without its leading `- ` is a request, and sending them in order
     // restores the settings. A controller restoring its configuration after power-up
     // (axes at home, step count 0) is the fresh console here.
-    let setups: [(&str, &[&str]); 5] = [
+    let setups: [(&str, &[&str]); 6] = [
         ("factory settings", &[]),
         (
             // Realistic values over three of the configuration lines of an axis.
@@ -511,6 +511,18 @@ fn dump_replays_as_commands_on_a_fresh_console() {
                 "axis name=elevation min_deg=-0.000100002115 max_deg=0.000100002115",
                 "axis name=elevation backlash_deg=0.000100002115 max_speed_deg_s=0.000100002115",
                 "axis name=elevation accel_deg_s2=0.000100002115",
+            ],
+        ),
+        (
+            // The longest settings lines `set` accepts (every number nine digits below
+            // 1e-3, the longest crystal id, face and beam indices at their limits): each
+            // dump line still fits one request line (once 129 bytes, refused with 400).
+            "longest settings",
+            &[
+                "set acceptance=1.23456789",
+                "set crystal=graphite face=-12,-12,-11 tilt=-0.000123456789 azimuth=-0.000123456789 beam=-99,-99",
+                "set energy=100.123457 cathode=0.000123456789 sample=0.000123456789",
+                "set offset=-0.000123456789 v0=0.000123456789",
             ],
         ),
         (

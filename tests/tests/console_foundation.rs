@@ -10,6 +10,8 @@ use matterwave_core::console::line::{LineAssembler, LineEvent, MAX_LINE};
 use matterwave_core::console::num::{self, NumBuf, NumError};
 use matterwave_core::console::reply::{ReplyError, ReplyWriter};
 use matterwave_core::console::token::{Arg, Args};
+use matterwave_tests::console::serial_bytes;
+use matterwave_tests::Rng;
 use proptest::prelude::*;
 
 const MANY: u32 = 100_000;
@@ -18,39 +20,12 @@ const MANY: u32 = 100_000;
 // (a) Line assembly
 // ---------------------------------------------------------------------------------
 
-/// Bytes likely in a serial stream (terminators, digits, letters, blanks, NUL, 0xFF,
-/// `*`, `=`); the generator below mixes them with uniformly random bytes.
-const LIKELY: &[u8] = b"\n\n\r\r0123456789abcdefghijklmnopqrstuvwxyz  \t\x00\xff*=";
-
-/// A random byte stream of `len` bytes from `seed` (a small xorshift generator, so that
-/// each of the many cases is cheap; proptest supplies and reports the seeds). Half the
-/// seeds make terminators and bad bytes rare, so that lines around the 120-byte limit
-/// are common.
+/// A random byte stream of `len` bytes from `seed`: the shared serial-byte generator
+/// (`matterwave_tests::console::serial_bytes`, one byte in four uniformly random);
+/// proptest supplies and reports the seeds. Half the seeds make terminators and bad
+/// bytes rare, so that lines around the 120-byte limit are common.
 fn stream(seed: u64, len: usize) -> Vec<u8> {
-    let sparse = seed & 1 == 1;
-    let mut state = seed | 1;
-    (0..len)
-        .map(|_| {
-            state ^= state << 13;
-            state ^= state >> 7;
-            state ^= state << 17;
-            let r = (state >> 24) as usize;
-            let b = if r.is_multiple_of(4) {
-                (r >> 8) as u8 // any byte at all
-            } else {
-                LIKELY[(r >> 8) % LIKELY.len()]
-            };
-            let terminator = b == b'\n' || b == b'\r';
-            let bad = !(terminator || b == b'\t' || (0x20..=0x7E).contains(&b));
-            // Sparse mode keeps 1 in 8 terminators and 1 in 64 bad bytes.
-            let keep = if terminator { 8 } else { 64 };
-            match (sparse && !(r >> 20).is_multiple_of(keep), terminator, bad) {
-                (true, true, _) => b'x',
-                (true, _, true) => b'y',
-                _ => b,
-            }
-        })
-        .collect()
+    serial_bytes(&mut Rng::seeded(seed), len, 0.25, seed & 1 == 1)
 }
 
 /// What the assembler should report, computed the obvious way.
@@ -395,7 +370,15 @@ proptest! {
     #![proptest_config(ProptestConfig { cases: 20_000, ..ProptestConfig::default() })]
 
     #[test]
-    fn tokens_never_panic(s in prop_oneof!["[a-z =0-9\t.]{0,60}", any::<String>()]) {
+    // Mostly request-shaped lines (a command word, then positional and key=value
+    // tokens), so that most cases reach the checks below; the rest near-misses and
+    // any text (measured: 5,820 of 20,000 cases parse; 353 when only those two were
+    // drawn).
+    fn tokens_never_panic(s in prop_oneof![
+        8 => "[a-z]{1,8}([ \t]{1,2}([a-z_]{1,8}=[-0-9a-z.,]{1,8}|[-0-9a-z.,]{1,8})){0,11}",
+        1 => "[a-z =0-9\t.]{0,60}",
+        1 => any::<String>(),
+    ]) {
         if let Ok(mut args) = Args::parse(&s) {
             prop_assert!(args.len() <= 12);
             let all: Vec<Arg> = args.all().collect();

@@ -1,26 +1,17 @@
-//! Property tests of the serial console as a whole (`core/src/console/exec.rs`) on a
-//! simulated controller (feature `sim`): random byte streams, and random request lines
-//! built from the real command words and keys with random values.
+//! Property tests of the serial console as a whole (`core/src/console/controller/`) on
+//! a simulated controller (feature `sim`): random byte streams, and random request
+//! lines built from the real command words and keys with random values.
 //!
-//! Rules checked (protocol rules "Serial protocol principles", §8 "Axes and setpoints"):
-//!
-//! * the firmware never panics on input, and writing a reply never fails;
-//! * every request gets exactly one final status line (`ok …` / `err NNN …`); a
-//!   streaming request gets its items and then exactly one final line; `stop` during a
-//!   stream ends the stream with `err 411` and answers `ok`; any other request during a
-//!   stream gets one `err` and the stream goes on; blank lines get no reply;
-//! * reply lines are printable ASCII, at most `MAX_REPLY` (256) bytes including the
-//!   optional `*XXXX` checksum, which is present exactly when the request carried one
-//!   and matches an independent CRC-16/IBM-3740;
-//! * a request answered with `err` changes nothing: settings, the enable flag, axis
-//!   positions, and (for the line-level test) the solution and point buffers that
-//!   `status` reports;
-//! * motion starts only when enabled and the interlock is safe, and never goes beyond
-//!   the limits or into a forbidden zone: every target passes
-//!   `check_angle(steps_to_deg(steps))` for the rig in force, and the path there
-//!   (including the backlash turn-round) misses every zone that does not contain the
-//!   start and leaves one that does only through its nearer edge — checked by an
-//!   independent interval computation, not by `check_path`.
+//! Every byte and every poll goes through the shared checking session,
+//! `matterwave_tests::console::byte_stream::Session` (the fuzz target's checks, listed
+//! there: one final line per request, `stop` in every state, printable replies within
+//! `MAX_REPLY` with a checksum exactly when the request had one, checked against an
+//! independent CRC-16/IBM-3740, nothing changed by an `err`, motion only when enabled
+//! and safe, within the limits and out of every zone along the whole path — by
+//! independent interval checks, not `check_angle` or `check_path`). The line-level test
+//! also checks that the solution and point buffers `status` reports survive every
+//! `err`. The random bytes come from the shared generator,
+//! `matterwave_tests::console::serial_bytes`.
 //!
 //! The default home position (arm 0°) lies inside the default gun zone (±12°), so the
 //! resting position of an axis the console never moved is not required to be allowed;
@@ -29,13 +20,9 @@
 //! Sizes: 2,000 cases × 50 chunks = 100,000 random byte chunks (fixed seeds), and 2,000
 //! cases × 50 lines = 100,000 request lines (proptest).
 
-use matterwave_core::axis::AxisConfig;
-use matterwave_core::console::controller::MAX_REPLY;
-use matterwave_core::console::Settings;
-use matterwave_core::goniometer::axis_index;
 use matterwave_core::table;
-use matterwave_core::AxisId;
-use matterwave_tests::console::{crc16_ref, rec_console, with_crc, Event, LineModel, RecConsole};
+use matterwave_tests::console::byte_stream::{Kind, Reach, Session};
+use matterwave_tests::console::{crc16_ref, serial_bytes, with_crc};
 use matterwave_tests::Rng;
 use proptest::prelude::*;
 
@@ -46,488 +33,6 @@ const PER_CASE: usize = 50;
 /// Polls before a still-running stream is stopped instead of polled out (plans may
 /// hold up to 100,000 points; the lists end much sooner).
 const STREAM_CAP: u32 = 300;
-/// Angle tolerance of the independent zone and limit check, degrees (f32 rounding at
-/// zone edges; a step of the default rig is 0.001°).
-const EPS: f64 = 1e-4;
-
-// ---------------------------------------------------------------------------------
-// The harness: a console on recording sim axes, an independent line model, checks
-// ---------------------------------------------------------------------------------
-
-type Con = RecConsole;
-
-/// Shape of a reply line.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-enum Kind {
-    Ok,
-    Err(u16),
-    Item,
-}
-
-/// Splits and checks reply bytes; `crc`: whether every line must carry a checksum.
-fn reply_lines(out: &[u8], crc: bool) -> Vec<(Kind, String)> {
-    if out.is_empty() {
-        return Vec::new();
-    }
-    assert_eq!(out.last(), Some(&b'\n'), "reply not LF-terminated: {out:?}");
-    let mut v = Vec::new();
-    for line in out[..out.len() - 1].split(|&b| b == b'\n') {
-        let text = String::from_utf8_lossy(line).into_owned();
-        assert!(
-            line.len() <= MAX_REPLY,
-            "reply over {MAX_REPLY} bytes: {text}"
-        );
-        assert!(
-            line.iter().all(|b| (0x20..=0x7E).contains(b)),
-            "reply not printable ASCII: {text:?}"
-        );
-        let content = if crc {
-            assert!(line.len() > 5, "reply lacks its checksum: {text}");
-            let (content, suffix) = line.split_at(line.len() - 5);
-            let want = format!("*{:04X}", crc16_ref(content));
-            assert_eq!(suffix, want.as_bytes(), "reply checksum wrong: {text}");
-            content
-        } else {
-            line
-        };
-        assert!(!content.contains(&b'*'), "unexpected checksum or *: {text}");
-        let kind = if content == b"ok" || content.starts_with(b"ok ") {
-            Kind::Ok
-        } else if content.starts_with(b"- ") && content.len() > 2 {
-            Kind::Item
-        } else if let Some(rest) = content.strip_prefix(b"err ") {
-            assert!(
-                rest.len() > 4 && rest[..3].iter().all(u8::is_ascii_digit) && rest[3] == b' ',
-                "malformed err line: {text}"
-            );
-            let code: u16 = std::str::from_utf8(&rest[..3]).unwrap().parse().unwrap();
-            assert!((100..500).contains(&code), "code outside 1xx-4xx: {text}");
-            Kind::Err(code)
-        } else {
-            panic!("reply of unknown shape: {text}");
-        };
-        v.push((kind, text));
-    }
-    v
-}
-
-/// What a failed request must leave unchanged.
-#[derive(Clone, Copy, Debug, PartialEq)]
-struct State {
-    settings: Settings,
-    enabled: bool,
-    steps: [i32; 4],
-}
-
-/// Whether `x` lies inside zone [from, to] (any 360° copy on a wrapping axis), widened
-/// by `pad` degrees on each side.
-fn in_zone(from: f64, to: f64, x: f64, wrap: bool, pad: f64) -> bool {
-    let (from, to) = (from - pad, to + pad);
-    if !wrap {
-        return x >= from && x <= to;
-    }
-    let k = ((x - from) / 360.0).floor();
-    x <= to + 360.0 * k
-}
-
-/// Whether the closed interval [lo, hi] meets the interior of zone [from, to] (any
-/// 360° copy on a wrapping axis), narrowed by `EPS`.
-fn meets_zone(from: f64, to: f64, lo: f64, hi: f64, wrap: bool) -> bool {
-    let (from, to) = (from + EPS, to - EPS);
-    if from > to {
-        return false;
-    }
-    if !wrap {
-        return from <= hi && to >= lo;
-    }
-    let k = ((lo - to) / 360.0).ceil();
-    from + 360.0 * k <= hi
-}
-
-/// Independent check of one leg of a motion, `from` → `to` degrees: inside the limits
-/// (unless wrap; from beyond a limit only back toward it), clear of the interior of
-/// every zone that does not contain the start, and out of a zone that does contain it
-/// only through its nearer edge, without reaching its next 360° copy.
-fn leg_ok(cfg: &AxisConfig, from: f64, to: f64) -> Result<(), String> {
-    let (lo, hi) = (from.min(to), from.max(to));
-    let (min, max) = (f64::from(cfg.min_deg), f64::from(cfg.max_deg));
-    if !cfg.wrap {
-        let inside = if from > max + EPS {
-            to <= from && lo >= min - EPS
-        } else if from < min - EPS {
-            to >= from && hi <= max + EPS
-        } else {
-            lo >= min - EPS && hi <= max + EPS
-        };
-        if !inside {
-            return Err(format!("path {from}..{to} leaves limits {min}..{max}"));
-        }
-    }
-    for z in cfg.zones.iter().flatten() {
-        let (zf, zt) = (f64::from(z.from_deg), f64::from(z.to_deg));
-        if in_zone(zf, zt, from, cfg.wrap, EPS) {
-            let (mut a, mut b) = (zf, zt);
-            if cfg.wrap {
-                let k = ((from - 0.5 * (a + b)) / 360.0).round();
-                a += 360.0 * k;
-                b += 360.0 * k;
-            }
-            let (below, above) = (from - a, b - from);
-            let out = (to <= from + EPS && below <= above + EPS)
-                || (to >= from - EPS && above <= below + EPS);
-            let next = cfg.wrap
-                && (meets_zone(a - 360.0, b - 360.0, lo, hi, false)
-                    || meets_zone(a + 360.0, b + 360.0, lo, hi, false));
-            if !out || next {
-                return Err(format!(
-                    "path {from}..{to} from inside zone {zf}..{zt} not by its nearer edge"
-                ));
-            }
-        } else if meets_zone(zf, zt, lo, hi, cfg.wrap) {
-            return Err(format!("path {from}..{to} crosses zone {zf}..{zt}"));
-        }
-    }
-    Ok(())
-}
-
-/// Independent check of where a motion ends, not using `check_angle`: inside the limits
-/// (unless wrap) and outside every zone (narrowed by `EPS` for f32 rounding at edges).
-fn landing_ok(cfg: &AxisConfig, x: f64) -> Result<(), String> {
-    let (min, max) = (f64::from(cfg.min_deg), f64::from(cfg.max_deg));
-    if !cfg.wrap && (x < min - EPS || x > max + EPS) {
-        return Err(format!("{x} deg beyond the limits {min}..{max}"));
-    }
-    for z in cfg.zones.iter().flatten() {
-        let (zf, zt) = (f64::from(z.from_deg), f64::from(z.to_deg));
-        if in_zone(zf, zt, x, cfg.wrap, -EPS) {
-            return Err(format!("{x} deg inside the zone {zf}..{zt}"));
-        }
-    }
-    Ok(())
-}
-
-/// A console session under test: the console, the line model and bookkeeping.
-struct Session {
-    c: Con,
-    model: LineModel,
-    out: Vec<u8>,
-    stream_crc: bool,
-    /// Whether the running stream is an `aim`'s (which may end with `err`).
-    refusing: bool,
-    /// The `err` a refused `aim`'s stream ended with, until taken.
-    stream_end: Option<Kind>,
-    /// The chunk being fed (for failure messages of the byte-stream test).
-    last_input: Vec<u8>,
-    /// Final lines seen, by class, for the report at the end of the test.
-    stats: Stats,
-}
-
-#[derive(Default, Debug, Clone, Copy)]
-struct Stats {
-    requests: u64,
-    ok: u64,
-    err: u64,
-    streams: u64,
-    aborted: u64,
-    moves: u64,
-}
-
-impl Session {
-    fn new(safe: bool) -> Session {
-        let c = rec_console(safe);
-        Session {
-            c,
-            model: LineModel::default(),
-            out: Vec::new(),
-            stream_crc: false,
-            refusing: false,
-            stream_end: None,
-            last_input: Vec::new(),
-            stats: Stats::default(),
-        }
-    }
-
-    fn state(&mut self) -> State {
-        State {
-            settings: *self.c.settings(),
-            enabled: self.c.enabled(),
-            steps: self.c.axes.sim.steps,
-        }
-    }
-
-    /// Whether replies to `line` carry a checksum: when it has one, valid or not (a
-    /// malformed or wrong one is answered `err 402` with a checksum).
-    fn request_crc(line: &str) -> bool {
-        split_crc(line).is_some()
-    }
-
-    /// Checks the motions started since `before` (axis rules, §10). `declared`: the
-    /// request was a `home` answered `ok`, which sets a counter without motion
-    /// (docs/PROTOCOL.md, `home`).
-    fn check_motion(&mut self, before: &State, answered_ok: bool, declared: bool, what: &str) {
-        let starts = std::mem::take(&mut self.c.axes.starts);
-        let rig = self.c.settings().rig;
-        if !starts.is_empty() {
-            assert!(answered_ok, "motion by a request not answered ok: {what}");
-            assert!(before.enabled, "motion while disabled: {what}");
-            assert!(
-                self.c.interlock.safe,
-                "motion with the interlock open: {what}"
-            );
-            self.stats.moves += 1;
-        }
-        for &(id, from, via, target) in &starts {
-            let cfg = rig
-                .axis(id)
-                .unwrap_or_else(|_| panic!("motion of missing axis {id:?}: {what}"));
-            let deg = |s: i32| cfg.steps_to_deg(s);
-            if let Err(e) = landing_ok(cfg, f64::from(deg(target))) {
-                panic!("{id:?} sent to {target} steps: {e}: {what}");
-            }
-            let legs: Vec<(i32, i32)> = match via {
-                Some(v) => vec![(from, v), (v, target)],
-                None => vec![(from, target)],
-            };
-            if let Some(v) = via {
-                let a = f64::from(deg(v));
-                let lim = cfg.wrap
-                    || (a >= f64::from(cfg.min_deg) - EPS && a <= f64::from(cfg.max_deg) + EPS);
-                assert!(lim, "{id:?} turn-round at {a} deg beyond limits: {what}");
-            }
-            for (a, b) in legs {
-                if let Err(e) = leg_ok(cfg, f64::from(deg(a)), f64::from(deg(b))) {
-                    panic!("{id:?}: {e}: {what}");
-                }
-            }
-        }
-        for id in AxisId::ALL {
-            let i = axis_index(id);
-            if self.c.axes.sim.steps[i] != before.steps[i] {
-                assert!(
-                    declared || starts.iter().any(|s| s.0 == id),
-                    "{id:?} moved without a start: {what}"
-                );
-            }
-        }
-    }
-
-    /// Feeds one byte and checks what it caused. Returns the final line's kind when the
-    /// byte completed a request answered at once.
-    fn push(&mut self, b: u8) -> Option<Kind> {
-        if b != b'\n' && b != b'\r' {
-            // Only a line end completes a request: any other byte writes nothing and
-            // changes nothing visible (checked cheaply: this runs for every byte).
-            let (streaming, steps) = (self.c.streaming(), self.c.axes.sim.steps);
-            self.out.clear();
-            self.c
-                .push(b, &mut self.out)
-                .expect("writing a reply failed");
-            assert_eq!(self.model.push(b).map(|_| ()), None);
-            assert!(
-                self.out.is_empty(),
-                "reply before the line end: {:?}",
-                self.out
-            );
-            assert!(self.c.axes.starts.is_empty() && steps == self.c.axes.sim.steps);
-            assert_eq!(streaming, self.c.streaming());
-            return None;
-        }
-        let was_streaming = self.c.streaming();
-        let before = self.state();
-        self.out.clear();
-        self.c
-            .push(b, &mut self.out)
-            .expect("writing a reply failed");
-        let ev = self.model.push(b);
-        let mut answered = None;
-        let what = format!(
-            "{ev:?} (chunk {:?})",
-            String::from_utf8_lossy(&self.last_input)
-        );
-        match ev {
-            None | Some(Event::Blank) => {
-                assert!(
-                    self.out.is_empty(),
-                    "reply without a request: {:?}",
-                    self.out
-                );
-                assert_eq!(was_streaming, self.c.streaming());
-            }
-            Some(Event::TooLong) | Some(Event::BadByte) => {
-                let code = if matches!(ev, Some(Event::TooLong)) {
-                    400
-                } else {
-                    401
-                };
-                let k = reply_lines(&self.out, false);
-                assert_eq!(k.len(), 1, "one final line: {k:?}");
-                assert_eq!(k[0].0, Kind::Err(code), "{what}: {}", k[0].1);
-                assert_eq!(was_streaming, self.c.streaming());
-                assert_eq!(before, self.state(), "rejected line changed state");
-                self.stats.requests += 1;
-                self.stats.err += 1;
-                answered = Some(k[0].0);
-            }
-            Some(Event::Line(ref line)) => {
-                self.stats.requests += 1;
-                let crc_on = Self::request_crc(line);
-                if was_streaming && is_stop(line) {
-                    let text = self.out.clone();
-                    let n = text.iter().position(|&b| b == b'\n').expect("stream end");
-                    let end = reply_lines(&text[..=n], self.stream_crc);
-                    let own = reply_lines(&text[n + 1..], crc_on);
-                    assert_eq!(end.len(), 1);
-                    assert_eq!(end[0].0, Kind::Err(411), "{line}");
-                    assert_eq!(own.len(), 1);
-                    assert_eq!(own[0].0, Kind::Ok, "{line}");
-                    assert!(!self.c.streaming(), "stop left the stream running");
-                    // `stop` latches: motion is disabled until a new `enable`;
-                    // nothing else changes.
-                    let mut want = before;
-                    want.enabled = false;
-                    assert_eq!(want, self.state(), "stop changed more than `enabled`");
-                    self.stats.aborted += 1;
-                    self.stats.ok += 1;
-                    answered = Some(Kind::Ok);
-                } else if was_streaming {
-                    let k = reply_lines(&self.out, crc_on);
-                    assert_eq!(k.len(), 1, "one final line per request: {k:?}: {line}");
-                    assert!(
-                        matches!(k[0].0, Kind::Err(_)),
-                        "accepted mid-stream: {line}"
-                    );
-                    assert!(self.c.streaming(), "a request ended the stream: {line}");
-                    assert_eq!(before, self.state(), "busy request changed state: {line}");
-                    self.stats.err += 1;
-                    answered = Some(k[0].0);
-                } else if self.c.streaming() {
-                    assert!(self.out.is_empty(), "stream start wrote output: {line}");
-                    self.stream_crc = crc_on;
-                    self.refusing = line.starts_with("aim");
-                    self.stats.streams += 1;
-                } else {
-                    let k = reply_lines(&self.out, crc_on);
-                    assert_eq!(k.len(), 1, "one final line per request, got {k:?}: {line}");
-                    assert_ne!(k[0].0, Kind::Item, "item without a stream: {line}");
-                    if let Kind::Err(code) = k[0].0 {
-                        assert_ne!(code, 411, "411 without a stream: {line}");
-                        assert_eq!(
-                            before,
-                            self.state(),
-                            "failed request changed state: {line} -> {}",
-                            k[0].1
-                        );
-                        self.stats.err += 1;
-                    } else {
-                        self.stats.ok += 1;
-                    }
-                    answered = Some(k[0].0);
-                }
-            }
-        }
-        let declared = answered == Some(Kind::Ok)
-            && matches!(&ev, Some(Event::Line(l)) if l.trim_start().starts_with("home"));
-        self.check_motion(&before, answered == Some(Kind::Ok), declared, &what);
-        answered
-    }
-
-    /// Polls at most `budget` times; true when no stream is running afterwards.
-    fn poll(&mut self, budget: u32) -> bool {
-        for _ in 0..budget {
-            if !self.c.streaming() {
-                break;
-            }
-            let before = self.state();
-            self.out.clear();
-            let more = self
-                .c
-                .poll(&mut self.out)
-                .expect("writing a stream line failed");
-            let k = reply_lines(&self.out, self.stream_crc);
-            assert_eq!(k.len(), 1, "a poll writes one line: {k:?}");
-            if more {
-                assert_eq!(k[0].0, Kind::Item, "{}", k[0].1);
-                assert!(self.c.streaming());
-            } else if matches!(k[0].0, Kind::Err(_)) {
-                // Only a refused `aim` ends its stream (of `- refused` items) with `err`.
-                assert!(self.refusing, "a stream ended with err: {}", k[0].1);
-                assert!(!self.c.streaming());
-                self.stats.err += 1;
-                self.stream_end = Some(k[0].0);
-            } else {
-                assert_eq!(k[0].0, Kind::Ok, "a stream ends with ok: {}", k[0].1);
-                assert!(!self.c.streaming());
-                self.stats.ok += 1;
-            }
-
-            assert_eq!(before, self.state(), "a stream line changed state");
-            self.check_motion(&before, false, false, "poll");
-        }
-        !self.c.streaming()
-    }
-
-    /// Ends any running stream: polled out within `STREAM_CAP`, else stopped.
-    fn finish_stream(&mut self) {
-        if !self.poll(STREAM_CAP) {
-            for &b in b"\nstop\n" {
-                self.push(b);
-            }
-            assert!(!self.c.streaming(), "stop did not end the stream");
-        }
-    }
-
-    /// Feeds a whole line (with its terminator); returns the kind of the final line it
-    /// got at once (`None` when it started a stream: poll or `finish_stream` next).
-    fn line(&mut self, bytes: &[u8]) -> Option<Kind> {
-        let mut last = None;
-        for &b in bytes {
-            if let Some(k) = self.push(b) {
-                last = Some(k);
-            }
-        }
-        last
-    }
-
-    /// The `solutions=` and `points=` fields of `status` (buffers `err` must not touch).
-    fn buffers(&mut self) -> (String, String) {
-        let was = self.stats;
-        assert_eq!(self.line(b"status\n"), Some(Kind::Ok));
-        // `push` left status's own reply in `out`.
-        let text = String::from_utf8(self.out.clone()).unwrap();
-        self.stats = was;
-        let field = |k: &str| {
-            text.split([' ', '\n'])
-                .find_map(|t| t.strip_prefix(k))
-                .unwrap_or_else(|| panic!("status lacks {k}: {text}"))
-                .to_string()
-        };
-        (field("solutions="), field("points="))
-    }
-}
-
-/// `Some((body, true))` for a valid checksum, `Some((line, false))` for a malformed or
-/// wrong one (the reply still carries a checksum: the line contains `*`), `None` for a
-/// line without `*`.
-fn split_crc(line: &str) -> Option<(&str, bool)> {
-    let star = line.find('*')?;
-    let (body, suffix) = line.split_at(star);
-    let ok = suffix.len() == 5
-        && suffix[1..].bytes().all(|b| b.is_ascii_hexdigit())
-        && u16::from_str_radix(&suffix[1..], 16).ok() == Some(crc16_ref(body.as_bytes()));
-    Some(if ok { (body, true) } else { (line, false) })
-}
-
-/// Whether a request line is a well-formed `stop` with no arguments.
-fn is_stop(line: &str) -> bool {
-    let body = match split_crc(line) {
-        None => line,
-        Some((body, true)) => body,
-        Some((_, false)) => return false,
-    };
-    let mut t = body.split([' ', '\t']).filter(|t| !t.is_empty());
-    t.next() == Some("stop") && t.next().is_none()
-}
-
 // ---------------------------------------------------------------------------------
 // Generators
 // ---------------------------------------------------------------------------------
@@ -538,10 +43,6 @@ const COMMANDS: [&str; 23] = [
     "pos", "enable", "disable", "home", "axis", "zone", "plan", "pt", "fit", "read", "dump",
     "reset",
 ];
-
-/// Bytes likely on a serial line (line ends, letters, digits, `=`, `*`, blanks, NUL,
-/// 0xFF, separators), mixed below with uniformly random ones.
-const LIKELY: &[u8] = b"\n\r\n\r\n\rabcdefghijklmnopqrstuvwxyz0123456789====****  \t\x00\xff-.,";
 
 /// Well-formed requests mixed into the random byte streams.
 const VALID: &[&str] = &[
@@ -563,7 +64,7 @@ const VALID: &[&str] = &[
 ];
 
 /// A chunk of a random byte stream: sometimes a real command word first, then up to 35
-/// bytes (3 in 10 uniformly random, the rest from `LIKELY`), then a line end — so that
+/// bytes (3 in 10 uniformly random, the rest likely serial bytes), then a line end — so that
 /// each chunk ends at least one request.
 fn chunk(rng: &mut Rng) -> Vec<u8> {
     const ENDS: [&[u8]; 4] = [b"\n", b"\r", b"\r\n", b"\n\n"];
@@ -579,14 +80,8 @@ fn chunk(rng: &mut Rng) -> Vec<u8> {
         v.extend_from_slice(COMMANDS[rng.below(COMMANDS.len())].as_bytes());
         v.push(b' ');
     }
-    for _ in 0..rng.below(36) {
-        let r = rng.next();
-        v.push(if r % 10 < 3 {
-            (r >> 40) as u8
-        } else {
-            LIKELY[(r >> 40) as usize % LIKELY.len()]
-        });
-    }
+    let n = rng.below(36);
+    v.extend(serial_bytes(rng, n, 0.3, false));
     v.extend_from_slice(ENDS[rng.below(ENDS.len())]);
     v
 }
@@ -987,7 +482,7 @@ proptest! {
             if interleave {
                 s.poll(2);
             } else {
-                s.finish_stream();
+                s.finish_stream(STREAM_CAP);
             }
             if s.c.streaming() {
                 buffers = None;
@@ -1005,7 +500,7 @@ proptest! {
             }
             buffers = Some(now);
         }
-        s.finish_stream();
+        s.finish_stream(STREAM_CAP);
     }
 }
 
@@ -1016,7 +511,7 @@ proptest! {
 #[test]
 fn random_byte_streams() {
     let mut rng = Rng(0xb17e_5eed);
-    let mut total = Stats::default();
+    let mut total = Reach::default();
     for case in 0..CASES {
         let safe = rng.chance(0.8);
         let polls = rng.select(&[0u32, 1, STREAM_CAP]);
@@ -1032,20 +527,15 @@ fn random_byte_streams() {
                     s.poll(polls);
                 }
             }
-            s.finish_stream();
-            s.stats
+            s.finish_stream(STREAM_CAP);
+            s.reach
         }));
         let st = r.unwrap_or_else(|_| {
             panic!("case {case} (safe {safe}, polls {polls}, chunk seed {seed:#x}) failed")
         });
         // Every chunk ends at least one line.
         assert!(st.requests >= PER_CASE as u64, "case {case}: {st:?}");
-        total.requests += st.requests;
-        total.ok += st.ok;
-        total.err += st.err;
-        total.streams += st.streams;
-        total.aborted += st.aborted;
-        total.moves += st.moves;
+        total.add(&st);
     }
     println!("random byte streams: {CASES} cases × {PER_CASE} chunks: {total:?}");
     // Most random bytes make errors; enough make valid requests, streams and moves
@@ -1074,13 +564,13 @@ fn generators_reach_every_outcome() {
         if let Some(Kind::Err(c)) = s.line(&line) {
             codes.insert(c);
         }
-        s.finish_stream();
+        s.finish_stream(STREAM_CAP);
         // A refused `aim` streams its refusals and ends with the err.
         if let Some(Kind::Err(c)) = s.stream_end.take() {
             codes.insert(c);
         }
     }
-    let st = s.stats;
+    let st = s.reach;
     assert!(st.ok > 300 && st.err > 300, "{st:?}");
     assert!(st.streams > 50, "{st:?}");
     assert!(st.moves > 20, "no moves generated: {st:?}");

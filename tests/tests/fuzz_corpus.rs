@@ -29,10 +29,7 @@ fn every_committed_seed_passes_the_targets_checks() {
         println!("{}: {r:?}", f.file_name().unwrap().to_string_lossy());
         // A seed exists to lead the fuzzer somewhere: each answers requests.
         assert!(r.requests > 0, "{}: reaches no request", f.display());
-        total.requests += r.requests;
-        total.ok += r.ok;
-        total.streams += r.streams;
-        total.moves += r.moves;
+        total.add(&r);
     }
     println!("{} seeds: {total:?}", files.len());
     // Together they reach answers of both kinds, streams and motion.

@@ -55,6 +55,7 @@ use matterwave_core::console::sim::{SimDetector, SimInterlock};
 use matterwave_core::console::{AxisDriver, AxisFault, Console, FaultKind};
 use matterwave_core::goniometer::axis_index;
 use matterwave_core::AxisId;
+use matterwave_tests::Rng;
 
 /// Sessions per test, and random steps per session.
 const SESSIONS: u64 = 64;
@@ -169,44 +170,6 @@ impl AxisDriver for World {
 
 type Con = Console<World, SimDetector, SimInterlock>;
 
-/// xorshift64* (the suite's own generator: fixed seeds, reproducible failures).
-struct Rng(u64);
-
-impl Rng {
-    fn next(&mut self) -> u64 {
-        let mut x = self.0;
-        x ^= x >> 12;
-        x ^= x << 25;
-        x ^= x >> 27;
-        self.0 = x;
-        x.wrapping_mul(0x2545_F491_4F6C_DD1D)
-    }
-    fn below(&mut self, n: usize) -> usize {
-        (self.next() >> 33) as usize % n
-    }
-    fn unit(&mut self) -> f64 {
-        (self.next() >> 11) as f64 / (1u64 << 53) as f64
-    }
-    fn range(&mut self, lo: f64, hi: f64) -> f64 {
-        lo + (hi - lo) * self.unit()
-    }
-    fn pick<'a>(&mut self, xs: &[&'a str]) -> &'a str {
-        xs[self.below(xs.len())]
-    }
-    /// Index by weights.
-    fn weighted(&mut self, w: &[u32]) -> usize {
-        let total: u32 = w.iter().sum();
-        let mut r = (self.next() >> 33) as u32 % total;
-        for (i, &x) in w.iter().enumerate() {
-            if r < x {
-                return i;
-            }
-            r -= x;
-        }
-        w.len() - 1
-    }
-}
-
 /// What the suite saw, for the coverage asserts and the printout.
 #[derive(Default, Debug, Clone, Copy)]
 struct Stats {
@@ -282,7 +245,7 @@ impl Session {
         c.forget_positions();
         let mut s = Session {
             c,
-            rng: Rng(seed.wrapping_mul(0x9E37_79B9_7F4A_7C15) | 1),
+            rng: Rng::seeded(seed),
             stats: Stats::default(),
             listed: Vec::new(),
             history: Vec::new(),
@@ -615,7 +578,7 @@ impl Session {
                     0 => format!("axis name={name} backlash_deg={:.3}", r.range(0.0, 2.0)),
                     1 => format!(
                         "axis name={name} approach={}",
-                        r.pick(&["from-below", "from-above"])
+                        r.select(&["from-below", "from-above"])
                     ),
                     _ => format!("axis name={name} max_speed_deg_s={:.1}", r.range(1.0, 30.0)),
                 }
@@ -631,9 +594,9 @@ impl Session {
                 ),
                 4 => format!(
                     "set azimuth={}",
-                    r.pick(&["free", "free", "0", "30", "-45", "90"])
+                    r.select(&["free", "free", "0", "30", "-45", "90"])
                 ),
-                _ => format!("set branch={}", r.pick(&["nearest", "+1", "-1"])),
+                _ => format!("set branch={}", r.select(&["nearest", "+1", "-1"])),
             },
             12 => {
                 // The interlock opens (a door, the vacuum); it closes again a few steps
@@ -642,7 +605,7 @@ impl Session {
                 return;
             }
             13 => r
-                .pick(&["pos", "status", "get", "hello", "axis name=arm"])
+                .select(&["pos", "status", "get", "hello", "axis name=arm"])
                 .to_string(),
             14 => match r.below(3) {
                 0 => {
@@ -681,7 +644,7 @@ impl Session {
                 return;
             }
             _ => r
-                .pick(&[
+                .select(&[
                     "move arm=nan",
                     "move sol=-1",
                     "move",

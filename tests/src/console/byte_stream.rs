@@ -1,5 +1,9 @@
-//! The checks of the fuzz target `console_bytes` (`fuzz/fuzz_targets/console_bytes.rs`,
-//! which calls [`run`]): the raw input is a byte stream on the serial console of a fresh
+//! The one checking harness for byte streams on the console: a [`Session`] feeds bytes
+//! to a simulated controller on recording axes and checks every reply and motion. The
+//! fuzz target `console_bytes` (`fuzz/fuzz_targets/console_bytes.rs`) calls [`run`];
+//! the property tests (`tests/tests/console_props.rs`) drive a [`Session`] directly.
+//!
+//! For [`run`], the raw input is a byte stream on the serial console of a fresh
 //! simulated controller (`matterwave_core::console`, feature `sim`).
 //!
 //! The first byte configures the run; the rest is fed byte by byte:
@@ -28,29 +32,47 @@
 //!    (it latches: motion needs a new `enable`);
 //! 7. every motion the console starts is enabled, interlock-safe, lands on an allowed
 //!    angle (inside the limits, outside every forbidden zone) and its path, including
-//!    the backlash turn-round, misses every zone that does not contain the start
-//!    (independent interval checks, not `AxisConfig::check_angle` or `check_path`); no
-//!    axis moves except through a started motion or a declared position (`home`, which only an `ok` request makes, with motion disabled).
+//!    the backlash turn-round, stays within the limits (from beyond one, only back
+//!    toward it), misses every zone that does not contain the start and leaves one that
+//!    does only through its nearer edge (independent interval checks, not
+//!    `AxisConfig::check_angle` or `check_path`); no axis moves except through a
+//!    started motion or a declared position (`home`, which only an `ok` request makes,
+//!    with motion disabled).
 
 use super::{crc16_ref, rec_console, Event, LineModel, RecConsole};
 use matterwave_core::axis::AxisConfig;
 use matterwave_core::console::controller::MAX_REPLY;
-use matterwave_core::console::crc;
 use matterwave_core::console::Settings;
 use matterwave_core::goniometer::axis_index;
 use matterwave_core::AxisId;
 
-/// What one input reached: final lines by kind, streams, motions.
+/// What a session reached: final lines by kind, streams, motions.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
 pub struct Reach {
-    /// Requests answered (final lines other than a stream's end).
-    pub requests: u32,
-    /// Of those, answered `ok`.
-    pub ok: u32,
+    /// Requests answered (a streaming request by its stream's final line).
+    pub requests: u64,
+    /// Final lines `ok`.
+    pub ok: u64,
+    /// Final lines `err`.
+    pub err: u64,
     /// Streams started.
-    pub streams: u32,
+    pub streams: u64,
+    /// Streams ended by `stop`.
+    pub aborted: u64,
     /// Requests that started motion.
-    pub moves: u32,
+    pub moves: u64,
+}
+
+impl Reach {
+    /// Adds `other`'s counts to these.
+    pub fn add(&mut self, other: &Reach) {
+        self.requests += other.requests;
+        self.ok += other.ok;
+        self.err += other.err;
+        self.streams += other.streams;
+        self.aborted += other.aborted;
+        self.moves += other.moves;
+    }
 }
 
 /// Polls allowed after each byte, by configuration bits 3–4.
@@ -59,60 +81,51 @@ const POLL_BUDGETS: [u32; 4] = [0, 1, 3, 10_000];
 /// Polls allowed at the end of input before the stream is stopped instead.
 const FINAL_POLLS: u32 = 10_000;
 
-type Con = RecConsole;
-
 /// The shape of one reply line.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
-enum Kind {
+pub enum Kind {
+    /// `ok …`.
     Ok,
+    /// `err NNN …`.
     Err(u16),
+    /// `- …`.
     Item,
-}
-
-impl Kind {
-    fn is_final(self) -> bool {
-        self != Kind::Item
-    }
 }
 
 /// Splits `out` into lines and checks each (invariants 2 and 3); `crc` is whether the
 /// lines must carry a checksum.
-fn lines(out: &[u8], crc: bool) -> Vec<Kind> {
+pub fn reply_lines(out: &[u8], crc: bool) -> Vec<(Kind, String)> {
     if out.is_empty() {
         return Vec::new();
     }
     assert_eq!(out.last(), Some(&b'\n'), "reply not LF-terminated: {out:?}");
-    let mut kinds = Vec::new();
+    let mut v = Vec::new();
     for line in out[..out.len() - 1].split(|&b| b == b'\n') {
-        let text = String::from_utf8_lossy(line);
+        let text = String::from_utf8_lossy(line).into_owned();
         assert!(
             line.len() <= MAX_REPLY,
-            "reply longer than {MAX_REPLY}: {text}"
+            "reply over {MAX_REPLY} bytes: {text}"
         );
         assert!(
             line.iter().all(|b| (0x20..=0x7E).contains(b)),
             "reply not printable ASCII: {text:?}"
         );
         let content = if crc {
-            assert!(line.len() >= 5, "reply without checksum: {text}");
+            assert!(line.len() > 5, "reply lacks its checksum: {text}");
             let (content, suffix) = line.split_at(line.len() - 5);
             let want = format!("*{:04X}", crc16_ref(content));
-            assert_eq!(suffix, want.as_bytes(), "bad reply checksum: {text}");
+            assert_eq!(suffix, want.as_bytes(), "reply checksum wrong: {text}");
             content
         } else {
             line
         };
-        assert!(
-            !content.contains(&b'*'),
-            "stray * or unexpected checksum: {text}"
-        );
-        kinds.push(kind(content));
+        assert!(!content.contains(&b'*'), "unexpected checksum or *: {text}");
+        v.push((kind(content, &text), text));
     }
-    kinds
+    v
 }
 
-fn kind(content: &[u8]) -> Kind {
-    let text = String::from_utf8_lossy(content);
+fn kind(content: &[u8], text: &str) -> Kind {
     if content == b"ok" || content.starts_with(b"ok ") {
         Kind::Ok
     } else if content.starts_with(b"- ") && content.len() > 2 {
@@ -122,14 +135,11 @@ fn kind(content: &[u8]) -> Kind {
             rest.len() > 4 && rest[..3].iter().all(u8::is_ascii_digit) && rest[3] == b' ',
             "malformed err line: {text}"
         );
-        let code = std::str::from_utf8(&rest[..3]).unwrap().parse().unwrap();
-        assert!(
-            (100..500).contains(&code),
-            "err code outside 1xx–4xx: {text}"
-        );
+        let code: u16 = std::str::from_utf8(&rest[..3]).unwrap().parse().unwrap();
+        assert!((100..500).contains(&code), "code outside 1xx-4xx: {text}");
         Kind::Err(code)
     } else {
-        panic!("reply of unknown shape: {text}")
+        panic!("reply of unknown shape: {text}");
     }
 }
 
@@ -141,22 +151,14 @@ struct State {
     steps: [i32; 4],
 }
 
-fn state(c: &mut Con) -> State {
-    State {
-        settings: *c.settings(),
-        enabled: c.enabled(),
-        steps: c.axes.sim.steps,
-    }
-}
-
 /// Angle tolerance of the independent zone and limit check, degrees (f32 rounding at
 /// zone edges; a step of the default rig is 0.001 deg).
 const EPS: f64 = 1e-4;
 
 /// Whether `x` lies inside zone [from, to] (any 360 deg copy on a wrapping axis),
-/// widened by `EPS` on each side.
-fn in_zone(from: f64, to: f64, x: f64, wrap: bool) -> bool {
-    let (from, to) = (from - EPS, to + EPS);
+/// widened by `pad` degrees on each side.
+fn in_zone(from: f64, to: f64, x: f64, wrap: bool, pad: f64) -> bool {
+    let (from, to) = (from - pad, to + pad);
     if !wrap {
         return x >= from && x <= to;
     }
@@ -164,8 +166,8 @@ fn in_zone(from: f64, to: f64, x: f64, wrap: bool) -> bool {
     x <= to + 360.0 * k
 }
 
-/// Whether [lo, hi] meets the interior of zone [from, to] (any 360 deg copy on a
-/// wrapping axis), narrowed by `EPS`.
+/// Whether the closed interval [lo, hi] meets the interior of zone [from, to] (any
+/// 360 deg copy on a wrapping axis), narrowed by `EPS`.
 fn meets_zone(from: f64, to: f64, lo: f64, hi: f64, wrap: bool) -> bool {
     let (from, to) = (from + EPS, to - EPS);
     if from > to {
@@ -178,142 +180,228 @@ fn meets_zone(from: f64, to: f64, lo: f64, hi: f64, wrap: bool) -> bool {
     from + 360.0 * k <= hi
 }
 
-/// Independent check of one leg `from` -> `to` (degrees), not using `check_path`:
-/// inside the limits unless the axis starts beyond one (it may be driven back) or
-/// wraps; clear of every zone that does not contain the start.
+/// Independent check of one leg of a motion, `from` -> `to` degrees: inside the limits
+/// (unless wrap; from beyond a limit only back toward it), clear of the interior of
+/// every zone that does not contain the start, and out of a zone that does contain it
+/// only through its nearer edge, without reaching its next 360 deg copy.
 fn leg_ok(cfg: &AxisConfig, from: f64, to: f64) -> Result<(), String> {
     let (lo, hi) = (from.min(to), from.max(to));
     let (min, max) = (f64::from(cfg.min_deg), f64::from(cfg.max_deg));
-    let start_inside = from >= min - EPS && from <= max + EPS;
-    if !cfg.wrap && start_inside && (lo < min - EPS || hi > max + EPS) {
-        return Err(format!("path {from}..{to} leaves the limits {min}..{max}"));
+    if !cfg.wrap {
+        let inside = if from > max + EPS {
+            to <= from && lo >= min - EPS
+        } else if from < min - EPS {
+            to >= from && hi <= max + EPS
+        } else {
+            lo >= min - EPS && hi <= max + EPS
+        };
+        if !inside {
+            return Err(format!("path {from}..{to} leaves limits {min}..{max}"));
+        }
     }
     for z in cfg.zones.iter().flatten() {
         let (zf, zt) = (f64::from(z.from_deg), f64::from(z.to_deg));
-        if !in_zone(zf, zt, from, cfg.wrap) && meets_zone(zf, zt, lo, hi, cfg.wrap) {
-            return Err(format!("path {from}..{to} crosses the zone {zf}..{zt}"));
+        if in_zone(zf, zt, from, cfg.wrap, EPS) {
+            let (mut a, mut b) = (zf, zt);
+            if cfg.wrap {
+                let k = ((from - 0.5 * (a + b)) / 360.0).round();
+                a += 360.0 * k;
+                b += 360.0 * k;
+            }
+            let (below, above) = (from - a, b - from);
+            let out = (to <= from + EPS && below <= above + EPS)
+                || (to >= from - EPS && above <= below + EPS);
+            let next = cfg.wrap
+                && (meets_zone(a - 360.0, b - 360.0, lo, hi, false)
+                    || meets_zone(a + 360.0, b + 360.0, lo, hi, false));
+            if !out || next {
+                return Err(format!(
+                    "path {from}..{to} from inside zone {zf}..{zt} not by its nearer edge"
+                ));
+            }
+        } else if meets_zone(zf, zt, lo, hi, cfg.wrap) {
+            return Err(format!("path {from}..{to} crosses zone {zf}..{zt}"));
         }
     }
     Ok(())
 }
 
-/// Invariant 7 for the motions started since `before`; whether any started.
-fn check_motion(c: &mut Con, before: &State, answered_ok: bool) -> bool {
-    let starts = core::mem::take(&mut c.axes.starts);
-    let rig = c.settings().rig;
-    if !starts.is_empty() {
-        assert!(
-            answered_ok,
-            "motion started by a failed request: {starts:?}"
-        );
-        assert!(before.enabled, "motion while disabled: {starts:?}");
-        assert!(
-            c.interlock.safe,
-            "motion with the interlock open: {starts:?}"
-        );
+/// Independent check of where a motion ends, not using `check_angle`: inside the limits
+/// (unless wrap) and outside every zone (narrowed by `EPS` for f32 rounding at edges).
+fn landing_ok(cfg: &AxisConfig, x: f64) -> Result<(), String> {
+    let (min, max) = (f64::from(cfg.min_deg), f64::from(cfg.max_deg));
+    if !cfg.wrap && (x < min - EPS || x > max + EPS) {
+        return Err(format!("{x} deg beyond the limits {min}..{max}"));
     }
-    for &(id, from, via, target) in &starts {
-        let cfg = rig.axis(id).expect("motion of an axis the rig lacks");
-        let deg = |s: i32| f64::from(cfg.steps_to_deg(s));
-        // Where it lands, independently of `check_angle`: inside the limits (unless
-        // wrap), outside every zone.
-        let t = deg(target);
-        let (min, max) = (f64::from(cfg.min_deg), f64::from(cfg.max_deg));
-        assert!(
-            cfg.wrap || (t >= min - EPS && t <= max + EPS),
-            "{id:?} sent to {target} steps = {t} deg, beyond the limits {min}..{max}"
-        );
-        for z in cfg.zones.iter().flatten() {
-            let (zf, zt) = (f64::from(z.from_deg), f64::from(z.to_deg));
-            assert!(
-                !in_zone(zf + 2.0 * EPS, zt - 2.0 * EPS, t, cfg.wrap),
-                "{id:?} sent to {target} steps = {t} deg, inside the zone {zf}..{zt}"
-            );
-        }
-        let legs = match via {
-            Some(v) => {
-                let a = deg(v);
-                assert!(
-                    cfg.wrap
-                        || (a >= f64::from(cfg.min_deg) - EPS && a <= f64::from(cfg.max_deg) + EPS),
-                    "{id:?} turn-round at {a} deg beyond the limits"
-                );
-                vec![(from, v), (v, target)]
-            }
-            None => vec![(from, target)],
-        };
-        for (a, b) in legs {
-            if let Err(e) = leg_ok(cfg, deg(a), deg(b)) {
-                panic!("{id:?}: {e}");
-            }
+    for z in cfg.zones.iter().flatten() {
+        let (zf, zt) = (f64::from(z.from_deg), f64::from(z.to_deg));
+        if in_zone(zf, zt, x, cfg.wrap, -EPS) {
+            return Err(format!("{x} deg inside the zone {zf}..{zt}"));
         }
     }
-    let declared = core::mem::take(&mut c.axes.declared);
-    if !declared.is_empty() {
-        assert!(answered_ok, "position declared by a failed request");
-        assert!(!before.enabled, "position declared while enabled");
-    }
-    for id in AxisId::ALL {
-        let i = axis_index(id);
-        if c.axes.sim.steps[i] != before.steps[i] {
-            assert!(
-                starts.iter().any(|s| s.0 == id) || declared.contains(&id),
-                "{id:?} moved without a start or a declared position"
-            );
-        }
-    }
-    !starts.is_empty()
+    Ok(())
 }
 
-/// A fuzzed session: the console, the line model and the running stream's checksum flag.
-struct Session {
-    c: Con,
+/// `Some((body, true))` for a valid checksum, `Some((line, false))` for a malformed or
+/// wrong one (the reply still carries a checksum: the line contains `*`), `None` for a
+/// line without `*`. Checked with the independent [`crc16_ref`].
+fn split_crc(line: &str) -> Option<(&str, bool)> {
+    let star = line.find('*')?;
+    let (body, suffix) = line.split_at(star);
+    let ok = suffix.len() == 5
+        && suffix[1..].bytes().all(|b| b.is_ascii_hexdigit())
+        && u16::from_str_radix(&suffix[1..], 16).ok() == Some(crc16_ref(body.as_bytes()));
+    Some(if ok { (body, true) } else { (line, false) })
+}
+
+/// The command word of a line with a valid (or no) checksum.
+fn word(line: &str) -> Option<&str> {
+    let body = match split_crc(line) {
+        None => line,
+        Some((body, true)) => body,
+        Some((_, false)) => return None,
+    };
+    body.split([' ', '\t']).find(|t| !t.is_empty())
+}
+
+/// Whether a request line is a well-formed `stop` with no arguments.
+fn is_stop(line: &str) -> bool {
+    let body = match split_crc(line) {
+        None => line,
+        Some((body, true)) => body,
+        Some((_, false)) => return false,
+    };
+    let mut t = body.split([' ', '\t']).filter(|t| !t.is_empty());
+    t.next() == Some("stop") && t.next().is_none()
+}
+
+/// A console session under test: the console on recording axes, the line model and
+/// the bookkeeping; every byte fed and every poll is checked (the invariants above).
+pub struct Session {
+    /// The console.
+    pub c: RecConsole,
     model: LineModel,
     out: Vec<u8>,
     stream_crc: bool,
-    /// Whether the running stream is an `aim`'s: a refused aim streams its refusals and
-    /// ends with the `err`.
+    /// Whether the running stream is an `aim`'s (which may end with `err`).
     stream_aim: bool,
-    reach: Reach,
+    /// The `err` a refused `aim`'s stream ended with, until taken.
+    pub stream_end: Option<Kind>,
+    /// The input being fed, for failure messages.
+    pub last_input: Vec<u8>,
+    /// What the session reached so far.
+    pub reach: Reach,
 }
 
 impl Session {
-    /// Whether a request line carries (or claims) a checksum, so replies do too.
-    fn request_crc(line: &str) -> bool {
-        match crc::verify(line) {
-            Ok((_, on)) => on,
-            Err(_) => line.contains('*'),
+    /// A fresh console with the interlock `safe` or open.
+    pub fn new(safe: bool) -> Session {
+        Session {
+            c: rec_console(safe),
+            model: LineModel::default(),
+            out: Vec::new(),
+            stream_crc: false,
+            stream_aim: false,
+            stream_end: None,
+            last_input: Vec::new(),
+            reach: Reach::default(),
         }
     }
 
-    /// The command word of a line with a valid (or no) checksum.
-    fn word(line: &str) -> Option<&str> {
-        match crc::verify(line) {
-            Ok((body, _)) => body.split([' ', '\t']).find(|t| !t.is_empty()),
-            Err(_) => None,
+    fn state(&mut self) -> State {
+        State {
+            settings: *self.c.settings(),
+            enabled: self.c.enabled(),
+            steps: self.c.axes.sim.steps,
         }
     }
 
-    /// Whether a line is a valid `stop` with no arguments.
-    fn is_stop(line: &str) -> bool {
-        match crc::verify(line) {
-            Ok((body, _)) => {
-                let mut t = body.split([' ', '\t']).filter(|t| !t.is_empty());
-                t.next() == Some("stop") && t.next().is_none()
+    /// Invariant 7 for the motions started since `before`; counts a request that moved.
+    fn check_motion(&mut self, before: &State, answered_ok: bool, what: &str) {
+        let starts = std::mem::take(&mut self.c.axes.starts);
+        let declared = std::mem::take(&mut self.c.axes.declared);
+        let rig = self.c.settings().rig;
+        if !starts.is_empty() {
+            assert!(answered_ok, "motion by a request not answered ok: {what}");
+            assert!(before.enabled, "motion while disabled: {what}");
+            assert!(
+                self.c.interlock.safe,
+                "motion with the interlock open: {what}"
+            );
+            self.reach.moves += 1;
+        }
+        if !declared.is_empty() {
+            assert!(answered_ok, "position declared by a failed request: {what}");
+            assert!(!before.enabled, "position declared while enabled: {what}");
+        }
+        for &(id, from, via, target) in &starts {
+            let cfg = rig
+                .axis(id)
+                .unwrap_or_else(|_| panic!("motion of missing axis {id:?}: {what}"));
+            let deg = |s: i32| f64::from(cfg.steps_to_deg(s));
+            if let Err(e) = landing_ok(cfg, deg(target)) {
+                panic!("{id:?} sent to {target} steps: {e}: {what}");
             }
-            Err(_) => false,
+            let legs: Vec<(i32, i32)> = match via {
+                Some(v) => {
+                    let a = deg(v);
+                    let lim = cfg.wrap
+                        || (a >= f64::from(cfg.min_deg) - EPS && a <= f64::from(cfg.max_deg) + EPS);
+                    assert!(lim, "{id:?} turn-round at {a} deg beyond limits: {what}");
+                    vec![(from, v), (v, target)]
+                }
+                None => vec![(from, target)],
+            };
+            for (a, b) in legs {
+                if let Err(e) = leg_ok(cfg, deg(a), deg(b)) {
+                    panic!("{id:?}: {e}: {what}");
+                }
+            }
+        }
+        for id in AxisId::ALL {
+            let i = axis_index(id);
+            if self.c.axes.sim.steps[i] != before.steps[i] {
+                assert!(
+                    starts.iter().any(|s| s.0 == id) || declared.contains(&id),
+                    "{id:?} moved without a start or a declared position: {what}"
+                );
+            }
         }
     }
 
-    fn push(&mut self, b: u8) {
+    /// Feeds one byte and checks what it caused. Returns the final line's kind when the
+    /// byte completed a request answered at once.
+    pub fn push(&mut self, b: u8) -> Option<Kind> {
+        if b != b'\n' && b != b'\r' {
+            // Only a line end completes a request: any other byte writes nothing and
+            // changes nothing visible (checked cheaply: this runs for every byte).
+            let (streaming, steps) = (self.c.streaming(), self.c.axes.sim.steps);
+            self.out.clear();
+            self.c
+                .push(b, &mut self.out)
+                .expect("writing a reply failed");
+            assert!(self.model.push(b).is_none());
+            assert!(
+                self.out.is_empty(),
+                "reply before the line end: {:?}",
+                self.out
+            );
+            assert!(self.c.axes.starts.is_empty() && self.c.axes.declared.is_empty());
+            assert!(steps == self.c.axes.sim.steps && streaming == self.c.streaming());
+            return None;
+        }
         let was_streaming = self.c.streaming();
-        let before = state(&mut self.c);
+        let before = self.state();
         self.out.clear();
         self.c
             .push(b, &mut self.out)
             .expect("writing a reply failed");
         let ev = self.model.push(b);
-        let mut answered_ok = false;
+        let mut answered = None;
+        let what = format!(
+            "{ev:?} (input {:?})",
+            String::from_utf8_lossy(&self.last_input)
+        );
         match ev {
             None | Some(Event::Blank) => {
                 assert!(
@@ -324,102 +412,156 @@ impl Session {
                 assert_eq!(was_streaming, self.c.streaming());
             }
             Some(Event::TooLong) | Some(Event::BadByte) => {
-                let want = if matches!(ev, Some(Event::TooLong)) {
+                let code = if matches!(ev, Some(Event::TooLong)) {
                     400
                 } else {
                     401
                 };
-                assert_eq!(lines(&self.out, false), [Kind::Err(want)]);
-                self.reach.requests += 1;
+                let k = reply_lines(&self.out, false);
+                assert_eq!(k.len(), 1, "one final line: {k:?}");
+                assert_eq!(k[0].0, Kind::Err(code), "{what}: {}", k[0].1);
                 assert_eq!(was_streaming, self.c.streaming());
-                assert_eq!(before, state(&mut self.c), "rejected line changed state");
+                assert_eq!(before, self.state(), "rejected line changed state");
+                self.reach.requests += 1;
+                self.reach.err += 1;
+                answered = Some(k[0].0);
             }
-            Some(Event::Line(line)) => {
-                let crc_on = Self::request_crc(&line);
-                if was_streaming && Self::is_stop(&line) {
+            Some(Event::Line(ref line)) => {
+                self.reach.requests += 1;
+                // Replies carry a checksum when the request has one, valid or not (a
+                // malformed or wrong one is answered `err 402` with a checksum).
+                let crc_on = split_crc(line).is_some();
+                if was_streaming && is_stop(line) {
                     // The stream's final line, then stop's own answer.
                     let text = self.out.clone();
-                    let n = text
-                        .iter()
-                        .position(|&b| b == b'\n')
-                        .expect("no stream end");
-                    assert_eq!(lines(&text[..=n], self.stream_crc), [Kind::Err(411)]);
-                    assert_eq!(lines(&text[n + 1..], crc_on), [Kind::Ok]);
+                    let n = text.iter().position(|&b| b == b'\n').expect("stream end");
+                    let end = reply_lines(&text[..=n], self.stream_crc);
+                    let own = reply_lines(&text[n + 1..], crc_on);
+                    assert_eq!(end.len(), 1);
+                    assert_eq!(end[0].0, Kind::Err(411), "{line}");
+                    assert_eq!(own.len(), 1);
+                    assert_eq!(own[0].0, Kind::Ok, "{line}");
                     assert!(!self.c.streaming(), "stop left the stream running");
+                    // `stop` latches: motion is disabled until a new `enable`;
+                    // nothing else changes.
                     let mut want = before;
                     want.enabled = false;
-                    assert_eq!(want, state(&mut self.c), "stop changed more than `enabled`");
-                    self.reach.requests += 1;
+                    assert_eq!(want, self.state(), "stop changed more than `enabled`");
+                    self.reach.aborted += 1;
                     self.reach.ok += 1;
+                    answered = Some(Kind::Ok);
                 } else if was_streaming {
-                    let k = lines(&self.out, crc_on);
-                    assert_eq!(k.len(), 1, "one final line per request: {k:?}");
-                    assert!(matches!(k[0], Kind::Err(_)), "request accepted mid-stream");
-                    assert!(self.c.streaming(), "a request ended the stream");
-                    assert_eq!(before, state(&mut self.c), "busy request changed state");
-                    self.reach.requests += 1;
+                    let k = reply_lines(&self.out, crc_on);
+                    assert_eq!(k.len(), 1, "one final line per request: {k:?}: {line}");
+                    assert!(
+                        matches!(k[0].0, Kind::Err(_)),
+                        "accepted mid-stream: {line}"
+                    );
+                    assert!(self.c.streaming(), "a request ended the stream: {line}");
+                    assert_eq!(before, self.state(), "busy request changed state: {line}");
+                    self.reach.err += 1;
+                    answered = Some(k[0].0);
                 } else if self.c.streaming() {
-                    assert!(self.out.is_empty(), "stream start wrote output");
+                    assert!(self.out.is_empty(), "stream start wrote output: {line}");
                     self.stream_crc = crc_on;
-                    self.stream_aim = Self::word(&line) == Some("aim");
+                    self.stream_aim = word(line) == Some("aim");
                     self.reach.streams += 1;
                 } else {
-                    let k = lines(&self.out, crc_on);
+                    let k = reply_lines(&self.out, crc_on);
                     assert_eq!(k.len(), 1, "one final line per request, got {k:?}: {line}");
-                    assert!(k[0].is_final(), "item without a stream: {line}");
-                    answered_ok = k[0] == Kind::Ok;
-                    self.reach.requests += 1;
-                    self.reach.ok += u32::from(answered_ok);
-                    if let Kind::Err(code) = k[0] {
-                        assert_ne!(code, 411, "411 without a stream");
+                    assert_ne!(k[0].0, Kind::Item, "item without a stream: {line}");
+                    if let Kind::Err(code) = k[0].0 {
+                        assert_ne!(code, 411, "411 without a stream: {line}");
                         assert_eq!(
                             before,
-                            state(&mut self.c),
-                            "failed request changed state: {line}"
+                            self.state(),
+                            "failed request changed state: {line} -> {}",
+                            k[0].1
                         );
+                        self.reach.err += 1;
+                    } else {
+                        self.reach.ok += 1;
                     }
+                    answered = Some(k[0].0);
                 }
             }
         }
-        if check_motion(&mut self.c, &before, answered_ok) {
-            self.reach.moves += 1;
-        }
+        self.check_motion(&before, answered == Some(Kind::Ok), &what);
+        answered
     }
 
-    /// Polls up to `budget` times; false if the stream is still running.
-    fn poll(&mut self, budget: u32) -> bool {
+    /// Polls at most `budget` times; true when no stream is running afterwards.
+    pub fn poll(&mut self, budget: u32) -> bool {
         for _ in 0..budget {
             if !self.c.streaming() {
-                return true;
+                break;
             }
-            let before = state(&mut self.c);
+            let before = self.state();
             self.out.clear();
             let more = self
                 .c
                 .poll(&mut self.out)
                 .expect("writing a stream line failed");
-            let k = lines(&self.out, self.stream_crc);
+            let k = reply_lines(&self.out, self.stream_crc);
             assert_eq!(k.len(), 1, "a poll writes one line: {k:?}");
             if more {
-                assert_eq!(k[0], Kind::Item);
+                assert_eq!(k[0].0, Kind::Item, "{}", k[0].1);
                 assert!(self.c.streaming());
-            } else {
-                // Streams end with ok; only a refused aim's ends with its err.
-                assert!(
-                    k[0] == Kind::Ok || (self.stream_aim && matches!(k[0], Kind::Err(_))),
-                    "a stream ended with {:?}",
-                    k[0]
-                );
-                assert_ne!(k[0], Kind::Err(411), "411 without a stop");
+            } else if matches!(k[0].0, Kind::Err(_)) {
+                // Only a refused `aim` ends its stream (of `- refused` items) with `err`.
+                assert!(self.stream_aim, "a stream ended with err: {}", k[0].1);
+                assert_ne!(k[0].0, Kind::Err(411), "411 without a stop");
                 assert!(!self.c.streaming());
+                self.reach.err += 1;
+                self.stream_end = Some(k[0].0);
+            } else {
+                assert_eq!(k[0].0, Kind::Ok, "a stream ends with ok: {}", k[0].1);
+                assert!(!self.c.streaming());
+                self.reach.ok += 1;
             }
-            assert_eq!(before, state(&mut self.c), "a stream changed state");
-            assert!(
-                !check_motion(&mut self.c, &before, false),
-                "a stream started motion"
-            );
+            assert_eq!(before, self.state(), "a stream line changed state");
+            self.check_motion(&before, false, "poll");
         }
         !self.c.streaming()
+    }
+
+    /// Ends any running stream: polled out within `cap` polls, else stopped.
+    pub fn finish_stream(&mut self, cap: u32) {
+        if !self.poll(cap) {
+            for &b in b"\nstop\n" {
+                self.push(b);
+            }
+            assert!(!self.c.streaming(), "stop did not end the stream");
+        }
+    }
+
+    /// Feeds a whole line (with its terminator); returns the kind of the final line it
+    /// got at once (`None` when it started a stream: poll or `finish_stream` next).
+    pub fn line(&mut self, bytes: &[u8]) -> Option<Kind> {
+        let mut last = None;
+        for &b in bytes {
+            if let Some(k) = self.push(b) {
+                last = Some(k);
+            }
+        }
+        last
+    }
+
+    /// The `solutions=` and `points=` fields of `status` (buffers `err` must not touch);
+    /// the `status` request itself is not counted.
+    pub fn buffers(&mut self) -> (String, String) {
+        let was = self.reach;
+        assert_eq!(self.line(b"status\n"), Some(Kind::Ok));
+        // `push` left status's own reply in `out`.
+        let text = String::from_utf8(self.out.clone()).unwrap();
+        self.reach = was;
+        let field = |k: &str| {
+            text.split([' ', '\n'])
+                .find_map(|t| t.strip_prefix(k))
+                .unwrap_or_else(|| panic!("status lacks {k}: {text}"))
+                .to_string()
+        };
+        (field("solutions="), field("points="))
     }
 }
 
@@ -431,14 +573,7 @@ pub fn run(data: &[u8]) -> Reach {
     };
     let safe = config & 0b111 != 0;
     let budget = POLL_BUDGETS[usize::from((config >> 3) & 0b11)];
-    let mut s = Session {
-        c: rec_console(safe),
-        model: LineModel::default(),
-        out: Vec::new(),
-        stream_crc: false,
-        stream_aim: false,
-        reach: Reach::default(),
-    };
+    let mut s = Session::new(safe);
     // An idle poll writes nothing.
     s.out.clear();
     assert_eq!(s.c.poll(&mut s.out).ok(), Some(false));
@@ -448,11 +583,6 @@ pub fn run(data: &[u8]) -> Reach {
         s.poll(budget);
     }
     // Every stream ends: polled out, or stopped (at the start of a fresh line).
-    if !s.poll(FINAL_POLLS) {
-        for &b in b"\nstop\n" {
-            s.push(b);
-        }
-        assert!(!s.c.streaming(), "stop did not end the stream");
-    }
+    s.finish_stream(FINAL_POLLS);
     s.reach
 }

@@ -9,7 +9,11 @@
 //!    (with `wrap=1` for a wrapping axis); home and limits; steps per degree, backlash,
 //!    approach and wrap; speed and acceleration; then the zones that are set, in slot
 //!    order;
-//! 3. the setting keys of [`SETTING_KEYS`], the acceptance among them.
+//! 3. the setting keys of [`SETTING_KEYS`] on three lines (the gun and inner potential;
+//!    crystal, face, tilt, azimuth, beam and branch; the acceptance), each of which fits
+//!    one request line with its checksum whatever the values
+//!    (`tests/tests/reply_lengths.rs` checks every dump line with every number at its
+//!    longest).
 //!
 //! Why each line is accepted (the checks of `AxisConfig::validate`): with the zones
 //! cleared only home, limits, wrap and the counter's reach relate the fields. At the

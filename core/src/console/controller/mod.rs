@@ -509,6 +509,9 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             refusals: &self.refusals,
         };
         let more = self.stream.step(&ctx, &mut rw);
+        // Defence only: no stream line of any configuration the console accepts
+        // outgrows MAX_REPLY (`tests/tests/reply_lengths.rs` checks every line shape
+        // with every number at its longest), so this item is never sent.
         if rw.overflowed() {
             rw.clear();
             rw.item().field_str("skipped", "too-long");
