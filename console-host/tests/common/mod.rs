@@ -1,4 +1,6 @@
 //! Helpers shared by the end-to-end tests of `mwctl`.
+// Each test binary uses some of the shared helpers, not all.
+#![allow(dead_code)]
 
 use std::process::Command;
 
