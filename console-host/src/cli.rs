@@ -121,6 +121,12 @@ pub enum Command {
         /// Reply no faster than a UART at this baud rate (8N1).
         #[arg(long, value_name = "BAUD")]
         baud: Option<u32>,
+        /// Inject a fault one time in N, at random from a fixed seed: flip:N (a bit of
+        /// a reply byte), drop:N (a reply line), garbage:N (a line of garbage before a
+        /// reply line), silent:N (a request missed); reset:N restarts the controller
+        /// after N requests. Repeat for several.
+        #[arg(long = "fault", value_name = "KIND:N")]
+        faults: Vec<String>,
     },
 }
 
@@ -471,9 +477,10 @@ pub fn run(cli: &Cli, out: &mut dyn std::io::Write) -> CliResult<()> {
             pty: _,
             for_s,
             baud,
+            faults,
         } => {
             no_csv(f, "serve")?;
-            crate::remote::serve_pty(*for_s, *baud, f == crate::output::Format::Json, out)?;
+            crate::remote::serve_pty(*for_s, *baud, faults, f == crate::output::Format::Json, out)?;
             return Ok(());
         }
         _ => {}

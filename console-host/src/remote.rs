@@ -254,13 +254,19 @@ pub fn talk(
 
 /// `mwctl serve --pty`: the simulated controller behind a pseudo-terminal. Prints the
 /// device path on the first line, then serves until `for_s` seconds have passed (or
-/// until interrupted).
+/// until interrupted), injecting the faults of `fault_specs` (`KIND:N`, see
+/// [`link::device::Faults`]).
 pub fn serve_pty(
     for_s: Option<f64>,
     baud: Option<u32>,
+    fault_specs: &[String],
     json: bool,
     out: &mut dyn Write,
 ) -> CliResult<()> {
+    let mut faults = link::device::Faults::default();
+    for f in fault_specs {
+        faults.add(f)?;
+    }
     let (mut master, slave) = serialport::TTYPort::pair()
         .map_err(|e| CliError::new(format!("serve --pty: no pseudo-terminal: {e}")))?;
     let path = slave
@@ -289,7 +295,7 @@ pub fn serve_pty(
     // The terminal side stays open here, so that clients may come and go.
     let _keep = slave;
     loop {
-        match link::device::serve(&mut console, &mut master, until, baud) {
+        match link::device::serve(&mut console, &mut master, until, baud, &faults) {
             Ok(()) => return Ok(()),
             // No client has the terminal open (EIO on Linux): wait for one.
             Err(e) if e.raw_os_error() == Some(5) => {

@@ -146,3 +146,88 @@ fn serve_pty_serves_any_serial_client() {
     let _ = server.kill();
     let _ = server.wait();
 }
+
+/// Starts `mwctl serve --pty` with `args`; returns it and its device path.
+fn serve_with(args: &[&str]) -> (std::process::Child, String) {
+    let mut server = mwctl()
+        .args(["serve", "--pty", "--for", "60"])
+        .args(args)
+        .stdout(Stdio::piped())
+        .spawn()
+        .expect("serve starts");
+    let mut first = String::new();
+    BufReader::new(server.stdout.take().expect("stdout"))
+        .read_line(&mut first)
+        .expect("device path");
+    (server, first.trim().to_string())
+}
+
+const IDEMPOTENT: &str = "set crystal=pt face=111 energy=140 tilt=8\nbeams\naim beam=1,0\nget tilt\nset crystal=w face=110 energy=85 tilt=4\nbeams\nplan kind=track from=60 to=160 step=20\n";
+
+#[test]
+fn a_faulty_line_loses_and_duplicates_nothing() {
+    let p = script("faulty", IDEMPOTENT);
+    let clean = mwctl().args(["run"]).arg(&p).output().expect("runs");
+    assert!(clean.status.success());
+    let (mut server, path) = serve_with(&[
+        "--fault",
+        "flip:20000",
+        "--fault",
+        "drop:300",
+        "--fault",
+        "garbage:200",
+        "--fault",
+        "silent:8",
+    ]);
+    let o = mwctl()
+        .args(["run", "--link", &format!("serial:{path}")])
+        .arg(&p)
+        .output()
+        .expect("client runs");
+    let _ = server.kill();
+    let _ = server.wait();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert_eq!(
+        String::from_utf8_lossy(&o.stdout),
+        String::from_utf8_lossy(&clean.stdout),
+        "every reply, once, as on a clean line"
+    );
+}
+
+#[test]
+fn a_controller_that_restarts_mid_session_is_reported() {
+    let p = script("restart", IDEMPOTENT);
+    let (mut server, path) = serve_with(&["--fault", "reset:5"]);
+    let o = mwctl()
+        .args(["run", "--link", &format!("serial:{path}")])
+        .arg(&p)
+        .output()
+        .expect("client runs");
+    let _ = server.kill();
+    let _ = server.wait();
+    assert_eq!(o.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(err.lines().count(), 1, "{err}");
+    assert!(
+        err.contains("the controller restarted during the session"),
+        "{err}"
+    );
+    // Nothing the restarted controller said from factory settings was taken for a
+    // reply to the script.
+    let out = String::from_utf8_lossy(&o.stdout);
+    assert!(!out.contains("crystal=cu"), "{out}");
+}
+
+#[test]
+fn a_bad_fault_option_says_what_is_accepted() {
+    let o = mwctl()
+        .args(["serve", "--pty", "--for", "1", "--fault", "melt:3"])
+        .output()
+        .expect("runs");
+    assert_eq!(o.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("--fault melt:3: give KIND:N") && err.contains("silent"),
+        "{err}"
+    );
+}

@@ -22,6 +22,98 @@ pub fn sim_console() -> CliResult<SimConsole> {
     .map_err(|e| CliError::core(e, "simulator start"))
 }
 
+/// Faults `mwctl serve --pty --fault KIND:N` injects into what the device does, each
+/// one time in N at random — from a fixed seed, so a run can be reproduced.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct Faults {
+    /// Flip one bit of a reply byte, one byte in N (`flip:N`).
+    pub flip_every: Option<u64>,
+    /// Drop a reply line, one line in N (`drop:N`).
+    pub drop_every: Option<u64>,
+    /// Send a line of garbage before a reply line, one in N (`garbage:N`).
+    pub garbage_every: Option<u64>,
+    /// Miss a request line, one in N: no reply, as if it never arrived (`silent:N`).
+    pub silent_every: Option<u64>,
+    /// Restart (factory settings, positions unknown) after N request lines (`reset:N`).
+    pub reset_after: Option<u64>,
+}
+
+impl Faults {
+    /// Reads `KIND:N` (`flip`, `drop`, `garbage`, `silent`, `reset`; N ≥ 1) into `self`.
+    pub fn add(&mut self, spec: &str) -> CliResult<()> {
+        let err = || {
+            CliError::new(format!(
+                "--fault {spec}: give KIND:N with N a whole number ≥ 1; kinds: flip (a bit of one reply byte in N), drop (one reply line in N), garbage (before one reply line in N), silent (one request in N missed), reset (restart after N requests)"
+            ))
+        };
+        let (kind, n) = spec.split_once(':').ok_or_else(err)?;
+        let n: u64 = n.parse().ok().filter(|&n| n >= 1).ok_or_else(err)?;
+        let slot = match kind {
+            "flip" => &mut self.flip_every,
+            "drop" => &mut self.drop_every,
+            "garbage" => &mut self.garbage_every,
+            "silent" => &mut self.silent_every,
+            "reset" => &mut self.reset_after,
+            _ => return Err(err()),
+        };
+        *slot = Some(n);
+        Ok(())
+    }
+}
+
+/// Counters of the fault injection.
+#[derive(Default)]
+struct Injector {
+    /// xorshift64 state (fixed seed).
+    rng: u64,
+    requests: u64,
+    /// Dropping the rest of the current reply line.
+    dropping: bool,
+    /// Missing the rest of the current request line.
+    missing: bool,
+    /// The next request byte starts a line.
+    at_request_start: bool,
+    /// The next reply byte starts a line.
+    at_reply_start: bool,
+}
+
+impl Injector {
+    /// True one time in `n` (never for `None`).
+    fn one_in(&mut self, n: Option<u64>) -> bool {
+        let Some(n) = n else { return false };
+        let mut x = self.rng;
+        x ^= x << 13;
+        x ^= x >> 7;
+        x ^= x << 17;
+        self.rng = x;
+        x.is_multiple_of(n)
+    }
+
+    /// What the device sends, after the faults.
+    fn reply(&mut self, f: &Faults, reply: &[u8], out: &mut Vec<u8>) {
+        for &b in reply {
+            if self.at_reply_start && b != b'\n' {
+                self.at_reply_start = false;
+                if self.one_in(f.garbage_every) {
+                    out.extend_from_slice(b"\x07~#garbage%%\r\n");
+                }
+                self.dropping = self.one_in(f.drop_every);
+            }
+            let mut x = b;
+            if self.one_in(f.flip_every) && b != b'\n' {
+                x ^= 0x02;
+            }
+            if !self.dropping {
+                out.push(x);
+            }
+            if b == b'\n' {
+                self.dropping = false;
+                self.at_reply_start = true;
+            }
+        }
+    }
+}
+
 /// Serves `console` on `port` until `until` has passed (or forever), the peer hangs up,
 /// or the port fails. With `throttle_baud`, replies leave no faster than a UART at
 /// that rate (8N1) would send them.
@@ -30,9 +122,17 @@ pub fn serve<P: serialport::SerialPort + ?Sized>(
     port: &mut P,
     until: Option<Instant>,
     throttle_baud: Option<u32>,
+    faults: &Faults,
 ) -> io::Result<()> {
     let mut buf = [0u8; 256];
     let mut reply = Vec::new();
+    let mut sent = Vec::new();
+    let mut inj = Injector {
+        rng: 0x9E37_79B9_7F4A_7C15,
+        at_request_start: true,
+        at_reply_start: true,
+        ..Injector::default()
+    };
     let rate = throttle_baud.map(super::wire::bytes_per_s);
     loop {
         if until.is_some_and(|t| Instant::now() >= t) {
@@ -55,19 +155,39 @@ pub fn serve<P: serialport::SerialPort + ?Sized>(
             continue;
         }
         for &b in &buf[..n] {
+            if inj.at_request_start {
+                // The first byte of request line number `requests`.
+                inj.at_request_start = false;
+                inj.requests += 1;
+                inj.missing = inj.one_in(faults.silent_every);
+            }
+            let end = b == b'\n';
+            inj.at_request_start = end;
+            if inj.missing {
+                inj.missing = !end;
+                continue;
+            }
             // Writing to a Vec cannot fail.
             let _ = console.push(b, &mut reply);
+            if end && faults.reset_after.is_some_and(|k| inj.requests == k) {
+                // A power cycle: what was on its way out is lost.
+                *console = sim_console().map_err(|e| io::Error::other(e.to_string()))?;
+                reply.clear();
+            }
         }
         if n == 0 {
             let _ = console.poll(&mut reply);
         }
-        if !reply.is_empty() {
+        sent.clear();
+        inj.reply(faults, &reply, &mut sent);
+        if !sent.is_empty() {
+            let reply = &sent;
             let start = Instant::now();
             // A reader slower than the console: wait for room (a full pseudo-terminal
             // buffer), as a UART's transmitter would.
             port.set_timeout(Duration::from_secs(10))
                 .map_err(io::Error::other)?;
-            port.write_all(&reply)?;
+            port.write_all(reply)?;
             port.flush()?;
             if let Some(r) = rate {
                 let due = Duration::from_secs_f64(reply.len() as f64 / r);

@@ -145,7 +145,8 @@ pub fn connect(spec: &LinkSpec) -> CliResult<session::Session<Box<dyn Wire>>> {
             field("protocol").unwrap_or_default()
         )));
     }
-    s.check_alive()
+    s.mark_session()
+        .and_then(|()| s.check_alive())
         .map_err(|e| CliError::new(format!("{name}: {e}")))?;
     Ok(s)
 }

@@ -50,9 +50,16 @@ pub enum LinkError {
     Silent { request: String, tries: u32 },
     /// A damaged reply to a request that must not be sent twice.
     Unsure { request: String, why: String },
-    /// The device answered with fewer requests counted than it had answered before: it
-    /// restarted (power, watchdog, reset button) and holds factory settings again.
-    DeviceReset { before: u64, now: u64 },
+    /// Every try of a request that may run twice got a damaged reply.
+    Damaged {
+        request: String,
+        tries: u32,
+        why: String,
+    },
+    /// The device restarted under the session (power, watchdog, reset button) and holds
+    /// factory settings again: the session's mark is gone from its `status`, or its
+    /// request count fell.
+    DeviceReset { why: String },
     /// The port failed.
     Io(std::io::Error),
 }
@@ -68,9 +75,13 @@ impl std::fmt::Display for LinkError {
                 f,
                 "`{request}`: {why}; it may have run — check with pos/status before going on (not retried: it must not run twice)"
             ),
-            LinkError::DeviceReset { before, now } => write!(
+            LinkError::Damaged { request, tries, why } => write!(
                 f,
-                "the controller restarted during the session (its request count fell from {before} to {now}): it holds factory settings, and its axes must be homed again"
+                "`{request}`: {why} (on each of {tries} tries); the line is noisy — check the cable, its screening and the baud rate"
+            ),
+            LinkError::DeviceReset { why } => write!(
+                f,
+                "the controller restarted during the session ({why}): it holds factory settings, and its axes must be homed again"
             ),
             LinkError::Io(e) => write!(f, "link failed: {e}"),
         }
@@ -107,6 +118,8 @@ pub struct Session<W: Wire> {
     /// a request still runs; it is cleared when the stop is sent.
     pub stop_flag: Arc<AtomicBool>,
     stop_sent: bool,
+    /// The mark this session left on the device (`session id=`), while it has one.
+    mark: Option<u32>,
 }
 
 /// How many streamed items a final line says came before it: `count=` of the lists
@@ -125,6 +138,13 @@ pub fn announced_items(request: &str, last: &str) -> Option<u64> {
     last.split(' ')
         .find_map(|w| w.strip_prefix(key))
         .and_then(|v| v.parse().ok())
+}
+
+/// Whether a `status` line carries the session mark `id`.
+fn has_mark(status: &str, id: u32) -> bool {
+    status
+        .split(' ')
+        .any(|w| w.strip_prefix("session=") == Some(id.to_string().as_str()))
 }
 
 /// Whether `request` may be sent again when its reply is lost.
@@ -149,6 +169,7 @@ impl<W: Wire> Session<W> {
             stats: LinkStats::default(),
             stop_flag: Arc::new(AtomicBool::new(false)),
             stop_sent: false,
+            mark: None,
         }
     }
 
@@ -179,6 +200,9 @@ impl<W: Wire> Session<W> {
                 self.stats.retries += 1;
                 on_event(Event::Retry(&last_why));
                 self.resync()?;
+                // A reply lost to a restart must not be asked of the restarted device:
+                // it would answer from factory settings.
+                self.probe_mark()?;
             }
             let mut line = request.as_bytes().to_vec();
             line.extend_from_slice(&crc::suffix_for(request.as_bytes()));
@@ -220,8 +244,9 @@ impl<W: Wire> Session<W> {
                 tries,
             })
         } else {
-            Err(LinkError::Unsure {
+            Err(LinkError::Damaged {
                 request: request.to_string(),
+                tries,
                 why: last_why,
             })
         }
@@ -252,6 +277,43 @@ impl<W: Wire> Session<W> {
         self.request_with(request, |_| {})
     }
 
+    /// Leaves a mark on the device (`session id=`, a number from the clock and process),
+    /// which its `status` shows until it restarts. A controller without the request
+    /// (err 403) is watched by its request count only.
+    pub fn mark_session(&mut self) -> Result<(), LinkError> {
+        let t = std::time::SystemTime::now()
+            .duration_since(std::time::UNIX_EPOCH)
+            .map_or(0, |d| d.as_nanos() as u64);
+        let id = ((t ^ (u64::from(std::process::id()) << 20)) % 2_147_483_646 + 1) as u32;
+        let r = self.request(&format!("session id={id}"))?;
+        self.mark = r.ok().then_some(id);
+        Ok(())
+    }
+
+    /// One `status`, one try, between the tries of another request: the session's mark
+    /// must still be there.
+    fn probe_mark(&mut self) -> Result<(), LinkError> {
+        let Some(id) = self.mark else {
+            return Ok(());
+        };
+        let mut line = b"status".to_vec();
+        line.extend_from_slice(&crc::suffix_for(b"status"));
+        line.push(b'\n');
+        self.stats.bytes_out += line.len() as u64;
+        self.wire.send(&line).map_err(LinkError::Io)?;
+        let mut none = Vec::new();
+        if let Ok(Some(last)) = self.collect("status", &mut none, &mut |_| {}) {
+            if !has_mark(&last, id) {
+                self.mark = None;
+                return Err(LinkError::DeviceReset {
+                    why: "the session's mark is gone from its status".into(),
+                });
+            }
+        }
+        // No clean answer: the retry that follows will tell.
+        self.resync()
+    }
+
     /// Asks `status` and checks the device has not restarted since it was last asked.
     pub fn check_alive(&mut self) -> Result<(), LinkError> {
         self.request("status").map(|_| ())
@@ -262,6 +324,14 @@ impl<W: Wire> Session<W> {
         if request.trim() != "status" {
             return Ok(());
         }
+        if let Some(id) = self.mark {
+            if last.starts_with("ok") && !has_mark(last, id) {
+                self.mark = None;
+                return Err(LinkError::DeviceReset {
+                    why: "the session's mark is gone from its status".into(),
+                });
+            }
+        }
         let now = last
             .split(' ')
             .find_map(|w| w.strip_prefix("requests="))
@@ -270,7 +340,9 @@ impl<W: Wire> Session<W> {
             // Each status counts itself: a count that did not grow is a new device.
             if now <= before {
                 self.seen_requests = Some(now);
-                return Err(LinkError::DeviceReset { before, now });
+                return Err(LinkError::DeviceReset {
+                    why: format!("its request count fell from {before} to {now}"),
+                });
             }
         }
         if now.is_some() {

@@ -148,7 +148,13 @@ impl PortWire {
         let handle = std::thread::spawn(move || {
             let mut m = master;
             let mut console = console;
-            let _ = device::serve(&mut console, &mut m, None, throttle_baud);
+            let _ = device::serve(
+                &mut console,
+                &mut m,
+                None,
+                throttle_baud,
+                &device::Faults::default(),
+            );
         });
         Ok(PortWire {
             port: Box::new(slave),

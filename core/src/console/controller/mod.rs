@@ -90,10 +90,14 @@ type Rw<'w, W> = ReplyWriter<'w, W, MAX_REPLY>;
 
 /// Commands with their one-line usage, as `help` lists them (`set` appends the key names
 /// of [`SETTING_KEYS`] it takes, `axis` the rig file's axis keys).
-pub const COMMANDS: [(&str, &str); 24] = [
+pub const COMMANDS: [(&str, &str); 25] = [
     ("hello", "identify: name, version, protocol"),
     ("help", "this list"),
     ("status", "enabled, interlock, motion, stream"),
+    (
+        "session",
+        "session id=N: a host's mark (1 to 2147483647), shown by status until power-up",
+    ),
     ("set", "set key=value ...:"),
     ("get", "get [key]: one or all settings"),
     ("crystals", "list the crystal table"),
@@ -169,6 +173,8 @@ pub struct Console<A: AxisDriver, D: Detector, I: Interlock> {
     errors: u32,
     /// Why the console last stopped motion on its own, until an `enable` succeeds.
     trip: Option<Trip>,
+    /// The mark a host set with `session id=` (0: none since power-up).
+    session: u32,
 }
 
 /// A write error from the reply path (the line was not sent).
@@ -196,6 +202,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             requests: 0,
             errors: 0,
             trip: None,
+            session: 0,
         })
     }
 
@@ -421,8 +428,30 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                     .field_i32("points", self.points.len() as i32)
                     .field_i32("requests", self.requests as i32)
                     .field_i32("errors", self.errors as i32);
+                if self.session != 0 {
+                    rw.field_i32("session", self.session as i32);
+                }
                 self.write_trip(rw);
                 self.write_unknown(rw);
+                Ok(None)
+            }
+            "session" => {
+                let id = args::opt_int(a, "id")?;
+                fault::check_used(a)?;
+                let id = id.ok_or_else(|| {
+                    Fault::from(Error::MissingArgument)
+                        .on_key("id")
+                        .accepting(fault::Accepted::usage_of("session"))
+                })?;
+                if id < 1 {
+                    return Err(Fault::from(Error::BadValue)
+                        .on_key("id")
+                        .because("a session mark is 1 to 2147483647"));
+                }
+                // Kept through `reset` (the host asked for that one): only a power-up,
+                // a new console, forgets it.
+                self.session = id as u32;
+                rw.ok().field_i32("session", id);
                 Ok(None)
             }
             "set" => self.cmd_set(a, rw),
