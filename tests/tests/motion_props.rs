@@ -45,8 +45,8 @@
 //!
 //! Size: 4 tests × 64 sessions × 4,000 steps, each step one or more requests (a
 //! technician's homing is five to seven): each test sends at least 250,000 requests
-//! (counted and asserted), over 10^6 in all — 1,262,955 at the last change, with 51,216
-//! motions `ok`, 82,195 legs checked, 8,499 injected faults and 42,516 moves refused
+//! (counted and asserted), over 10^6 in all — 1,264,896 at the last change, with 50,781
+//! motions `ok`, 81,410 legs checked, 8,363 injected faults and 41,475 moves refused
 //! while an axis travelled — in about 10 s of a debug build. The seeds are
 //! fixed, so a failure is reproduced by running the test again; its message gives the
 //! physical angles, the counters and the last 40 requests.
