@@ -6,23 +6,11 @@
 //! sent and every reply line printed. On a terminal: a prompt, with the cautions first.
 
 use crate::error::{CliError, CliResult};
-use matterwave_core::console::sim::{SimAxes, SimDetector, SimInterlock};
-use matterwave_core::console::Console;
 use std::io::{IsTerminal, Read, Write};
 use std::sync::mpsc;
 
-/// The in-process simulated controller.
-pub type SimConsole = Console<SimAxes, SimDetector, SimInterlock>;
-
-/// A simulated controller with factory settings.
-pub fn sim_console() -> CliResult<SimConsole> {
-    Console::new(
-        SimAxes::default(),
-        SimDetector::default(),
-        SimInterlock { safe: true },
-    )
-    .map_err(|e| CliError::core(e, "simulator start"))
-}
+/// The in-process simulated controller (one definition, in [`crate::link::device`]).
+pub use crate::link::device::{sim_console, SimConsole};
 
 /// Sends one request line (without its line end) and returns every reply line.
 pub fn exchange(console: &mut SimConsole, line: &str) -> Vec<String> {

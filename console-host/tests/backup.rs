@@ -2,9 +2,11 @@
 //! (which keeps its state between clients): exact round trip, read back; damaged,
 //! foreign or refused files change nothing.
 
-use std::io::{BufRead, BufReader};
 use std::path::PathBuf;
-use std::process::{Child, Command, Stdio};
+use std::process::Command;
+
+mod common;
+use common::{serve_pty, Served};
 
 fn mwctl() -> Command {
     Command::new(env!("CARGO_BIN_EXE_mwctl"))
@@ -14,36 +16,8 @@ fn tmp(name: &str) -> PathBuf {
     std::env::temp_dir().join(format!("mwctl-backup-{}-{name}", std::process::id()))
 }
 
-struct Server {
-    child: Child,
-    link: String,
-}
-
-impl Drop for Server {
-    fn drop(&mut self) {
-        let _ = self.child.kill();
-        let _ = self.child.wait();
-    }
-}
-
-fn serve() -> Server {
-    let mut child = mwctl()
-        .args(["serve", "--pty", "--for", "60"])
-        .stdout(Stdio::piped())
-        .spawn()
-        .expect("serve starts");
-    let mut first = String::new();
-    BufReader::new(child.stdout.take().expect("stdout"))
-        .read_line(&mut first)
-        .expect("device path");
-    Server {
-        child,
-        link: format!("serial:{}", first.trim()),
-    }
-}
-
 /// Runs requests on the served controller; returns stdout and the exit code.
-fn run(s: &Server, name: &str, script: &str) -> (String, i32) {
+fn run(s: &Served, name: &str, script: &str) -> (String, i32) {
     let p = tmp(name);
     std::fs::write(&p, script).expect("script");
     let o = mwctl()
@@ -57,7 +31,7 @@ fn run(s: &Server, name: &str, script: &str) -> (String, i32) {
     )
 }
 
-fn dump(s: &Server, name: &str) -> String {
+fn dump(s: &Served, name: &str) -> String {
     let (out, code) = run(s, name, "dump\n");
     assert_eq!(code, 0, "{out}");
     out
@@ -68,7 +42,7 @@ zone name=arm i=1 from=120 to=128\nset crystal=pt face=111 energy=140 tilt=8 acc
 
 #[test]
 fn backup_and_restore_round_trip_exactly() {
-    let s = serve();
+    let s = serve_pty(&[]);
     let (out, code) = run(&s, "cfg", CONFIG);
     assert_eq!(code, 0, "{out}");
     let configured = dump(&s, "d1");
@@ -112,7 +86,7 @@ fn backup_and_restore_round_trip_exactly() {
 
 #[test]
 fn damaged_foreign_or_refused_files_change_nothing() {
-    let s = serve();
+    let s = serve_pty(&[]);
     let (_, code) = run(&s, "cfg2", CONFIG);
     assert_eq!(code, 0);
     let before = dump(&s, "e1");
@@ -185,7 +159,7 @@ fn damaged_foreign_or_refused_files_change_nothing() {
 
 #[test]
 fn restore_refuses_while_motion_is_enabled() {
-    let s = serve();
+    let s = serve_pty(&[]);
     let good = tmp("m.mwbackup");
     assert!(mwctl()
         .args(["backup", "--link", &s.link])

@@ -2,8 +2,9 @@
 //! Expectations: docs/PROTOCOL.md (replies) and the README's promise of one-line
 //! errors with exit status 2.
 
-use std::io::{BufRead, BufReader};
-use std::process::{Command, Stdio};
+use std::process::Command;
+
+mod common;
 
 fn mwctl() -> Command {
     Command::new(env!("CARGO_BIN_EXE_mwctl"))
@@ -117,17 +118,8 @@ fn a_missing_port_and_a_file_that_is_no_terminal_are_one_line_errors() {
 
 #[test]
 fn serve_pty_serves_any_serial_client() {
-    let mut server = mwctl()
-        .args(["serve", "--pty", "--for", "20"])
-        .stdout(Stdio::piped())
-        .spawn()
-        .expect("serve starts");
-    let mut first = String::new();
-    BufReader::new(server.stdout.take().expect("stdout"))
-        .read_line(&mut first)
-        .expect("device path");
-    let path = first.trim().to_string();
-    assert!(path.starts_with("/dev/"), "{path}");
+    let server = common::serve_pty(&[]);
+    let path = server.link.trim_start_matches("serial:").to_string();
     let p = script("serve", SCRIPT);
     // Two clients one after the other: the device keeps its state between them.
     let o = mwctl()
@@ -143,23 +135,7 @@ fn serve_pty_serves_any_serial_client() {
         .expect("second client runs");
     let text = String::from_utf8(o.stdout).expect("utf-8");
     assert!(text.contains("< ok tilt=10"), "{text}");
-    let _ = server.kill();
-    let _ = server.wait();
-}
-
-/// Starts `mwctl serve --pty` with `args`; returns it and its device path.
-fn serve_with(args: &[&str]) -> (std::process::Child, String) {
-    let mut server = mwctl()
-        .args(["serve", "--pty", "--for", "60"])
-        .args(args)
-        .stdout(Stdio::piped())
-        .spawn()
-        .expect("serve starts");
-    let mut first = String::new();
-    BufReader::new(server.stdout.take().expect("stdout"))
-        .read_line(&mut first)
-        .expect("device path");
-    (server, first.trim().to_string())
+    drop(server);
 }
 
 const IDEMPOTENT: &str = "set crystal=pt face=111 energy=140 tilt=8\nbeams\naim beam=1,0\nget tilt\nset crystal=w face=110 energy=85 tilt=4\nbeams\nplan kind=track from=60 to=160 step=20\n";
@@ -169,7 +145,7 @@ fn a_faulty_line_loses_and_duplicates_nothing() {
     let p = script("faulty", IDEMPOTENT);
     let clean = mwctl().args(["run"]).arg(&p).output().expect("runs");
     assert!(clean.status.success());
-    let (mut server, path) = serve_with(&[
+    let server = common::serve_pty(&[
         "--fault",
         "flip:20000",
         "--fault",
@@ -180,12 +156,11 @@ fn a_faulty_line_loses_and_duplicates_nothing() {
         "silent:8",
     ]);
     let o = mwctl()
-        .args(["run", "--link", &format!("serial:{path}")])
+        .args(["run", "--link", &server.link])
         .arg(&p)
         .output()
         .expect("client runs");
-    let _ = server.kill();
-    let _ = server.wait();
+    drop(server);
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     assert_eq!(
         String::from_utf8_lossy(&o.stdout),
@@ -197,14 +172,13 @@ fn a_faulty_line_loses_and_duplicates_nothing() {
 #[test]
 fn a_controller_that_restarts_mid_session_is_reported() {
     let p = script("restart", IDEMPOTENT);
-    let (mut server, path) = serve_with(&["--fault", "reset:5"]);
+    let server = common::serve_pty(&["--fault", "reset:5"]);
     let o = mwctl()
-        .args(["run", "--link", &format!("serial:{path}")])
+        .args(["run", "--link", &server.link])
         .arg(&p)
         .output()
         .expect("client runs");
-    let _ = server.kill();
-    let _ = server.wait();
+    drop(server);
     assert_eq!(o.status.code(), Some(2));
     let err = String::from_utf8_lossy(&o.stderr);
     assert_eq!(err.lines().count(), 1, "{err}");

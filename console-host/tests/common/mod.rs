@@ -319,3 +319,40 @@ pub fn formats_agree(args: &[&str]) -> serde_json::Value {
     }
     v
 }
+
+/// The simulated controller served by `mwctl serve --pty` for the test's lifetime (it
+/// keeps its state between clients); killed when dropped.
+pub struct Served {
+    child: std::process::Child,
+    /// `serial:/dev/pts/N`, for `--link`.
+    pub link: String,
+}
+
+impl Drop for Served {
+    fn drop(&mut self) {
+        let _ = self.child.kill();
+        let _ = self.child.wait();
+    }
+}
+
+/// Starts `mwctl serve --pty --for 60` with the extra `args` (faults, baud) and reads
+/// the device path from its first line.
+pub fn serve_pty(args: &[&str]) -> Served {
+    use std::io::BufRead;
+    let mut child = Command::new(env!("CARGO_BIN_EXE_mwctl"))
+        .args(["serve", "--pty", "--for", "60"])
+        .args(args)
+        .stdout(std::process::Stdio::piped())
+        .spawn()
+        .expect("serve starts");
+    let mut first = String::new();
+    std::io::BufReader::new(child.stdout.take().expect("stdout"))
+        .read_line(&mut first)
+        .expect("device path");
+    let path = first.trim();
+    assert!(path.starts_with("/dev/"), "{path}");
+    Served {
+        child,
+        link: format!("serial:{path}"),
+    }
+}
