@@ -128,6 +128,20 @@ pub enum Command {
         #[arg(long = "fault", value_name = "KIND:N")]
         faults: Vec<String>,
     },
+    /// Print a shell completion script for mwctl (README: Shell completions and man page).
+    Completions {
+        /// The shell: bash, zsh, fish, elvish or powershell.
+        #[arg(value_enum, value_name = "SHELL")]
+        shell: clap_complete::Shell,
+    },
+    /// Print mwctl's man page (roff) to stdout; with --dir, one page per command into a
+    /// folder.
+    Man {
+        /// Write mwctl.1 and one page per command and subcommand into this folder
+        /// (created if missing), and print the files' paths.
+        #[arg(long, value_name = "DIR")]
+        dir: Option<PathBuf>,
+    },
 }
 
 /// `mwctl rig …`
@@ -483,6 +497,18 @@ pub fn run(cli: &Cli, out: &mut dyn std::io::Write) -> CliResult<()> {
             crate::remote::serve_pty(*for_s, *baud, faults, f == crate::output::Format::Json, out)?;
             return Ok(());
         }
+        Command::Completions { shell } => {
+            crate::docgen::text_only(f, "completions", "a shell script")?;
+            crate::docgen::completions(*shell, out)?;
+            let _ = out.flush();
+            return Ok(());
+        }
+        Command::Man { dir } => {
+            crate::docgen::text_only(f, "man", "a roff page")?;
+            crate::docgen::man(dir.as_deref(), out)?;
+            let _ = out.flush();
+            return Ok(());
+        }
         _ => {}
     }
     let text = match run_report(cli)? {
@@ -575,7 +601,9 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
         | Command::Serve { .. }
         | Command::Verify { .. }
         | Command::Backup { .. }
-        | Command::Restore { .. } => return Ok(Output::Text(String::new())),
+        | Command::Restore { .. }
+        | Command::Completions { .. }
+        | Command::Man { .. } => return Ok(Output::Text(String::new())),
         Command::Calc(c) => match c {
             Calc::Wavelength {
                 gun,

@@ -9,6 +9,7 @@ pub mod backup;
 pub mod calc;
 pub mod cli;
 pub mod demo;
+pub mod docgen;
 pub mod error;
 pub mod gonio;
 pub mod link;

@@ -4,6 +4,9 @@
 //! where the section says JSON Lines) and hold exactly the documented keys, each of the
 //! documented type, the `always` ones in every object; and every documented key must
 //! appear in at least one example. So the page and the program cannot drift apart.
+//! A section that says "Prints no JSON" (a command printing a script or a page for
+//! another program) has no keys, and its examples must be refused with `--format json`:
+//! status 2, nothing on stdout, one line on stderr naming `--format json`.
 
 use std::collections::{BTreeMap, BTreeSet};
 use std::path::Path;
@@ -23,6 +26,7 @@ struct Key {
 struct Section {
     examples: Vec<String>,
     lines: bool,
+    no_json: bool,
     keys: BTreeMap<String, Key>,
 }
 
@@ -54,6 +58,7 @@ fn sections() -> BTreeMap<String, Section> {
         let s = Section {
             examples,
             lines: body.contains("JSON Lines"),
+            no_json: body.contains("Prints no JSON"),
             keys,
         };
         assert!(
@@ -213,6 +218,20 @@ fn every_documented_example_has_exactly_the_documented_keys() {
             // Described only as part of another section (the demo's embedded reports
             // are full sections with their own examples).
             panic!("{name}: no example to run");
+        }
+        if sec.no_json {
+            assert!(
+                sec.keys.is_empty(),
+                "{name}: prints no JSON, yet lists keys"
+            );
+            for ex in &sec.examples {
+                let (code, out, err) = run(ex);
+                assert_eq!(code, 2, "{ex} --format json: not refused: {out}");
+                assert!(out.is_empty(), "{ex} --format json printed {out}");
+                assert_eq!(err.lines().count(), 1, "{ex} --format json: {err}");
+                assert!(err.contains("--format json"), "{ex}: {err}");
+            }
+            continue;
         }
         for ex in &sec.examples {
             let (code, out, err) = run(ex);

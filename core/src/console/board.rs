@@ -98,6 +98,8 @@ pub struct Scene<'a> {
     pub elevation_deg: f32,
     /// The rig (for the detector acceptance).
     pub rig: &'a Rig,
+    /// The inner potential V0 in use, eV (the set value, else the table's).
+    pub inner_potential_ev: f32,
 }
 
 /// The detector (Faraday cup or channeltron behind its electronics).

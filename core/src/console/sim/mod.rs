@@ -1,11 +1,20 @@
 //! In-memory board parts for simulators and tests (feature `sim`): axes that arrive at
-//! once, a switchable interlock, and a synthetic detector that sees the beams the
-//! geometry puts into its acceptance cone.
+//! once, a switchable interlock, and a synthetic detector with a kinematic model of
+//! beam positions, widths and I-V maxima, a background, seeded noise and hidden
+//! calibration offsets ([`SimDetector`], docs/SIMULATOR.md).
 
-use super::board::{AxisDriver, AxisFault, Detector, Interlock, Scene};
+use super::board::{AxisDriver, AxisFault, Interlock};
 use crate::error::AxisId;
-use crate::goniometer::{self, axis_index, InView};
-use crate::math;
+use crate::goniometer::axis_index;
+
+mod detector;
+mod rng;
+
+pub use detector::{
+    HiddenOffsets, SimDetector, ABSORPTION_MAX_EV, ABSORPTION_MIN_EV, DIVERGENCE_MAX_DEG,
+    PEAKS_MAX, VIEW_MAX,
+};
+pub use rng::XorShift32;
 
 /// Simulated axes. A move sets the counter to its target at once; with `slow` set it
 /// then reports busy until [`SimAxes::arrive`] or a stop. Faults are injected by setting
@@ -71,48 +80,5 @@ pub struct SimInterlock {
 impl Interlock for SimInterlock {
     fn safe(&mut self) -> bool {
         self.safe
-    }
-}
-
-/// Synthetic detector, nA: a background plus, for every beam within the acceptance,
-/// a Gaussian in the angle between detector axis and beam (σ = acceptance / 2).
-/// Deterministic, for demos and tests; not a model of real intensities.
-#[derive(Clone, Copy, Debug, PartialEq)]
-pub struct SimDetector {
-    /// Background current, nA.
-    pub background_na: f32,
-    /// Peak current of a beam centred on the detector, nA.
-    pub beam_na: f32,
-}
-
-impl Default for SimDetector {
-    fn default() -> Self {
-        SimDetector {
-            background_na: 0.5,
-            beam_na: 100.0,
-        }
-    }
-}
-
-impl Detector for SimDetector {
-    fn read(&mut self, scene: &Scene<'_>) -> f32 {
-        let acc = scene.rig.acceptance_deg;
-        let mut view = [InView::EMPTY; 8];
-        let n = goniometer::beams_in_view(
-            scene.face,
-            &scene.incidence,
-            scene.arm_deg,
-            scene.elevation_deg,
-            acc,
-            &mut view,
-        )
-        .map_or(0, |l| l.stored);
-        let sigma = 0.5 * acc;
-        let mut i = self.background_na;
-        for v in view.iter().take(n) {
-            let x = v.offset_deg / sigma;
-            i += self.beam_na * math::exp(-0.5 * x * x);
-        }
-        i
     }
 }
