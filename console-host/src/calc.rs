@@ -103,6 +103,75 @@ pub struct GunArgs {
     pub energy_offset: f32,
 }
 
+/// The gun options of `mwctl calc wavelength`: those of [`GunArgs`], with the nominal
+/// energy given either as `--energy` or through the wavelength wanted at the sample.
+#[derive(Clone, Copy, Debug, clap::Args)]
+pub struct WavelengthGunArgs {
+    /// Nominal beam energy e·V_acc, eV (1 to 300000).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV",
+          required_unless_present = "wavelength", conflicts_with = "wavelength")]
+    pub energy: Option<f32>,
+    /// Wavelength wanted at the sample, Å (0.0197 to 12.26): the nominal energy that
+    /// gives it with the corrections below is found (the inverse of --energy).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "Å")]
+    pub wavelength: Option<f32>,
+    /// Cathode work function, eV (adds to the energy at the sample; 0 = no correction).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
+    pub cathode_work_function: f32,
+    /// Sample work function, eV (subtracts from the energy at the sample; 0 = none).
+    #[arg(value_parser = ev_or_face, long, value_name = "EV|face", default_value = "0")]
+    pub sample_work_function: EvOrFace,
+    /// Fitted gun energy offset, eV (added to the energy at the sample).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
+    pub energy_offset: f32,
+}
+
+impl WavelengthGunArgs {
+    /// The gun settings: `--energy` as given, or the nominal energy whose kinetic energy
+    /// at the sample has the `--wavelength` (core: [`beam::energy_from_wavelength_ev`],
+    /// [`Gun::for_kinetic_energy`]).
+    pub fn gun_args(&self) -> CliResult<GunArgs> {
+        let mut g = GunArgs {
+            energy: self.energy.unwrap_or(f32::NAN),
+            cathode_work_function: self.cathode_work_function,
+            sample_work_function: self.sample_work_function,
+            energy_offset: self.energy_offset,
+        }
+        .without_face("calc wavelength")?;
+        let Some(lambda) = self.wavelength else {
+            return Ok(g);
+        };
+        let e =
+            beam::energy_from_wavelength_ev(lambda).ctx(format_args!("--wavelength {lambda}"))?;
+        let n = g.gun().for_kinetic_energy(e).map_err(|(input, err)| {
+            let flag = match input {
+                GunInput::CathodeWorkFunction => {
+                    format!("--cathode-work-function {}", self.cathode_work_function)
+                }
+                GunInput::SampleWorkFunction => {
+                    format!("--sample-work-function {}", g.sample_ev())
+                }
+                GunInput::Offset => format!("--energy-offset {}", self.energy_offset),
+                _ => {
+                    return CliError {
+                        code: Some(err.code()),
+                        message: format!(
+                            "--wavelength {lambda} needs {e} eV at the sample; with the corrections given (cathode {} eV, sample {} eV, offset {} eV) that is a nominal energy of {} eV, and a nominal energy must be above 0 and at most 300000 eV",
+                            self.cathode_work_function,
+                            g.sample_ev(),
+                            self.energy_offset,
+                            e - g.correction_ev()
+                        ),
+                    }
+                }
+            };
+            CliError::core(err, flag)
+        })?;
+        g.energy = n.nominal_ev;
+        Ok(g)
+    }
+}
+
 impl GunArgs {
     /// These settings with `--sample-work-function face` replaced by the table's value
     /// for `face` of `c`.

@@ -159,12 +159,13 @@ pub enum RigCmd {
 #[derive(Debug, Subcommand)]
 pub enum Calc {
     /// Wavelength, momentum and speed for a beam energy, with contact-potential
-    /// correction, and the wavelength inside a crystal.
+    /// correction, and the wavelength inside a crystal; or, with --wavelength, the
+    /// energy (nominal and at the sample) that gives a wavelength.
     #[command(allow_negative_numbers = true)]
     Wavelength {
-        /// Gun settings.
+        /// Gun settings, from the nominal energy or from the wavelength wanted.
         #[command(flatten)]
-        gun: GunArgs,
+        gun: calc::WavelengthGunArgs,
         /// Inner potential V0, eV (0 to 100), for the wavelength inside the crystal.
         #[arg(value_parser = calc::ev_or_face, long, value_name = "EV")]
         inner_potential: Option<calc::EvOrFace>,
@@ -580,7 +581,7 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
             Calc::Wavelength {
                 gun,
                 inner_potential,
-            } => calc::wavelength(gun, *inner_potential)?,
+            } => calc::wavelength(&gun.gun_args()?, *inner_potential)?,
             Calc::Reflections { crystal, gun, max } => calc::reflections(crystal, gun, *max)?,
             Calc::Rings {
                 crystal,
