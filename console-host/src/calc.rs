@@ -533,7 +533,7 @@ pub fn wavelength(g: &GunArgs, inner_potential: Option<EvOrFace>) -> CliResult<R
     Ok(r)
 }
 
-fn check_max(max: usize) -> CliResult<usize> {
+pub(crate) fn check_max(max: usize) -> CliResult<usize> {
     if max == 0 || max > crate::number::MAX_ROWS {
         Err(CliError::new(format!(
             "--max {max}: give 1 to {}",
@@ -552,7 +552,7 @@ fn family_list(cell: &Cell, d_min: f32, max: usize) -> CliResult<(Vec<Reflection
 }
 
 /// The `truncated` field: whether more rows than `--max` exist.
-fn truncated_field(r: &mut Report, truncated: bool) {
+pub(crate) fn truncated_field(r: &mut Report, truncated: bool) {
     r.field("truncated", "more beyond --max", Value::Bool(truncated));
 }
 
@@ -696,7 +696,7 @@ pub(crate) fn crystal_face_fields(r: &mut Report, c: &Crystal, face: &Face) {
 }
 
 /// The crystal and face fields, then the face's surface mesh and layer spacing.
-fn face_fields(r: &mut Report, c: &Crystal, face: &Face) {
+pub(crate) fn face_fields(r: &mut Report, c: &Crystal, face: &Face) {
     crystal_face_fields(r, c, face);
     r.field(
         "mesh",

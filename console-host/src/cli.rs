@@ -272,6 +272,10 @@ pub enum Calc {
         #[arg(value_parser = crate::number::max_arg, long, value_name = "N", default_value_t = 100)]
         max: usize,
     },
+    /// Where every beam lands on a hemispherical screen or a flat detector (x, y in mm),
+    /// which the gun's shadow hides; with --spot, the beam nearest a measured spot.
+    #[command(allow_negative_numbers = true)]
+    Screen(crate::screen::ScreenArgs),
     /// Point the arm (and turn the sample) at a beam: setpoints of every axis, nearest
     /// the current position first.
     #[command(allow_negative_numbers = true)]
@@ -636,6 +640,7 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
                 };
                 calc::ivpeaks(crystal, face, &a, *max)?
             }
+            Calc::Screen(a) => crate::screen::screen(a)?,
             Calc::Aim(a) => gonio::aim(a)?,
             Calc::Track(a) => gonio::track(a)?,
             Calc::Sweep(a) => return Ok(Output::Sweep(gonio::sweep(a)?)),

@@ -31,12 +31,17 @@ use crate::error::{finite, AxisId, Error, Quantity, Result};
 use crate::listing::{insert_sorted, Listing};
 
 mod resolve;
+mod screen;
 
 use crate::math::{self, Vec3};
 use crate::surface::{Face, Incidence, SurfaceBeam};
 pub use resolve::{
     aim, aim_checked, refusals, refusals_checked, AimRequest, Branch, Refusal, Refusals,
     MAX_REFUSALS,
+};
+pub use screen::{
+    check_gun_shadow, gun_shadowed, Landing, Screen, Spot, Spots, GUN_SHADOW_MAX_DEG,
+    SCREEN_LENGTH_MAX_MM,
 };
 
 /// Index of each axis in a step-count array `[i32; 4]`.
