@@ -103,6 +103,75 @@ pub struct GunArgs {
     pub energy_offset: f32,
 }
 
+/// The gun options of `mwctl calc wavelength`: those of [`GunArgs`], with the nominal
+/// energy given either as `--energy` or through the wavelength wanted at the sample.
+#[derive(Clone, Copy, Debug, clap::Args)]
+pub struct WavelengthGunArgs {
+    /// Nominal beam energy e·V_acc, eV (1 to 300000).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV",
+          required_unless_present = "wavelength", conflicts_with = "wavelength")]
+    pub energy: Option<f32>,
+    /// Wavelength wanted at the sample, Å (0.0197 to 12.26): the nominal energy that
+    /// gives it with the corrections below is found (the inverse of --energy).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "Å")]
+    pub wavelength: Option<f32>,
+    /// Cathode work function, eV (adds to the energy at the sample; 0 = no correction).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
+    pub cathode_work_function: f32,
+    /// Sample work function, eV (subtracts from the energy at the sample; 0 = none).
+    #[arg(value_parser = ev_or_face, long, value_name = "EV|face", default_value = "0")]
+    pub sample_work_function: EvOrFace,
+    /// Fitted gun energy offset, eV (added to the energy at the sample).
+    #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
+    pub energy_offset: f32,
+}
+
+impl WavelengthGunArgs {
+    /// The gun settings: `--energy` as given, or the nominal energy whose kinetic energy
+    /// at the sample has the `--wavelength` (core: [`beam::energy_from_wavelength_ev`],
+    /// [`Gun::for_kinetic_energy`]).
+    pub fn gun_args(&self) -> CliResult<GunArgs> {
+        let mut g = GunArgs {
+            energy: self.energy.unwrap_or(f32::NAN),
+            cathode_work_function: self.cathode_work_function,
+            sample_work_function: self.sample_work_function,
+            energy_offset: self.energy_offset,
+        }
+        .without_face("calc wavelength")?;
+        let Some(lambda) = self.wavelength else {
+            return Ok(g);
+        };
+        let e =
+            beam::energy_from_wavelength_ev(lambda).ctx(format_args!("--wavelength {lambda}"))?;
+        let n = g.gun().for_kinetic_energy(e).map_err(|(input, err)| {
+            let flag = match input {
+                GunInput::CathodeWorkFunction => {
+                    format!("--cathode-work-function {}", self.cathode_work_function)
+                }
+                GunInput::SampleWorkFunction => {
+                    format!("--sample-work-function {}", g.sample_ev())
+                }
+                GunInput::Offset => format!("--energy-offset {}", self.energy_offset),
+                _ => {
+                    return CliError {
+                        code: Some(err.code()),
+                        message: format!(
+                            "--wavelength {lambda} needs {e} eV at the sample; with the corrections given (cathode {} eV, sample {} eV, offset {} eV) that is a nominal energy of {} eV, and a nominal energy must be above 0 and at most 300000 eV",
+                            self.cathode_work_function,
+                            g.sample_ev(),
+                            self.energy_offset,
+                            e - g.correction_ev()
+                        ),
+                    }
+                }
+            };
+            CliError::core(err, flag)
+        })?;
+        g.energy = n.nominal_ev;
+        Ok(g)
+    }
+}
+
 impl GunArgs {
     /// These settings with `--sample-work-function face` replaced by the table's value
     /// for `face` of `c`.
@@ -271,7 +340,8 @@ pub fn parse_rod(text: &str) -> CliResult<[i32; 2]> {
 
 fn miller_text(m: Miller, hex: bool) -> String {
     if hex {
-        format!("({} {} {} {})", m[0], m[1], -(m[0] + m[1]), m[2])
+        let [h, k, i, l] = matterwave_core::lattice::four_index_plane(m);
+        format!("({h} {k} {i} {l})")
     } else {
         format!("({} {} {})", m[0], m[1], m[2])
     }
@@ -463,7 +533,7 @@ pub fn wavelength(g: &GunArgs, inner_potential: Option<EvOrFace>) -> CliResult<R
     Ok(r)
 }
 
-fn check_max(max: usize) -> CliResult<usize> {
+pub(crate) fn check_max(max: usize) -> CliResult<usize> {
     if max == 0 || max > crate::number::MAX_ROWS {
         Err(CliError::new(format!(
             "--max {max}: give 1 to {}",
@@ -482,7 +552,7 @@ fn family_list(cell: &Cell, d_min: f32, max: usize) -> CliResult<(Vec<Reflection
 }
 
 /// The `truncated` field: whether more rows than `--max` exist.
-fn truncated_field(r: &mut Report, truncated: bool) {
+pub(crate) fn truncated_field(r: &mut Report, truncated: bool) {
     r.field("truncated", "more beyond --max", Value::Bool(truncated));
 }
 
@@ -501,50 +571,66 @@ fn bulk_start(id: &str, g: &GunArgs, command: &str) -> CliResult<(Cell, f32, Rep
     Ok((cell, lambda, r))
 }
 
-/// A list of reflection families: h, k, l, d, the two `middle` columns, multiplicity.
-fn family_table(key: &'static str, middle: [Column; 2], rows: Vec<Vec<Value>>) -> List {
+/// A list of reflection families: h, k, (for a hexagonal crystal the Miller–Bravais i,)
+/// l, d, the two `middle` columns, multiplicity.
+fn family_table(key: &'static str, hex: bool, middle: [Column; 2], rows: Vec<Vec<Value>>) -> List {
     let [a, b] = middle;
-    List {
-        key,
-        columns: vec![
-            col("h", "h"),
-            col("k", "k"),
-            col("l", "l"),
-            col("d_a", "d (Å)"),
-            a,
-            b,
-            col("multiplicity", "mult"),
-        ],
-        rows,
+    let mut columns = vec![col("h", "h"), col("k", "k")];
+    if hex {
+        columns.push(col("i", "i"));
     }
+    columns.extend([
+        col("l", "l"),
+        col("d_a", "d (Å)"),
+        a,
+        b,
+        col("multiplicity", "mult"),
+    ]);
+    List { key, columns, rows }
+}
+
+/// The indices of a plane or reciprocal vector as row values: h, k, l, or for a
+/// hexagonal crystal the four Miller–Bravais indices h, k, i, l.
+fn index_values(hkl: Miller, hex: bool) -> Vec<Value> {
+    let ints = if hex {
+        matterwave_core::lattice::four_index_plane(hkl).to_vec()
+    } else {
+        hkl.to_vec()
+    };
+    ints.into_iter().map(|x| Value::Int(x.into())).collect()
 }
 
 /// A row of [`family_table`].
-fn family_row(f: &Reflection, middle: [Value; 2]) -> Vec<Value> {
+fn family_row(f: &Reflection, hex: bool, middle: [Value; 2]) -> Vec<Value> {
     let [a, b] = middle;
-    vec![
-        Value::Int(f.hkl[0].into()),
-        Value::Int(f.hkl[1].into()),
-        Value::Int(f.hkl[2].into()),
+    let mut row = index_values(f.hkl, hex);
+    row.extend([
         Value::F32(f.d_a, 5),
         a,
         b,
         Value::Int(f.multiplicity.into()),
-    ]
+    ]);
+    row
 }
 
 /// `mwctl calc reflections`.
 pub fn reflections(id: &str, g: &GunArgs, max: usize) -> CliResult<Report> {
     let (cell, lambda, mut r) = bulk_start(id, g, "calc reflections")?;
     let (fams, truncated) = family_list(&cell, lambda / 2.0, max)?;
+    let hex = cell.structure.system() == System::Hexagonal;
     let mut rows = Vec::new();
     for f in &fams {
         let th = reflections::bragg_deg(f.d_a, lambda, 1).ctx("Bragg angle")?;
-        rows.push(family_row(f, [Value::F32(th, 4), Value::F32(2.0 * th, 4)]));
+        rows.push(family_row(
+            f,
+            hex,
+            [Value::F32(th, 4), Value::F32(2.0 * th, 4)],
+        ));
     }
     truncated_field(&mut r, truncated);
     r.list = Some(family_table(
         "reflections",
+        hex,
         [
             col("bragg_deg", "θB (deg)"),
             col("two_theta_deg", "2θB (deg)"),
@@ -574,6 +660,7 @@ pub fn rings(id: &str, g: &GunArgs, screen_mm: f32, max: usize) -> CliResult<Rep
         "camera constant λL (mm·Å)",
         Value::F32(lambda * screen_mm, 4),
     );
+    let hex = cell.structure.system() == System::Hexagonal;
     let mut rows = Vec::new();
     for f in &fams {
         let Ok(ring) = reflections::ring(f.d_a, lambda, screen_mm) else {
@@ -581,6 +668,7 @@ pub fn rings(id: &str, g: &GunArgs, screen_mm: f32, max: usize) -> CliResult<Rep
         };
         rows.push(family_row(
             f,
+            hex,
             [
                 Value::F32(ring.two_theta_deg, 4),
                 Value::F32(ring.radius, 3),
@@ -590,6 +678,7 @@ pub fn rings(id: &str, g: &GunArgs, screen_mm: f32, max: usize) -> CliResult<Rep
     truncated_field(&mut r, truncated);
     r.list = Some(family_table(
         "rings",
+        hex,
         [
             col("two_theta_deg", "2θB (deg)"),
             col("radius_mm", "R (mm)"),
@@ -607,7 +696,7 @@ pub(crate) fn crystal_face_fields(r: &mut Report, c: &Crystal, face: &Face) {
 }
 
 /// The crystal and face fields, then the face's surface mesh and layer spacing.
-fn face_fields(r: &mut Report, c: &Crystal, face: &Face) {
+pub(crate) fn face_fields(r: &mut Report, c: &Crystal, face: &Face) {
     crystal_face_fields(r, c, face);
     r.field(
         "mesh",
@@ -828,31 +917,34 @@ pub fn ivpeaks(id: &str, face_text: &str, a: &IvArgs, max: usize) -> CliResult<R
         "beam emerges at (eV)",
         Value::opt(face.emergence_ev(a.rod, &inc), 2),
     );
+    let hex = c.structure.system() == System::Hexagonal;
+    let mut columns = vec![
+        col("energy_ev", "energy (eV)"),
+        col("nominal_ev", "nominal (eV)"),
+        col("inner_energy_ev", "inside (eV)"),
+        col("order", "m"),
+        col("g_h", "G h"),
+        col("g_k", "G k"),
+    ];
+    if hex {
+        columns.push(col("g_i", "G i"));
+    }
+    columns.extend([col("g_l", "G l"), col("g_perp_inv_a", "G⊥ (1/Å)")]);
     let mut list = List {
         key: "peaks",
-        columns: vec![
-            col("energy_ev", "energy (eV)"),
-            col("nominal_ev", "nominal (eV)"),
-            col("inner_energy_ev", "inside (eV)"),
-            col("order", "m"),
-            col("g_h", "G h"),
-            col("g_k", "G k"),
-            col("g_l", "G l"),
-            col("g_perp_inv_a", "G⊥ (1/Å)"),
-        ],
+        columns,
         rows: Vec::new(),
     };
     for p in &buf[..l.stored] {
-        list.rows.push(vec![
+        let mut row = vec![
             Value::F32(p.energy_ev, 2),
             Value::F32(p.energy_ev - corr, 2),
             Value::F32(p.energy_ev + v0, 2),
             Value::Int(p.order.into()),
-            Value::Int(p.g_hkl[0].into()),
-            Value::Int(p.g_hkl[1].into()),
-            Value::Int(p.g_hkl[2].into()),
-            Value::F32(p.g_perp_inv_a, 5),
-        ]);
+        ];
+        row.extend(index_values(p.g_hkl, hex));
+        row.push(Value::F32(p.g_perp_inv_a, 5));
+        list.rows.push(row);
     }
     truncated_field(&mut r, l.truncated);
     r.list = Some(list);

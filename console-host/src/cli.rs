@@ -173,12 +173,13 @@ pub enum RigCmd {
 #[derive(Debug, Subcommand)]
 pub enum Calc {
     /// Wavelength, momentum and speed for a beam energy, with contact-potential
-    /// correction, and the wavelength inside a crystal.
+    /// correction, and the wavelength inside a crystal; or, with --wavelength, the
+    /// energy (nominal and at the sample) that gives a wavelength.
     #[command(allow_negative_numbers = true)]
     Wavelength {
-        /// Gun settings.
+        /// Gun settings, from the nominal energy or from the wavelength wanted.
         #[command(flatten)]
-        gun: GunArgs,
+        gun: calc::WavelengthGunArgs,
         /// Inner potential V0, eV (0 to 100), for the wavelength inside the crystal.
         #[arg(value_parser = calc::ev_or_face, long, value_name = "EV")]
         inner_potential: Option<calc::EvOrFace>,
@@ -285,6 +286,10 @@ pub enum Calc {
         #[arg(value_parser = crate::number::max_arg, long, value_name = "N", default_value_t = 100)]
         max: usize,
     },
+    /// Where every beam lands on a hemispherical screen or a flat detector (x, y in mm),
+    /// which the gun's shadow hides; with --spot, the beam nearest a measured spot.
+    #[command(allow_negative_numbers = true)]
+    Screen(crate::screen::ScreenArgs),
     /// Point the arm (and turn the sample) at a beam: setpoints of every axis, nearest
     /// the current position first.
     #[command(allow_negative_numbers = true)]
@@ -608,7 +613,7 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
             Calc::Wavelength {
                 gun,
                 inner_potential,
-            } => calc::wavelength(gun, *inner_potential)?,
+            } => calc::wavelength(&gun.gun_args()?, *inner_potential)?,
             Calc::Reflections { crystal, gun, max } => calc::reflections(crystal, gun, *max)?,
             Calc::Rings {
                 crystal,
@@ -663,6 +668,7 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
                 };
                 calc::ivpeaks(crystal, face, &a, *max)?
             }
+            Calc::Screen(a) => crate::screen::screen(a)?,
             Calc::Aim(a) => gonio::aim(a)?,
             Calc::Track(a) => gonio::track(a)?,
             Calc::Sweep(a) => return Ok(Output::Sweep(gonio::sweep(a)?)),

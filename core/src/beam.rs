@@ -172,6 +172,49 @@ impl Gun {
     }
 }
 
+impl Gun {
+    /// The gun with the corrections of `self` (its `nominal_ev` ignored) whose kinetic
+    /// energy at the sample is `kinetic_ev`: nominal = E − φ_cathode + φ_sample − ΔE_cal,
+    /// the inverse of [`Gun::kinetic_energy_at`]. `kinetic_ev` must be 1 eV–300 keV and
+    /// the nominal energy it needs above 0 and at most 300 keV; an error says which input
+    /// is at fault ([`GunInput::Sum`] for the nominal energy the corrections would need).
+    ///
+    /// ```
+    /// use matterwave_core::beam::Gun;
+    /// // Oxide cathode 2.0 eV, copper sample 4.65 eV: 97.35 eV at the sample needs 100 eV.
+    /// let g = Gun { cathode_work_function_ev: 2.0, sample_work_function_ev: 4.65, ..Gun::plain(0.0) };
+    /// let n = g.for_kinetic_energy(97.35).unwrap().nominal_ev;
+    /// assert!((n - 100.0).abs() < 1e-4);
+    /// ```
+    pub fn for_kinetic_energy(
+        &self,
+        kinetic_ev: f32,
+    ) -> core::result::Result<Gun, (GunInput, Error)> {
+        let e = check_energy(kinetic_ev).map_err(|e| (GunInput::Sum, e))?;
+        let probe = Gun {
+            nominal_ev: 1.0,
+            ..*self
+        };
+        // The corrections are checked as the forward direction checks them.
+        if let Err((i, err)) = probe.kinetic_energy_at() {
+            if i != GunInput::Sum {
+                return Err((i, err));
+            }
+        }
+        let n = e - self.cathode_work_function_ev + self.sample_work_function_ev - self.offset_ev;
+        if n <= 0.0 {
+            return Err((GunInput::Sum, Error::TooLow(Quantity::Energy)));
+        }
+        if n > ENERGY_MAX_EV {
+            return Err((GunInput::Sum, Error::TooHigh(Quantity::Energy)));
+        }
+        Ok(Gun {
+            nominal_ev: n,
+            ..*self
+        })
+    }
+}
+
 /// Momentum times c, eV: pc = √(E(E + 2mc²)). No range check (internal use).
 #[inline]
 pub fn pc_ev_unchecked(energy_ev: f32) -> f32 {
@@ -371,6 +414,42 @@ mod tests {
             energy_from_wavelength_ev(f32::NAN),
             Err(Error::NotFinite(_))
         ));
+    }
+
+    #[test]
+    fn nominal_for_a_kinetic_energy_inverts_the_gun_sum() {
+        let g = Gun {
+            nominal_ev: 0.0,
+            cathode_work_function_ev: 2.7,
+            sample_work_function_ev: 4.65,
+            offset_ev: -0.4,
+        };
+        for e in [1.0f32, 54.0, 150.0, 2.0e5] {
+            let n = g.for_kinetic_energy(e).unwrap();
+            let back = n.kinetic_energy_ev().unwrap();
+            assert!((back - e).abs() <= 1e-6 * e + 1e-5, "{e} -> {back}");
+        }
+        // The corrections are checked; a nominal energy at or below 0 is refused.
+        let bad = Gun {
+            cathode_work_function_ev: 11.0,
+            ..g
+        };
+        assert_eq!(
+            bad.for_kinetic_energy(100.0).map_err(|(i, _)| i),
+            Err(GunInput::CathodeWorkFunction)
+        );
+        let fast_cathode = Gun {
+            cathode_work_function_ev: 5.0,
+            ..Gun::plain(0.0)
+        };
+        assert_eq!(
+            fast_cathode.for_kinetic_energy(3.0),
+            Err((GunInput::Sum, Error::TooLow(Quantity::Energy)))
+        );
+        assert_eq!(
+            Gun::plain(0.0).for_kinetic_energy(0.5).map_err(|(i, _)| i),
+            Err(GunInput::Sum)
+        );
     }
 
     #[test]

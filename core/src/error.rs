@@ -295,7 +295,9 @@ impl Error {
                 Quantity::Energy => "energy below 1 eV; accepted 1 eV to 300000 eV",
                 Quantity::InnerPotential => "inner potential negative; accepted 0 to 100 eV",
                 Quantity::WorkFunction => "work function negative; accepted 0 to 10 eV",
-                Quantity::Wavelength => "wavelength must be positive (Å)",
+                Quantity::Wavelength => {
+                    "wavelength too short or not positive: energy would be above 300 keV; accepted 0.0197 to 12.26 Å"
+                }
                 Quantity::Length => "length must be positive",
                 Quantity::Count => "count or step must be positive",
                 Quantity::EnergySpread => "energy spread negative; accepted 0 to 100 eV",
@@ -308,7 +310,9 @@ impl Error {
                 Quantity::WorkFunction => "work function above 10 eV; accepted 0 to 10 eV",
                 Quantity::EnergyOffset => "energy offset beyond ±1000 eV",
                 Quantity::Tilt => "tilt beyond ±89.9 deg",
-                Quantity::Wavelength => "wavelength too long: energy would be below 1 eV",
+                Quantity::Wavelength => {
+                    "wavelength too long: energy would be below 1 eV; accepted 0.0197 to 12.26 Å"
+                }
                 Quantity::Count => "too many points or steps",
                 Quantity::EnergySpread => "energy spread above 100 eV; accepted 0 to 100 eV",
                 Quantity::ArmZeroSigma => "arm-zero uncertainty above 10 deg; accepted 0 to 10 deg",

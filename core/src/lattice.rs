@@ -372,6 +372,23 @@ pub fn parse_miller(text: &str, hexagonal: bool) -> Result<Miller> {
     Ok(hkl)
 }
 
+/// The Miller–Bravais indices (h k i l) of a hexagonal plane or reciprocal vector (hkl)
+/// (on a, b, c with γ = 120°): i = −(h + k), the index on the third basal axis
+/// a3 = −(a1 + a2). Unlike a direction, a plane needs no rescaling. Saturates instead of
+/// overflowing for indices near the `i32` range (never reached: faces and reflections
+/// stay far below it).
+///
+/// ```
+/// use matterwave_core::lattice::four_index_plane;
+/// assert_eq!(four_index_plane([1, 0, 1]), [1, 0, -1, 1]); // (10-11)
+/// assert_eq!(four_index_plane([1, 1, 0]), [1, 1, -2, 0]); // (11-20)
+/// assert_eq!(four_index_plane([0, 0, 2]), [0, 0, 0, 2]); // (0002)
+/// ```
+pub fn four_index_plane(hkl: Miller) -> [i32; 4] {
+    let [h, k, l] = hkl;
+    [h, k, h.saturating_add(k).saturating_neg(), l]
+}
+
 /// A hexagonal direction \[UVW\] (on a, b, c) in four-index form \[uvtw\]:
 /// u = (2U − V)/3, v = (2V − U)/3, t = −(u + v), w = W, scaled to the smallest integers.
 ///

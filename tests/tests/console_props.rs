@@ -38,10 +38,10 @@ const STREAM_CAP: u32 = 300;
 // ---------------------------------------------------------------------------------
 
 /// The command words, as `help` lists them.
-const COMMANDS: [&str; 23] = [
-    "hello", "help", "status", "set", "get", "crystals", "faces", "beams", "aim", "move", "stop",
-    "pos", "enable", "disable", "home", "axis", "zone", "plan", "pt", "fit", "read", "dump",
-    "reset",
+const COMMANDS: [&str; 24] = [
+    "hello", "help", "status", "set", "get", "crystals", "faces", "beams", "energy", "aim", "move",
+    "stop", "pos", "enable", "disable", "home", "axis", "zone", "plan", "pt", "fit", "read",
+    "dump", "reset",
 ];
 
 /// Well-formed requests mixed into the random byte streams.

@@ -273,6 +273,10 @@ fn no_stream_line_outgrows_its_buffer() {
         "plan kind=track from=20.123457 to=300.123457 step=9.87654321".into(),
         "plan kind=iv from=20.123457 to=300.123457 step=9.87654321".into(),
         "budget".into(),
+        // The inverse wavelength at both edges of the range, and refused.
+        "energy lambda=0.0196875123".into(),
+        "energy lambda=12.2643123".into(),
+        "energy lambda=-12.2643123".into(),
     ];
     // The dump of the longest settings: the longest crystal id, a face with the
     // longest indices accepted (|index| ≤ 12), a beam of two-digit indices.

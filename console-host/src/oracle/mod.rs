@@ -28,6 +28,7 @@ mod beam;
 mod iv;
 mod lab;
 mod lattice;
+mod screen;
 mod surface;
 #[cfg(test)]
 mod tests;
@@ -37,4 +38,5 @@ pub use beam::*;
 pub use iv::*;
 pub use lab::*;
 pub use lattice::*;
+pub use screen::*;
 pub use surface::*;

@@ -31,12 +31,17 @@ use crate::error::{finite, AxisId, Error, Quantity, Result};
 use crate::listing::{insert_sorted, Listing};
 
 mod resolve;
+mod screen;
 
 use crate::math::{self, Vec3};
 use crate::surface::{Face, Incidence, SurfaceBeam};
 pub use resolve::{
     aim, aim_checked, refusals, refusals_checked, AimRequest, Branch, Refusal, Refusals,
     MAX_REFUSALS,
+};
+pub use screen::{
+    check_gun_shadow, gun_shadowed, Landing, Screen, Spot, Spots, GUN_SHADOW_MAX_DEG,
+    SCREEN_LENGTH_MAX_MM,
 };
 
 /// Index of each axis in a step-count array `[i32; 4]`.
@@ -585,25 +590,30 @@ pub fn nearest_in_view(
         return Ok(None);
     }
     let view = |b: SurfaceBeam| seen_from(b, inc, d, cos_acc);
+    // Nearer, or as near and first in rod-index order (the order `beams_near` visits).
+    let better = |v: &InView, b: &InView| {
+        v.offset_deg < b.offset_deg || (v.offset_deg == b.offset_deg && v.beam.rod < b.beam.rod)
+    };
     let seed = face.rod_nearest(inc, centre);
-    let mut best_deg = acc;
+    let mut best: Option<InView> = None;
     for dh in -1..=1 {
         for dk in -1..=1 {
             let rod = [seed[0].saturating_add(dh), seed[1].saturating_add(dk)];
             if let Some(v) = face.beam(rod, inc).ok().and_then(view) {
-                best_deg = best_deg.min(v.offset_deg);
+                if best.is_none_or(|b| better(&v, &b)) {
+                    best = Some(v);
+                }
             }
         }
     }
-    // Every beam at least as near as the best seed lies in this disk.
-    let radius = if best_deg < acc {
-        view_disk(inc, d, best_deg).1 * (1.0 + 1.0e-4) + 1.0e-6
-    } else {
-        radius0
+    // Every beam nearer than the best seed lies in this disk. The seed itself is kept:
+    // on a beam the disk shrinks to the rounding of k∥, which may leave it outside.
+    let radius = match best {
+        Some(b) => view_disk(inc, d, b.offset_deg).1 * (1.0 + 1.0e-4) + 1.0e-6,
+        None => radius0,
     };
-    let mut best: Option<InView> = None;
     for v in face.beams_near(inc, centre, radius).filter_map(view) {
-        if best.is_none_or(|b| v.offset_deg < b.offset_deg) {
+        if best.is_none_or(|b| better(&v, &b)) {
             best = Some(v);
         }
     }

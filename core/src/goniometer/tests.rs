@@ -190,3 +190,25 @@ fn beams_in_view_inverts_aim() {
         assert!(v[0].offset_deg < 0.01);
     }
 }
+
+/// A detector pointed exactly along a beam sees that beam: with the offset near zero
+/// the search disk shrinks to the rounding of k∥, and the seed beam found first must not
+/// be lost (it was, for W(110) (2,2) at 212 eV, tilt −8°, azimuth 33°: `None`).
+/// W a = 3.1652 Å (the crystal table's value).
+#[test]
+fn nearest_in_view_on_the_beam_itself() {
+    let f = Face::new(
+        &Cell::new(Structure::Bcc, 3.1652, 0.0, 0.0).unwrap(),
+        [1, 1, 0],
+    )
+    .unwrap();
+    let inc = Incidence::new(212.0, -8.0, 33.0).unwrap();
+    let mut n = 0;
+    for b in f.beams_iter(&inc) {
+        let (arm, elev) = arm_elevation_deg(beam_direction_lab(&b, &inc));
+        let got = nearest_in_view(&f, &inc, arm, elev, 0.5).unwrap();
+        assert_eq!(got.map(|v| v.beam.rod), Some(b.rod), "{b:?}");
+        n += 1;
+    }
+    assert!(n > 10);
+}

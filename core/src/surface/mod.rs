@@ -691,7 +691,9 @@ fn emergence_from(g: [f32; 2], g2: f32, s: f32) -> Option<f32> {
     Some(beam::energy_from_wavenumber_ev(u))
 }
 
-fn beam_before(a: &SurfaceBeam, b: &SurfaceBeam) -> bool {
+/// The one beam order (DEVELOPERS.md): whether `a` is listed before `b` — increasing
+/// |g|, equal |g| (within a relative 1e-5) by rod indices descending, h then k.
+pub fn beam_before(a: &SurfaceBeam, b: &SurfaceBeam) -> bool {
     // The larger |g| by comparison, not f32::max (a libm call on the target); |g| is a
     // square root, never NaN.
     let larger = if a.g_inv_a > b.g_inv_a {

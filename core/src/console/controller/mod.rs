@@ -90,7 +90,7 @@ type Rw<'w, W> = ReplyWriter<'w, W, MAX_REPLY>;
 
 /// Commands with their one-line usage, as `help` lists them (`set` appends the key names
 /// of [`SETTING_KEYS`] it takes, `axis` the rig file's axis keys).
-pub const COMMANDS: [(&str, &str); 25] = [
+pub const COMMANDS: [(&str, &str); 26] = [
     ("hello", "identify: name, version, protocol"),
     ("help", "this list"),
     ("status", "enabled, interlock, motion, stream"),
@@ -103,6 +103,10 @@ pub const COMMANDS: [(&str, &str); 25] = [
     ("crystals", "list the crystal table"),
     ("faces", "list the crystal's table faces"),
     ("beams", "list the beams at the current settings"),
+    (
+        "energy",
+        "energy lambda=A: the kinetic energy (eV) of an electron of that wavelength",
+    ),
     (
         "aim",
         "aim [beam=h,k] [branch=nearest|+1|-1]: solutions for the beam, nearest first; on failure every refusal, then err",
@@ -467,6 +471,16 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             "beams" => {
                 no_args(a)?;
                 self.start_beams()
+            }
+            "energy" => {
+                // Read and converted in one step, so a fault quotes the value as typed.
+                let e = args::keyed(a, "lambda", |v| {
+                    crate::beam::energy_from_wavelength_ev(args::parse_num(v)?).map_err(Fault::from)
+                })?
+                .ok_or_else(|| args::missing(a, "lambda"))?;
+                fault::check_used(a)?;
+                rw.ok().field_f32_rt("energy", e);
+                Ok(None)
             }
             "aim" => self.cmd_aim(a),
             "move" => self.cmd_move(a, rw),
