@@ -439,25 +439,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 self.write_unknown(rw);
                 Ok(None)
             }
-            "session" => {
-                let id = args::opt_int(a, "id")?;
-                fault::check_used(a)?;
-                let id = id.ok_or_else(|| {
-                    Fault::from(Error::MissingArgument)
-                        .on_key("id")
-                        .accepting(fault::Accepted::usage_of("session"))
-                })?;
-                if id < 1 {
-                    return Err(Fault::from(Error::BadValue)
-                        .on_key("id")
-                        .because("a session mark is 1 to 2147483647"));
-                }
-                // Kept through `reset` (the host asked for that one): only a power-up,
-                // a new console, forgets it.
-                self.session = id as u32;
-                rw.ok().field_i32("session", id);
-                Ok(None)
-            }
+            "session" => self.cmd_session(a, rw),
             "set" => self.cmd_set(a, rw),
             "get" => self.cmd_get(a, rw),
             "crystals" => {
@@ -472,16 +454,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 no_args(a)?;
                 self.start_beams()
             }
-            "energy" => {
-                // Read and converted in one step, so a fault quotes the value as typed.
-                let e = args::keyed(a, "lambda", |v| {
-                    crate::beam::energy_from_wavelength_ev(args::parse_num(v)?).map_err(Fault::from)
-                })?
-                .ok_or_else(|| args::missing(a, "lambda"))?;
-                fault::check_used(a)?;
-                rw.ok().field_f32_rt("energy", e);
-                Ok(None)
-            }
+            "energy" => cmd_energy(a, rw),
             "aim" => self.cmd_aim(a),
             "move" => self.cmd_move(a, rw),
             "stop" => {
@@ -533,6 +506,33 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         }
     }
 
+    /// `session id=N`: the host's mark, kept until power-up (not by `reset`). Out of
+    /// line, so that its locals do not deepen every request's frame.
+    #[inline(never)]
+    fn cmd_session<W: Write>(
+        &mut self,
+        a: &mut Args<'_>,
+        rw: &mut Rw<'_, W>,
+    ) -> Result<Option<Stream>> {
+        let id = args::opt_int(a, "id")?;
+        fault::check_used(a)?;
+        let id = id.ok_or_else(|| {
+            Fault::from(Error::MissingArgument)
+                .on_key("id")
+                .accepting(fault::Accepted::usage_of("session"))
+        })?;
+        if id < 1 {
+            return Err(Fault::from(Error::BadValue)
+                .on_key("id")
+                .because("a session mark is 1 to 2147483647"));
+        }
+        // Kept through `reset` (the host asked for that one): only a power-up, a new
+        // console, forgets it.
+        self.session = id as u32;
+        rw.ok().field_i32("session", id);
+        Ok(None)
+    }
+
     /// Writes the next line of a running stream. Returns whether more lines follow.
     ///
     /// The stream is stepped where it lives: the settings and stored solutions it reads
@@ -565,4 +565,18 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         rw.finish()?;
         Ok(more)
     }
+}
+
+/// `energy lambda=Å`: the kinetic energy of that wavelength; reads and changes no
+/// setting. Out of line, so that its locals do not deepen every request's frame.
+#[inline(never)]
+fn cmd_energy<W: Write>(a: &mut Args<'_>, rw: &mut Rw<'_, W>) -> Result<Option<Stream>> {
+    // Read and converted in one step, so a fault quotes the value as typed.
+    let e = args::keyed(a, "lambda", |v| {
+        crate::beam::energy_from_wavelength_ev(args::parse_num(v)?).map_err(Fault::from)
+    })?
+    .ok_or_else(|| args::missing(a, "lambda"))?;
+    fault::check_used(a)?;
+    rw.ok().field_f32_rt("energy", e);
+    Ok(None)
 }
