@@ -46,11 +46,17 @@ zones = [[40, 50]]
 "#;
 
 fn rig_files() -> Vec<String> {
-    let dir = std::env::temp_dir().join(format!("mwctl-rig-console-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
-    let p = dir.join("rig-console-one-circle.toml");
-    std::fs::write(&p, ONE_CIRCLE).unwrap();
-    vec![BENCH_B.to_string(), p.display().to_string()]
+    // Written once for the whole test binary: tests run in parallel, and one reading
+    // the file while another rewrites it saw it half written.
+    static ONE: std::sync::OnceLock<String> = std::sync::OnceLock::new();
+    let one = ONE.get_or_init(|| {
+        let dir = std::env::temp_dir().join(format!("mwctl-rig-console-{}", std::process::id()));
+        std::fs::create_dir_all(&dir).unwrap();
+        let p = dir.join("rig-console-one-circle.toml");
+        std::fs::write(&p, ONE_CIRCLE).unwrap();
+        p.display().to_string()
+    });
+    vec![BENCH_B.to_string(), one.clone()]
 }
 
 /// The items of a `dump`, without their `- `.
