@@ -53,9 +53,7 @@ fn dump<W: Wire>(s: &mut Session<W>) -> CliResult<Vec<String>> {
 }
 
 fn hello_field(hello: &str, key: &str) -> String {
-    hello
-        .split(' ')
-        .find_map(|w| w.strip_prefix(key)?.strip_prefix('='))
+    crate::link::session::reply_field(hello, key)
         .unwrap_or("")
         .to_string()
 }

@@ -766,13 +766,7 @@ pub fn beams(
     let mut r = Report::default();
     face_fields(&mut r, c, &face);
     g.fields(&mut r, e);
-    r.field(
-        "wavelength_a",
-        "wavelength (Å)",
-        Value::F32(1.0 / inc.k_inv_a, 6),
-    );
-    r.field("tilt_deg", "tilt (deg)", Value::F32(tilt, 3));
-    r.field("azimuth_deg", "azimuth (deg)", Value::F32(azimuth, 3));
+    incidence_fields(&mut r, &inc);
     let mut list = List {
         key: "beams",
         columns: vec![
@@ -949,4 +943,20 @@ pub fn ivpeaks(id: &str, face_text: &str, a: &IvArgs, max: usize) -> CliResult<R
     truncated_field(&mut r, l.truncated);
     r.list = Some(list);
     Ok(r)
+}
+
+/// The incidence a face's beams were computed for: wavelength at the sample, tilt and
+/// azimuth (as `Incidence` holds them).
+pub(crate) fn incidence_fields(r: &mut Report, inc: &Incidence) {
+    r.field(
+        "wavelength_a",
+        "wavelength (Å)",
+        Value::F32(1.0 / inc.k_inv_a, 6),
+    );
+    r.field("tilt_deg", "tilt (deg)", Value::F32(inc.tilt_deg, 3));
+    r.field(
+        "azimuth_deg",
+        "azimuth (deg)",
+        Value::F32(inc.azimuth_deg, 3),
+    );
 }

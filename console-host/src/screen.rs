@@ -149,13 +149,7 @@ pub fn screen(a: &ScreenArgs) -> CliResult<Report> {
     let mut r = Report::default();
     face_fields(&mut r, c, &face);
     g.fields(&mut r, e);
-    r.field(
-        "wavelength_a",
-        "wavelength (Å)",
-        Value::F32(1.0 / inc.k_inv_a, 6),
-    );
-    r.field("tilt_deg", "tilt (deg)", Value::F32(tilt, 3));
-    r.field("azimuth_deg", "azimuth (deg)", Value::F32(azimuth, 3));
+    crate::calc::incidence_fields(&mut r, &inc);
     screen_fields(&mut r, &scr);
     r.field("gun_shadow_deg", "gun shadow (deg)", Value::F32(shadow, 2));
     if let Some(text) = &a.spot {

@@ -97,9 +97,7 @@ fn faces_of(c: &table::Crystal, extent: Extent) -> Vec<[i32; 3]> {
 }
 
 fn field(line: &str, key: &str) -> Option<f64> {
-    line.split(' ')
-        .find_map(|w| w.strip_prefix(key)?.strip_prefix('='))
-        .and_then(|v| v.parse().ok())
+    crate::link::session::reply_field(line, key).and_then(|v| v.parse().ok())
 }
 
 /// What a verify run found.

@@ -125,13 +125,7 @@ pub fn connect(spec: &LinkSpec) -> CliResult<session::Session<Box<dyn Wire>>> {
     let hello = s
         .request("hello")
         .map_err(|e| CliError::new(format!("{name}: {e}")))?;
-    let field = |k: &str| {
-        hello
-            .last
-            .split(' ')
-            .find_map(|w| w.strip_prefix(k)?.strip_prefix('='))
-            .map(str::to_string)
-    };
+    let field = |k: &str| session::reply_field(&hello.last, k).map(str::to_string);
     if !hello.ok() || field("name").as_deref() != Some("matterwave") {
         return Err(CliError::new(format!(
             "{name}: the device answered {:?} to hello: not a matterwave controller (or a wrong baud rate)",

@@ -128,23 +128,26 @@ pub struct Session<W: Wire> {
 /// item line cannot be told from the final line.
 pub fn announced_items(request: &str, last: &str) -> Option<u64> {
     let key = match request.split_whitespace().next()? {
-        "help" | "crystals" | "faces" | "beams" | "aim" => "count=",
-        "plan" => "points=",
+        "help" | "crystals" | "faces" | "beams" | "aim" => "count",
+        "plan" => "points",
         _ => return None,
     };
     if !last.starts_with("ok") {
         return None;
     }
-    last.split(' ')
-        .find_map(|w| w.strip_prefix(key))
-        .and_then(|v| v.parse().ok())
+    reply_field(last, key).and_then(|v| v.parse().ok())
+}
+
+/// The value of `key=` in a reply line (the line's checksum already removed), if it
+/// has one: the one reader of reply fields on the host.
+pub fn reply_field<'a>(line: &'a str, key: &str) -> Option<&'a str> {
+    line.split(' ')
+        .find_map(|w| w.strip_prefix(key)?.strip_prefix('='))
 }
 
 /// Whether a `status` line carries the session mark `id`.
 fn has_mark(status: &str, id: u32) -> bool {
-    status
-        .split(' ')
-        .any(|w| w.strip_prefix("session=") == Some(id.to_string().as_str()))
+    reply_field(status, "session") == Some(id.to_string().as_str())
 }
 
 /// Whether `request` may be sent again when its reply is lost.
@@ -332,10 +335,7 @@ impl<W: Wire> Session<W> {
                 });
             }
         }
-        let now = last
-            .split(' ')
-            .find_map(|w| w.strip_prefix("requests="))
-            .and_then(|v| v.parse::<u64>().ok());
+        let now = reply_field(last, "requests").and_then(|v| v.parse::<u64>().ok());
         if let (Some(before), Some(now)) = (self.seen_requests, now) {
             // Each status counts itself: a count that did not grow is a new device.
             if now <= before {
