@@ -54,7 +54,7 @@ pub enum Command {
     /// face on a controller (moves the arm, tilt and azimuth), show them with 1σ and
     /// per-beam residuals, and apply them only on confirmation or --yes.
     #[command(allow_negative_numbers = true, after_help = CAUTIONS)]
-    Align(crate::align::AlignArgs),
+    Align(Box<crate::align::AlignArgs>),
     /// Offline calculations with the controller's own f32 code.
     #[command(subcommand)]
     Calc(Calc),

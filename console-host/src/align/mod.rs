@@ -437,5 +437,18 @@ pub fn run(args: &AlignArgs) -> CliResult<Report> {
     } else {
         None
     };
-    Ok(report(&a, applied.as_ref()))
+    let mut r = report(&a, applied.as_ref());
+    if let Some(i) = &args.rig {
+        if let Ok(rf) = crate::rig::load(i) {
+            let file = rf.rig.arm.home_offset_deg;
+            if file.to_bits() != a.home_offset_deg.to_bits() {
+                r.notes.push(format!(
+                    "the rig file's arm home offset ({file}°) is not the controller's ({}°): the copy gets the file's less δ0, {}°",
+                    a.home_offset_deg,
+                    file - a.arm_zero_deg()
+                ));
+            }
+        }
+    }
+    Ok(r)
 }
