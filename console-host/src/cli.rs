@@ -26,14 +26,19 @@ pub struct Cli {
     pub format: Format,
     /// Seed of the simulated controller's detector noise (links `sim` and `pty`, `mwctl
     /// serve --pty`; default 1). Real controllers and the QEMU image ignore it.
-    #[arg(long, global = true, value_name = "N")]
+    #[arg(long, global = true, value_name = "N", help_heading = "Simulator")]
     pub sim_seed: Option<u32>,
     /// Calibration errors the simulated instrument hides from its console (links `sim`
     /// and `pty`, `mwctl serve --pty`): arm_zero=DEG (±360), energy=EV (±1e6),
     /// tilt=DEG (±90), comma-separated, any subset (absent ones 0). No console request
     /// reads or sets them (docs/SIMULATOR.md); `mwctl align` finds the arm zero and
     /// energy offset. Real controllers and the QEMU image ignore it.
-    #[arg(long, global = true, value_name = "arm_zero=DEG,energy=EV,tilt=DEG")]
+    #[arg(
+        long,
+        global = true,
+        value_name = "arm_zero=DEG,energy=EV,tilt=DEG",
+        help_heading = "Simulator"
+    )]
     pub sim_hidden: Option<String>,
     /// What to do.
     #[command(subcommand)]
@@ -50,11 +55,6 @@ pub enum Command {
         #[arg(long, value_name = "ID")]
         crystal: Option<String>,
     },
-    /// Find the arm zero and the gun's energy offset from known beams of a reference
-    /// face on a controller (moves the arm, tilt and azimuth), show them with 1σ and
-    /// per-beam residuals, and apply them only on confirmation or --yes.
-    #[command(allow_negative_numbers = true, after_help = CAUTIONS)]
-    Align(Box<crate::align::AlignArgs>),
     /// Offline calculations with the controller's own f32 code.
     #[command(subcommand)]
     Calc(Calc),
@@ -92,6 +92,11 @@ pub enum Command {
         #[arg(long, value_name = "BAUD")]
         baud: Option<u32>,
     },
+    /// Find the arm zero and the gun's energy offset from known beams of a reference
+    /// face on a controller (moves the arm, tilt and azimuth), show them with 1σ and
+    /// per-beam residuals, and apply them only on confirmation or --yes.
+    #[command(allow_negative_numbers = true, after_help = CAUTIONS)]
+    Align(Box<crate::align::AlignArgs>),
     /// Check a controller's math: a sweep of beams and aims over the link, every reply
     /// compared with the host's own core (identical lines) and with the f64 oracle.
     Verify {

@@ -254,12 +254,14 @@ fn measure_one<W: Wire>(
     let mut levels: Vec<f32> = coarse.iter().map(|x| x.current).collect();
     levels.sort_by(f32::total_cmp);
     let median = levels.get(levels.len() / 2).copied().unwrap_or(0.0);
-    let (top_i, top) = coarse
+    let Some((top_i, top)) = coarse
         .iter()
         .enumerate()
         .max_by(|a, b| a.1.current.total_cmp(&b.1.current))
         .map(|(i, x)| (i, *x))
-        .unwrap_or((0, coarse[0]));
+    else {
+        return Ok(Err("no reading in the search window".into()));
+    };
     if !(top.current > o.contrast * median.max(0.0) && top.current > median) {
         return Ok(Err(format!(
             "no peak within ±{}° of the aimed arm {aimed:.3}°: the largest reading {:.4} is not {}× the median {:.4} (widen --window, or the beam is weak at this energy)",
