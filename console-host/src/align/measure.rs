@@ -167,9 +167,26 @@ fn wait_at_rest<W: Wire>(s: &mut Session<W>) -> CliResult<()> {
     }
 }
 
+/// Set by `mwctl align`'s Ctrl-C handler ([`super::run`]): the measurement sends
+/// `stop`, disables motion, puts the energy and beam back and ends with an error.
+pub(super) static INTERRUPTED: std::sync::atomic::AtomicBool =
+    std::sync::atomic::AtomicBool::new(false);
+
+/// An error once Ctrl-C was pressed (after sending `stop`).
+fn check_interrupt<W: Wire>(s: &mut Session<W>) -> CliResult<()> {
+    if INTERRUPTED.load(std::sync::atomic::Ordering::SeqCst) {
+        let _ = try_req(s, "stop");
+        return Err(CliError::new(
+            "align: interrupted (Ctrl-C): stop sent, motion disabled, nothing applied; the axes stay where they stopped",
+        ));
+    }
+    Ok(())
+}
+
 /// Moves the arm to `arm_deg` and reads the detector: (arm angle reached, reading), or
 /// `None` when the controller refuses the target (a limit or a forbidden zone).
 fn arm_read<W: Wire>(s: &mut Session<W>, arm_deg: f32) -> CliResult<Option<Sample>> {
+    check_interrupt(s)?;
     let r = try_req(s, &format!("move arm={arm_deg:.4}"))?;
     if !r.ok() {
         let code = r.last.split_whitespace().nth(1).unwrap_or("");
@@ -207,6 +224,7 @@ fn measure_one<W: Wire>(
     branch: i8,
     energy: &str,
 ) -> CliResult<Result<Measured, String>> {
+    check_interrupt(s)?;
     ok(s, &format!("set energy={energy}"))?;
     let aim = try_req(s, &format!("aim branch={branch:+}"))?;
     let Some(sol) = aim.items.first().filter(|_| aim.ok()) else {

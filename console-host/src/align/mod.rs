@@ -423,6 +423,15 @@ pub fn run(args: &AlignArgs) -> CliResult<Report> {
         args.link
     );
     let mut s = crate::link::connect(&spec)?;
+    {
+        // Ctrl-C: `stop` at once (also in the middle of a request), then the
+        // measurement ends cleanly between requests.
+        let flag = s.stop_flag.clone();
+        let _ = ctrlc::set_handler(move || {
+            flag.store(true, std::sync::atomic::Ordering::SeqCst);
+            measure::INTERRUPTED.store(true, std::sync::atomic::Ordering::SeqCst);
+        });
+    }
     let a = measure(&mut s, &o)?;
     let go = args.yes
         || (std::io::stdin().is_terminal()
