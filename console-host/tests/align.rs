@@ -258,3 +258,29 @@ fn cli_reports_applies_with_yes_and_writes_the_rig_copy() {
     assert!(!out.exists());
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// The host's simulator options reach the simulator behind a pseudo-terminal too (the
+/// device thread of `--link pty`): align over the serial path finds the hidden offsets.
+#[test]
+fn hidden_offsets_reach_the_pty_simulator() {
+    let j = common::json(&[
+        "--sim-hidden",
+        "arm_zero=1.1,energy=-2.5",
+        "--sim-seed",
+        "21",
+        "align",
+        "--link",
+        "pty",
+        "--beams",
+        "1,0 1,1",
+    ]);
+    let d0 = j["arm_zero_deg"].as_f64().unwrap();
+    let s0 = j["arm_zero_sigma_deg"].as_f64().unwrap();
+    let de = j["energy_offset_ev"].as_f64().unwrap();
+    let se = j["energy_offset_sigma_ev"].as_f64().unwrap();
+    assert!(
+        (d0 - 1.1).abs() < 4.0 * s0 && (de + 2.5).abs() < 4.0 * se,
+        "{j}"
+    );
+    assert_eq!(j["applied"], serde_json::Value::Bool(false));
+}
