@@ -68,6 +68,9 @@ enum Halt {
     Device(String),
 }
 
+/// The axes, in the order of `pos` and the file's columns.
+const AXES: [&str; 4] = ["arm", "elevation", "tilt", "azimuth"];
+
 impl Halt {
     fn word(&self) -> &'static str {
         match self {
@@ -165,6 +168,8 @@ fn points_of(items: &[String]) -> Vec<Point> {
 
 /// What the controller said while being prepared.
 struct Prepared {
+    /// `pos` before the first point: where the plan starts.
+    pos: String,
     hello: String,
     get: String,
     dump: Vec<String>,
@@ -226,6 +231,19 @@ fn prepare(s: &mut Dev, cfg: &Config) -> CliResult<Prepared> {
             }
         }
     }
+    if cfg.kind != "sweep" {
+        // The scan sets the energy at every point: the configuration it records (and a
+        // resumed scan compares) is the one at the plan's first energy.
+        let req = format!("set energy={}", cfg.from);
+        let r = s.request(&req).map_err(link_err)?;
+        if !r.ok() {
+            return Err(CliError::new(format!(
+                "scan --from {}: the controller refused `{req}`: {}",
+                cfg.from, r.last
+            )));
+        }
+    }
+    let pos = s.request("pos").map_err(link_err)?.last;
     let get = s.request("get").map_err(link_err)?;
     if !get.ok() {
         return Err(refused("get", &get));
@@ -240,6 +258,7 @@ fn prepare(s: &mut Dev, cfg: &Config) -> CliResult<Prepared> {
         )));
     }
     Ok(Prepared {
+        pos,
         hello,
         get: get.last,
         dump,
@@ -270,6 +289,7 @@ fn header(cfg: &Config, s: &mut Dev, p: &Prepared, started: f64) -> Vec<(String,
     ));
     h.push(("device_hello".into(), p.hello.clone()));
     h.push(("device_get".into(), p.get.clone()));
+    h.push(("start_pos".into(), p.pos.clone()));
     h.extend(
         p.dump
             .iter()
@@ -525,24 +545,26 @@ enum Moved {
     Refused(String),
 }
 
+/// Tries of one move whose reply keeps getting lost.
+const MOVE_TRIES: u32 = 3;
+
 /// Sends a move. When its reply is lost (it may have run), asks where the axes are:
-/// at `arm_steps` it ran; otherwise it did not, and goes once more (an absolute target:
-/// a second move to it is not a second motion).
+/// at `arm_steps` it ran; otherwise it did not, and goes again (an absolute target: a
+/// second move to it is not a second motion), at most [`MOVE_TRIES`] times in all.
 fn move_to(s: &mut Dev, req: &str, arm_steps: Option<i64>) -> Result<Moved, Halt> {
-    match s.request(req) {
-        Ok(r) if r.ok() => return Ok(Moved::Done),
-        Ok(r) if INTERRUPTED.load(Ordering::SeqCst) => {
-            let _ = r;
-            return Err(Halt::Interrupted);
+    for _ in 1..MOVE_TRIES {
+        match s.request(req) {
+            Ok(r) if r.ok() => return Ok(Moved::Done),
+            Ok(_) if INTERRUPTED.load(Ordering::SeqCst) => return Err(Halt::Interrupted),
+            Ok(r) => return Ok(Moved::Refused(r.last)),
+            Err(LinkError::Unsure { .. }) if !INTERRUPTED.load(Ordering::SeqCst) => {}
+            Err(e) => return Err(halt_of(e)),
         }
-        Ok(r) => return Ok(Moved::Refused(r.last)),
-        Err(LinkError::Unsure { .. }) if !INTERRUPTED.load(Ordering::SeqCst) => {}
-        Err(e) => return Err(halt_of(e)),
-    }
-    wait_arrival(s)?;
-    let pos = ask_ok(s, "pos")?.last;
-    if arm_steps.is_some() && int(&pos, "arm_steps") == arm_steps {
-        return Ok(Moved::Done);
+        wait_arrival(s)?;
+        let pos = ask_ok(s, "pos")?.last;
+        if arm_steps.is_some() && int(&pos, "arm_steps") == arm_steps {
+            return Ok(Moved::Done);
+        }
     }
     match s.request(req) {
         Ok(r) if r.ok() => Ok(Moved::Done),
@@ -661,7 +683,7 @@ fn measure(s: &mut Dev, cfg: &Config, p: &Prepared, pt: &Point) -> Result<Row, H
             "the controller does not know where {u} stand(s) (pos: {pos})"
         )));
     }
-    for (i, axis) in ["arm", "elevation", "tilt", "azimuth"].iter().enumerate() {
+    for (i, axis) in AXES.iter().enumerate() {
         row.angles_deg[i] = num(&pos, axis);
         row.steps[i] = int(&pos, &format!("{axis}_steps"));
     }
