@@ -95,7 +95,7 @@ pub enum Command {
     /// Run a plan on a controller — track, iv or sweep: per point set the energy, move,
     /// wait, read the detector — writing every point to a CSV file as it is measured;
     /// Ctrl-C stops the axes and keeps the file, --resume continues it (docs/SCAN.md).
-    Scan(crate::scan::ScanArgs),
+    Scan(Box<crate::scan::ScanArgs>),
     /// Save a controller's whole configuration (settings, axes, zones) to a file.
     Backup {
         /// The file to write.

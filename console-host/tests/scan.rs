@@ -225,7 +225,7 @@ fn ctrl_c_stops_keeps_the_file_valid_and_the_printed_command_resumes_it() {
     let server = common::serve_pty(&[]);
     let p = tmp("ctrl-c");
     // 0.1 s at each point: the scan takes about 2.3 s, Ctrl-C comes after 5 rows.
-    let mut child = mwctl()
+    let child = mwctl()
         .arg("scan")
         .args(PLAN)
         .args(["--link", &server.link, "--dwell", "0.1", "--out"])
@@ -395,4 +395,59 @@ fn resume_refuses_another_plan_or_configuration_naming_what_differs() {
     assert_eq!(std::fs::read(&p).unwrap(), before);
     let (code, _, err) = scan("sim", &p, &["--force"]);
     assert_eq!(code, 0, "{err}");
+}
+
+#[test]
+fn a_rig_with_new_calibration_needs_declared_homes_and_is_recorded() {
+    let rig = concat!(env!("CARGO_MANIFEST_DIR"), "/../docs/rigs/bench-b.toml");
+    let plan = [
+        "--kind",
+        "track",
+        "--beam",
+        "1,0",
+        "--set",
+        "crystal=ag",
+        "--set",
+        "tilt=6",
+        "--from",
+        "40",
+        "--to",
+        "120",
+        "--step",
+        "20",
+        "--rig",
+        rig,
+    ];
+    let p = tmp("rig");
+    let o = mwctl()
+        .arg("scan")
+        .args(plan)
+        .arg("--out")
+        .arg(&p)
+        .output()
+        .unwrap();
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(2), "{err}");
+    assert!(
+        err.contains("does not know where these axes stand") && err.contains("--declare-home"),
+        "{err}"
+    );
+    assert!(!p.exists(), "no file for a scan that could not start");
+    let o = mwctl()
+        .arg("scan")
+        .args(plan)
+        .args(["--declare-home", "--out"])
+        .arg(&p)
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let f = ScanFile::read(&p).unwrap();
+    // The rig's requests, as `mwctl rig show --console` prints them, are in the header.
+    let (code, console, _) = common::mwctl(&["rig", "show", "--rig", rig, "--console"]);
+    assert_eq!(code, 0);
+    assert_eq!(f.all("rig_line"), console.lines().collect::<Vec<_>>());
+    assert_eq!(f.all("set"), ["crystal=ag", "tilt=6"]);
+    assert!(f.get("device_get").unwrap().contains("crystal=ag"));
+    assert_eq!(f.rows.len(), 5);
+    assert_eq!(f.rows[0].status, "ok");
 }

@@ -9,6 +9,7 @@
 //! measured, so an interrupted scan loses nothing and `--resume` continues it.
 
 pub mod csv;
+mod prepare;
 pub mod progress;
 mod run;
 
@@ -117,7 +118,7 @@ pub struct Config {
 /// The options a resumed scan must share with the file, as header keys: the plan, its
 /// settings and the rig's requests (one place: [`Config::plan_header`] writes them, the
 /// resume check compares them).
-const PLAN_KEYS: [&str; 9] = [
+pub const PLAN_KEYS: [&str; 9] = [
     "kind", "from", "to", "step", "dwell_s", "branch", "beam", "set", "rig_line",
 ];
 
