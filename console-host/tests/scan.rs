@@ -451,3 +451,49 @@ fn a_rig_with_new_calibration_needs_declared_homes_and_is_recorded() {
     assert_eq!(f.rows.len(), 5);
     assert_eq!(f.rows[0].status, "ok");
 }
+
+#[test]
+fn a_lost_link_keeps_every_row_and_a_new_controller_continues_the_file() {
+    let want = reference();
+    let server = common::serve_pty(&[]);
+    let p = tmp("link-lost");
+    let child = mwctl()
+        .arg("scan")
+        .args(PLAN)
+        .args(["--link", &server.link, "--dwell", "0.1", "--out"])
+        .arg(&p)
+        .stderr(Stdio::piped())
+        .stdout(Stdio::null())
+        .spawn()
+        .unwrap();
+    let t = Instant::now();
+    while ScanFile::read(&p).map_or(0, |f| f.rows.len()) < 6 {
+        assert!(t.elapsed() < Duration::from_secs(20), "no rows coming");
+        std::thread::sleep(Duration::from_millis(10));
+    }
+    // The controller goes away (its process killed: the cable pulled).
+    drop(server);
+    let o = child.wait_with_output().unwrap();
+    let err = String::from_utf8_lossy(&o.stderr).into_owned();
+    assert_eq!(o.status.code(), Some(2), "{err}");
+    assert!(err.contains("link lost"), "{err}");
+    let f = ScanFile::read(&p).unwrap();
+    assert_eq!(f.last_end(), Some("link-lost"));
+    let n = f.rows.len();
+    assert!((6..POINTS).contains(&n), "{n} rows");
+    same_points(&f.rows, &want[..n], true, "before the link went");
+    // Another controller (factory settings, as the scan's options assume), another
+    // port: the file goes on.
+    let server = common::serve_pty(&[]);
+    let o = mwctl()
+        .arg("scan")
+        .args(PLAN)
+        .args(["--link", &server.link, "--dwell", "0.1", "--resume"])
+        .arg(&p)
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let f = ScanFile::read(&p).unwrap();
+    same_points(&f.rows, &want, false, "link lost, then resumed");
+    assert_eq!(f.last_end(), Some("complete"));
+}

@@ -182,9 +182,8 @@ fn run_inner(cfg: &Config) -> CliResult<(Summary, Option<CliError>)> {
             (Writer::create(&cfg.out, &h, cfg.force)?, 0, 0)
         }
     };
-    if !cfg.json {
-        eprintln!("{}", crate::cli::CAUTIONS);
-    }
+    // On stderr, in every format: the scan moves hardware.
+    eprintln!("{}", crate::cli::CAUTIONS);
     eprintln!(
         "mwctl scan: {} points ({} to go) on {}, rows to {}; Ctrl-C stops the axes and keeps every row",
         total,
