@@ -255,7 +255,10 @@ fn ctrl_c_stops_keeps_the_file_valid_and_the_printed_command_resumes_it() {
     let o = child.wait_with_output().unwrap();
     let err = String::from_utf8_lossy(&o.stderr).into_owned();
     assert_eq!(o.status.code(), Some(2), "{err}");
-    assert!(err.contains("interrupted (Ctrl-C)"), "{err}");
+    assert!(
+        err.contains("interrupted (Ctrl-C): stop sent and answered"),
+        "{err}"
+    );
     let f = ScanFile::read(&p).unwrap();
     assert_eq!(f.last_end(), Some("interrupted"));
     assert!(

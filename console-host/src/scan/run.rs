@@ -36,7 +36,7 @@ pub struct Summary {
     pub rows: u32,
     /// Rows measured (status `ok` or `off-target`).
     pub measured: u32,
-    /// How the run ended: `complete`, `interrupted`, `device-reset`, `link-lost`, `stopped`.
+    /// How the run ended: `complete`, `interrupted`, `device-reset`, `link-lost`, `stopped`, `file-error`.
     pub status: String,
     /// Seconds this run took.
     pub seconds: f64,
@@ -66,6 +66,8 @@ enum Halt {
     Reset(String),
     Link(String),
     Device(String),
+    /// The file could not be written (disk full, removed device).
+    File(String),
 }
 
 /// The axes, in the order of `pos` and the file's columns.
@@ -78,6 +80,7 @@ impl Halt {
             Halt::Reset(_) => "device-reset",
             Halt::Link(_) => "link-lost",
             Halt::Device(_) => "stopped",
+            Halt::File(_) => "file-error",
         }
     }
 }
@@ -201,7 +204,10 @@ fn run_inner(cfg: &Config) -> CliResult<(Summary, Option<CliError>)> {
                 bar.update(rows);
                 match measure(&mut s, cfg, &prep, p) {
                     Ok(row) => {
-                        w.row(&row)?;
+                        if let Err(e) = w.row(&row) {
+                            halt = Some(Halt::File(e.message));
+                            break;
+                        }
                         rows += 1;
                         if row.status == Status::Ok.word() || row.status == Status::OffTarget.word()
                         {
@@ -229,10 +235,14 @@ fn run_inner(cfg: &Config) -> CliResult<(Summary, Option<CliError>)> {
         }
     }
     let status = halt.as_ref().map_or("complete", Halt::word);
-    w.event(&format!(
+    let end = w.event(&format!(
         "end status={status} rows={rows} points={total} measured={measured} at={} motion_off={stopped}",
         csv::iso_utc(csv::now_unix_s())
-    ))?;
+    ));
+    // A file that cannot be written is the error to report, not its end line.
+    if !matches!(halt, Some(Halt::File(_))) {
+        end?;
+    }
     let summary = Summary {
         file: cfg.out.display().to_string(),
         kind: cfg.kind.clone(),
@@ -247,8 +257,14 @@ fn run_inner(cfg: &Config) -> CliResult<(Summary, Option<CliError>)> {
     let err = halt.map(|h| {
         let kept = format!("{rows} of {total} points are in {}", cfg.out.display());
         CliError::new(match h {
+            Halt::Interrupted if stopped == "yes" => format!(
+                "scan interrupted (Ctrl-C): stop sent and answered, motion stopped; {kept}; to go on: {resume}"
+            ),
             Halt::Interrupted => format!(
-                "scan interrupted (Ctrl-C): stop sent, motion stopped; {kept}; to go on: {resume}"
+                "scan interrupted (Ctrl-C): stop sent but not answered — check that the axes stopped; {kept}; to go on: {resume}"
+            ),
+            Halt::File(why) => format!(
+                "scan stopped, the file cannot be written: {why}; axes stopped: {stopped}; to go on once there is room: {resume}"
             ),
             Halt::Reset(why) => format!(
                 "scan stopped: {why}; no row was written for a point it did not measure; {kept}; home the axes (mwctl talk: home name=AXIS at=DEG, or --declare-home if they stand at home), then: {resume}"
