@@ -17,7 +17,7 @@ use crate::error::{CliError, CliResult};
 use crate::link::LinkSpec;
 use std::path::PathBuf;
 
-pub use run::{run, Summary};
+pub use run::{run, run_on, Summary};
 
 /// `mwctl scan` options.
 #[derive(Clone, Debug, clap::Args)]

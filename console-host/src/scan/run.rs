@@ -122,13 +122,35 @@ fn interrupted() -> Result<(), Halt> {
 /// Runs the scan. The summary comes back also when the run stopped early, with the
 /// error saying why and how to resume.
 pub fn run(cfg: &Config) -> (Option<Summary>, Option<CliError>) {
-    match run_inner(cfg) {
+    run_on(None, cfg)
+}
+
+/// [`run`] on a session already open (the demo's, with its simulator set up), or, with
+/// `None`, on a new one to `cfg.link`. The file's `link` header is `cfg.link_text`.
+pub fn run_on(
+    session: Option<&mut crate::link::session::Session<Box<dyn crate::link::wire::Wire>>>,
+    cfg: &Config,
+) -> (Option<Summary>, Option<CliError>) {
+    let mut own = None;
+    let s = match session {
+        Some(s) => s,
+        None => match crate::link::connect(&cfg.link) {
+            Ok(s) => own.insert(s),
+            Err(e) => return (None, Some(e)),
+        },
+    };
+    match run_inner(s, cfg) {
         Ok((s, e)) => (Some(s), e),
         Err(e) => (None, Some(e)),
     }
 }
 
-fn run_inner(cfg: &Config) -> CliResult<(Summary, Option<CliError>)> {
+/// The stop flag of the session a scan runs on, for the Ctrl-C handler (installed once
+/// per process; each scan puts its own session's flag here).
+static STOP_FLAG: std::sync::Mutex<Option<std::sync::Arc<AtomicBool>>> =
+    std::sync::Mutex::new(None);
+
+fn run_inner(s: &mut Dev, cfg: &Config) -> CliResult<(Summary, Option<CliError>)> {
     let t0 = Instant::now();
     let started = csv::now_unix_s();
     let what = |e: String| CliError::new(format!("scan --resume {}: {e}", cfg.out.display()));
@@ -151,16 +173,17 @@ fn run_inner(cfg: &Config) -> CliResult<(Summary, Option<CliError>)> {
         }
         None
     };
-    let mut s = crate::link::connect(&cfg.link)?;
-    {
-        let flag = s.stop_flag.clone();
-        // Once per process; a second scan in the same process keeps the first handler.
-        let _ = ctrlc::set_handler(move || {
-            INTERRUPTED.store(true, Ordering::SeqCst);
-            flag.store(true, Ordering::SeqCst);
-        });
+    if let Ok(mut f) = STOP_FLAG.lock() {
+        *f = Some(s.stop_flag.clone());
     }
-    let prep = prepare(&mut s, cfg)?;
+    // Once per process (a second call is refused, and the first handler serves).
+    let _ = ctrlc::set_handler(|| {
+        INTERRUPTED.store(true, Ordering::SeqCst);
+        if let Ok(Some(flag)) = STOP_FLAG.lock().as_deref() {
+            flag.store(true, Ordering::SeqCst);
+        }
+    });
+    let prep = prepare(s, cfg)?;
     let total = prep.points.len() as u32;
     let (mut w, next, mut measured) = match &prior {
         Some(f) => {
@@ -181,7 +204,7 @@ fn run_inner(cfg: &Config) -> CliResult<(Summary, Option<CliError>)> {
             (w, f.rows.len() as u32, m)
         }
         None => {
-            let h = header(cfg, &mut s, &prep, started);
+            let h = header(cfg, s, &prep, started);
             (Writer::create(&cfg.out, &h, cfg.force)?, 0, 0)
         }
     };
@@ -198,11 +221,11 @@ fn run_inner(cfg: &Config) -> CliResult<(Summary, Option<CliError>)> {
     let mut bar = Progress::new(show, total, next);
     let mut rows = next;
     let mut halt: Option<Halt> = None;
-    match start(&mut s, cfg, &prep) {
+    match start(s, cfg, &prep) {
         Ok(()) => {
             for p in prep.points.iter().skip(next as usize) {
                 bar.update(rows);
-                match measure(&mut s, cfg, &prep, p) {
+                match measure(s, cfg, &prep, p) {
                     Ok(row) => {
                         if let Err(e) = w.row(&row) {
                             halt = Some(Halt::File(e.message));
