@@ -24,6 +24,22 @@ pub struct Cli {
     /// Output format.
     #[arg(long, global = true, value_enum, default_value_t = Format::Table)]
     pub format: Format,
+    /// Seed of the simulated controller's detector noise (links `sim` and `pty`, `mwctl
+    /// serve --pty`; default 1). Real controllers and the QEMU image ignore it.
+    #[arg(long, global = true, value_name = "N", help_heading = "Simulator")]
+    pub sim_seed: Option<u32>,
+    /// Calibration errors the simulated instrument hides from its console (links `sim`
+    /// and `pty`, `mwctl serve --pty`): arm_zero=DEG (±360), energy=EV (±1e6),
+    /// tilt=DEG (±90), comma-separated, any subset (absent ones 0). No console request
+    /// reads or sets them (docs/SIMULATOR.md); `mwctl align` finds the arm zero and
+    /// energy offset. Real controllers and the QEMU image ignore it.
+    #[arg(
+        long,
+        global = true,
+        value_name = "arm_zero=DEG,energy=EV,tilt=DEG",
+        help_heading = "Simulator"
+    )]
+    pub sim_hidden: Option<String>,
     /// What to do.
     #[command(subcommand)]
     pub command: Command,
@@ -76,6 +92,11 @@ pub enum Command {
         #[arg(long, value_name = "BAUD")]
         baud: Option<u32>,
     },
+    /// Find the arm zero and the gun's energy offset from known beams of a reference
+    /// face on a controller (moves the arm, tilt and azimuth), show them with 1σ and
+    /// per-beam residuals, and apply them only on confirmation or --yes.
+    #[command(allow_negative_numbers = true, after_help = CAUTIONS)]
+    Align(Box<crate::align::AlignArgs>),
     /// Check a controller's math: a sweep of beams and aims over the link, every reply
     /// compared with the host's own core (identical lines) and with the f64 oracle.
     Verify {
@@ -430,6 +451,11 @@ fn usage_line(e: &clap::Error, args: &[std::ffi::OsString]) -> String {
 /// never held as one string). A write error (e.g. a closed pipe) ends the output
 /// quietly.
 pub fn run(cli: &Cli, out: &mut dyn std::io::Write) -> CliResult<()> {
+    // What the simulated instrument is: resolved once, before any link opens.
+    crate::link::device::set_sim_config(crate::link::device::SimConfig::from_args(
+        cli.sim_seed,
+        cli.sim_hidden.as_deref(),
+    )?);
     // Commands that write as they talk to a controller.
     let f = cli.format;
     match &cli.command {
@@ -583,6 +609,7 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
             }
         }
         Command::Demo => return crate::demo::run(f).map(Output::Text),
+        Command::Align(a) => crate::align::run(a)?,
         Command::Rig(RigCmd::Show {
             rig: r,
             toml,
