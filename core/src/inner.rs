@@ -44,7 +44,7 @@ impl V0Form {
     /// ```
     pub fn value_ev(&self, energy_ev: f32) -> f32 {
         let x = energy_ev + self.d_ev;
-        if !(x > 0.0) {
+        if x.is_nan() || x <= 0.0 {
             return self.max_ev.max(0.0);
         }
         let v = self.c_ev / math::sqrt(x) - self.b_ev;
@@ -114,5 +114,63 @@ pub fn model_for(kind: V0ModelKind, constant_ev: f32, form: Option<V0Form>) -> R
     match kind {
         V0ModelKind::Constant => Ok(V0Model::Constant(constant_ev)),
         V0ModelKind::Energy => form.map(V0Model::Energy).ok_or(Error::NoEnergyForm),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::table;
+
+    /// The copper row's V0(E) against the published form evaluated independently in
+    /// f64: V0r(E) = max(β0, β1 + β2/√(E + β3)), β = (−10.3, 0.75, −76.6, 11.4) eV
+    /// (Rundgren-type form, J. Rundgren, Phys. Rev. B 68, 125405 (2003); the copper
+    /// parameters from memory). At 100 eV: V0r = 0.75 − 76.6/√111.4 = −6.5075 eV; at
+    /// 20 eV the cap −10.3 eV holds; at 400 eV, −3.0262 eV.
+    #[test]
+    fn copper_v0_of_e_matches_the_published_form() {
+        let cu = table::find("cu").unwrap();
+        let form = cu.inner_potential_form_for([1, 0, 0]).unwrap();
+        let beta = [-10.3f64, 0.75, -76.6, 11.4];
+        for e in [20.0f64, 50.0, 100.0, 400.0] {
+            let v0r = beta[0].max(beta[1] + beta[2] / (e + beta[3]).sqrt());
+            let ours = form.value_ev(e as f32) as f64;
+            assert!((ours + v0r).abs() < 1e-4, "E = {e}: {ours} vs {}", -v0r);
+        }
+        assert!((form.value_ev(100.0) - 6.5075).abs() < 1e-3);
+        assert_eq!(cu.inner_potential_form_for([1, 1, 1]), Some(form));
+        assert_eq!(
+            table::find("ag")
+                .unwrap()
+                .inner_potential_form_for([1, 0, 0]),
+            None
+        );
+    }
+
+    #[test]
+    fn model_choice() {
+        let f = V0Form {
+            max_ev: 10.3,
+            b_ev: 0.75,
+            c_ev: 76.6,
+            d_ev: 11.4,
+        };
+        assert_eq!(
+            model_for(V0ModelKind::Constant, 9.0, Some(f)),
+            Ok(V0Model::Constant(9.0))
+        );
+        assert_eq!(
+            model_for(V0ModelKind::Energy, 9.0, Some(f)),
+            Ok(V0Model::Energy(f))
+        );
+        assert_eq!(
+            model_for(V0ModelKind::Energy, 9.0, None),
+            Err(Error::NoEnergyForm)
+        );
+        assert_eq!(V0ModelKind::from_name("energy"), Some(V0ModelKind::Energy));
+        assert_eq!(f.value_ev(f32::NAN), 10.3);
+        // Falls with energy, never below zero.
+        assert!(f.value_ev(1000.0) < f.value_ev(100.0));
+        assert!(f.value_ev(300_000.0) >= 0.0);
     }
 }
