@@ -215,6 +215,9 @@ pub enum Calc {
         /// Crystal id (see `mwctl crystals`).
         #[arg(long, value_name = "ID")]
         crystal: String,
+        /// Sample temperature.
+        #[command(flatten)]
+        sample: calc::SampleArgs,
         /// Gun settings.
         #[command(flatten)]
         gun: GunArgs,
@@ -228,6 +231,9 @@ pub enum Calc {
         /// Crystal id.
         #[arg(long, value_name = "ID")]
         crystal: String,
+        /// Sample temperature.
+        #[command(flatten)]
+        sample: calc::SampleArgs,
         /// Gun settings.
         #[command(flatten)]
         gun: GunArgs,
@@ -245,6 +251,9 @@ pub enum Calc {
         /// Crystal id.
         #[arg(long, value_name = "ID")]
         crystal: String,
+        /// Sample temperature.
+        #[command(flatten)]
+        sample: calc::SampleArgs,
         /// Face: 111, 1-10, 1,1,0, (1 -1 0); hexagonal also 0001, 10-10.
         #[arg(long, value_name = "HKL", allow_hyphen_values = true)]
         face: String,
@@ -275,6 +284,9 @@ pub enum Calc {
         /// Crystal id.
         #[arg(long, value_name = "ID")]
         crystal: String,
+        /// Sample temperature.
+        #[command(flatten)]
+        sample: calc::SampleArgs,
         /// Face (as for `beams`).
         #[arg(long, value_name = "HKL", allow_hyphen_values = true)]
         face: String,
@@ -297,6 +309,10 @@ pub enum Calc {
         /// face (the default).
         #[arg(value_parser = calc::ev_or_face, long, value_name = "EV|face")]
         inner_potential: Option<calc::EvOrFace>,
+        /// Inner-potential model: `constant` (the one V0 of --inner-potential) or
+        /// `energy` (the crystal table's V0(E) for the face, where it has one).
+        #[arg(value_parser = calc::v0_model_kind, long, value_name = "constant|energy", default_value = "constant")]
+        inner_potential_model: matterwave_core::inner::V0ModelKind,
         /// Cathode work function, eV.
         #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
         cathode_work_function: f32,
@@ -666,15 +682,22 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
                 gun,
                 inner_potential,
             } => calc::wavelength(&gun.gun_args()?, *inner_potential)?,
-            Calc::Reflections { crystal, gun, max } => calc::reflections(crystal, gun, *max)?,
+            Calc::Reflections {
+                crystal,
+                sample,
+                gun,
+                max,
+            } => calc::reflections(crystal, sample, gun, *max)?,
             Calc::Rings {
                 crystal,
+                sample,
                 gun,
                 screen_distance,
                 max,
-            } => calc::rings(crystal, gun, *screen_distance, *max)?,
+            } => calc::rings(crystal, sample, gun, *screen_distance, *max)?,
             Calc::Beams {
                 crystal,
+                sample,
                 face,
                 gun,
                 tilt,
@@ -687,14 +710,16 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
                     Some(p) => Some(rig::load(p)?),
                     None => None,
                 };
-                let mut r = calc::beams(crystal, face, gun, *tilt, *azimuth, *max)?;
+                let mut r = calc::beams(crystal, sample, face, gun, *tilt, *azimuth, *max)?;
                 if let Some(rf) = &rf {
-                    gonio::add_reach(&mut r, rf, crystal, face, gun, *tilt, *azimuth, *reachable)?;
+                    let c = calc::crystal_at(crystal, sample)?;
+                    gonio::add_reach(&mut r, rf, &c, face, gun, *tilt, *azimuth, *reachable)?;
                 }
                 r
             }
             Calc::Ivpeaks {
                 crystal,
+                sample,
                 face,
                 beam,
                 from,
@@ -702,6 +727,7 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
                 tilt,
                 azimuth,
                 inner_potential,
+                inner_potential_model,
                 cathode_work_function,
                 sample_work_function,
                 energy_offset,
@@ -717,6 +743,8 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
                     cathode_work_function: *cathode_work_function,
                     sample_work_function: *sample_work_function,
                     energy_offset: *energy_offset,
+                    sample: *sample,
+                    v0_model: *inner_potential_model,
                 };
                 calc::ivpeaks(crystal, face, &a, *max)?
             }
