@@ -222,6 +222,19 @@ pub enum Error {
     ResidualTooLarge(AxisId),
     /// A `move` while an axis is still moving (from an earlier `move`).
     AxisMoving,
+    /// Superstructure text that is neither a matrix nor Wood notation.
+    BadSuperstructureText,
+    /// A superstructure matrix with determinant 0.
+    SingularSuperstructure,
+    /// A Wood label whose scaled, rotated mesh vectors are not lattice vectors of this
+    /// face's mesh: it names no matrix here.
+    WoodNotOnMesh,
+    /// A superstructure beyond the bounds (entries ±24, denominators 1–4, 64 cells).
+    SuperstructureTooLarge,
+    /// Beam text that is not two fractions h,k (denominators 1–99).
+    BadFractionalBeam,
+    /// A fractional beam that is not a beam of the superstructure (or its domains).
+    NotASuperstructureBeam,
 }
 
 impl Error {
@@ -284,6 +297,12 @@ impl Error {
             Error::StepTooCoarse(_) => 322,
             Error::ResidualTooLarge(_) => 323,
             Error::AxisMoving => 324,
+            Error::BadSuperstructureText => 160,
+            Error::SingularSuperstructure => 161,
+            Error::WoodNotOnMesh => 162,
+            Error::SuperstructureTooLarge => 163,
+            Error::BadFractionalBeam => 164,
+            Error::NotASuperstructureBeam => 165,
         }
     }
 
@@ -400,6 +419,24 @@ impl Error {
             }
             Error::AxisMoving => {
                 "an axis is still moving; wait until status shows moving=0, or send stop"
+            }
+            Error::BadSuperstructureText => {
+                "superstructure not understood; give a matrix m11,m12,m21,m22 (e.g. 2,0,0,2 or 1/2,0,0,1/2) or Wood notation p(2x2), c(2x2), (sqrt3xsqrt3)R30"
+            }
+            Error::SingularSuperstructure => {
+                "superstructure matrix is singular (determinant 0); its rows must be two non-parallel mesh vectors"
+            }
+            Error::WoodNotOnMesh => {
+                "this Wood label names no matrix on this face's mesh (the scaled, rotated vectors are not lattice vectors); check the angle or give the matrix"
+            }
+            Error::SuperstructureTooLarge => {
+                "superstructure too large; accepted: matrix entries within ±24, denominators 1 to 4, at most 64 substrate cells, Wood n² and m² 1 to 64"
+            }
+            Error::BadFractionalBeam => {
+                "beam must be two numbers h,k, integers or fractions such as 1/2,0 or 1/3,1/3 (denominators 1 to 99)"
+            }
+            Error::NotASuperstructureBeam => {
+                "this beam is not in the superstructure's pattern (nor its domains'); list them with beams"
             }
         }
     }
