@@ -11,6 +11,8 @@ use matterwave_core::surface::{Face, Incidence, IvPeak, SurfaceBeam};
 use matterwave_core::table::{self, Crystal};
 
 mod gun;
+mod overlayer;
+pub use overlayer::{overlayer_beams, parse_frac_rod, parse_overlayer};
 pub use gun::{
     ev_or_face, no_face_for, table_value, EvOrFace, GunArgs, TableValue, WavelengthGunArgs,
 };

@@ -217,7 +217,36 @@ impl core::fmt::Display for FracRod {
     }
 }
 
+impl core::fmt::Display for Superstructure {
+    fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
+        self.write_to(f)
+    }
+}
+
 impl Face {
+    /// The same face with its reciprocal mesh divided by `den` (1 to 99; a1, a2 times
+    /// `den`): rod (n0, n1) of the result is position (n0/den, n1/den) of this face, so
+    /// every function that takes whole rods (aiming, tracking, scan plans) serves a
+    /// fractional beam. Only the 2D mesh changes (the bulk cell, normal, layer spacing
+    /// and I-V data stay this face's); `den` = 1 gives the face unchanged, bit for bit.
+    pub fn fractional_grid(&self, den: i32) -> Result<Face> {
+        if !(1..=MAX_BEAM_DEN).contains(&den) {
+            return Err(Error::BadFractionalBeam);
+        }
+        if den == 1 {
+            return Ok(*self);
+        }
+        let d = den as f32;
+        let mut f = *self;
+        for (a, b) in f.mesh_2d_a.iter_mut().zip(f.recip_2d_inv_a.iter_mut()) {
+            for (x, y) in a.iter_mut().zip(b.iter_mut()) {
+                *x *= d;
+                *y /= d;
+            }
+        }
+        Ok(f)
+    }
+
     /// The rod vector of a fractional position at azimuth 0, 1/Å: g = h·b1 + k·b2.
     /// Whole positions go through [`Face::rod_inv_a`], so they are exactly the
     /// integer-order rod's vector.
@@ -300,6 +329,33 @@ impl Superstructure {
         }
         let e = |i: usize| v.get(i).map_or(0, |(a, d)| a * (den / d));
         Superstructure::new([[e(0), e(1)], [e(2), e(3)]], den)
+    }
+
+    /// Parses either form on the face's mesh: Wood notation when the text holds a
+    /// bracket (`c(2x2)`, `(sqrt3xsqrt3)R30`), else a matrix (`2,0,0,2`, `1/2,0,0,1/2`).
+    pub fn parse(text: &str, face: &Face) -> Result<Superstructure> {
+        if text.contains('(') {
+            super::Wood::parse(text)?.to_matrix(face)
+        } else {
+            Superstructure::parse_matrix(text)
+        }
+    }
+
+    /// Writes the matrix as `m11,m12,m21,m22`, entries integers or reduced fractions.
+    pub fn write_to<W: core::fmt::Write>(&self, w: &mut W) -> core::fmt::Result {
+        let q = i32::from(self.den);
+        for (i, x) in self.matrix().iter().flatten().enumerate() {
+            if i > 0 {
+                w.write_char(',')?;
+            }
+            let g = gcd(*x, q).max(1);
+            if q / g == 1 {
+                write!(w, "{}", x / g)?;
+            } else {
+                write!(w, "{}/{}", x / g, q / g)?;
+            }
+        }
+        Ok(())
     }
 
     /// N as i32.

@@ -259,3 +259,24 @@ fn fractional_beam_text() {
         assert_eq!(FracRod::parse(bad), Err(Error::BadFractionalBeam), "{bad}");
     }
 }
+
+#[test]
+fn fractional_grid_serves_whole_rod_functions() {
+    let f = square();
+    let inc = Incidence::new(90.0, 8.0, 20.0).unwrap();
+    let p = FracRod::parse("1/2,-1/3").unwrap();
+    let g = f.fractional_grid(p.den).unwrap();
+    let a = g.beam(p.num, &inc).unwrap();
+    let b = f.frac_beam(&p, &inc).unwrap();
+    assert!((a.exit_deg - b.exit_deg).abs() < 1e-4);
+    assert!((a.exit_azimuth_deg - b.exit_azimuth_deg).abs() < 1e-3);
+    assert_eq!(f.fractional_grid(1).unwrap(), f);
+    assert_eq!(
+        Superstructure::parse("c(2x2)", &f).unwrap().to_string(),
+        "1,1,-1,1"
+    );
+    assert_eq!(
+        Superstructure::parse("3/2,0,0,1", &f).unwrap().to_string(),
+        "3/2,0,0,1"
+    );
+}
