@@ -230,6 +230,9 @@ pub fn same_lattice(a: &Superstructure, b: &Superstructure) -> bool {
     }
     let (n, m) = (a.matrix(), b.matrix());
     let det = a.det_n();
+    if det == 0 {
+        return false;
+    }
     let adj = [[n[1][1], -n[0][1]], [-n[1][0], n[0][0]]];
     m.iter().all(|row| {
         (0..2).all(|j| {
