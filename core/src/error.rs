@@ -233,8 +233,6 @@ pub enum Error {
     SuperstructureTooLarge,
     /// Beam text that is not two fractions h,k (denominators 1–99).
     BadFractionalBeam,
-    /// A fractional beam that is not a beam of the superstructure (or its domains).
-    NotASuperstructureBeam,
 }
 
 impl Error {
@@ -302,7 +300,6 @@ impl Error {
             Error::WoodNotOnMesh => 162,
             Error::SuperstructureTooLarge => 163,
             Error::BadFractionalBeam => 164,
-            Error::NotASuperstructureBeam => 165,
         }
     }
 
@@ -434,9 +431,6 @@ impl Error {
             }
             Error::BadFractionalBeam => {
                 "beam must be two numbers h,k, integers or fractions such as 1/2,0 or 1/3,1/3 (denominators 1 to 99)"
-            }
-            Error::NotASuperstructureBeam => {
-                "this beam is not in the superstructure's pattern (nor its domains'); list them with beams"
             }
         }
     }
