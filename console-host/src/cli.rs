@@ -247,7 +247,12 @@ pub enum Calc {
         /// (sqrt3xsqrt3)R30, also with √ and ×) or a matrix m11,m12,m21,m22 whose rows are
         /// its mesh vectors in substrate units (2,0,0,2; fractions such as 3/2 allowed):
         /// lists its beams, fractional-order ones labelled h,k in substrate units.
-        #[arg(long, value_name = "WOOD|MATRIX", allow_hyphen_values = true, conflicts_with = "rig")]
+        #[arg(
+            long,
+            value_name = "WOOD|MATRIX",
+            allow_hyphen_values = true,
+            conflicts_with = "rig"
+        )]
         overlayer: Option<String>,
         /// With --overlayer: the union of the rotational and mirror domains from the
         /// mesh's point group, each beam with the domains it belongs to.
@@ -642,9 +647,18 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
                 reachable,
                 overlayer: Some(o),
                 domains,
-            } if rig.is_none() && !*reachable => {
-                calc::overlayer_beams(crystal, face, gun, *tilt, *azimuth, *max, o, *domains)?
-            }
+            } if rig.is_none() && !*reachable => calc::overlayer_beams(
+                crystal,
+                face,
+                gun,
+                *tilt,
+                *azimuth,
+                *max,
+                calc::OverlayerArgs {
+                    text: o,
+                    domains: *domains,
+                },
+            )?,
             Calc::Beams {
                 crystal,
                 face,

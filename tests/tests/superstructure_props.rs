@@ -116,7 +116,9 @@ fn core_and_oracle_agree_on_superstructure_beams() {
         let orc = oracle::super_beams(a1, a2, n, b, e.into(), tilt.into(), az.into());
         let ctx = format!("case {case}: {face:?} {sup} at {e} eV tilt {tilt} az {az}");
         for o in &orc {
-            let f = o.fraction.unwrap_or_else(|| panic!("{ctx}: {:?} not a fraction", o.hk));
+            let f = o
+                .fraction
+                .unwrap_or_else(|| panic!("{ctx}: {:?} not a fraction", o.hk));
             let found = core.iter().find(|c| same_frac(&c.pos, f));
             let Some(c) = found else {
                 assert!(
@@ -131,7 +133,12 @@ fn core_and_oracle_agree_on_superstructure_beams() {
                 let d = (f64::from(c.beam.exit_deg) - o.exit_polar_deg).abs();
                 worst = worst.max(d);
                 compared += 1;
-                assert!(d <= EXIT_DEG, "{ctx}: {f:?} exit {} vs {}", c.beam.exit_deg, o.exit_polar_deg);
+                assert!(
+                    d <= EXIT_DEG,
+                    "{ctx}: {f:?} exit {} vs {}",
+                    c.beam.exit_deg,
+                    o.exit_polar_deg
+                );
                 if o.exit_polar_deg > 0.5 {
                     let da = wrap180(f64::from(c.beam.exit_azimuth_deg) - o.exit_azimuth_deg);
                     assert!(da.abs() <= 0.05, "{ctx}: {f:?} exit azimuth off by {da}");
@@ -168,14 +175,21 @@ fn core_and_oracle_agree_on_domains() {
         let (a1, a2, n) = mesh_f64(&face);
         let b = oracle::super_vectors(a1, a2, as_f64(&sup));
         let (odoms, orc) = oracle::domain_union(a1, a2, n, b, e.into(), 0.0, 0.0);
-        let ctx = format!("case {case}: {:?} {:?} {sup}", face.cell.structure, face.miller);
+        let ctx = format!(
+            "case {case}: {:?} {:?} {sup}",
+            face.cell.structure, face.miller
+        );
         assert_eq!(nd, odoms.len(), "{ctx}: domain count");
         if nd > 1 {
             multi += 1;
         }
         let mut ops = [domains::MeshOp::IDENTITY; MAX_DOMAINS];
         let n_ops = domains::point_group(&face, &mut ops);
-        assert_eq!(n_ops, oracle::mesh_symmetries(a1, a2, n).len(), "{ctx}: point group");
+        assert_eq!(
+            n_ops,
+            oracle::mesh_symmetries(a1, a2, n).len(),
+            "{ctx}: point group"
+        );
         for o in orc.iter().filter(|o| o.exit_polar_deg <= GRAZING_DEG) {
             let f = o.fraction.unwrap();
             let c = core
@@ -230,7 +244,10 @@ fn domain_beams_are_images_under_the_point_group() {
             imgs += images.len();
             for p in &images {
                 assert!(dom.sup.has_beam(p), "{ctx}: image {p} not a beam");
-                assert!(list.iter().any(|b| b.pos.same(p)), "{ctx}: image {p} missing");
+                assert!(
+                    list.iter().any(|b| b.pos.same(p)),
+                    "{ctx}: image {p} missing"
+                );
             }
         }
     }

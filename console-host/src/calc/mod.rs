@@ -12,10 +12,10 @@ use matterwave_core::table::{self, Crystal};
 
 mod gun;
 mod overlayer;
-pub use overlayer::{overlayer_beams, parse_frac_rod, parse_overlayer};
 pub use gun::{
     ev_or_face, no_face_for, table_value, EvOrFace, GunArgs, TableValue, WavelengthGunArgs,
 };
+pub use overlayer::{overlayer_beams, parse_frac_rod, parse_overlayer, OverlayerArgs};
 
 /// Looks up a crystal by id, with a helpful list when unknown.
 pub fn crystal(id: &str) -> CliResult<&'static Crystal> {

@@ -31,6 +31,15 @@ fn op_text(d: &Domain) -> String {
     }
 }
 
+/// What `--overlayer` asks for: the superstructure text and whether to add its domains.
+#[derive(Clone, Copy, Debug)]
+pub struct OverlayerArgs<'a> {
+    /// `--overlayer`: Wood notation or a matrix.
+    pub text: &'a str,
+    /// `--domains`.
+    pub domains: bool,
+}
+
 /// `mwctl calc beams --overlayer TEXT [--domains]`.
 pub fn overlayer_beams(
     id: &str,
@@ -39,9 +48,9 @@ pub fn overlayer_beams(
     tilt: f32,
     azimuth: f32,
     max: usize,
-    overlayer: &str,
-    with_domains: bool,
+    o: OverlayerArgs<'_>,
 ) -> CliResult<Report> {
+    let (overlayer, with_domains) = (o.text, o.domains);
     let c = crystal(id)?;
     let (_, face) = face_of(c, face_text)?;
     let sup = parse_overlayer(overlayer, &face)?;
@@ -87,11 +96,7 @@ pub fn overlayer_beams(
     r.field(
         "domain_matrices",
         "domain matrices",
-        Value::List(
-            sups.iter()
-                .map(|s| Value::Text(s.to_string()))
-                .collect(),
-        ),
+        Value::List(sups.iter().map(|s| Value::Text(s.to_string())).collect()),
     );
     r.field(
         "domain_ops",
@@ -150,7 +155,11 @@ pub fn overlayer_beams(
         ]);
     }
     r.field("count", "beams", Value::Int(l.stored as i64));
-    r.field("fractional", "fractional-order beams", Value::Int(fractional));
+    r.field(
+        "fractional",
+        "fractional-order beams",
+        Value::Int(fractional),
+    );
     truncated_field(&mut r, l.truncated);
     r.list = Some(list);
     Ok(r)

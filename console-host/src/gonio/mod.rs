@@ -73,7 +73,9 @@ pub(super) fn target(t: &TargetArgs) -> CliResult<Target> {
         Err(_) => {
             let pos = calc::parse_frac_rod(&t.beam)?;
             TargetBeam {
-                grid: face.fractional_grid(pos.den).ctx(format_args!("--beam {pos}"))?,
+                grid: face
+                    .fractional_grid(pos.den)
+                    .ctx(format_args!("--beam {pos}"))?,
                 rod: pos.num,
                 pos,
             }

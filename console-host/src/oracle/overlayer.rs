@@ -121,16 +121,19 @@ pub fn mesh_symmetries(a1: V3, a2: V3, normal: V3) -> Vec<M3> {
     for u in -2..=2i32 {
         for v in 0..=2i32 {
             if (u, v) != (0, 0) {
-                cands.push(mirror_along(n, add(scale(u as f64, a1), scale(v as f64, a2))));
+                cands.push(mirror_along(
+                    n,
+                    add(scale(u as f64, a1), scale(v as f64, a2)),
+                ));
             }
         }
     }
     let mut ops: Vec<M3> = Vec::new();
     for m in cands {
         let maps = whole_in(mat_vec(&m, a1), a1, a2, n) && whole_in(mat_vec(&m, a2), a1, a2, n);
-        let dup = ops.iter().any(|o| {
-            (0..3).all(|i| (0..3).all(|j| (o[i][j] - m[i][j]).abs() < 1e-9))
-        });
+        let dup = ops
+            .iter()
+            .any(|o| (0..3).all(|i| (0..3).all(|j| (o[i][j] - m[i][j]).abs() < 1e-9)));
         if maps && !dup {
             ops.push(m);
         }

@@ -208,7 +208,8 @@ fn describe(face: &Face, r: [[i32; 2]; 2], mirror: bool) -> MeshOp {
     }
 }
 
-/// Applies `op` to a superstructure: M·R^T (same denominator).
+/// Applies `op` to a superstructure: M·R^T (same denominator), its second row negated
+/// when that makes det N positive (the same lattice, right-handed).
 pub fn apply(sup: &Superstructure, op: &MeshOp) -> Superstructure {
     let n = sup.matrix();
     let r = op.m();
@@ -218,6 +219,11 @@ pub fn apply(sup: &Superstructure, op: &MeshOp) -> Superstructure {
             // (M R^T)_ij = Σ_k M_ik R_jk; entries stay within ±2·MAX_ENTRY ≤ 48.
             *x = (nrow[0] * rrow[0] + nrow[1] * rrow[1]) as i8;
         }
+    }
+    // A mirror flips the handedness: (b1, −b2) spans the same lattice with det > 0.
+    let det = i32::from(o[0][0]) * i32::from(o[1][1]) - i32::from(o[0][1]) * i32::from(o[1][0]);
+    if det < 0 {
+        o[1] = [o[1][0].wrapping_neg(), o[1][1].wrapping_neg()];
     }
     Superstructure { n: o, den: sup.den }
 }

@@ -264,8 +264,7 @@ impl Face {
     /// fractional position), or `Evanescent`. Whole positions give exactly
     /// [`Face::beam`].
     pub fn frac_beam(&self, pos: &FracRod, inc: &Incidence) -> Result<SurfaceBeam> {
-        if pos.den < 1 || pos.num[0].abs() > 4096 * pos.den || pos.num[1].abs() > 4096 * pos.den
-        {
+        if pos.den < 1 || pos.num[0].abs() > 4096 * pos.den || pos.num[1].abs() > 4096 * pos.den {
             return Err(Error::IndicesTooLarge);
         }
         if let Some(r) = pos.integer() {

@@ -69,7 +69,11 @@ fn p2x2_on_a_square_mesh() {
     assert_eq!(s.matrix(), [[2, 0], [0, 2]]);
     assert_eq!(label(&f, &s, false), "p(2×2)");
     let b = list(&f, &[s], 150.0);
-    for p in [frac((1, 2), (0, 1)), frac((0, 1), (1, 2)), frac((1, 2), (1, 2))] {
+    for p in [
+        frac((1, 2), (0, 1)),
+        frac((0, 1), (1, 2)),
+        frac((1, 2), (1, 2)),
+    ] {
         assert!(has(&b, p), "{p}");
     }
     assert!(!has(&b, frac((1, 3), (0, 1))));
@@ -197,7 +201,10 @@ fn integer_positions_are_the_substrate_beams_bit_for_bit() {
 fn wood_text_forms_and_errors() {
     let w = Wood::parse("(sqrt7xsqrt7)R19.1").unwrap();
     assert_eq!(w.squares, [7, 7]);
-    assert_eq!(Wood::parse("p(2×1)").unwrap(), Wood::parse("(2x1)").unwrap());
+    assert_eq!(
+        Wood::parse("p(2×1)").unwrap(),
+        Wood::parse("(2x1)").unwrap()
+    );
     assert_eq!(
         Wood::parse("(√3×√3)R30°").unwrap(),
         Wood::parse("(SQRT3 X sqrt3) r30").unwrap()
@@ -208,11 +215,15 @@ fn wood_text_forms_and_errors() {
     assert_eq!(Wood::parse("(9x9)"), Err(Error::SuperstructureTooLarge));
     // √3 R30° does not map the square mesh onto itself, nor √2 R45° the hexagonal one.
     assert_eq!(
-        Wood::parse("(sqrt3xsqrt3)R30").unwrap().to_matrix(&square()),
+        Wood::parse("(sqrt3xsqrt3)R30")
+            .unwrap()
+            .to_matrix(&square()),
         Err(Error::WoodNotOnMesh)
     );
     assert_eq!(
-        Wood::parse("(sqrt2xsqrt2)R45").unwrap().to_matrix(&hexagonal()),
+        Wood::parse("(sqrt2xsqrt2)R45")
+            .unwrap()
+            .to_matrix(&hexagonal()),
         Err(Error::WoodNotOnMesh)
     );
     // (√7×√7)R19.1° on a hexagonal mesh (common practice, no source): 7 cells.
@@ -278,5 +289,25 @@ fn fractional_grid_serves_whole_rod_functions() {
     assert_eq!(
         Superstructure::parse("3/2,0,0,1", &f).unwrap().to_string(),
         "3/2,0,0,1"
+    );
+}
+
+#[test]
+fn root7_has_two_mirror_domains_on_a_hexagonal_mesh() {
+    // (√7×√7)R19.1° on a hexagonal mesh has two domains, R+19.1° and R−19.1°, mirror
+    // images of each other (Van Hove et al. 1986, from memory).
+    let f = hexagonal();
+    let s = Superstructure::parse_matrix("3,1,-1,2").unwrap();
+    assert_eq!(s.det_n(), 7);
+    let mut d = [Domain::EMPTY; MAX_DOMAINS];
+    assert_eq!(domains::domains(&f, &s, &mut d), 2);
+    assert!(d[1].op.mirror);
+    let labels: Vec<String> = d[..2].iter().map(|x| label(&f, &x.sup, true)).collect();
+    let mut sorted = labels.clone();
+    sorted.sort();
+    assert_eq!(
+        sorted,
+        ["(sqrt7xsqrt7)R-19.1", "(sqrt7xsqrt7)R19.1"],
+        "{labels:?}"
     );
 }

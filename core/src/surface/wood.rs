@@ -91,7 +91,9 @@ fn parse_angle(t: &str) -> Option<f32> {
     if !int.bytes().chain(frac.bytes()).all(|c| c.is_ascii_digit()) {
         return None;
     }
-    let mut v = int.bytes().fold(0.0f32, |a, c| a * 10.0 + f32::from(c - b'0'));
+    let mut v = int
+        .bytes()
+        .fold(0.0f32, |a, c| a * 10.0 + f32::from(c - b'0'));
     let mut place = 0.1f32;
     for c in frac.bytes() {
         v += f32::from(c - b'0') * place;
@@ -285,8 +287,7 @@ fn whole_coords(face: &Face, v: [f32; 2]) -> Option<[i32; 2]> {
     let x = v[0] * b[0][0] + v[1] * b[0][1];
     let y = v[0] * b[1][0] + v[1] * b[1][1];
     let (rx, ry) = (math::round(x), math::round(y));
-    if (x - rx).abs() <= 0.01 && (y - ry).abs() <= 0.01 && rx.abs() <= 64.0 && ry.abs() <= 64.0
-    {
+    if (x - rx).abs() <= 0.01 && (y - ry).abs() <= 0.01 && rx.abs() <= 64.0 && ry.abs() <= 64.0 {
         Some([rx as i32, ry as i32])
     } else {
         None
