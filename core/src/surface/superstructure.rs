@@ -457,7 +457,7 @@ pub fn super_beam_before(a: &SuperBeam, b: &SuperBeam) -> bool {
 /// with bit i of `domains` set when `supers[i]` has it (at most 16 superstructures).
 /// Sorted and bounded as [`Superstructure::beams`]; the work is at most the number of
 /// superstructures times the rows and beams of the search disk, and each beam found is
-/// compared with those stored.
+/// compared with the stored beams of equal |g| (found by bisection).
 pub fn union_beams(
     face: &Face,
     inc: &Incidence,
@@ -512,12 +512,24 @@ pub fn union_beams(
                 if beam.g_inv_a > max_g {
                     return;
                 }
-                if let Some(seen) = out
-                    .get_mut(..stored)
-                    .and_then(|o| o.iter_mut().find(|x| x.pos.same(&pos)))
-                {
-                    seen.domains |= bit;
-                    return;
+                // The same position gives the same |g| bit for bit (one arithmetic from
+                // the normalised fraction), so only the stored beams within a relative
+                // 1e-3 of it are compared, found by bisection. The order ties |g| within
+                // 1e-5, so it is sorted by |g| to far better than that window.
+                let g = beam.g_inv_a;
+                let tol = 1e-3 * g;
+                if let Some(kept) = out.get_mut(..stored) {
+                    let from = kept.partition_point(|x| x.beam.g_inv_a < g - tol);
+                    let seen = kept
+                        .get_mut(from..)
+                        .into_iter()
+                        .flatten()
+                        .take_while(|x| x.beam.g_inv_a <= g + tol)
+                        .find(|x| x.pos.same(&pos));
+                    if let Some(seen) = seen {
+                        seen.domains |= bit;
+                        return;
+                    }
                 }
                 let item = SuperBeam {
                     pos,
