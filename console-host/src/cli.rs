@@ -277,6 +277,21 @@ pub enum Calc {
         /// Only the beams the rig can reach (needs --rig).
         #[arg(long, requires = "rig")]
         reachable: bool,
+        /// A superstructure on the face's mesh: Wood notation (p(2x2), c(2x2),
+        /// (sqrt3xsqrt3)R30, also with √ and ×) or a matrix m11,m12,m21,m22 whose rows are
+        /// its mesh vectors in substrate units (2,0,0,2; fractions such as 3/2 allowed):
+        /// lists its beams, fractional-order ones labelled h,k in substrate units.
+        #[arg(
+            long,
+            value_name = "WOOD|MATRIX",
+            allow_hyphen_values = true,
+            conflicts_with = "rig"
+        )]
+        overlayer: Option<String>,
+        /// With --overlayer: the union of the rotational and mirror domains from the
+        /// mesh's point group, each beam with the domains it belongs to.
+        #[arg(long, requires = "overlayer")]
+        domains: bool,
     },
     /// Kinematic I-V peak energies on one beam, with refraction by the inner potential.
     #[command(allow_negative_numbers = true)]
@@ -705,6 +720,32 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
                 max,
                 rig,
                 reachable,
+                overlayer: Some(o),
+                domains,
+            } if rig.is_none() && !*reachable => calc::overlayer_beams(
+                crystal,
+                face,
+                gun,
+                *tilt,
+                *azimuth,
+                *max,
+                calc::OverlayerArgs {
+                    text: o,
+                    domains: *domains,
+                    sample,
+                },
+            )?,
+            Calc::Beams {
+                crystal,
+                face,
+                gun,
+                sample,
+                tilt,
+                azimuth,
+                max,
+                rig,
+                reachable,
+                ..
             } => {
                 let rf = match rig {
                     Some(p) => Some(rig::load(p)?),

@@ -231,6 +231,17 @@ pub enum Error {
     /// The energy-dependent inner potential was asked for a face the crystal table gives
     /// no V0(E) form for.
     NoEnergyForm,
+    /// Superstructure text that is neither a matrix nor Wood notation.
+    BadSuperstructureText,
+    /// A superstructure matrix with determinant 0.
+    SingularSuperstructure,
+    /// A Wood label whose scaled, rotated mesh vectors are not lattice vectors of this
+    /// face's mesh: it names no matrix here.
+    WoodNotOnMesh,
+    /// A superstructure beyond the bounds (entries ±24, denominators 1–4, 64 cells).
+    SuperstructureTooLarge,
+    /// Beam text that is not two fractions h,k (denominators 1–99).
+    BadFractionalBeam,
 }
 
 impl Error {
@@ -295,6 +306,11 @@ impl Error {
             Error::AxisMoving => 324,
             Error::TemperatureOutsideData => 160,
             Error::NoEnergyForm => 161,
+            Error::BadSuperstructureText => 165,
+            Error::SingularSuperstructure => 166,
+            Error::WoodNotOnMesh => 167,
+            Error::SuperstructureTooLarge => 168,
+            Error::BadFractionalBeam => 169,
         }
     }
 
@@ -417,6 +433,21 @@ impl Error {
             }
             Error::NoEnergyForm => {
                 "the crystal table has no energy-dependent V0(E) for this face; use the constant inner-potential model"
+            }
+            Error::BadSuperstructureText => {
+                "superstructure not understood; give a matrix m11,m12,m21,m22 (e.g. 2,0,0,2 or 1/2,0,0,1/2) or Wood notation p(2x2), c(2x2), (sqrt3xsqrt3)R30"
+            }
+            Error::SingularSuperstructure => {
+                "superstructure matrix is singular (determinant 0); its rows must be two non-parallel mesh vectors"
+            }
+            Error::WoodNotOnMesh => {
+                "this Wood label names no matrix on this face's mesh (the scaled, rotated vectors are not lattice vectors); check the angle or give the matrix"
+            }
+            Error::SuperstructureTooLarge => {
+                "superstructure too large; accepted: matrix entries within ±24, denominators 1 to 4, at most 64 substrate cells, Wood n² and m² 1 to 64"
+            }
+            Error::BadFractionalBeam => {
+                "beam must be two numbers h,k, integers or fractions such as 1/2,0 or 1/3,1/3 (denominators 1 to 99)"
             }
         }
     }

@@ -12,10 +12,12 @@ use matterwave_core::surface::{Face, Incidence, IvPeak, SurfaceBeam};
 use matterwave_core::table::{self, Crystal};
 
 mod gun;
+mod overlayer;
 mod sample;
 pub use gun::{
     ev_or_face, no_face_for, table_value, EvOrFace, GunArgs, TableValue, WavelengthGunArgs,
 };
+pub use overlayer::{overlayer_beams, parse_frac_rod, parse_overlayer, OverlayerArgs};
 pub use sample::{crystal_at, v0_model, v0_model_kind, SampleArgs};
 
 /// Looks up a crystal by id, with a helpful list when unknown.

@@ -8,7 +8,10 @@ use super::*;
 pub(super) struct AimQuery<'a> {
     pub(super) rig: &'a Rig,
     pub(super) face: Face,
+    /// The face whose whole rod `rod` is the beam (see `TargetBeam`).
+    pub(super) grid: Face,
     pub(super) rod: [i32; 2],
+    pub(super) pos: matterwave_core::surface::FracRod,
     pub(super) tilt: f32,
     pub(super) mode: Mode,
     pub(super) branch: Branch,
@@ -18,7 +21,7 @@ pub(super) struct AimQuery<'a> {
 impl AimQuery<'_> {
     /// The core's request at the energy at the sample `energy`, eV.
     pub(super) fn request(&self, energy: f32) -> AimRequest<'_> {
-        AimRequest::new(&self.face, self.rod, energy, self.tilt)
+        AimRequest::new(&self.grid, self.rod, energy, self.tilt)
             .with_mode(self.mode)
             .with_branch(self.branch)
     }
@@ -48,7 +51,7 @@ impl AimQuery<'_> {
     ) -> CliResult<usize> {
         let ctx = format!(
             "--beam {} at {} eV ({} eV at the sample), tilt {} deg{}",
-            rod_text(self.rod),
+            self.pos,
             nominal,
             energy,
             self.tilt,
@@ -193,13 +196,15 @@ pub(super) fn aim_query<'a>(
     branch: Branch,
     position: &PositionArgs,
 ) -> CliResult<(Crystal, Cell, f32, AimQuery<'a>, GunArgs)> {
-    let (c, cell, face, rod) = target(target_args)?;
+    let (c, cell, face, beam) = target(target_args)?;
     let gun = gun.at_face(&c, &face)?;
     let e = gun.kinetic_ev()?;
     let q = AimQuery {
         rig: &rf.rig,
         face,
-        rod,
+        grid: beam.grid,
+        rod: beam.rod,
+        pos: beam.pos,
         tilt: check_angle(tilt, "tilt", TILT_MAX_DEG)?,
         mode: mode_of(azimuth)?,
         branch,
@@ -227,7 +232,7 @@ pub fn aim(a: &AimArgs) -> CliResult<Report> {
     let n = q.reachable(e, gun.energy, gun.correction_ev(), &mut buf)?;
     let mut r = Report::default();
     crystal_face_fields(&mut r, &c, &q.face);
-    r.field("beam", "beam", text(rod_text(q.rod)));
+    r.field("beam", "beam", text(q.pos.to_string()));
     gun.fields(&mut r, e);
     r.field(
         "wavelength_a",
@@ -248,7 +253,7 @@ pub fn aim(a: &AimArgs) -> CliResult<Report> {
         columns: solution_columns(),
         rows: buf[..n]
             .iter()
-            .map(|s| solution_row(s, exit_of(&q.face, q.rod, e, s)))
+            .map(|s| solution_row(s, exit_of(&q.grid, q.rod, e, s)))
             .collect(),
     });
     r.notes
@@ -272,6 +277,12 @@ pub fn budget_cmd(a: &BudgetArgs) -> CliResult<Report> {
         a.branch,
         &a.position,
     )?;
+    if q.pos.integer().is_none() {
+        return Err(CliError::new(format!(
+            "--beam {}: the budget takes integer-order beams only (its lattice term varies the bulk cell)",
+            q.pos
+        )));
+    }
     let (face, rod, tilt, mode) = (q.face, q.rod, q.tilt, q.mode);
     let spread = a.energy_spread;
     let zero_sigma = a.arm_zero_sigma;

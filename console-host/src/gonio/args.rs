@@ -41,7 +41,8 @@ pub struct TargetArgs {
     /// Face: 111, 1-10, 1,1,0, (1 -1 0); hexagonal also 0001, 10-10.
     #[arg(long, value_name = "HKL", allow_hyphen_values = true)]
     pub face: String,
-    /// Beam (rod) indices H,K, e.g. 1,0 or -1,1.
+    /// Beam (rod) indices H,K, e.g. 1,0 or -1,1; a fractional-order beam of a
+    /// superstructure in substrate units, e.g. 1/2,0 or 1/3,1/3 (denominators to 99).
     #[arg(long, value_name = "H,K", allow_hyphen_values = true)]
     pub beam: String,
 }

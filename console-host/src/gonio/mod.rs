@@ -49,13 +49,39 @@ pub use calib::fit_cmd;
 pub use sweep::{sweep, view, SweepOutput};
 pub use track::track;
 
-pub(super) type Target = (Crystal, Cell, Face, [i32; 2]);
+/// The beam aimed at: `rod` is a whole rod of `grid`, which is the face itself for an
+/// integer-order beam and the core's [`Face::fractional_grid`] for a fractional one
+/// (`--beam 1/2,0`), so that the whole-rod aiming and plans serve both; `pos` labels it.
+pub(super) struct TargetBeam {
+    pub(super) grid: Face,
+    pub(super) rod: [i32; 2],
+    pub(super) pos: matterwave_core::surface::FracRod,
+}
+
+pub(super) type Target = (Crystal, Cell, Face, TargetBeam);
 
 pub(super) fn target(t: &TargetArgs) -> CliResult<Target> {
     let c = calc::crystal_at(&t.crystal, &t.sample)?;
     let (cell, face) = calc::face_of(&c, &t.face)?;
-    let rod = calc::parse_rod(&t.beam)?;
-    Ok((c, cell, face, rod))
+    let beam = match calc::parse_rod(&t.beam) {
+        Ok(rod) => TargetBeam {
+            grid: face,
+            rod,
+            pos: matterwave_core::surface::FracRod::whole(rod),
+        },
+        Err(e) if !t.beam.contains('/') => return Err(e),
+        Err(_) => {
+            let pos = calc::parse_frac_rod(&t.beam)?;
+            TargetBeam {
+                grid: face
+                    .fractional_grid(pos.den)
+                    .ctx(format_args!("--beam {pos}"))?,
+                rod: pos.num,
+                pos,
+            }
+        }
+    };
+    Ok((c, cell, face, beam))
 }
 
 // ---------------------------------------------------------------------------------------

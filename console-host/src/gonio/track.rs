@@ -8,8 +8,11 @@ use super::*;
 /// `mwctl calc track`.
 pub fn track(a: &TrackArgs) -> CliResult<Report> {
     let rf = a.rig.load()?;
-    let (c, _, face, rod) = target(&a.target)?;
+    let (c, _, real_face, beam) = target(&a.target)?;
     let c = &c;
+    // Aiming and the plans run on the grid face (the face itself for an integer-order
+    // beam); the report's face fields and table look-ups use the face.
+    let (face, rod) = (beam.grid, beam.rod);
     let tilt = check_angle(a.tilt, "tilt", TILT_MAX_DEG)?;
     let mode = mode_of(a.azimuth)?;
     let dwell = check_dwell(a.dwell)?;
@@ -50,6 +53,8 @@ pub fn track(a: &TrackArgs) -> CliResult<Report> {
         )?),
         None => c.inner_potential_for(face.miller),
     };
+    // Kinematic I-V maxima come from bulk reciprocal vectors: integer-order beams only.
+    let v0 = v0.filter(|_| beam.pos.integer().is_some());
     let iv = match v0 {
         Some(v) => Some(IvPlan::new(plan, v, start).ctx(format_args!("--inner-potential {v}"))?),
         None => None,
@@ -130,8 +135,8 @@ pub fn track(a: &TrackArgs) -> CliResult<Report> {
         dwell,
     );
     let mut r = Report::default();
-    crystal_face_fields(&mut r, c, &face);
-    r.field("beam", "beam", text(rod_text(rod)));
+    crystal_face_fields(&mut r, c, &real_face);
+    r.field("beam", "beam", text(beam.pos.to_string()));
     if corr.correction_ev() != 0.0 {
         r.field(
             "correction_ev",

@@ -28,6 +28,7 @@ mod beam;
 mod iv;
 mod lab;
 mod lattice;
+mod overlayer;
 mod screen;
 mod surface;
 #[cfg(test)]
@@ -38,5 +39,6 @@ pub use beam::*;
 pub use iv::*;
 pub use lab::*;
 pub use lattice::*;
+pub use overlayer::*;
 pub use screen::*;
 pub use surface::*;

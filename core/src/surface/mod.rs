@@ -34,13 +34,21 @@ use crate::lattice::{check_indices, reciprocal, Cell, Miller};
 use crate::listing::Listing;
 use crate::math::{self, Vec3};
 
+pub mod domains;
 mod iv;
 mod iv_model;
 mod rods;
 mod sorted;
+mod superstructure;
+mod wood;
 
 pub use rods::BeamIter;
 pub use sorted::{SortedBeams, SORTED_WINDOW};
+pub use superstructure::{
+    super_beam_before, union_beams, FracRod, SuperBeam, Superstructure, MAX_BEAM_DEN, MAX_CELLS,
+    MAX_DEN, MAX_ENTRY,
+};
+pub use wood::{Wood, MAX_SQUARE};
 
 /// Largest |tilt| accepted, degrees.
 pub const TILT_MAX_DEG: f32 = 89.9;
