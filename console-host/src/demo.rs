@@ -28,6 +28,7 @@ pub fn run(format: Format) -> CliResult<String> {
         cathode_work_function: 2.7,
         sample_work_function: calc::EvOrFace::Ev(4.64),
         energy_offset: 0.0,
+        relax: [0.0, 0.0],
     };
     let sections = [
         (

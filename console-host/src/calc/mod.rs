@@ -7,10 +7,11 @@ use crate::tables;
 use matterwave_core::beam::{self, Beam, Gun, GunInput};
 use matterwave_core::lattice::{parse_miller, Cell, Miller, System};
 use matterwave_core::reflections::{self, Reflection};
-use matterwave_core::surface::{Face, Incidence, IvPeak, SurfaceBeam};
+use matterwave_core::surface::{Face, Incidence, IvPeak, Relaxation, SurfaceBeam};
 use matterwave_core::table::{self, Crystal};
 
 mod gun;
+pub mod steps;
 pub use gun::{
     ev_or_face, no_face_for, table_value, EvOrFace, GunArgs, TableValue, WavelengthGunArgs,
 };
@@ -459,10 +460,43 @@ pub(crate) fn face_fields(r: &mut Report, c: &Crystal, face: &Face) {
         "mesh angle γ (deg)",
         Value::F32(face.gamma_deg(), 3),
     );
+    spacing_fields(r, face);
+}
+
+/// The face's spacings along the normal: the period (lattice planes) and the atomic
+/// planes within it (core [`Face::atomic_planes`]).
+fn spacing_fields(r: &mut Report, face: &Face) {
+    let p = face.atomic_planes();
     r.field(
-        "layer_spacing_a",
-        "layer spacing (Å)",
-        Value::F32(face.layer_spacing_a, 4),
+        "period_a",
+        "period along the normal, lattice planes (Å)",
+        Value::F32(p.period_a, 4),
+    );
+    r.field(
+        "atomic_planes",
+        "atomic planes per period",
+        Value::Int(p.count.into()),
+    );
+    r.field(
+        "interlayer_spacing_a",
+        "interlayer spacing d12 of atomic planes (Å)",
+        Value::F32(p.d12_a(), 4),
+    );
+    r.field(
+        "interlayer_spacings_a",
+        "interlayer spacings d12, d23, … over one period (Å)",
+        Value::List(
+            p.spacings_a
+                .iter()
+                .take(p.count.into())
+                .map(|d| Value::F32(*d, 4))
+                .collect(),
+        ),
+    );
+    r.field(
+        "evenly_spaced",
+        "atomic planes evenly spaced",
+        Value::Bool(p.evenly_spaced()),
     );
 }
 
@@ -550,6 +584,8 @@ pub struct IvArgs {
     pub sample_work_function: EvOrFace,
     /// Gun offset, eV.
     pub energy_offset: f32,
+    /// Top-layer relaxation Δd12 and Δd23, percent.
+    pub relax: [f32; 2],
 }
 
 /// `mwctl calc ivpeaks`.
@@ -605,9 +641,18 @@ pub fn ivpeaks(id: &str, face_text: &str, a: &IvArgs, max: usize) -> CliResult<R
             ));
         }
     }
+    let relax = Relaxation::new(a.relax[0], a.relax[1]).ctx(format_args!(
+        "--relax-d12 {} --relax-d23 {}: accepted ±{} %",
+        a.relax[0],
+        a.relax[1],
+        matterwave_core::surface::RELAX_MAX_PCT
+    ))?;
     let mut buf = vec![IvPeak::EMPTY; check_max(max)?];
+    let mut bulk = vec![IvPeak::EMPTY; buf.len()];
     let l = face
-        .iv_peaks(a.rod, &inc, v0, lo, hi, &mut buf)
+        .iv_peaks_relaxed(a.rod, &inc, v0, lo, hi, &relax, &mut buf)
+        .ctx(format_args!("--inner-potential {v0}"))?;
+    face.iv_peaks(a.rod, &inc, v0, lo, hi, &mut bulk)
         .ctx(format_args!("--inner-potential {v0}"))?;
     let mut r = Report::default();
     face_fields(&mut r, c, &face);
@@ -639,6 +684,16 @@ pub fn ivpeaks(id: &str, face_text: &str, a: &IvArgs, max: usize) -> CliResult<R
     r.field("tilt_deg", "tilt (deg)", Value::F32(tilt, 3));
     r.field("azimuth_deg", "azimuth (deg)", Value::F32(azimuth, 3));
     r.field(
+        "relax_d12_pct",
+        "top-layer relaxation Δd12 (%)",
+        Value::F32(relax.d12_pct, 2),
+    );
+    r.field(
+        "relax_d23_pct",
+        "relaxation Δd23 (%)",
+        Value::F32(relax.d23_pct, 2),
+    );
+    r.field(
         "emergence_ev",
         "beam emerges at (eV)",
         Value::opt(face.emergence_ev(a.rod, &inc), 2),
@@ -648,7 +703,8 @@ pub fn ivpeaks(id: &str, face_text: &str, a: &IvArgs, max: usize) -> CliResult<R
         col("energy_ev", "energy (eV)"),
         col("nominal_ev", "nominal (eV)"),
         col("inner_energy_ev", "inside (eV)"),
-        col("order", "m"),
+        col("order", "order n = ⌈G⊥·period⌉"),
+        col("shift_ev", "relaxation shift (eV)"),
         col("g_h", "G h"),
         col("g_k", "G k"),
     ];
@@ -661,18 +717,27 @@ pub fn ivpeaks(id: &str, face_text: &str, a: &IvArgs, max: usize) -> CliResult<R
         columns,
         rows: Vec::new(),
     };
-    for p in &buf[..l.stored] {
+    for (p, b) in buf[..l.stored].iter().zip(&bulk) {
         let mut row = vec![
             Value::F32(p.energy_ev, 2),
             Value::F32(p.energy_ev - corr, 2),
             Value::F32(p.energy_ev + v0, 2),
             Value::Int(p.order.into()),
+            Value::F32(p.energy_ev - b.energy_ev, 3),
         ];
         row.extend(index_values(p.g_hkl, hex));
         row.push(Value::F32(p.g_perp_inv_a, 5));
         list.rows.push(row);
     }
     truncated_field(&mut r, l.truncated);
+    r.notes.push(
+        "Order n = ⌈G⊥·period⌉ (period along the normal, above): the peak's G⊥ lies in ((n−1)/period, n/period]; the same for symmetry-equivalent beams.".into(),
+    );
+    if !relax.is_none() {
+        r.notes.push(
+            "Relaxed: each kinematic energy moved by the shift of the maximum of a damped kinematic layer stack (top planes moved, Seah–Dench attenuation length); see the core's surface::relax.".into(),
+        );
+    }
     r.list = Some(list);
     Ok(r)
 }
