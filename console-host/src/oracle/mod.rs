@@ -33,6 +33,7 @@ mod surface;
 #[cfg(test)]
 mod tests;
 mod vec;
+mod vicinal;
 
 pub use beam::*;
 pub use iv::*;
@@ -40,3 +41,4 @@ pub use lab::*;
 pub use lattice::*;
 pub use screen::*;
 pub use surface::*;
+pub use vicinal::*;
