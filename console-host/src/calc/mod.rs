@@ -703,7 +703,7 @@ pub fn ivpeaks(id: &str, face_text: &str, a: &IvArgs, max: usize) -> CliResult<R
         col("energy_ev", "energy (eV)"),
         col("nominal_ev", "nominal (eV)"),
         col("inner_energy_ev", "inside (eV)"),
-        col("order", "order n = ⌈G⊥·period⌉"),
+        col("order", "order n"),
         col("shift_ev", "relaxation shift (eV)"),
         col("g_h", "G h"),
         col("g_k", "G k"),

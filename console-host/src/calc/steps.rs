@@ -21,10 +21,10 @@ pub struct StepsArgs {
     /// Gun settings (the energy of the split shown).
     #[command(flatten)]
     pub gun: GunArgs,
-    /// Sample tilt α, degrees, within ±89.9 (0: normal incidence on the terraces).
+    /// Sample tilt α, degrees, within ±89.9 (0: normal incidence).
     #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub tilt: f32,
-    /// Sample azimuth φ, degrees, within ±360.
+    /// Sample azimuth φ, degrees, within ±360 (0: a1 along e1, in the scattering plane).
     #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub azimuth: f32,
     /// Miscut angle from the terrace face, degrees (above 0, at most 45).
