@@ -34,8 +34,8 @@ use crate::math;
 pub const RELAX_MAX_PCT: f32 = 50.0;
 
 /// Grid points and golden-section steps of one maximum search.
-const GRID: usize = 48;
-const GOLDEN: usize = 40;
+const GRID: usize = 24;
+const GOLDEN: usize = 24;
 
 /// Half the window searched around each kinematic maximum, in periods of q·d.
 const WINDOW: f32 = 0.35;
@@ -264,8 +264,9 @@ impl Face {
     /// [`Face::iv_peaks`] (same arguments, same orders and G), each energy moved by
     /// the shift the damped layer-stack model of the [module docs](self) gives for
     /// `relax`. With [`Relaxation::NONE`] the energies are those of `iv_peaks`. Work:
-    /// two maximum searches of 48 + 80 intensity evaluations per peak (each a sum over
-    /// at most four atoms).
+    /// per peak two bisections (64 steps) for its window and two maximum searches of
+    /// 51 intensity evaluations each (a 24-interval grid, then 24 golden-section
+    /// steps), each evaluation a sum over at most four atoms.
     ///
     /// ```
     /// use matterwave_core::lattice::{Cell, Structure};
@@ -280,6 +281,7 @@ impl Face {
     /// assert!((0..n).all(|i| b[i].energy_ev > a[i].energy_ev));
     /// ```
     #[allow(clippy::too_many_arguments)]
+    #[inline(never)]
     pub fn iv_peaks_relaxed(
         &self,
         rod: [i32; 2],
