@@ -438,9 +438,15 @@ impl IvPlan {
         let mut peak_count = 0;
         if hi > lo {
             let inc = Incidence::new(lo, track.tilt_deg, azimuth)?;
-            let l = track
-                .face
-                .iv_peaks_relaxed(track.rod, &inc, inner_potential_ev, lo, hi, relax, &mut peaks)?;
+            let l = track.face.iv_peaks_relaxed(
+                track.rod,
+                &inc,
+                inner_potential_ev,
+                lo,
+                hi,
+                relax,
+                &mut peaks,
+            )?;
             peak_count = l.stored;
         } else {
             crate::beam::check_inner_potential(inner_potential_ev)?;

@@ -62,7 +62,10 @@ fn interlayer_spacing_and_period_of_known_faces() {
     let nacl = Cell::new(Structure::RockSalt, 5.640, 5.640, 5.640).unwrap();
     let p = Face::new(&nacl, [1, 1, 1]).unwrap().atomic_planes();
     assert_eq!(p.count, 2);
-    assert!((p.d12_a() - 5.640 / (2.0 * 3f32.sqrt())).abs() < 1e-4, "{p:?}");
+    assert!(
+        (p.d12_a() - 5.640 / (2.0 * 3f32.sqrt())).abs() < 1e-4,
+        "{p:?}"
+    );
 }
 
 #[test]
@@ -74,7 +77,10 @@ fn w110_equivalent_rods_have_equal_orders() {
     let inc = Incidence::normal(100.0).unwrap();
     let orders = |rod: [i32; 2]| -> Vec<(i32, i64)> {
         let mut out = [IvPeak::EMPTY; 32];
-        let n = f.iv_peaks(rod, &inc, 10.0, 30.0, 600.0, &mut out).unwrap().stored;
+        let n = f
+            .iv_peaks(rod, &inc, 10.0, 30.0, 600.0, &mut out)
+            .unwrap()
+            .stored;
         out[..n]
             .iter()
             .map(|p| (p.order, (p.energy_ev * 100.0).round() as i64))
@@ -106,22 +112,39 @@ fn rods_with_equal_g_perp_get_equal_orders_on_every_table_face() {
             for h in -2..=2 {
                 for k in -2..=2 {
                     let mut out = [IvPeak::EMPTY; 64];
-                    let l = f.iv_peaks([h, k], &inc, 10.0, 40.0, 800.0, &mut out).unwrap();
+                    let l = f
+                        .iv_peaks([h, k], &inc, 10.0, 40.0, 800.0, &mut out)
+                        .unwrap();
                     let ps = &out[..l.stored];
                     for w in ps.windows(2) {
                         assert!(w[1].order > w[0].order, "{} {:?} {ps:?}", c.id, fi.miller);
                     }
                     for p in ps {
                         let x = p.g_perp_inv_a * f.layer_spacing_a;
-                        assert!(p.order as f32 >= x - 2e-3 && (p.order as f32) < x + 1.0, "{p:?}");
+                        assert!(
+                            p.order as f32 >= x - 2e-3 && (p.order as f32) < x + 1.0,
+                            "{p:?}"
+                        );
                     }
-                    let g = f.row_spacing_a([h, k]).map_or(0, |d| (1e4 / d).round() as i64);
-                    let gp: Vec<i64> =
-                        ps.iter().map(|p| (p.g_perp_inv_a * 1e4).round() as i64).collect();
+                    let g = f
+                        .row_spacing_a([h, k])
+                        .map_or(0, |d| (1e4 / d).round() as i64);
+                    let gp: Vec<i64> = ps
+                        .iter()
+                        .map(|p| (p.g_perp_inv_a * 1e4).round() as i64)
+                        .collect();
                     let ord: Vec<i32> = ps.iter().map(|p| p.order).collect();
                     for s in &seen {
                         if s.0 == g && s.1 == gp && !gp.is_empty() {
-                            assert_eq!(s.2, ord, "{} {:?}: {:?} vs {:?}", c.id, fi.miller, s.3, [h, k]);
+                            assert_eq!(
+                                s.2,
+                                ord,
+                                "{} {:?}: {:?} vs {:?}",
+                                c.id,
+                                fi.miller,
+                                s.3,
+                                [h, k]
+                            );
                             groups_checked += 1;
                         }
                     }
@@ -142,7 +165,10 @@ fn hcp0001_specular_orders_count_the_period() {
     let f = face("ru", [0, 0, 1]);
     let mut out = [IvPeak::EMPTY; 16];
     let inc = Incidence::normal(100.0).unwrap();
-    let n = f.iv_peaks([0, 0], &inc, 0.0, 20.0, 600.0, &mut out).unwrap().stored;
+    let n = f
+        .iv_peaks([0, 0], &inc, 0.0, 20.0, 600.0, &mut out)
+        .unwrap()
+        .stored;
     assert!(n >= 3);
     for p in &out[..n] {
         assert_eq!(p.order % 2, 0, "{p:?}");
@@ -163,15 +189,24 @@ fn specular_step_phases_cu100_monatomic() {
     let st = Steps::new(30.0, h, 0.0).unwrap();
     let inc = Incidence::normal(100.0).unwrap();
     let mut out = [matterwave_core::surface::steps::StepPhase::EMPTY; 16];
-    let n = f.step_phases(&st, &inc, 0.0, 2.0, 50.0, &mut out).unwrap().stored;
-    let got: Vec<(f32, bool, f32)> = out[..n].iter().map(|p| (p.phase_cycles, p.in_phase, p.energy_ev)).collect();
+    let n = f
+        .step_phases(&st, &inc, 0.0, 2.0, 50.0, &mut out)
+        .unwrap()
+        .stored;
+    let got: Vec<(f32, bool, f32)> = out[..n]
+        .iter()
+        .map(|p| (p.phase_cycles, p.in_phase, p.energy_ev))
+        .collect();
     assert_eq!(got.len(), 4, "{got:?}");
     for (p, inph, e) in got {
         let want = energy_of_k(p as f64 / (2.0 * h as f64));
         assert!((e as f64 - want).abs() < 1e-3 * want, "{p}: {e} vs {want}");
         assert_eq!(inph, p.fract() == 0.0);
         let rule = 150.4 * (p * p) as f64 / (4.0 * 1.8075f64 * 1.8075);
-        assert!((e as f64 - rule).abs() < 0.005 * rule, "{p}: {e} vs rule {rule}");
+        assert!(
+            (e as f64 - rule).abs() < 0.005 * rule,
+            "{p}: {e} vs rule {rule}"
+        );
     }
     // With an inner potential the phases move down by V0 (inside energy is E + V0).
     let e0 = f.step_phase_energy_ev(&st, &inc, 0.0, 2.0).unwrap();
@@ -205,7 +240,9 @@ fn split_spots_are_one_over_l_apart_and_symmetric_out_of_phase() {
     let h = f.monatomic_step_a();
     let l = 25.0;
     let st = Steps::new(l, h, 0.0).unwrap();
-    let out_e = f.step_phase_energy_ev(&st, &Incidence::normal(100.0).unwrap(), 5.0, 2.5).unwrap();
+    let out_e = f
+        .step_phase_energy_ev(&st, &Incidence::normal(100.0).unwrap(), 5.0, 2.5)
+        .unwrap();
     let inc = Incidence::normal(out_e).unwrap();
     let s = f.split(&st, [0, 0], &inc, 5.0).unwrap();
     assert!((s.phase_cycles - 2.5).abs() < 1e-3, "{s:?}");
@@ -213,15 +250,28 @@ fn split_spots_are_one_over_l_apart_and_symmetric_out_of_phase() {
     assert!((a.offset_inv_a - 0.5 / l).abs() < 1e-3 / l, "{a:?}");
     assert!((b.offset_inv_a + 0.5 / l).abs() < 1e-3 / l, "{b:?}");
     // (each sub-beam has its own q, so the two differ slightly)
-    assert!((a.weight - b.weight).abs() < 3e-3 && (a.weight - 4.0 / std::f32::consts::PI.powi(2)).abs() < 1e-2, "{a:?} {b:?}");
+    assert!(
+        (a.weight - b.weight).abs() < 3e-3
+            && (a.weight - 4.0 / std::f32::consts::PI.powi(2)).abs() < 1e-2,
+        "{a:?} {b:?}"
+    );
     // Small angle: Δθ ≈ λ/L (normal incidence, near the normal).
     let lambda = matterwave_core::beam::wavelength_a(out_e).unwrap();
     let dtheta = (a.exit_deg + b.exit_deg).to_radians();
-    assert!((dtheta / (lambda / l) - 1.0).abs() < 0.01, "{dtheta} vs {}", lambda / l);
+    assert!(
+        (dtheta / (lambda / l) - 1.0).abs() < 0.01,
+        "{dtheta} vs {}",
+        lambda / l
+    );
     let in_e = f.step_phase_energy_ev(&st, &inc, 5.0, 3.0).unwrap();
-    let s = f.split(&st, [0, 0], &Incidence::normal(in_e).unwrap(), 5.0).unwrap();
+    let s = f
+        .split(&st, [0, 0], &Incidence::normal(in_e).unwrap(), 5.0)
+        .unwrap();
     let a = s.beams[0].unwrap();
-    assert!(a.offset_inv_a.abs() < 1e-4 && (a.weight - 1.0).abs() < 1e-3, "{s:?}");
+    assert!(
+        a.offset_inv_a.abs() < 1e-4 && (a.weight - 1.0).abs() < 1e-3,
+        "{s:?}"
+    );
 }
 
 #[test]
@@ -247,12 +297,18 @@ fn contraction_moves_maxima_up_and_expansion_down() {
     let inc = Incidence::normal(100.0).unwrap();
     let run = |r: Relaxation| {
         let mut out = [IvPeak::EMPTY; 16];
-        let n = f.iv_peaks_relaxed([0, 0], &inc, 10.0, 40.0, 500.0, &r, &mut out).unwrap().stored;
+        let n = f
+            .iv_peaks_relaxed([0, 0], &inc, 10.0, 40.0, 500.0, &r, &mut out)
+            .unwrap()
+            .stored;
         out[..n].to_vec()
     };
     let bulk = run(Relaxation::NONE);
     let mut plain = [IvPeak::EMPTY; 16];
-    let n = f.iv_peaks([0, 0], &inc, 10.0, 40.0, 500.0, &mut plain).unwrap().stored;
+    let n = f
+        .iv_peaks([0, 0], &inc, 10.0, 40.0, 500.0, &mut plain)
+        .unwrap()
+        .stored;
     assert_eq!(bulk, plain[..n].to_vec());
     let con = run(Relaxation::new(-8.5, 0.0).unwrap());
     let exp = run(Relaxation::new(5.0, 0.0).unwrap());
@@ -300,8 +356,12 @@ fn relaxed_maxima_agree_with_the_oracle() {
         let r = Relaxation::new(d12, d23).unwrap();
         let mut a = [IvPeak::EMPTY; 32];
         let mut b = [IvPeak::EMPTY; 32];
-        let n = f.iv_peaks(rod, &inc, v0, 30.0, 400.0, &mut a).unwrap().stored;
-        f.iv_peaks_relaxed(rod, &inc, v0, 30.0, 400.0, &r, &mut b).unwrap();
+        let n = f
+            .iv_peaks(rod, &inc, v0, 30.0, 400.0, &mut a)
+            .unwrap()
+            .stored;
+        f.iv_peaks_relaxed(rod, &inc, v0, 30.0, 400.0, &r, &mut b)
+            .unwrap();
         assert!(n > 0, "{id} {m:?} {rod:?}");
         for (p, q) in a[..n].iter().zip(&b) {
             let core = (q.energy_ev - p.energy_ev) as f64;
@@ -322,7 +382,10 @@ fn relaxed_maxima_agree_with_the_oracle() {
             .unwrap();
             let err = (core - o).abs();
             worst = worst.max(err);
-            assert!(err < RELAX_SHIFT_EV, "{id} {m:?} {rod:?} {p:?}: core {core} oracle {o}");
+            assert!(
+                err < RELAX_SHIFT_EV,
+                "{id} {m:?} {rod:?} {p:?}: core {core} oracle {o}"
+            );
             compared += 1;
         }
     }
@@ -343,7 +406,11 @@ fn split_spot_angles_agree_with_the_oracle() {
         let oc = ocell(c);
         let om = oracle::mesh_by_rule(&oc, m).unwrap();
         let e = rng.range(20.0, 400.0) as f32;
-        let tilt = if case % 3 == 0 { 0.0 } else { rng.range(-40.0, 40.0) as f32 };
+        let tilt = if case % 3 == 0 {
+            0.0
+        } else {
+            rng.range(-40.0, 40.0) as f32
+        };
         let az = rng.range(-180.0, 180.0) as f32;
         let v0 = rng.range(0.0, 15.0) as f32;
         let rod = [rng.int(-1, 1), rng.int(-1, 1)];
@@ -356,8 +423,17 @@ fn split_spot_angles_agree_with_the_oracle() {
             continue;
         };
         let o = oracle::split_spots(
-            om.a1, om.a2, om.normal, rod, e as f64, tilt as f64, az as f64, v0 as f64,
-            l as f64, h as f64, saz as f64,
+            om.a1,
+            om.a2,
+            om.normal,
+            rod,
+            e as f64,
+            tilt as f64,
+            az as f64,
+            v0 as f64,
+            l as f64,
+            h as f64,
+            saz as f64,
         );
         for b in s.beams.iter().flatten() {
             // Skip grazing sub-beams, where f32 rounding decides whether they exist.

@@ -43,7 +43,12 @@ pub struct StepsArgs {
     #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG", default_value_t = 0.0)]
     pub step_azimuth: f32,
     /// The beam (rod) H,K of the terraces to split.
-    #[arg(long, value_name = "H,K", allow_hyphen_values = true, default_value = "0,0")]
+    #[arg(
+        long,
+        value_name = "H,K",
+        allow_hyphen_values = true,
+        default_value = "0,0"
+    )]
     pub beam: String,
     /// Inner potential V0, eV (0 to 100), or `face` (the default): the table's value.
     #[arg(value_parser = super::ev_or_face, long, value_name = "EV|face")]
@@ -104,8 +109,16 @@ pub fn steps(a: &StepsArgs) -> CliResult<Report> {
         "inner potential (eV)",
         Value::F32(v0, 2),
     );
-    r.field("terrace_a", "terrace width L (Å)", Value::F32(st.terrace_a, 3));
-    r.field("step_height_a", "step height h (Å)", Value::F32(st.height_a, 4));
+    r.field(
+        "terrace_a",
+        "terrace width L (Å)",
+        Value::F32(st.terrace_a, 3),
+    );
+    r.field(
+        "step_height_a",
+        "step height h (Å)",
+        Value::F32(st.height_a, 4),
+    );
     r.field("miscut_deg", "miscut (deg)", Value::F32(st.miscut_deg(), 4));
     r.field(
         "step_azimuth_deg",

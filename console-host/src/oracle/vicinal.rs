@@ -199,10 +199,10 @@ fn maximum(col: &OColumn, geo: &Geometry, lo: f64, hi: f64, up1: f64, up2: f64) 
         .map(|i| lo + (hi - lo) * i as f64 / nstep as f64)
         .collect();
     let vs: Vec<f64> = es.iter().map(|e| at(*e)).collect();
-    let (ib, _) = vs
-        .iter()
-        .enumerate()
-        .fold((0, f64::MIN), |b, (i, v)| if *v > b.1 { (i, *v) } else { b });
+    let (ib, _) = vs.iter().enumerate().fold(
+        (0, f64::MIN),
+        |b, (i, v)| if *v > b.1 { (i, *v) } else { b },
+    );
     if ib == 0 || ib == nstep {
         return es[ib];
     }
@@ -364,7 +364,9 @@ pub fn split_spots(
             offset_inv_a: delta,
             exit: OBeam {
                 exit_polar_deg: kp2.sqrt().atan2(kperp).to_degrees(),
-                exit_azimuth_deg: dot(k_par, frame.e2).atan2(dot(k_par, frame.e1)).to_degrees(),
+                exit_azimuth_deg: dot(k_par, frame.e2)
+                    .atan2(dot(k_par, frame.e1))
+                    .to_degrees(),
                 arm_deg: arm,
                 elevation_deg: d[2].clamp(-1.0, 1.0).asin().to_degrees(),
                 k_out_lab: k_out,

@@ -38,8 +38,8 @@ mod iv;
 mod layers;
 mod relax;
 mod rods;
-pub mod steps;
 mod sorted;
+pub mod steps;
 
 pub use layers::{AtomicPlanes, MAX_PLANES};
 pub use relax::{Relaxation, RELAX_MAX_PCT};

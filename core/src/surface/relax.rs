@@ -136,9 +136,8 @@ impl Face {
     fn column(&self, rod: [i32; 2], inc: &Incidence, v0: f32, planes: &AtomicPlanes) -> Column {
         let g0 = self.rod_inv_a(rod);
         let [e1, e2] = self.frame;
-        let in_plane = |r: crate::math::Vec3| -> f32 {
-            g0[0] * math::dot(r, e1) + g0[1] * math::dot(r, e2)
-        };
+        let in_plane =
+            |r: crate::math::Vec3| -> f32 { g0[0] * math::dot(r, e1) + g0[1] * math::dot(r, e2) };
         let d = self.layer_spacing_a;
         let a3 = self.vectors_a[2];
         let mut atoms = [(0.0f32, 0.0f32); super::MAX_PLANES];

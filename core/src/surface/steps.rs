@@ -212,7 +212,10 @@ impl Face {
             return Err(Error::TooLow(Quantity::Count));
         }
         let target = p / steps.height_a;
-        let (lo, hi) = (crate::constants::ENERGY_MIN_EV, crate::constants::ENERGY_MAX_EV);
+        let (lo, hi) = (
+            crate::constants::ENERGY_MIN_EV,
+            crate::constants::ENERGY_MAX_EV,
+        );
         if perp_sum([0.0, 0.0], inc.sin_tilt, v0, lo) > target {
             return Err(Error::TooLow(Quantity::Energy));
         }
@@ -277,7 +280,13 @@ impl Face {
     /// phase u and the two sub-beams nearest the terrace beam, with their exit angles
     /// and arm angles. Errors: V0 → its error; |h|, |k| > 4096 → `IndicesTooLarge`;
     /// the terrace beam itself evanescent inside → `Evanescent`.
-    pub fn split(&self, steps: &Steps, rod: [i32; 2], inc: &Incidence, v0_ev: f32) -> Result<Split> {
+    pub fn split(
+        &self,
+        steps: &Steps,
+        rod: [i32; 2],
+        inc: &Incidence,
+        v0_ev: f32,
+    ) -> Result<Split> {
         let v0 = beam::check_inner_potential(v0_ev)?;
         if rod[0].abs() > 4096 || rod[1].abs() > 4096 {
             return Err(Error::IndicesTooLarge);
@@ -329,11 +338,23 @@ impl Face {
 
     /// q = K⊥,in + K⊥,out inside for the sub-beam at δ, at the incidence's energy.
     fn q_at(&self, g: [f32; 2], steps: &Steps, d: f32, inc: &Incidence, v0: f32) -> Option<f32> {
-        let q = perp_sum(self.turned(g, steps, d, inc), inc.sin_tilt, v0, inc.energy_ev);
+        let q = perp_sum(
+            self.turned(g, steps, d, inc),
+            inc.sin_tilt,
+            v0,
+            inc.energy_ev,
+        );
         (q >= 0.0).then_some(q)
     }
 
-    fn sub_beam(&self, g: [f32; 2], steps: &Steps, d: f32, j: i32, inc: &Incidence) -> Option<SubBeam> {
+    fn sub_beam(
+        &self,
+        g: [f32; 2],
+        steps: &Steps,
+        d: f32,
+        j: i32,
+        inc: &Incidence,
+    ) -> Option<SubBeam> {
         let t = self.turned(g, steps, d, inc);
         let u = inc.k_inv_a;
         let kx = inc.sin_tilt * u + t[0];
