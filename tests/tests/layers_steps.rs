@@ -96,6 +96,9 @@ fn w110_equivalent_rods_have_equal_orders() {
     }
 }
 
+/// A rod already visited: |g| key, G⊥ keys, orders, indices.
+type Seen = (i64, Vec<i64>, Vec<i32>, [i32; 2]);
+
 #[test]
 fn rods_with_equal_g_perp_get_equal_orders_on_every_table_face() {
     // Property over every face of the crystal table: rods with the same |g| and the same
@@ -108,7 +111,7 @@ fn rods_with_equal_g_perp_get_equal_orders_on_every_table_face() {
         let cell = c.cell().unwrap();
         for fi in c.faces {
             let f = Face::new(&cell, fi.miller).unwrap();
-            let mut seen: Vec<(i64, Vec<i64>, Vec<i32>, [i32; 2])> = Vec::new();
+            let mut seen: Vec<Seen> = Vec::new();
             for h in -2..=2 {
                 for k in -2..=2 {
                     let mut out = [IvPeak::EMPTY; 64];

@@ -103,7 +103,7 @@ impl Face {
     pub(crate) fn atom_depth_frac(&self, planes: &AtomicPlanes, x: [f32; 3]) -> f32 {
         let d = planes.top_frac - self.atom_height_frac(x);
         let d = d - math::floor(d);
-        if d >= 1.0 - SAME_PLANE || d < SAME_PLANE {
+        if !(SAME_PLANE..1.0 - SAME_PLANE).contains(&d) {
             0.0
         } else {
             d

@@ -313,7 +313,7 @@ impl Face {
                 bisect_energy(col.g, col.s, col.v0, lo_t, floor_ev, p.energy_ev)
             };
             let hi_e = bisect_energy(col.g, col.s, col.v0, hi_t, p.energy_ev, top);
-            if !(hi_e > lo_e) {
+            if hi_e.partial_cmp(&lo_e) != Some(core::cmp::Ordering::Greater) {
                 continue;
             }
             let bulk = col.maximum(lo_e, hi_e, 0.0, 0.0);

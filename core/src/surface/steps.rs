@@ -360,7 +360,7 @@ impl Face {
         let kx = inc.sin_tilt * u + t[0];
         let ky = t[1];
         let k2 = kx * kx + ky * ky;
-        if !(k2 <= u * u) || !d.is_finite() {
+        if k2.is_nan() || k2 > u * u || !d.is_finite() {
             return None;
         }
         let k_par = math::sqrt(k2);
