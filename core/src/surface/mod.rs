@@ -35,8 +35,8 @@ use crate::listing::Listing;
 use crate::math::{self, Vec3};
 
 mod iv;
-mod layers;
-mod relax;
+pub mod layers;
+pub mod relax;
 mod rods;
 mod sorted;
 pub mod steps;
