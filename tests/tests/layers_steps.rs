@@ -291,8 +291,8 @@ fn miscut_and_terrace_describe_the_same_staircase() {
 
 #[test]
 fn contraction_moves_maxima_up_and_expansion_down() {
-    // The damped layer-stack model (relax.rs): a contracted d12 raises the phase
-    // q·d12 of the top layer needed for the in-phase condition, so the maxima move up;
+    // The damped layer-stack model (relax.rs): with d12 contracted, the top layer's path
+    // difference q·d12 reaches a whole cycle only at a larger q, so the maxima move up;
     // expanded, down (the sign found in kinematic analyses of relaxed metal surfaces,
     // e.g. Van Hove, Weinberg and Chan, "Low-Energy Electron Diffraction", from
     // memory). Zero relaxation gives the kinematic energies exactly.

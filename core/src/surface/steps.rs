@@ -15,7 +15,8 @@
 //! (one sharp spot at δ = 0), u = n + ½ is **out of phase** (two spots of equal weight at
 //! δ = ±1/(2L)); in general the two sub-beams nearest the envelope lie at δ = f/L and
 //! (f − 1)/L, f the fractional part of u, 1/L apart in k∥. Their weights are the terrace
-//! envelope sinc²(π·δ·L) (a terrace of width L taken as continuous), so f and 1 − f.
+//! envelope sinc²(π·δ·L) (a terrace of width L taken as continuous): sinc²(π·f) and
+//! sinc²(π·(1 − f)), 4/π² each out of phase.
 //! On the specular rod (g = 0) the in-phase condition is 2·h·K⊥ = n at normal incidence
 //! (K⊥ = 1/λ inside): the in-phase energies are the kinematic Bragg energies of spacing
 //! h, the out-of-phase ones those of order n + ½. Each sub-beam's own q (it leaves at a
