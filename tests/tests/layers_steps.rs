@@ -266,6 +266,13 @@ fn split_spots_are_one_over_l_apart_and_symmetric_out_of_phase() {
         "{dtheta} vs {}",
         lambda / l
     );
+    // The splitting angle is the angle between the two directions (here on opposite
+    // sides of the normal, so the sum of the exit angles).
+    let split_deg = s.angle_deg().unwrap();
+    assert!(
+        (split_deg - (a.exit_deg + b.exit_deg)).abs() < 1e-3,
+        "{split_deg}"
+    );
     let in_e = f.step_phase_energy_ev(&st, &inc, 5.0, 3.0).unwrap();
     let s = f
         .split(&st, [0, 0], &Incidence::normal(in_e).unwrap(), 5.0)
@@ -401,6 +408,7 @@ fn split_spot_angles_agree_with_the_oracle() {
     let mut rng = matterwave_tests::Rng(12);
     let mut worst = 0.0f64;
     let mut compared = 0;
+    let mut angles = 0;
     let ids = ["cu", "ni", "w", "si", "ru", "ag"];
     for case in 0..120 {
         let c = table::find(ids[case % ids.len()]).unwrap();
@@ -438,6 +446,21 @@ fn split_spot_angles_agree_with_the_oracle() {
             h as f64,
             saz as f64,
         );
+        if let (Some(ang), [x, y]) = (s.angle_deg(), o.as_slice()) {
+            // The angle between the two oracle directions (lab k_out vectors).
+            let (u, v) = (x.exit.k_out_lab, y.exit.k_out_lab);
+            let dot: f64 = (0..3).map(|i| u[i] * v[i]).sum();
+            let n = |w: [f64; 3]| (w[0] * w[0] + w[1] * w[1] + w[2] * w[2]).sqrt();
+            let want = (dot / (n(u) * n(v))).clamp(-1.0, 1.0).acos().to_degrees();
+            if x.exit.exit_polar_deg < 85.0 && y.exit.exit_polar_deg < 85.0 {
+                assert!(
+                    (ang as f64 - want).abs() < SPLIT_DEG,
+                    "{} {m:?}: {ang} vs {want}",
+                    c.id
+                );
+                angles += 1;
+            }
+        }
         for b in s.beams.iter().flatten() {
             // Skip grazing sub-beams, where f32 rounding decides whether they exist.
             if b.exit_deg > 85.0 {
@@ -464,6 +487,6 @@ fn split_spot_angles_agree_with_the_oracle() {
             compared += 1;
         }
     }
-    assert!(compared > 100, "{compared}");
-    println!("split spots: {compared} compared, worst angle difference {worst:.5} deg");
+    assert!(compared > 100 && angles > 50, "{compared} {angles}");
+    println!("split spots: {compared} compared, worst {worst:.5} deg; {angles} splitting angles");
 }

@@ -140,6 +140,11 @@ pub fn steps(a: &StepsArgs) -> CliResult<Report> {
         "spot splitting 1/L (1/Å)",
         Value::F32(split.splitting_inv_a, 6),
     );
+    r.field(
+        "splitting_deg",
+        "angle between the two sub-beams (deg)",
+        Value::opt(split.angle_deg(), 4),
+    );
     let list_of = |in_phase: bool| {
         Value::List(
             phases[..pl.stored]

@@ -183,6 +183,25 @@ pub struct Split {
     pub splitting_inv_a: f32,
 }
 
+impl Split {
+    /// The angle between the two sub-beams' directions, degrees (the spot splitting an
+    /// arm or screen sees at this energy: about λ/(L·cos θ) near the terrace beam);
+    /// `None` unless both propagate.
+    pub fn angle_deg(&self) -> Option<f32> {
+        let [Some(a), Some(b)] = self.beams else {
+            return None;
+        };
+        let dir = |x: &SubBeam| {
+            let (st, ct) = math::sin_cos_deg(x.exit_deg);
+            let (sp, cp) = math::sin_cos_deg(x.exit_azimuth_deg);
+            [st * cp, st * sp, ct]
+        };
+        let (u, v) = (dir(&a), dir(&b));
+        let c = math::cross(u, v);
+        Some(math::deg(math::atan2(math::norm(c), math::dot(u, v))))
+    }
+}
+
 impl Face {
     /// The height of a monatomic step, Å: the spacing of the atomic planes when they
     /// are evenly spaced (Cu(100) a/2, Ru(0001) c/2, Si(100) a/4), else the period
