@@ -338,10 +338,23 @@ pub enum Calc {
         /// Gun energy offset, eV.
         #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
         energy_offset: f32,
+        /// Top-layer relaxation Δd12, percent of the bulk interlayer spacing d12
+        /// (negative = contraction), within ±50: the kinematic maxima move (see the
+        /// notes of the output).
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "PCT", default_value_t = 0.0)]
+        relax_d12: f32,
+        /// Relaxation Δd23 of the second spacing, percent, within ±50.
+        #[arg(value_parser = crate::number::f32_arg, long, value_name = "PCT", default_value_t = 0.0)]
+        relax_d23: f32,
         /// Most peaks to list, 1 to 10000.
         #[arg(value_parser = crate::number::max_arg, long, value_name = "N", default_value_t = 100)]
         max: usize,
     },
+    /// A stepped (vicinal) face: how a beam splits at an energy, where its sub-beams
+    /// go (exit and arm angles), and the specular beam's in-phase and out-of-phase
+    /// energies.
+    #[command(allow_negative_numbers = true)]
+    Steps(calc::steps::StepsArgs),
     /// Where every beam lands on a hemispherical screen or a flat detector (x, y in mm),
     /// which the gun's shadow hides; with --spot, the beam nearest a measured spot.
     #[command(allow_negative_numbers = true)]
@@ -772,9 +785,12 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
                 cathode_work_function,
                 sample_work_function,
                 energy_offset,
+                relax_d12,
+                relax_d23,
                 max,
             } => {
                 let a = IvArgs {
+                    relax: [*relax_d12, *relax_d23],
                     rod: calc::parse_rod(beam)?,
                     from: *from,
                     to: *to,
@@ -790,6 +806,7 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
                 calc::ivpeaks(crystal, face, &a, *max)?
             }
             Calc::Screen(a) => crate::screen::screen(a)?,
+            Calc::Steps(a) => calc::steps::steps(a)?,
             Calc::Aim(a) => gonio::aim(a)?,
             Calc::Track(a) => gonio::track(a)?,
             Calc::Sweep(a) => return Ok(Output::Sweep(gonio::sweep(a)?)),

@@ -30,6 +30,7 @@ pub fn run(format: Format) -> CliResult<String> {
         energy_offset: 0.0,
         sample: calc::SampleArgs::default(),
         v0_model: matterwave_core::inner::V0ModelKind::Constant,
+        relax: [0.0, 0.0],
     };
     let sections = [
         (

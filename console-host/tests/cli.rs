@@ -193,8 +193,8 @@ fn bad_input_exits_2_with_one_line() {
         (&["calc", "ivpeaks", "--crystal", "cu", "--face", "111", "--beam", "x", "--from", "10", "--to", "20"], Some("--beam 'x': give two integers H,K such as 1,0 or -1,1 (compact 10 or -11 also works)")),
         (&["calc", "ivpeaks", "--crystal", "cu", "--face", "111", "--beam", "0,0", "--from", "200", "--to", "20"], Some("--from 200 --to 20: 'from' must be below 'to'")),
         (&["calc", "ivpeaks", "--crystal", "gaas", "--face", "100", "--beam", "0,0", "--from", "20", "--to", "200"], Some("E132: --inner-potential face: the crystal table has no inner potential for gaas (100); give it in eV (`mwctl crystals --crystal gaas` lists the table's values)")),
-        (&["calc", "nonsense"], Some("unknown command 'nonsense' for `mwctl calc`: accepted: wavelength, reflections, rings, beams, ivpeaks, screen, aim, track, sweep, view, fit, budget")),
-        (&["calc"], Some("`mwctl calc` needs a command: one of wavelength, reflections, rings, beams, ivpeaks, screen, aim, track, sweep, view, fit, budget")),
+        (&["calc", "nonsense"], Some("unknown command 'nonsense' for `mwctl calc`: accepted: wavelength, reflections, rings, beams, ivpeaks, steps, screen, aim, track, sweep, view, fit, budget")),
+        (&["calc"], Some("`mwctl calc` needs a command: one of wavelength, reflections, rings, beams, ivpeaks, steps, screen, aim, track, sweep, view, fit, budget")),
         (&[], Some("`mwctl` needs a command: one of crystals, calc, demo, rig, safety, talk, run, align, verify, scan, backup, restore, serve, completions, man")),
         (&["calc", "wavelength"], Some("the following required arguments were not provided: --energy <EV>; usage: mwctl calc wavelength --energy <EV>")),
         (&["calc", "wavelength", "--energy", "100", "--bogus"], Some("unexpected argument '--bogus' found; usage: mwctl calc wavelength --energy <EV>")),
@@ -708,7 +708,7 @@ fn crystal_faces_show_the_values_the_controller_uses() {
 
 /// `--tilt` and `--azimuth` mean the same and default the same on every command: the
 /// tilt always 0 (normal incidence) with one help text; the azimuth 0 with one help text
-/// where it is fixed (beams, ivpeaks, sweep, view), and absent — in-plane aiming — with
+/// where it is fixed (beams, ivpeaks, steps, screen, sweep, view), and absent — in-plane aiming — with
 /// one other help text where it selects two-circle aiming (aim, track, budget).
 #[test]
 fn tilt_and_azimuth_have_one_default_and_one_meaning_everywhere() {
@@ -738,7 +738,7 @@ fn tilt_and_azimuth_have_one_default_and_one_meaning_everywhere() {
     };
     assert_eq!(
         names(&tilts),
-        ["beams", "ivpeaks", "screen", "aim", "track", "sweep", "view", "fit", "budget"]
+        ["beams", "ivpeaks", "steps", "screen", "aim", "track", "sweep", "view", "fit", "budget"]
     );
     for (n, help, default) in &tilts {
         assert_eq!(default, &["0"], "{n}");
@@ -752,7 +752,7 @@ fn tilt_and_azimuth_have_one_default_and_one_meaning_everywhere() {
     }
     assert_eq!(
         names(&fixed),
-        ["beams", "ivpeaks", "screen", "sweep", "view"]
+        ["beams", "ivpeaks", "steps", "screen", "sweep", "view"]
     );
     for (n, help, default) in &fixed {
         assert_eq!(default, &["0"], "{n}");

@@ -412,7 +412,7 @@ fn every_numeric_column_header_has_a_unit() {
         "h",
         "k",
         "l",
-        "m",
+        "order n",
         "G h",
         "G k",
         "G l",

@@ -165,6 +165,31 @@ impl Structure {
         }
     }
 
+    /// The atoms at each lattice point (the motif), in conventional fractional
+    /// coordinates: every atom of the crystal is a lattice point plus one of these.
+    /// Species are not told apart (rock salt's two ions are both listed).
+    ///
+    /// Positions (International Tables structure types; common practice): diamond and
+    /// zinc blende (0,0,0), (¼,¼,¼); rock salt and CsCl (0,0,0), (½,½,½); hcp
+    /// (⅓,⅔,¼), (⅔,⅓,¾); graphite (Bernal) (0,0,¼), (0,0,¾), (⅓,⅔,¼), (⅔,⅓,¾); every
+    /// other structure one atom at the lattice point.
+    pub const fn motif(self) -> &'static [[f32; 3]] {
+        const T: f32 = 1.0 / 3.0;
+        const TT: f32 = 2.0 / 3.0;
+        match self {
+            Structure::Diamond | Structure::ZincBlende => &[[0.0, 0.0, 0.0], [0.25, 0.25, 0.25]],
+            Structure::RockSalt | Structure::CsCl => &[[0.0, 0.0, 0.0], [0.5, 0.5, 0.5]],
+            Structure::Hcp => &[[T, TT, 0.25], [TT, T, 0.75]],
+            Structure::Graphite => &[
+                [0.0, 0.0, 0.25],
+                [0.0, 0.0, 0.75],
+                [T, TT, 0.25],
+                [TT, T, 0.75],
+            ],
+            _ => &[[0.0, 0.0, 0.0]],
+        }
+    }
+
     /// Whether the point with coordinates `half` (in units of half a conventional axis)
     /// is a lattice point of this structure's Bravais lattice.
     pub const fn is_lattice_point_half(self, half: [i32; 3]) -> bool {

@@ -28,7 +28,7 @@ use crate::error::{finite, AxisId, Error, Quantity, Result};
 use crate::goniometer::{self, AimRequest, Branch, InView, Mode, Position, Rig, Solution};
 use crate::listing::{insert_sorted, Listing};
 use crate::math;
-use crate::surface::{Face, Incidence, IvPeak};
+use crate::surface::{Face, Incidence, IvPeak, Relaxation};
 
 /// Most points one plan may have.
 pub const MAX_POINTS: u32 = 100_000;
@@ -403,8 +403,20 @@ impl IvPoint {
 
 impl IvPlan {
     /// Builds the plan and predicts the peaks over its energy range, at the azimuth of
-    /// the first reachable solution (in-plane mode) or the given azimuth.
+    /// the first reachable solution (in-plane mode) or the given azimuth, for the
+    /// bulk-terminated face.
     pub fn new(track: TrackPlan, inner_potential_ev: f32, start: Position) -> Result<IvPlan> {
+        IvPlan::relaxed(track, inner_potential_ev, &Relaxation::NONE, start)
+    }
+
+    /// As [`IvPlan::new`], with the maxima of a relaxed top layer
+    /// ([`crate::surface::Face::iv_peaks_relaxed`]).
+    pub fn relaxed(
+        track: TrackPlan,
+        inner_potential_ev: f32,
+        relax: &Relaxation,
+        start: Position,
+    ) -> Result<IvPlan> {
         let mut peaks = [IvPeak::EMPTY; MAX_PEAKS];
         let azimuth = match track.mode {
             Mode::AtAzimuth(a) => a,
@@ -426,9 +438,15 @@ impl IvPlan {
         let mut peak_count = 0;
         if hi > lo {
             let inc = Incidence::new(lo, track.tilt_deg, azimuth)?;
-            let l = track
-                .face
-                .iv_peaks(track.rod, &inc, inner_potential_ev, lo, hi, &mut peaks)?;
+            let l = track.face.iv_peaks_relaxed(
+                track.rod,
+                &inc,
+                inner_potential_ev,
+                lo,
+                hi,
+                relax,
+                &mut peaks,
+            )?;
             peak_count = l.stored;
         } else {
             crate::beam::check_inner_potential(inner_potential_ev)?;

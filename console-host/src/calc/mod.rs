@@ -5,18 +5,20 @@ use crate::error::{CliError, CliResult, Context};
 use crate::output::{col, Column, List, Report, Value};
 use crate::tables;
 use matterwave_core::beam::{self, Beam, Gun, GunInput};
-use matterwave_core::inner::{V0Model, V0ModelKind};
 use matterwave_core::lattice::{parse_miller, Cell, Miller, System};
 use matterwave_core::reflections::{self, Reflection};
-use matterwave_core::surface::{Face, Incidence, IvPeak, SurfaceBeam};
+use matterwave_core::surface::{Face, Incidence, SurfaceBeam};
 use matterwave_core::table::{self, Crystal};
 
 mod gun;
+mod iv;
 mod overlayer;
 mod sample;
+pub mod steps;
 pub use gun::{
     ev_or_face, no_face_for, table_value, EvOrFace, GunArgs, TableValue, WavelengthGunArgs,
 };
+pub use iv::{ivpeaks, IvArgs};
 pub use overlayer::{overlayer_beams, parse_frac_rod, parse_overlayer, OverlayerArgs};
 pub use sample::{crystal_at, v0_model, v0_model_kind, SampleArgs};
 
@@ -494,10 +496,43 @@ pub(crate) fn face_fields(r: &mut Report, c: &Crystal, face: &Face) {
         "mesh angle γ (deg)",
         Value::F32(face.gamma_deg(), 3),
     );
+    spacing_fields(r, face);
+}
+
+/// The face's spacings along the normal: the period (lattice planes) and the atomic
+/// planes within it (core [`Face::atomic_planes`]).
+fn spacing_fields(r: &mut Report, face: &Face) {
+    let p = face.atomic_planes();
     r.field(
-        "layer_spacing_a",
-        "layer spacing (Å)",
-        Value::F32(face.layer_spacing_a, 4),
+        "period_a",
+        "period along the normal, lattice planes (Å)",
+        Value::F32(p.period_a, 4),
+    );
+    r.field(
+        "atomic_planes",
+        "atomic planes per period",
+        Value::Int(p.count.into()),
+    );
+    r.field(
+        "interlayer_spacing_a",
+        "interlayer spacing d12 of atomic planes (Å)",
+        Value::F32(p.d12_a(), 4),
+    );
+    r.field(
+        "interlayer_spacings_a",
+        "interlayer spacings d12, d23, … over one period (Å)",
+        Value::List(
+            p.spacings_a
+                .iter()
+                .take(p.count.into())
+                .map(|d| Value::F32(*d, 4))
+                .collect(),
+        ),
+    );
+    r.field(
+        "evenly_spaced",
+        "atomic planes evenly spaced",
+        Value::Bool(p.evenly_spaced()),
     );
 }
 
@@ -561,169 +596,6 @@ pub fn beams(
         ]);
     }
     r.field("count", "beams", Value::Int(l.stored as i64));
-    truncated_field(&mut r, l.truncated);
-    r.list = Some(list);
-    Ok(r)
-}
-
-/// Arguments of `mwctl calc ivpeaks` other than the crystal and face.
-#[derive(Clone, Copy, Debug)]
-pub struct IvArgs {
-    /// Rod (h, k).
-    pub rod: [i32; 2],
-    /// Nominal start energy, eV.
-    pub from: f32,
-    /// Nominal end energy, eV.
-    pub to: f32,
-    /// Tilt, degrees.
-    pub tilt: f32,
-    /// Azimuth, degrees.
-    pub azimuth: f32,
-    /// V0, eV; `None` or `face` = the table's value for the face.
-    pub inner_potential: Option<EvOrFace>,
-    /// Work functions and offset (energy field unused).
-    pub cathode_work_function: f32,
-    /// Sample work function, eV, or the table's for the face.
-    pub sample_work_function: EvOrFace,
-    /// Gun offset, eV.
-    pub energy_offset: f32,
-    /// Sample temperature.
-    pub sample: SampleArgs,
-    /// A constant V0 (`inner_potential`) or the table's V0(E) for the face.
-    pub v0_model: V0ModelKind,
-}
-
-/// `mwctl calc ivpeaks`.
-pub fn ivpeaks(id: &str, face_text: &str, a: &IvArgs, max: usize) -> CliResult<Report> {
-    let c = &crystal_at(id, &a.sample)?;
-    let (_, face) = face_of(c, face_text)?;
-    let tilt = check_angle(a.tilt, "tilt", matterwave_core::surface::TILT_MAX_DEG)?;
-    let azimuth = check_angle(a.azimuth, "azimuth", 360.0)?;
-    let v0 = match a.inner_potential {
-        Some(EvOrFace::Ev(v)) => v,
-        Some(EvOrFace::Face) | None => {
-            table_value(TableValue::InnerPotential, "--inner-potential", c, &face)?
-        }
-    };
-    let sample = match a.sample_work_function {
-        EvOrFace::Ev(x) => x,
-        EvOrFace::Face => {
-            table_value(TableValue::WorkFunction, "--sample-work-function", c, &face)?
-        }
-    };
-    let corr = a.cathode_work_function - sample + a.energy_offset;
-    // Each end of the range through the core's gun model: an error names the option.
-    let gun = |nominal: f32, name: &str| {
-        GunArgs {
-            energy: nominal,
-            cathode_work_function: a.cathode_work_function,
-            sample_work_function: EvOrFace::Ev(sample),
-            energy_offset: a.energy_offset,
-        }
-        .kinetic_ev_named(&format!("--{name}"))
-    };
-    let lo = gun(a.from, "from")?;
-    let hi = gun(a.to, "to")?;
-    if lo >= hi {
-        return Err(CliError::new(format!(
-            "--from {} --to {}: 'from' must be below 'to'",
-            a.from, a.to
-        )));
-    }
-    let inc = Incidence::new(lo, tilt, azimuth).ctx("incidence")?;
-    if let Some(e) = face.emergence_ev(a.rod, &inc) {
-        if e >= hi {
-            return Err(CliError::core(
-                matterwave_core::Error::Evanescent,
-                format_args!(
-                    "--beam {},{}: the beam emerges only at {:.2} eV at the sample ({:.2} eV nominal), above --to {}",
-                    a.rod[0],
-                    a.rod[1],
-                    e,
-                    e - corr,
-                    a.to
-                ),
-            ));
-        }
-    }
-    let model = v0_model(a.v0_model, v0, c, face.miller)?;
-    let mut buf = vec![IvPeak::EMPTY; check_max(max)?];
-    let l = face
-        .iv_peaks_model(a.rod, &inc, &model, lo, hi, &mut buf)
-        .ctx(format_args!("--inner-potential {v0}"))?;
-    let mut r = Report::default();
-    face_fields(&mut r, c, &face);
-    r.field(
-        "beam",
-        "beam",
-        Value::Text(format!("{},{}", a.rod[0], a.rod[1])),
-    );
-    r.field(
-        "inner_potential_model",
-        "inner-potential model",
-        Value::Text(model.name().into()),
-    );
-    r.field(
-        "inner_potential_ev",
-        "inner potential (eV)",
-        match model {
-            V0Model::Constant(v) => Value::F32(v, 2),
-            V0Model::Energy(_) => Value::Missing,
-        },
-    );
-    r.field(
-        "cathode_work_function_ev",
-        "cathode work function (eV)",
-        Value::F32(a.cathode_work_function, 3),
-    );
-    r.field(
-        "sample_work_function_ev",
-        "sample work function (eV)",
-        Value::F32(sample, 3),
-    );
-    r.field(
-        "energy_offset_ev",
-        "energy offset (eV)",
-        Value::F32(a.energy_offset, 3),
-    );
-    r.field("tilt_deg", "tilt (deg)", Value::F32(tilt, 3));
-    r.field("azimuth_deg", "azimuth (deg)", Value::F32(azimuth, 3));
-    r.field(
-        "emergence_ev",
-        "beam emerges at (eV)",
-        Value::opt(face.emergence_ev(a.rod, &inc), 2),
-    );
-    let hex = c.structure.system() == System::Hexagonal;
-    let mut columns = vec![
-        col("energy_ev", "energy (eV)"),
-        col("nominal_ev", "nominal (eV)"),
-        col("inner_energy_ev", "inside (eV)"),
-        col("v0_ev", "V0 (eV)"),
-        col("order", "m"),
-        col("g_h", "G h"),
-        col("g_k", "G k"),
-    ];
-    if hex {
-        columns.push(col("g_i", "G i"));
-    }
-    columns.extend([col("g_l", "G l"), col("g_perp_inv_a", "G⊥ (1/Å)")]);
-    let mut list = List {
-        key: "peaks",
-        columns,
-        rows: Vec::new(),
-    };
-    for p in &buf[..l.stored] {
-        let mut row = vec![
-            Value::F32(p.energy_ev, 2),
-            Value::F32(p.energy_ev - corr, 2),
-            Value::F32(p.energy_ev + model.at_ev(p.energy_ev), 2),
-            Value::F32(model.at_ev(p.energy_ev), 2),
-            Value::Int(p.order.into()),
-        ];
-        row.extend(index_values(p.g_hkl, hex));
-        row.push(Value::F32(p.g_perp_inv_a, 5));
-        list.rows.push(row);
-    }
     truncated_field(&mut r, l.truncated);
     r.list = Some(list);
     Ok(r)

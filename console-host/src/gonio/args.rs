@@ -310,7 +310,9 @@ ignored). Lines starting with # and blank lines are skipped. No quoting: plain n
   row-spacing  energy_ev,order,exit_deg   energy at the sample (eV), order n, exit angle
                                           (deg) at normal incidence: sin θ = n·λ/d
   iv           order,energy_ev            specular I-V peak order n and energy (eV) at
-                                          normal incidence: fits V0 and layer spacing d
+                                          normal incidence: fits V0 and the spacing d the
+                                          orders count (λ inside = 2d/n; with calc
+                                          ivpeaks orders, the period along the normal)
 
 See docs/CALIBRATION.md.";
 

@@ -298,9 +298,10 @@ pub fn fit_cmd(a: &FitArgs) -> CliResult<Report> {
             );
             r.field(
                 "layer_spacing_a",
-                "layer spacing d (Å)",
+                "spacing d the orders count, λ inside = 2d/n (Å)",
                 f(fit.layer_spacing_a, 5),
             );
+
             r.field(
                 "layer_spacing_sigma_a",
                 "σ d (Å)",
@@ -332,6 +333,9 @@ pub fn fit_cmd(a: &FitArgs) -> CliResult<Report> {
                     f(e - pred, 3),
                 ]);
             }
+            r.notes.push(
+                "d is the spacing the orders n count: with orders numbered as `calc ivpeaks` numbers them (n = ⌈G⊥·period⌉) it is the period along the normal; with Bragg orders of evenly spaced atomic planes, the interlayer spacing (e.g. Ru(0001): period c, interlayer c/2).".into(),
+            );
             r.list = Some(list);
         }
     }

@@ -34,6 +34,7 @@ mod surface;
 #[cfg(test)]
 mod tests;
 mod vec;
+mod vicinal;
 
 pub use beam::*;
 pub use iv::*;
@@ -42,3 +43,4 @@ pub use lattice::*;
 pub use overlayer::*;
 pub use screen::*;
 pub use surface::*;
+pub use vicinal::*;

@@ -99,7 +99,14 @@ pub fn row_spacing(points: &[(f32, i32, f32)]) -> Result<Fit1> {
 /// E_n = E_in(n/(2d)) − V0,
 ///
 /// with E_in(k) the relativistic kinetic energy of wavenumber k
-/// ([`crate::beam::energy_from_wavenumber_ev`]). The fit first solves the
+/// ([`crate::beam::energy_from_wavenumber_ev`]). **Which spacing:** d is
+/// the spacing the orders count. Orders numbered as [`crate::surface::Face::iv_peaks`]
+/// numbers them (n = ⌈G⊥·period⌉, [`crate::surface::IvPeak::order`]) give the period
+/// along the normal ([`crate::surface::Face::layer_spacing_a`]: Ru(0001) c = 4.28 Å,
+/// orders 2, 4, 6, …); Bragg orders 1, 2, 3, … of evenly spaced atomic planes give
+/// their interlayer spacing ([`crate::surface::AtomicPlanes`]: Ru(0001) c/2 = 2.14 Å).
+/// The two agree when the face has one atomic plane per period (fcc(100), bcc(110)).
+/// The fit first solves the
 /// non-relativistic form E_n = A·n² − V0, A = (hc)²/(8·mc²·d²), by linear least
 /// squares, then refines (V0, d) on the relativistic relation by Gauss–Newton (analytic
 /// derivatives; it normally settles in two or three steps, at most 10). σ from

@@ -147,7 +147,10 @@ pub struct IvFit {
     pub inner_potential_ev: f32,
     /// One-standard-deviation uncertainty of V0, eV.
     pub inner_potential_sigma_ev: f32,
-    /// Layer spacing d, Å.
+    /// The spacing d the orders count (peak n at λ inside = 2d/n), Å: the period along
+    /// the normal ([`crate::surface::Face::layer_spacing_a`]) for orders numbered as
+    /// [`crate::surface::IvPeak::order`]; the interlayer spacing for Bragg orders of
+    /// evenly spaced atomic planes ([`crate::surface::Face::atomic_planes`]).
     pub layer_spacing_a: f32,
     /// One-standard-deviation uncertainty of d, Å.
     pub layer_spacing_sigma_a: f32,

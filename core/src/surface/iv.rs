@@ -10,7 +10,8 @@ impl Face {
     ///
     /// Inside, K = 1/λ(E + V0) and K⊥ = √(K² − k∥²) for the incoming and the outgoing
     /// beam; a peak sits where K⊥,in + K⊥,out = G·n̂ for an allowed bulk G on this rod.
-    /// Only energies where the beam exists outside are reported. Normal incidence uses
+    /// Only energies where the beam exists outside are reported. Each peak's
+    /// [`IvPeak::order`] is ⌈G⊥·d⌉ with d the period along the normal (see there). Normal incidence uses
     /// the closed form; oblique incidence bisects (the sum grows monotonically with E
     /// wherever the beam exists).
     ///
@@ -66,6 +67,8 @@ impl Face {
         let inv_d = 1.0 / self.layer_spacing_a;
         let off =
             rod[0] as f32 * self.recip_normal_inv_a[0] + rod[1] as f32 * self.recip_normal_inv_a[1];
+        // The order of G⊥ = off + m/d is ⌈G⊥·d⌉ = m + ⌈off·d⌉ (see `IvPeak::order`).
+        let shift = order_shift(off * self.layer_spacing_a);
         let m_lo = math::floor((sum_lo - off) / inv_d) as i32 - 1;
         let m_hi = math::floor((sum_hi - off) / inv_d) as i32 + 1;
         let mut stored = 0usize;
@@ -100,7 +103,7 @@ impl Face {
             };
             *slot = IvPeak {
                 energy_ev: e,
-                order: m - 1,
+                order: m - 1 + shift,
                 g_hkl: hkl,
                 g_perp_inv_a: gp,
             };
@@ -110,9 +113,18 @@ impl Face {
     }
 }
 
+/// ⌈x − 0.001⌉: the whole part of a rod's orders, from its offset x = off·d (the
+/// fraction of a period by which its first G⊥ lies above a whole multiple of 1/d).
+pub(crate) fn order_shift(x: f32) -> i32 {
+    -(math::floor(-(x - ORDER_TOLERANCE)) as i32)
+}
+
+/// How close (in periods) G⊥·d may come above a whole number and still count as it.
+pub(crate) const ORDER_TOLERANCE: f32 = 1.0e-3;
+
 /// K⊥,in + K⊥,out (1/Å) at outside energy `e` for rod vector `g`, sin(tilt) `s` and V0.
 /// Returns −1 where the outgoing beam is evanescent inside.
-fn perp_sum(g: [f32; 2], s: f32, v0: f32, e: f32) -> f32 {
+pub(crate) fn perp_sum(g: [f32; 2], s: f32, v0: f32, e: f32) -> f32 {
     let u = beam::wavenumber_unchecked_inv_a(e);
     let k = beam::wavenumber_unchecked_inv_a(e + v0);
     let k2 = k * k;
@@ -127,7 +139,7 @@ fn perp_sum(g: [f32; 2], s: f32, v0: f32, e: f32) -> f32 {
     math::sqrt(a) + math::sqrt(b)
 }
 
-fn bisect_energy(g: [f32; 2], s: f32, v0: f32, target: f32, lo: f32, hi: f32) -> f32 {
+pub(crate) fn bisect_energy(g: [f32; 2], s: f32, v0: f32, target: f32, lo: f32, hi: f32) -> f32 {
     let (mut a, mut b) = (lo, hi);
     for _ in 0..64 {
         let mid = 0.5 * (a + b);

@@ -37,11 +37,16 @@ use crate::math::{self, Vec3};
 pub mod domains;
 mod iv;
 mod iv_model;
+pub mod layers;
+pub mod relax;
 mod rods;
 mod sorted;
+pub mod steps;
 mod superstructure;
 mod wood;
 
+pub use layers::{AtomicPlanes, MAX_PLANES};
+pub use relax::{Relaxation, RELAX_MAX_PCT};
 pub use rods::BeamIter;
 pub use sorted::{SortedBeams, SORTED_WINDOW};
 pub use superstructure::{
@@ -110,7 +115,9 @@ pub struct Face {
     /// Normal components of the 3D reciprocal basis of (a1, a2, a3), 1/Å: a bulk G with
     /// rod (h, k) and layer index m has G·n̂ = h·b₁ₙ + k·b₂ₙ + m/d (b₁ₙ, b₂ₙ are the two entries).
     pub recip_normal_inv_a: [f32; 2],
-    /// Spacing of the lattice planes parallel to the face, Å.
+    /// Period along the normal: the spacing of the lattice planes (of the Bravais
+    /// lattice) parallel to the face, Å. Not the spacing of the atomic planes when the
+    /// motif has more than one atom (hcp(0001): c, not c/2); see [`Face::atomic_planes`].
     pub layer_spacing_a: f32,
     /// Conventional (H K L) = `to_conventional` · (h, k, m).
     pub to_conventional: [[i32; 3]; 3],
@@ -234,7 +241,13 @@ impl SurfaceBeam {
 pub struct IvPeak {
     /// Beam energy outside the crystal, eV.
     pub energy_ev: f32,
-    /// Layer index m of the bulk reciprocal vector (G·n̂ = h·b1n + k·b2n + m/d).
+    /// Order n = ⌈G⊥·d − 0.001⌉, d the period along the normal
+    /// ([`Face::layer_spacing_a`]): the peak's G⊥ lies in ((n − 1)/d, n/d] (a G⊥·d
+    /// within 0.001 above a whole number counts as that number). It depends on G⊥ alone, so
+    /// symmetry-equivalent rods (which have the same G⊥) get the same orders; consecutive
+    /// lattice G⊥ on a rod have consecutive orders, and on the specular rod G⊥ = n/d
+    /// exactly (λ inside = 2d/n at normal incidence). With several atomic planes per
+    /// period ([`Face::atomic_planes`]) extinct orders are missing (hcp(0001): 2, 4, 6, …).
     pub order: i32,
     /// Conventional indices (H K L) of the bulk reciprocal vector G.
     pub g_hkl: [i32; 3],

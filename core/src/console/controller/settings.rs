@@ -12,7 +12,7 @@ use crate::console::wire::token::Args;
 use crate::error::{Error, Quantity};
 use crate::goniometer::{AimRequest, Branch, CheckedRig, Mode, Rig};
 use crate::lattice::{parse_miller, Miller, System};
-use crate::surface::Face;
+use crate::surface::{Face, Relaxation};
 use crate::table::{self, Crystal};
 
 /// Every setting the console keeps (what `dump` saves and `reset` restores).
@@ -40,6 +40,8 @@ pub struct Settings {
     pub rig: CheckedRig,
     /// Branch preference of `aim`, `budget` and the plans.
     pub branch: Branch,
+    /// Top-layer relaxation of the I-V plan's predicted maxima.
+    pub relax: Relaxation,
 }
 
 impl Settings {
@@ -59,6 +61,7 @@ impl Settings {
             beam: [0, 0],
             rig: CheckedRig::new(Rig::bench_default())?,
             branch: Branch::Nearest,
+            relax: Relaxation::NONE,
         })
     }
 
@@ -129,6 +132,10 @@ pub enum Key {
     Branch,
     /// Sample temperature, K, or `table`.
     Temperature,
+    /// Top-layer relaxation Δd12, percent.
+    RelaxD12,
+    /// Relaxation Δd23, percent.
+    RelaxD23,
 }
 
 /// One setting key as the protocol names it.
@@ -155,7 +162,7 @@ const fn k(name: &'static str, key: Key, settable: bool, dump_line: u8) -> Setti
 
 /// Every setting key, in the order `get` prints them and `set` applies them (the
 /// crystal before the face it is read against).
-pub const SETTING_KEYS: [SettingKey; 15] = [
+pub const SETTING_KEYS: [SettingKey; 17] = [
     k("energy", Key::Energy, true, 0),
     k("kinetic", Key::Kinetic, false, 0),
     k("wavelength", Key::Wavelength, false, 0),
@@ -171,6 +178,8 @@ pub const SETTING_KEYS: [SettingKey; 15] = [
     k("beam", Key::Beam, true, 1),
     k("acceptance", Key::Acceptance, true, 2),
     k("branch", Key::Branch, true, 1),
+    k("relax_d12", Key::RelaxD12, true, 2),
+    k("relax_d23", Key::RelaxD23, true, 2),
 ];
 
 /// Lines of the dump that [`SETTING_KEYS`] fill: three, so that each fits one request
@@ -244,6 +253,8 @@ fn apply(s: &mut Settings, notes: &mut SetNotes, key: Key, v: &str) -> Result<()
         Key::Beam => s.beam = parse_rod(v)?,
         Key::Acceptance => notes.acceptance_deg = Some(parse_num(v)?),
         Key::Branch => s.branch = parse_branch(v)?,
+        Key::RelaxD12 => s.relax = Relaxation::new(parse_num(v)?, s.relax.d23_pct)?,
+        Key::RelaxD23 => s.relax = Relaxation::new(s.relax.d12_pct, parse_num(v)?)?,
         Key::Kinetic | Key::Wavelength => return Err(Error::UnknownArgument.into()),
     }
     Ok(())
@@ -295,6 +306,8 @@ impl Settings {
             }
             Key::Acceptance => rw.field_f32_rt(n, self.rig.acceptance_deg),
             Key::Branch => rw.field_str(n, self.branch.word()),
+            Key::RelaxD12 => rw.field_f32_rt(n, self.relax.d12_pct),
+            Key::RelaxD23 => rw.field_f32_rt(n, self.relax.d23_pct),
         };
         Ok(())
     }
