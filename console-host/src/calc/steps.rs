@@ -2,7 +2,9 @@
 //! with the arm angles of its sub-beams, and the specular beam's in-phase and
 //! out-of-phase energies. The model is the core's ([`matterwave_core::surface::steps`]).
 
-use super::{check_angle, crystal, face_fields, face_of, incidence_fields, parse_rod};
+use super::{
+    check_angle, crystal_at, face_fields, face_of, incidence_fields, parse_rod, SampleArgs,
+};
 use super::{table_value, EvOrFace, GunArgs, TableValue};
 use crate::error::{CliError, CliResult, Context};
 use crate::output::{col, List, Report, Value};
@@ -15,6 +17,9 @@ pub struct StepsArgs {
     /// Crystal id.
     #[arg(long, value_name = "ID")]
     pub crystal: String,
+    /// Sample temperature.
+    #[command(flatten)]
+    pub sample: SampleArgs,
     /// Face of the terraces (as for `beams`).
     #[arg(long, value_name = "HKL", allow_hyphen_values = true)]
     pub face: String,
@@ -66,7 +71,7 @@ const MAX_PHASES: usize = 200;
 
 /// `mwctl calc steps`.
 pub fn steps(a: &StepsArgs) -> CliResult<Report> {
-    let c = crystal(&a.crystal)?;
+    let c = &crystal_at(&a.crystal, &a.sample)?;
     let (_, face) = face_of(c, &a.face)?;
     let g = &a.gun.at_face(c, &face)?;
     let e = g.kinetic_ev()?;

@@ -147,7 +147,7 @@ pub struct SettingKey {
     pub key: Key,
     /// Whether `set` accepts it (false for values derived from others).
     pub settable: bool,
-    /// The settings line of the dump (0 to 2) that carries it, for settable keys.
+    /// The settings line of the dump (0 to 3) that carries it, for settable keys.
     pub dump_line: u8,
 }
 
@@ -178,15 +178,15 @@ pub const SETTING_KEYS: [SettingKey; 17] = [
     k("beam", Key::Beam, true, 1),
     k("acceptance", Key::Acceptance, true, 2),
     k("branch", Key::Branch, true, 1),
-    k("relax_d12", Key::RelaxD12, true, 2),
-    k("relax_d23", Key::RelaxD23, true, 2),
+    k("relax_d12", Key::RelaxD12, true, 3),
+    k("relax_d23", Key::RelaxD23, true, 3),
 ];
 
-/// Lines of the dump that [`SETTING_KEYS`] fill: three, so that each fits one request
+/// Lines of the dump that [`SETTING_KEYS`] fill: four, so that each fits one request
 /// line with its checksum at the longest values `set` accepts (every number at 15
 /// bytes, face and beam at their index limits; `tests/tests/reply_lengths.rs`). The
 /// branch stays on the line with the azimuth, which it depends on.
-pub(super) const SETTING_DUMP_LINES: u8 = 3;
+pub(super) const SETTING_DUMP_LINES: u8 = 4;
 
 /// What `set` changed besides the fields it was given.
 #[derive(Default)]
