@@ -307,7 +307,7 @@ pub fn tracks_plot(a: &TracksArgs) -> CliResult<(TracksPlot, Report)> {
         Value::List(
             p.tracks
                 .iter()
-                .filter_map(|t| t.emergence.map(|m| Value::F64(m.0, 3)))
+                .filter_map(|t| t.emergence.map(|m| Value::F32(m.0 as f32, 3)))
                 .collect(),
         ),
     );

@@ -92,10 +92,12 @@ impl Picture for PatternPlot {
         let rim_mm = self.radius_at_mm(rim_deg(&self.screen) - 1.0e-3);
         let lim = rim_mm * 1.06;
         let (xl, yl) = (2 * label_px + 16, 3 * label_px + 24);
+        // Equal scales on both axes: the plotting area is square (the y labels are
+        // wider than the x labels are tall, so the difference goes above the plot).
         let mut chart = ChartBuilder::on(&square)
             .margin_left(8)
-            .margin_right(8 + yl - xl)
-            .margin_top(8)
+            .margin_right(8)
+            .margin_top(8 + yl - xl)
             .margin_bottom(8)
             .x_label_area_size(xl)
             .y_label_area_size(yl)

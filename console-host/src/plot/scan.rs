@@ -286,7 +286,7 @@ pub fn scan_plot(a: &ScanArgs) -> CliResult<(ScanPlot, Report)> {
                     .iter()
                     .map(|v| Marker {
                         x: f64::from(v.arm_deg),
-                        label: format!("{},{}", v.beam.rod[0], v.beam.rod[1]),
+                        label: format!("({},{})", v.beam.rod[0], v.beam.rod[1]),
                     })
                     .collect();
                 (m, "predicted beam arm angles".to_string())
@@ -331,17 +331,31 @@ pub fn scan_plot(a: &ScanArgs) -> CliResult<(ScanPlot, Report)> {
     r.field(
         "predicted",
         "predicted positions",
-        Value::List(markers.iter().map(|m| Value::F64(m.x, 3)).collect()),
+        Value::List(markers.iter().map(|m| Value::F32(m.x as f32, 3)).collect()),
     );
     let plot = ScanPlot {
         title,
-        x_label: a.x.clone(),
-        y_label: a.y.clone(),
+        x_label: with_unit(&a.x),
+        y_label: with_unit(&a.y),
         points,
         markers,
         marker_label,
     };
     Ok((plot, r))
+}
+
+/// A column name with the unit its suffix names (units in names: `energy_ev`,
+/// `arm_deg`), for an axis label.
+fn with_unit(column: &str) -> String {
+    let c = column.to_ascii_lowercase();
+    let unit = [("_ev", "eV"), ("_deg", "deg"), ("_mm", "mm"), ("_s", "s")]
+        .iter()
+        .find(|(suffix, _)| c.ends_with(suffix))
+        .map(|(_, u)| *u);
+    match unit {
+        Some(u) => format!("{column} ({u})"),
+        None => column.to_string(),
+    }
 }
 
 /// `mwctl plot scan`.
