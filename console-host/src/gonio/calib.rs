@@ -72,7 +72,7 @@ pub(crate) fn read_csv(path: &Path, required: &[&str]) -> CliResult<Vec<CsvRow>>
             [i] => idx.push(*i),
             [] => {
                 return Err(CliError::new(format!(
-                    "--input {name} line {hline}: the header lacks column \"{r}\"; this fit needs the columns {want}"
+                    "--input {name} line {hline}: the header lacks column \"{r}\"; the columns needed are {want}"
                 )))
             }
             _ => {

@@ -1,7 +1,7 @@
 //! `mwctl plot`: pictures, PNG or SVG, of what the core computes — the beam pattern on a
-//! screen ([`pattern`]), the in-plane tracks of every beam family against energy with
-//! the arm's limits and zones ([`tracks`]), and scan data with the predicted positions
-//! overlaid ([`scan`]). Each picture is one file here; `style.rs` holds what they share
+//! screen ([`mod@pattern`]), the in-plane tracks of every beam family against energy with
+//! the arm's limits and zones ([`mod@tracks`]), and scan data with the predicted positions
+//! overlaid ([`mod@scan`]). Each picture is one file here; `style.rs` holds what they share
 //! (font, colours, output file, the data→pixel [`Frame`]). The library functions
 //! ([`write_pattern`], [`write_tracks`], [`write_scan`]) let other commands write the same
 //! pictures; the commands below add only the command-line options and a summary.

@@ -10,8 +10,8 @@ use matterwave_core::surface::Incidence;
 use plotters::coord::Shift;
 use plotters::prelude::*;
 
-/// At most this many spots are labelled (the lowest |g| first); the rest are drawn
-/// without their (h,k), so that a dense pattern stays readable.
+/// At most this many spots are labelled (the lowest |g| first, each where its label
+/// overlaps nothing drawn before it); the rest are drawn without their (h,k).
 pub const LABELS_MAX: usize = 80;
 
 /// Pixels between the centres of the cells the reachable region is sampled on.
@@ -201,10 +201,20 @@ impl Picture for PatternPlot {
                 .map_err(e)?;
         }
 
-        // The spots: filled where seen, hollow grey where the gun hides them.
+        // The spots: filled where seen, hollow grey where the gun hides them. Labels go
+        // up and to the right of their spot, lowest |g| first, each only where it
+        // overlaps no spot and no label already placed (so a dense pattern stays
+        // readable), at most LABELS_MAX.
         let dot_px = (side / 130).clamp(3, 8) as i32;
         let spot_label_px = (side / 48).clamp(9, 16);
-        for (i, s) in self.spots.iter().enumerate() {
+        let pixels: Vec<(i32, i32)> = self
+            .spots
+            .iter()
+            .map(|s| frame.to_px(f64::from(s.at.x_mm), f64::from(s.at.y_mm)))
+            .collect();
+        let mut boxes: Vec<[i32; 4]> = Vec::new();
+        let mut labelled = 0usize;
+        for (s, &(c, r)) in self.spots.iter().zip(&pixels) {
             let at = (f64::from(s.at.x_mm), f64::from(s.at.y_mm));
             if s.shadowed {
                 area.draw(&Circle::new(at, dot_px, style::HIDDEN.stroke_width(2)))
@@ -213,8 +223,17 @@ impl Picture for PatternPlot {
                 area.draw(&Circle::new(at, dot_px, style::BEAM.filled()))
                     .map_err(e)?;
             }
-            if i < LABELS_MAX {
-                let label = format!("({},{})", s.beam.rod[0], s.beam.rod[1]);
+            let label = format!("({},{})", s.beam.rod[0], s.beam.rod[1]);
+            let (dx, dy) = (dot_px + 2, -(dot_px + 2) - spot_label_px as i32);
+            let wide = (label.chars().count() as i32 * spot_label_px as i32 * 6) / 10;
+            let b = [c + dx, r + dy, c + dx + wide, r + dy + spot_label_px as i32];
+            let overlaps = |o: &[i32; 4]| b[0] < o[2] && o[0] < b[2] && b[1] < o[3] && o[1] < b[3];
+            let hits_spot = pixels
+                .iter()
+                .any(|&(pc, pr)| overlaps(&[pc - dot_px, pr - dot_px, pc + dot_px, pr + dot_px]));
+            if labelled < LABELS_MAX && !hits_spot && !boxes.iter().any(overlaps) {
+                boxes.push(b);
+                labelled += 1;
                 let colour = if s.shadowed {
                     style::HIDDEN
                 } else {
@@ -222,17 +241,13 @@ impl Picture for PatternPlot {
                 };
                 area.draw(
                     &(EmptyElement::at(at)
-                        + Text::new(
-                            label,
-                            (dot_px + 2, -(dot_px + 2) - spot_label_px as i32),
-                            style::text(spot_label_px).color(&colour),
-                        )),
+                        + Text::new(label, (dx, dy), style::text(spot_label_px).color(&colour))),
                 )
                 .map_err(e)?;
             }
         }
 
-        legend(self, &panel, label_px, dot_px, shadow_mm).map_err(e)?;
+        legend(self, &panel, label_px, dot_px, shadow_mm, labelled).map_err(e)?;
         Ok(PatternDrawn {
             frame,
             shadow_radius_mm: shadow_mm,
@@ -256,6 +271,7 @@ fn legend<DB: DrawingBackend>(
     label_px: u32,
     dot_px: i32,
     shadow_mm: f64,
+    labelled: usize,
 ) -> Result<(), DrawingAreaErrorKind<DB::ErrorType>> {
     let line = (label_px as i32 * 17) / 10;
     let x0 = 12;
@@ -326,8 +342,8 @@ fn legend<DB: DrawingBackend>(
         Some(e) => format!("elevation {}..{}°", e.min_deg, e.max_deg),
         None => "one-circle arm (elevation 0)".into(),
     });
-    if count > LABELS_MAX {
-        lines.push(format!("first {LABELS_MAX} spots labelled"));
+    if labelled < count {
+        lines.push(format!("{labelled} of {count} labelled (no room for more)"));
     }
     for l in lines {
         panel.draw(&Text::new(l, (x0, y - label_px as i32 / 2), t.clone()))?;

@@ -238,17 +238,24 @@ pub fn scan_plot(a: &ScanArgs) -> CliResult<(ScanPlot, Report)> {
     let mut r = Report::default();
     r.field("input", "input", Value::Text(a.input.display().to_string()));
     r.field("points", "points", Value::Int(points.len() as i64));
-    let need = |v: &Option<String>, name: &str| {
+    let word = match a.predict {
+        Predict::Beams => "beams",
+        Predict::Iv => "iv",
+        Predict::None => "none",
+    };
+    let need = |v: &Option<String>, name: &str, meta: &str| {
         v.clone().ok_or_else(|| {
-            CliError::new(format!("--predict needs --{name} (and --crystal, --face)"))
+            CliError::new(format!(
+                "--predict {word} needs --{name} {meta} (--predict beams: --crystal, --face, --energy; iv: --crystal, --face, --beam)"
+            ))
         })
     };
     let mut title = format!("{} against {}", a.y, a.x);
     let (markers, marker_label) = match a.predict {
         Predict::None => (Vec::new(), String::new()),
         Predict::Beams | Predict::Iv => {
-            let c = crystal(&need(&a.crystal, "crystal")?)?;
-            let (_, face) = face_of(c, &need(&a.face, "face")?)?;
+            let c = crystal(&need(&a.crystal, "crystal", "ID")?)?;
+            let (_, face) = face_of(c, &need(&a.face, "face", "HKL")?)?;
             let tilt = check_angle(a.tilt, "tilt", TILT_MAX_DEG)?;
             let azimuth = check_angle(a.azimuth, "azimuth", 360.0)?;
             title = format!(
@@ -291,7 +298,7 @@ pub fn scan_plot(a: &ScanArgs) -> CliResult<(ScanPlot, Report)> {
                     .collect();
                 (m, "predicted beam arm angles".to_string())
             } else {
-                let rod = parse_rod(&need(&a.beam, "beam")?)?;
+                let rod = parse_rod(&need(&a.beam, "beam", "H,K")?)?;
                 let v0 = match a.inner_potential {
                     Some(v) => v,
                     None => c.inner_potential_for(face.miller).ok_or_else(|| {
