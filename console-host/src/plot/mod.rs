@@ -20,7 +20,7 @@ use crate::calc::{self, check_angle, check_max, crystal, face_fields, face_of, G
 use crate::error::{CliError, CliResult, Context};
 use crate::gonio::RigArgs;
 use crate::output::{Report, Value};
-use matterwave_core::goniometer::{Screen, Spot, GUN_SHADOW_MAX_DEG};
+use matterwave_core::goniometer::{Screen, GUN_SHADOW_MAX_DEG};
 use matterwave_core::surface::Face;
 use matterwave_core::surface::{Incidence, SurfaceBeam, TILT_MAX_DEG};
 use matterwave_core::table::Crystal;
@@ -177,11 +177,6 @@ pub fn pattern_plot(a: &PatternArgs) -> CliResult<(PatternPlot, Report)> {
         a.gun_shadow
     ))?;
     let rig = a.rig.load()?;
-    let mut buf = vec![Spot::EMPTY; check_max(a.max)?];
-    let l = screen
-        .list_spots(&face, &inc, shadow, &mut buf)
-        .ctx("spot listing")?;
-    buf.truncate(l.stored);
     let title = format!(
         "{} · {} eV at the sample · tilt {}° · azimuth {}° · hemispherical screen",
         crystal_face(c, &face),
@@ -189,6 +184,7 @@ pub fn pattern_plot(a: &PatternArgs) -> CliResult<(PatternPlot, Report)> {
         tilt,
         azimuth
     );
+    let plot = PatternPlot::compute(title, &face, inc, screen, shadow, rig, check_max(a.max)?)?;
     let mut r = Report::default();
     face_fields(&mut r, c, &face);
     g.fields(&mut r, e);
@@ -196,23 +192,14 @@ pub fn pattern_plot(a: &PatternArgs) -> CliResult<(PatternPlot, Report)> {
     r.field("radius_mm", "screen radius (mm)", Value::F32(a.radius, 2));
     r.field("rim_deg", "rim (deg)", Value::F32(a.rim, 2));
     r.field("gun_shadow_deg", "gun shadow (deg)", Value::F32(shadow, 2));
-    r.field("rig", "rig", Value::Text(rig.name.clone()));
-    r.field("count", "spots", Value::Int(buf.len() as i64));
+    r.field("rig", "rig", Value::Text(plot.rig.name.clone()));
+    r.field("count", "spots", Value::Int(plot.spots.len() as i64));
     r.field(
         "shadowed_count",
         "hidden by the gun",
-        Value::Int(buf.iter().filter(|s| s.shadowed).count() as i64),
+        Value::Int(plot.spots.iter().filter(|s| s.shadowed).count() as i64),
     );
-    calc::truncated_field(&mut r, l.truncated);
-    let plot = PatternPlot {
-        title,
-        screen,
-        inc,
-        gun_shadow_deg: shadow,
-        rig,
-        spots: buf,
-        truncated: l.truncated,
-    };
+    calc::truncated_field(&mut r, plot.truncated);
     Ok((plot, r))
 }
 

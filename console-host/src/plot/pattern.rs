@@ -4,9 +4,10 @@
 //! Every position comes from the core (`goniometer::Screen`); this file only draws.
 
 use super::style::{self, Frame, Picture};
+use crate::error::{CliError, CliResult, Context};
 use crate::rig::RigFile;
 use matterwave_core::goniometer::{self, Screen, Spot};
-use matterwave_core::surface::Incidence;
+use matterwave_core::surface::{Face, Incidence};
 use plotters::coord::Shift;
 use plotters::prelude::*;
 
@@ -49,6 +50,43 @@ pub struct PatternDrawn {
 }
 
 impl PatternPlot {
+    /// The picture of `face` at `inc` on `screen` (a hemisphere; validated here), with
+    /// the gun's shadow of `gun_shadow_deg` and the reach of `rig`'s arm: the spots are
+    /// the core's (`Screen::list_spots`), at most `max_spots` of them (lowest |g| first).
+    /// Other commands (scan, align, demo) write the same picture through this.
+    pub fn compute(
+        title: String,
+        face: &Face,
+        inc: Incidence,
+        screen: Screen,
+        gun_shadow_deg: f32,
+        rig: RigFile,
+        max_spots: usize,
+    ) -> CliResult<PatternPlot> {
+        if !matches!(screen, Screen::Hemisphere { .. }) {
+            return Err(CliError::new(
+                "the pattern picture is drawn for a hemispherical screen only",
+            ));
+        }
+        screen.validate().ctx("screen")?;
+        let mut buf = vec![Spot::EMPTY; max_spots.clamp(1, crate::number::MAX_ROWS)];
+        let l = screen
+            .list_spots(face, &inc, gun_shadow_deg, &mut buf)
+            .ctx(format_args!(
+                "spot listing (gun shadow {gun_shadow_deg} deg)"
+            ))?;
+        buf.truncate(l.stored);
+        Ok(PatternPlot {
+            title,
+            screen,
+            inc,
+            gun_shadow_deg,
+            rig,
+            spots: buf,
+            truncated: l.truncated,
+        })
+    }
+
     /// Where the direction at `angle_deg` from the screen axis (in the horizontal plane)
     /// lands, as a distance from the centre, mm — the core's landing of that direction.
     fn radius_at_mm(&self, angle_deg: f32) -> f64 {

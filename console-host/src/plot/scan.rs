@@ -149,6 +149,54 @@ impl Picture for ScanPlot {
     }
 }
 
+/// The beams an arm sweep from `from_deg` to `to_deg` at `elevation_deg` crosses
+/// (within the rig's acceptance of the sweep's elevation), as markers at their arm
+/// angles labelled (h,k): the core's `SweepPlan::beams_crossed`, at most 512.
+pub fn beam_markers(
+    rig: &matterwave_core::goniometer::Rig,
+    face: &matterwave_core::surface::Face,
+    inc: Incidence,
+    elevation_deg: f32,
+    from_deg: f32,
+    to_deg: f32,
+) -> matterwave_core::Result<Vec<Marker>> {
+    let step = ((to_deg - from_deg) / 1000.0).max(1.0e-3);
+    let plan = SweepPlan::new(*rig, *face, inc, elevation_deg, from_deg, to_deg, step)?;
+    let mut buf = vec![InView::EMPTY; 512];
+    let l = plan.beams_crossed(&mut buf)?;
+    Ok(buf
+        .iter()
+        .take(l.stored)
+        .map(|v| Marker {
+            x: f64::from(v.arm_deg),
+            label: format!("({},{})", v.beam.rod[0], v.beam.rod[1]),
+        })
+        .collect())
+}
+
+/// The kinematic I-V maxima of rod `rod` from `from_ev` to `to_ev` (outside, eV) with
+/// inner potential `v0_ev` at the tilt and azimuth of `inc`, as markers labelled with
+/// their order m: the core's `Face::iv_peaks`, at most 256.
+pub fn iv_markers(
+    face: &matterwave_core::surface::Face,
+    rod: [i32; 2],
+    inc: &Incidence,
+    v0_ev: f32,
+    from_ev: f32,
+    to_ev: f32,
+) -> matterwave_core::Result<Vec<Marker>> {
+    let mut buf = vec![IvPeak::EMPTY; 256];
+    let l = face.iv_peaks(rod, inc, v0_ev, from_ev, to_ev, &mut buf)?;
+    Ok(buf
+        .iter()
+        .take(l.stored)
+        .map(|p| Marker {
+            x: f64::from(p.energy_ev),
+            label: format!("m={}", p.order),
+        })
+        .collect())
+}
+
 /// What to predict on a scan.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
 pub enum Predict {
@@ -271,31 +319,16 @@ pub fn scan_plot(a: &ScanArgs) -> CliResult<(ScanPlot, Report)> {
                 })?;
                 let inc = Incidence::new(e, tilt, azimuth).ctx(format_args!("--energy {e}"))?;
                 let rig = a.rig.load()?;
-                let plan = SweepPlan::new(
-                    rig.rig,
-                    face,
-                    inc,
-                    a.elevation,
-                    lo as f32,
-                    hi as f32,
-                    ((hi - lo) as f32 / 1000.0).max(1.0e-3),
-                )
-                .ctx(format_args!(
-                    "--x {} from {lo} to {hi} (arm angles, deg)",
-                    a.x
-                ))?;
-                let mut buf = vec![InView::EMPTY; 512];
-                let l = plan.beams_crossed(&mut buf).ctx("beams crossed")?;
+                let m = beam_markers(&rig.rig, &face, inc, a.elevation, lo as f32, hi as f32)
+                    .map_err(|e| {
+                        CliError::core(
+                            e,
+                            format_args!("--x {} from {lo} to {hi} (arm angles, deg)", a.x),
+                        )
+                    })?;
                 title = format!("{title} · {e} eV");
                 r.field("energy_ev", "energy at sample (eV)", Value::F32(e, 3));
                 r.field("rig", "rig", Value::Text(rig.name));
-                let m: Vec<Marker> = buf[..l.stored]
-                    .iter()
-                    .map(|v| Marker {
-                        x: f64::from(v.arm_deg),
-                        label: format!("({},{})", v.beam.rod[0], v.beam.rod[1]),
-                    })
-                    .collect();
                 (m, "predicted beam arm angles".to_string())
             } else {
                 let rod = parse_rod(&need(&a.beam, "beam", "H,K")?)?;
@@ -306,10 +339,8 @@ pub fn scan_plot(a: &ScanArgs) -> CliResult<(ScanPlot, Report)> {
                     })?,
                 };
                 let inc = Incidence::new(hi as f32, tilt, azimuth).ctx("incidence")?;
-                let mut buf = vec![IvPeak::EMPTY; 256];
-                let l = face
-                    .iv_peaks(rod, &inc, v0, lo as f32, hi as f32, &mut buf)
-                    .ctx(format_args!(
+                let m =
+                    iv_markers(&face, rod, &inc, v0, lo as f32, hi as f32).ctx(format_args!(
                         "--beam {},{} --inner-potential {v0} over {lo} to {hi} eV",
                         rod[0], rod[1]
                     ))?;
@@ -324,13 +355,6 @@ pub fn scan_plot(a: &ScanArgs) -> CliResult<(ScanPlot, Report)> {
                     "inner potential (eV)",
                     Value::F32(v0, 2),
                 );
-                let m: Vec<Marker> = buf[..l.stored]
-                    .iter()
-                    .map(|p| Marker {
-                        x: f64::from(p.energy_ev),
-                        label: format!("m={}", p.order),
-                    })
-                    .collect();
                 (m, "predicted kinematic I-V maxima".to_string())
             }
         }

@@ -100,6 +100,16 @@ impl TracksPlot {
                                 .ok()
                                 .map(|arm| (f64::from(e), f64::from(arm)))
                         });
+                // The curve starts at the emergence point, not at the first sample after it.
+                let step = f64::from(to_ev - from_ev) / (SAMPLES - 1) as f64;
+                if let Some(m) = emergence {
+                    if let Some(r) = runs.iter_mut().find(|r| {
+                        r.first()
+                            .is_some_and(|p| p.0 >= m.0 && p.0 - m.0 <= step * 1.01)
+                    }) {
+                        r.insert(0, m);
+                    }
+                }
                 tracks.push(Track {
                     family: i,
                     branch,
