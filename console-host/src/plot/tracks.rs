@@ -232,10 +232,12 @@ impl Picture for TracksPlot {
                     &(EmptyElement::at(m)
                         + Text::new(
                             format!("{:.1} eV", m.0),
+                            // Away from the curves: above a marker at the top end of
+                            // the tracks, below one at the bottom end.
                             (
-                                6,
-                                if m.1 > 0.0 { 4 } else { -(label_px as i32) - 4 }
-                                    + if m.1 > 0.0 { 1 } else { -1 }
+                                -4,
+                                if m.1 > 0.0 { -(label_px as i32) - 8 } else { 8 }
+                                    + if m.1 > 0.0 { -1 } else { 1 }
                                         * stagger(ti)
                                         * label_px as i32,
                             ),
