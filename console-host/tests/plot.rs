@@ -408,6 +408,12 @@ fn svg_parses_and_holds_the_labels() {
         .iter()
         .any(|t| t.starts_with("silver (1 0 0) · 95 eV")));
 
+    // A rig name with XML's special characters still gives well-formed XML.
+    let rig = tmp("odd-name.toml");
+    let toml = std::fs::read_to_string(repo("docs/rigs/bench-b.toml")).unwrap();
+    let odd = toml.replace("name = \"bench B\"", "name = 'bench <B> & \"C\"'");
+    assert_ne!(odd, toml);
+    std::fs::write(&rig, odd).unwrap();
     let tracks = tmp("tracks.svg");
     let (code, _, err) = common::mwctl(&[
         "plot",
@@ -420,14 +426,21 @@ fn svg_parses_and_holds_the_labels() {
         "8",
         "--out",
         tracks.to_str().unwrap(),
+        "--rig",
+        rig.to_str().unwrap(),
     ]);
     assert_eq!(code, 0, "{err}");
     let text = std::fs::read_to_string(&tracks).unwrap();
     let doc = roxmltree::Document::parse(&text).expect("well-formed XML");
-    assert!(doc.descendants().any(
-        |n| n.text() == Some("\nkinetic energy at the sample (eV)\n")
-            || n.text().map(str::trim) == Some("kinetic energy at the sample (eV)")
-    ));
+    let texts: Vec<&str> = doc
+        .descendants()
+        .filter_map(|n| n.text().map(str::trim))
+        .collect();
+    assert!(
+        texts.contains(&"kinetic energy at the sample (eV)"),
+        "{texts:?}"
+    );
+    assert!(texts.contains(&"rig: bench <B> & \"C\""), "{texts:?}");
 }
 
 /// An unknown extension is refused naming --out and what is accepted; a size out of
