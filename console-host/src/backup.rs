@@ -36,7 +36,7 @@ pub fn crc32(bytes: &[u8]) -> u32 {
 }
 
 /// The configuration as the device dumps it: its request lines, in order.
-fn dump<W: Wire>(s: &mut Session<W>) -> CliResult<Vec<String>> {
+pub(crate) fn dump<W: Wire>(s: &mut Session<W>) -> CliResult<Vec<String>> {
     let r = s
         .request("dump")
         .map_err(|e| CliError::new(format!("dump: {e}")))?;

@@ -96,6 +96,10 @@ pub enum Command {
         #[arg(long, value_name = "BAUD")]
         baud: Option<u32>,
     },
+    /// Run a plan on a controller — track, iv or sweep: per point set the energy, move,
+    /// wait, read the detector — writing every point to a CSV file as it is measured;
+    /// Ctrl-C stops the axes and keeps the file, --resume continues it (docs/SCAN.md).
+    Scan(Box<crate::scan::ScanArgs>),
     /// Save a controller's whole configuration (settings, axes, zones) to a file.
     Backup {
         /// The file to write.
@@ -506,6 +510,26 @@ pub fn run(cli: &Cli, out: &mut dyn std::io::Write) -> CliResult<()> {
             crate::remote::serve_pty(*for_s, *baud, faults, f == crate::output::Format::Json, out)?;
             return Ok(());
         }
+        Command::Scan(a) => {
+            no_csv(f, "scan")?;
+            let json = f == crate::output::Format::Json;
+            let cfg = crate::scan::Config::resolve(a, json)?;
+            let (summary, err) = crate::scan::run(&cfg);
+            if let Some(s) = summary {
+                // A closed pipe ends the output quietly, as for every report.
+                let _ = if json {
+                    writeln!(out, "{}", s.json())
+                } else {
+                    writeln!(
+                        out,
+                        "scan {}: {} of {} points in {} ({} measured), {:.1} s",
+                        s.status, s.rows, s.points, s.file, s.measured, s.seconds
+                    )
+                };
+                let _ = out.flush();
+            }
+            return err.map_or(Ok(()), Err);
+        }
         Command::Completions { shell } => {
             crate::docgen::text_only(f, "completions", "a shell script")?;
             crate::docgen::completions(*shell, out)?;
@@ -611,6 +635,7 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
         | Command::Verify { .. }
         | Command::Backup { .. }
         | Command::Restore { .. }
+        | Command::Scan(_)
         | Command::Completions { .. }
         | Command::Man { .. } => return Ok(Output::Text(String::new())),
         Command::Plot(p) => crate::plot::run(p)?,

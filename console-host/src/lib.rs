@@ -20,6 +20,7 @@ pub mod plot;
 pub mod remote;
 pub mod repl;
 pub mod rig;
+pub mod scan;
 pub mod screen;
 mod table_sources;
 pub mod tables;
