@@ -586,3 +586,71 @@ fn scan_iv_maxima_follow_the_bragg_condition() {
     roxmltree::Document::parse(&text).expect("well-formed XML");
     assert!(text.contains("energy_ev (eV)") && text.contains("m=3"));
 }
+
+/// `plot scan SCAN_FILE`: a sweep written by `mwctl scan` on the simulator (Ag(100),
+/// 95 eV, tilt 6°) is read by the scan file's reader; every measured row is drawn, and
+/// the (1,0) beam is marked at the in-plane arm angle of the grating equation,
+/// δ = α + asin(sin α + λ·|g|) (f64; λ and Ag a = 4.0853 Å, from memory, as above).
+#[test]
+fn scan_file_of_mwctl_scan() {
+    let csv = tmp("sweep-scan.csv");
+    let (code, _, err) = common::mwctl(&[
+        "scan",
+        "--kind",
+        "sweep",
+        "--from",
+        "30",
+        "--to",
+        "46",
+        "--step",
+        "0.25",
+        "--set",
+        "crystal=ag",
+        "--set",
+        "face=100",
+        "--set",
+        "energy=95",
+        "--set",
+        "tilt=6",
+        "--out",
+        csv.to_str().unwrap(),
+        "--force",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let path = tmp("sweep-scan.png");
+    let PlotCmd::Scan(a) = plot_cmd(&[
+        "scan",
+        csv.to_str().unwrap(),
+        "--out",
+        path.to_str().unwrap(),
+    ]) else {
+        unreachable!()
+    };
+    let (p, r) = plot::scan::scan_plot(&a).unwrap();
+    assert_eq!(p.points.len(), 65);
+    let (hc, mc2, e) = (12398.419843320f64, 510998.95f64, 95.0f64);
+    let lambda = hc / (e * (e + 2.0 * mc2)).sqrt();
+    let alpha = 6f64.to_radians();
+    let want = (alpha + (alpha.sin() + lambda * 2f64.sqrt() / 4.0853).asin()).to_degrees();
+    assert_eq!(p.markers.len(), 1, "{:?}", p.markers);
+    assert!(
+        (p.markers[0].x - want).abs() < 0.01,
+        "{} vs {want}",
+        p.markers[0].x
+    );
+    assert_eq!(p.markers[0].label, "(1,0)");
+    assert!(r.fields.iter().any(|f| f.0 == "kind"));
+    let t = Target::new(&a.out.out, a.out.width, a.out.height).unwrap();
+    let f = plot::write_scan(&p, &t).unwrap();
+    let img = Rgb::read(&path);
+    for &(x, y) in &p.points {
+        assert!(img.near(f.to_px(x, y), 1, beam_blue), "point {x},{y}");
+    }
+    // The peak of the simulated detector lies at the predicted beam (within its width).
+    let top = p
+        .points
+        .iter()
+        .copied()
+        .fold((0.0, f64::MIN), |b, q| if q.1 > b.1 { q } else { b });
+    assert!((top.0 - want).abs() < 1.0, "peak at {} vs {want}", top.0);
+}

@@ -8,6 +8,7 @@
 
 pub mod pattern;
 pub mod scan;
+mod scan_file;
 pub mod style;
 pub mod tracks;
 
@@ -133,7 +134,7 @@ pub struct TracksArgs {
 }
 
 /// The file fields every plot summary starts with.
-fn file_fields(r: &mut Report, t: &Target) {
+pub(crate) fn file_fields(r: &mut Report, t: &Target) {
     r.field("file", "file", Value::Text(t.path.display().to_string()));
     r.field("file_format", "format", Value::Text(t.kind.word().into()));
     r.field("width_px", "width (px)", Value::Int(t.width_px.into()));
@@ -141,7 +142,7 @@ fn file_fields(r: &mut Report, t: &Target) {
 }
 
 /// "Ag (100)" style context: crystal id and face as `calc` prints them.
-fn crystal_face(c: &Crystal, face: &Face) -> String {
+pub(crate) fn crystal_face(c: &Crystal, face: &Face) -> String {
     let mut r = Report::default();
     calc::crystal_face_fields(&mut r, c, face);
     let face_text = r

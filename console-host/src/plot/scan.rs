@@ -109,7 +109,8 @@ impl Picture for ScanPlot {
             ))
             .map_err(e)?;
             area.draw(
-                &(EmptyElement::at((m.x, y.1)) + Text::new(m.label.clone(), (3, 2), small.clone())),
+                &(EmptyElement::at((m.x, y.0))
+                    + Text::new(m.label.clone(), (3, -(label_px as i32) - 6), small.clone())),
             )
             .map_err(e)?;
         }
@@ -211,15 +212,20 @@ pub enum Predict {
 /// The options of `mwctl plot scan`.
 #[derive(Clone, Debug, clap::Args)]
 pub struct ScanArgs {
-    /// The scan: a CSV file with a header row naming the columns (`#` lines skipped).
-    #[arg(long, value_name = "FILE")]
-    pub input: PathBuf,
-    /// The column along x.
+    /// A scan file written by `mwctl scan` (docs/SCAN.md): its current against the arm
+    /// angle (sweep) or the energy at the sample (track, iv), with the predictions of
+    /// the plan it records. Or give --input with --x and --y instead.
+    #[arg(value_name = "SCAN_FILE", required_unless_present = "input", conflicts_with_all = ["input", "x", "y", "predict"])]
+    pub file: Option<PathBuf>,
+    /// Any CSV with a header row naming the columns (`#` lines skipped), with --x, --y.
+    #[arg(long, value_name = "FILE", requires_all = ["x", "y"])]
+    pub input: Option<PathBuf>,
+    /// With --input: the column along x.
     #[arg(long, value_name = "COLUMN")]
-    pub x: String,
-    /// The column along y.
+    pub x: Option<String>,
+    /// With --input: the column along y.
     #[arg(long, value_name = "COLUMN")]
-    pub y: String,
+    pub y: Option<String>,
     /// What to overlay: `beams` (x is the arm angle, deg) or `iv` (x is the energy at
     /// the sample, eV); both need --crystal and --face.
     #[arg(long, value_enum, default_value_t = Predict::None)]
@@ -256,20 +262,20 @@ pub struct ScanArgs {
     pub out: OutArgs,
 }
 
-/// Reads the two columns of `a.input`.
-fn read_points(a: &ScanArgs) -> CliResult<Vec<(f64, f64)>> {
-    let (xc, yc) = (a.x.to_ascii_lowercase(), a.y.to_ascii_lowercase());
-    let rows = read_csv(&a.input, &[xc.as_str(), yc.as_str()])?;
+/// Reads the two columns `x`, `y` of the CSV at `input`.
+fn read_points(input: &std::path::Path, x: &str, y: &str) -> CliResult<Vec<(f64, f64)>> {
+    let (xc, yc) = (x.to_ascii_lowercase(), y.to_ascii_lowercase());
+    let rows = read_csv(input, &[xc.as_str(), yc.as_str()])?;
     let mut pts = Vec::with_capacity(rows.len());
     for r in &rows {
-        let x = csv_f32(&a.input, r, 0, &xc)?;
-        let y = csv_f32(&a.input, r, 1, &yc)?;
+        let x = csv_f32(input, r, 0, &xc)?;
+        let y = csv_f32(input, r, 1, &yc)?;
         pts.push((f64::from(x), f64::from(y)));
     }
     if pts.is_empty() {
         return Err(CliError::new(format!(
             "--input {}: no data rows under the header",
-            a.input.display()
+            input.display()
         )));
     }
     Ok(pts)
@@ -277,14 +283,22 @@ fn read_points(a: &ScanArgs) -> CliResult<Vec<(f64, f64)>> {
 
 /// The scan picture for `a`, computed (not yet drawn), and its summary.
 pub fn scan_plot(a: &ScanArgs) -> CliResult<(ScanPlot, Report)> {
-    let points = read_points(a)?;
+    if let Some(f) = &a.file {
+        return super::scan_file::plot_of(f, &a.rig);
+    }
+    let (Some(input), Some(ax), Some(ay)) = (&a.input, &a.x, &a.y) else {
+        return Err(CliError::new(
+            "give a scan file of mwctl scan, or --input FILE --x COLUMN --y COLUMN",
+        ));
+    };
+    let points = read_points(input, ax, ay)?;
     let (lo, hi) = points
         .iter()
         .fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), p| {
             (l.min(p.0), h.max(p.0))
         });
     let mut r = Report::default();
-    r.field("input", "input", Value::Text(a.input.display().to_string()));
+    r.field("input", "input", Value::Text(input.display().to_string()));
     r.field("points", "points", Value::Int(points.len() as i64));
     let word = match a.predict {
         Predict::Beams => "beams",
@@ -298,7 +312,7 @@ pub fn scan_plot(a: &ScanArgs) -> CliResult<(ScanPlot, Report)> {
             ))
         })
     };
-    let mut title = format!("{} against {}", a.y, a.x);
+    let mut title = format!("{ay} against {ax}");
     let (markers, marker_label) = match a.predict {
         Predict::None => (Vec::new(), String::new()),
         Predict::Beams | Predict::Iv => {
@@ -323,7 +337,7 @@ pub fn scan_plot(a: &ScanArgs) -> CliResult<(ScanPlot, Report)> {
                     .map_err(|e| {
                         CliError::core(
                             e,
-                            format_args!("--x {} from {lo} to {hi} (arm angles, deg)", a.x),
+                            format_args!("--x {ax} from {lo} to {hi} (arm angles, deg)"),
                         )
                     })?;
                 title = format!("{title} · {e} eV");
@@ -366,8 +380,8 @@ pub fn scan_plot(a: &ScanArgs) -> CliResult<(ScanPlot, Report)> {
     );
     let plot = ScanPlot {
         title,
-        x_label: with_unit(&a.x),
-        y_label: with_unit(&a.y),
+        x_label: with_unit(ax),
+        y_label: with_unit(ay),
         points,
         markers,
         marker_label,
@@ -377,7 +391,7 @@ pub fn scan_plot(a: &ScanArgs) -> CliResult<(ScanPlot, Report)> {
 
 /// A column name with the unit its suffix names (units in names: `energy_ev`,
 /// `arm_deg`), for an axis label.
-fn with_unit(column: &str) -> String {
+pub(crate) fn with_unit(column: &str) -> String {
     let c = column.to_ascii_lowercase();
     let unit = [("_ev", "eV"), ("_deg", "deg"), ("_mm", "mm"), ("_s", "s")]
         .iter()
