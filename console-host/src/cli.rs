@@ -24,6 +24,22 @@ pub struct Cli {
     /// Output format.
     #[arg(long, global = true, value_enum, default_value_t = Format::Table)]
     pub format: Format,
+    /// Seed of the simulated controller's detector noise (links `sim` and `pty`, `mwctl
+    /// serve --pty`; default 1). Real controllers and the QEMU image ignore it.
+    #[arg(long, global = true, value_name = "N", help_heading = "Simulator")]
+    pub sim_seed: Option<u32>,
+    /// Calibration errors the simulated instrument hides from its console (links `sim`
+    /// and `pty`, `mwctl serve --pty`): arm_zero=DEG (±360), energy=EV (±1e6),
+    /// tilt=DEG (±90), comma-separated, any subset (absent ones 0). No console request
+    /// reads or sets them (docs/SIMULATOR.md); `mwctl align` finds the arm zero and
+    /// energy offset. Real controllers and the QEMU image ignore it.
+    #[arg(
+        long,
+        global = true,
+        value_name = "arm_zero=DEG,energy=EV,tilt=DEG",
+        help_heading = "Simulator"
+    )]
+    pub sim_hidden: Option<String>,
     /// What to do.
     #[command(subcommand)]
     pub command: Command,
@@ -80,6 +96,11 @@ pub enum Command {
         #[arg(long, value_name = "BAUD")]
         baud: Option<u32>,
     },
+    /// Find the arm zero and the gun's energy offset from known beams of a reference
+    /// face on a controller (moves the arm, tilt and azimuth), show them with 1σ and
+    /// per-beam residuals, and apply them only on confirmation or --yes.
+    #[command(allow_negative_numbers = true, after_help = CAUTIONS)]
+    Align(Box<crate::align::AlignArgs>),
     /// Check a controller's math: a sweep of beams and aims over the link, every reply
     /// compared with the host's own core (identical lines) and with the f64 oracle.
     Verify {
@@ -198,6 +219,9 @@ pub enum Calc {
         /// Crystal id (see `mwctl crystals`).
         #[arg(long, value_name = "ID")]
         crystal: String,
+        /// Sample temperature.
+        #[command(flatten)]
+        sample: calc::SampleArgs,
         /// Gun settings.
         #[command(flatten)]
         gun: GunArgs,
@@ -211,6 +235,9 @@ pub enum Calc {
         /// Crystal id.
         #[arg(long, value_name = "ID")]
         crystal: String,
+        /// Sample temperature.
+        #[command(flatten)]
+        sample: calc::SampleArgs,
         /// Gun settings.
         #[command(flatten)]
         gun: GunArgs,
@@ -228,6 +255,9 @@ pub enum Calc {
         /// Crystal id.
         #[arg(long, value_name = "ID")]
         crystal: String,
+        /// Sample temperature.
+        #[command(flatten)]
+        sample: calc::SampleArgs,
         /// Face: 111, 1-10, 1,1,0, (1 -1 0); hexagonal also 0001, 10-10.
         #[arg(long, value_name = "HKL", allow_hyphen_values = true)]
         face: String,
@@ -258,6 +288,9 @@ pub enum Calc {
         /// Crystal id.
         #[arg(long, value_name = "ID")]
         crystal: String,
+        /// Sample temperature.
+        #[command(flatten)]
+        sample: calc::SampleArgs,
         /// Face (as for `beams`).
         #[arg(long, value_name = "HKL", allow_hyphen_values = true)]
         face: String,
@@ -280,6 +313,10 @@ pub enum Calc {
         /// face (the default).
         #[arg(value_parser = calc::ev_or_face, long, value_name = "EV|face")]
         inner_potential: Option<calc::EvOrFace>,
+        /// Inner-potential model: `constant` (the one V0 of --inner-potential) or
+        /// `energy` (the crystal table's V0(E) for the face, where it has one).
+        #[arg(value_parser = calc::v0_model_kind, long, value_name = "constant|energy", default_value = "constant")]
+        inner_potential_model: matterwave_core::inner::V0ModelKind,
         /// Cathode work function, eV.
         #[arg(value_parser = crate::number::f32_arg, long, value_name = "EV", default_value_t = 0.0)]
         cathode_work_function: f32,
@@ -434,6 +471,11 @@ fn usage_line(e: &clap::Error, args: &[std::ffi::OsString]) -> String {
 /// never held as one string). A write error (e.g. a closed pipe) ends the output
 /// quietly.
 pub fn run(cli: &Cli, out: &mut dyn std::io::Write) -> CliResult<()> {
+    // What the simulated instrument is: resolved once, before any link opens.
+    crate::link::device::set_sim_config(crate::link::device::SimConfig::from_args(
+        cli.sim_seed,
+        cli.sim_hidden.as_deref(),
+    )?);
     // Commands that write as they talk to a controller.
     let f = cli.format;
     match &cli.command {
@@ -587,6 +629,7 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
             }
         }
         Command::Demo => return crate::demo::run(f).map(Output::Text),
+        Command::Align(a) => crate::align::run(a)?,
         Command::Rig(RigCmd::Show {
             rig: r,
             toml,
@@ -644,15 +687,22 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
                 gun,
                 inner_potential,
             } => calc::wavelength(&gun.gun_args()?, *inner_potential)?,
-            Calc::Reflections { crystal, gun, max } => calc::reflections(crystal, gun, *max)?,
+            Calc::Reflections {
+                crystal,
+                sample,
+                gun,
+                max,
+            } => calc::reflections(crystal, sample, gun, *max)?,
             Calc::Rings {
                 crystal,
+                sample,
                 gun,
                 screen_distance,
                 max,
-            } => calc::rings(crystal, gun, *screen_distance, *max)?,
+            } => calc::rings(crystal, sample, gun, *screen_distance, *max)?,
             Calc::Beams {
                 crystal,
+                sample,
                 face,
                 gun,
                 tilt,
@@ -665,14 +715,16 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
                     Some(p) => Some(rig::load(p)?),
                     None => None,
                 };
-                let mut r = calc::beams(crystal, face, gun, *tilt, *azimuth, *max)?;
+                let mut r = calc::beams(crystal, sample, face, gun, *tilt, *azimuth, *max)?;
                 if let Some(rf) = &rf {
-                    gonio::add_reach(&mut r, rf, crystal, face, gun, *tilt, *azimuth, *reachable)?;
+                    let c = calc::crystal_at(crystal, sample)?;
+                    gonio::add_reach(&mut r, rf, &c, face, gun, *tilt, *azimuth, *reachable)?;
                 }
                 r
             }
             Calc::Ivpeaks {
                 crystal,
+                sample,
                 face,
                 beam,
                 from,
@@ -680,6 +732,7 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
                 tilt,
                 azimuth,
                 inner_potential,
+                inner_potential_model,
                 cathode_work_function,
                 sample_work_function,
                 energy_offset,
@@ -695,6 +748,8 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
                     cathode_work_function: *cathode_work_function,
                     sample_work_function: *sample_work_function,
                     energy_offset: *energy_offset,
+                    sample: *sample,
+                    v0_model: *inner_potential_model,
                 };
                 calc::ivpeaks(crystal, face, &a, *max)?
             }

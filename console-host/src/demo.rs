@@ -28,6 +28,8 @@ pub fn run(format: Format) -> CliResult<String> {
         cathode_work_function: 2.7,
         sample_work_function: calc::EvOrFace::Ev(4.64),
         energy_offset: 0.0,
+        sample: calc::SampleArgs::default(),
+        v0_model: matterwave_core::inner::V0ModelKind::Constant,
     };
     let sections = [
         (
@@ -38,7 +40,15 @@ pub fn run(format: Format) -> CliResult<String> {
         (
             "beams",
             "beams of Ag(100), tilt 6 deg",
-            calc::beams("ag", "100", &gun, 6.0, 0.0, 40)?,
+            calc::beams(
+                "ag",
+                &calc::SampleArgs::default(),
+                "100",
+                &gun,
+                6.0,
+                0.0,
+                40,
+            )?,
         ),
         (
             "iv_peaks",

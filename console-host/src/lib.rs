@@ -5,6 +5,7 @@
 //! through `matterwave-core`, the same f32 code the controller runs; only [`oracle`] is
 //! a separate, double-precision formulation used to check it.
 
+pub mod align;
 pub mod backup;
 pub mod calc;
 pub mod cli;

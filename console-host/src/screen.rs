@@ -2,9 +2,7 @@
 //! detector, which the gun's shadow hides, and which beam is at a measured spot — all
 //! computed by the core (`goniometer::Screen`).
 
-use crate::calc::{
-    check_angle, check_max, crystal, face_fields, face_of, truncated_field, GunArgs,
-};
+use crate::calc::{check_angle, check_max, face_fields, face_of, truncated_field, GunArgs};
 use crate::error::{CliError, CliResult, Context};
 use crate::output::{col, List, Report, Value};
 use matterwave_core::goniometer::{Screen, Spot, GUN_SHADOW_MAX_DEG};
@@ -16,6 +14,9 @@ pub struct ScreenArgs {
     /// Crystal id.
     #[arg(long, value_name = "ID")]
     pub crystal: String,
+    /// Sample temperature.
+    #[command(flatten)]
+    pub sample: crate::calc::SampleArgs,
     /// Face (as for `beams`).
     #[arg(long, value_name = "HKL", allow_hyphen_values = true)]
     pub face: String,
@@ -127,7 +128,7 @@ fn parse_spot(text: &str) -> CliResult<(f32, f32)> {
 
 /// `mwctl calc screen`.
 pub fn screen(a: &ScreenArgs) -> CliResult<Report> {
-    let c = crystal(&a.crystal)?;
+    let c = &crate::calc::crystal_at(&a.crystal, &a.sample)?;
     let (_, face) = face_of(c, &a.face)?;
     let g = &a.gun.at_face(c, &face)?;
     let e = g.kinetic_ev()?;

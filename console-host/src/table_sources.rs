@@ -2,7 +2,7 @@
 // Do not edit by hand: edit tables/crystals.toml (which names the source of every
 // number) and run the generator.
 #![allow(clippy::all)]
-use crate::tables::{CrystalSources, FaceSources, Sourced};
+use crate::tables::{CrystalSources, ExpansionSources, FaceSources, Sourced, V0FormSources};
 use matterwave_core::lattice::Structure;
 
 pub(crate) static CRYSTALS: &[CrystalSources] = &[
@@ -24,6 +24,13 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 9.8,
             source: "free-electron estimate V0 = E_F + phi = 5.49 + 4.26 eV (E_F from Kittel, Introduction to Solid State Physics, 8th ed., ch. 6, Table 1; phi from Michaelson 1977), from memory",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 18.9,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
@@ -32,6 +39,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 0],
@@ -40,6 +48,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 1],
@@ -48,6 +57,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -69,6 +79,13 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 16.0,
             source: "free-electron estimate V0 = E_F + phi = 11.7 + 4.28 eV (E_F from Kittel, Introduction to Solid State Physics, 8th ed., ch. 6, Table 1; phi from Michaelson 1977), from memory",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 23.1,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
@@ -77,6 +94,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 0],
@@ -85,6 +103,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 1],
@@ -93,6 +112,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -114,6 +134,13 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 10.6,
             source: "free-electron estimate V0 = E_F + phi = 5.53 + 5.1 eV (E_F from Kittel, Introduction to Solid State Physics, 8th ed., ch. 6, Table 1; phi from Michaelson 1977), from memory",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 14.2,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
@@ -122,6 +149,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 0],
@@ -130,6 +158,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 1],
@@ -138,6 +167,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -159,10 +189,18 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 19.3,
             source: "free-electron estimate V0 = E_F + phi = 14.3 + 4.98 eV (E_F from Kittel, Introduction to Solid State Physics, 8th ed., ch. 6, Table 1; phi from Michaelson 1977), from memory",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 11.3,
+            alpha_c_ppm_per_k: Some(11.3),
+            range_k: [100.0, 700.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory; hexagonal, but the single-crystal a and c coefficients are not in our sources: the polycrystalline value is used for both (isotropic approximation). Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[FaceSources {
             miller: [0, 0, 1],
             work_function_ev: None,
             inner_potential_ev: None,
+            inner_potential_form: None,
         }],
     },
     CrystalSources {
@@ -177,16 +215,25 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
         lattice_source: "Madelung, Semiconductors: Data Handbook, 3rd ed. (Springer, 2004), from memory",
         work_function_ev: None,
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 1.0,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "Madelung, Semiconductors: Data Handbook, 3rd ed. (Springer, 2004), linear coefficient at 300 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 1],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -208,10 +255,18 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 11.7,
             source: "free-electron estimate V0 = E_F + phi = 7.47 + 4.22 eV (E_F from Kittel, Introduction to Solid State Physics, 8th ed., ch. 6, Table 1; phi from Michaelson 1977), from memory",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 21.0,
+            alpha_c_ppm_per_k: Some(52.0),
+            range_k: [100.0, 550.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), single-crystal coefficients perpendicular (a) and parallel (c) to the hexagonal axis near 293 K, from memory (±10 %). Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 550 K (cadmium melts at 594 K).",
+        },
         faces: &[FaceSources {
             miller: [0, 0, 1],
             work_function_ev: None,
             inner_potential_ev: None,
+            inner_potential_form: None,
         }],
     },
     CrystalSources {
@@ -232,10 +287,18 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 10.0,
             source: "common practice, no source: about 10 eV is the usual starting value of a transition-metal LEED fit",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 13.0,
+            alpha_c_ppm_per_k: Some(13.0),
+            range_k: [100.0, 650.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory; hexagonal, but the single-crystal a and c coefficients are not in our sources: the polycrystalline value is used for both (isotropic approximation). Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 650 K (cobalt turns fcc near 700 K).",
+        },
         faces: &[FaceSources {
             miller: [0, 0, 1],
             work_function_ev: None,
             inner_potential_ev: None,
+            inner_potential_form: None,
         }],
     },
     CrystalSources {
@@ -256,21 +319,31 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 10.0,
             source: "common practice, no source: about 10 eV is the usual starting value of a transition-metal LEED fit",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 4.9,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 1],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -286,16 +359,25 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
         lattice_source: "Wyckoff, Crystal Structures, 2nd ed., vol. 1 (1963), room temperature, from memory",
         work_function_ev: None,
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 46.0,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "room-temperature linear coefficient as handbooks tabulate it (CRC Handbook of Chemistry and Physics, table not checked), from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -317,6 +399,19 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 10.0,
             source: "typical LEED value, from memory",
         }),
+        inner_potential_form: Some(V0FormSources {
+            max_ev: 10.3,
+            b_ev: 0.75,
+            c_ev: 76.6,
+            d_ev: 11.4,
+            source: "Rundgren-type form V0r(E) = max(beta0, beta1 + beta2/sqrt(E + beta3)) (J. Rundgren, Phys. Rev. B 68, 125405 (2003)), here V0(E) = min(max_ev, c_ev/sqrt(E + d_ev) - b_ev) with beta0 = -10.3, beta1 = 0.75, beta2 = -76.6, beta3 = 11.4 eV as used in copper LEED I-V analyses; parameters from memory, not checked against a paper",
+        }),
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 16.5,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
@@ -325,6 +420,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 0],
@@ -333,6 +429,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 1],
@@ -341,6 +438,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -362,6 +460,13 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 10.0,
             source: "common practice, no source: about 10 eV is the usual starting value of a transition-metal LEED fit",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 11.8,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
@@ -370,11 +475,13 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 1],
@@ -383,6 +490,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -398,21 +506,31 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
         lattice_source: "Madelung, Semiconductors: Data Handbook, 3rd ed. (Springer, 2004), from memory",
         work_function_ev: None,
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 5.73,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "Madelung, Semiconductors: Data Handbook, 3rd ed. (Springer, 2004), linear coefficient at 300 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 1],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -428,16 +546,25 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
         lattice_source: "Madelung, Semiconductors: Data Handbook, 3rd ed. (Springer, 2004), from memory",
         work_function_ev: None,
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 4.65,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "Madelung, Semiconductors: Data Handbook, 3rd ed. (Springer, 2004), linear coefficient at 300 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -459,16 +586,25 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 12.0,
             source: "common practice, no source: about 12 eV is the usual starting value of a LEED fit on an elemental semiconductor",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 5.9,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "Madelung, Semiconductors: Data Handbook, 3rd ed. (Springer, 2004), linear coefficient at 300 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 1],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -487,10 +623,18 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             source: "Michaelson, J. Appl. Phys. 48, 4729 (1977), value for carbon, from memory",
         }),
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: -1.5,
+            alpha_c_ppm_per_k: Some(27.0),
+            range_k: [100.0, 700.0],
+            source: "in-plane (a) and c-axis coefficients of graphite near room temperature, as compiled in Touloukian et al., Thermophysical Properties of Matter (TPRC Data Series), vol. 13 (1977), from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[FaceSources {
             miller: [0, 0, 1],
             work_function_ev: None,
             inner_potential_ev: None,
+            inner_potential_form: None,
         }],
     },
     CrystalSources {
@@ -505,16 +649,25 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
         lattice_source: "Madelung, Semiconductors: Data Handbook, 3rd ed. (Springer, 2004), from memory",
         work_function_ev: None,
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 4.52,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "Madelung, Semiconductors: Data Handbook, 3rd ed. (Springer, 2004), linear coefficient at 300 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -530,16 +683,25 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
         lattice_source: "Madelung, Semiconductors: Data Handbook, 3rd ed. (Springer, 2004), from memory",
         work_function_ev: None,
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 4.6,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "Madelung, Semiconductors: Data Handbook, 3rd ed. (Springer, 2004), linear coefficient at 300 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -561,6 +723,13 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 10.0,
             source: "common practice, no source: about 10 eV is the usual starting value of a transition-metal LEED fit",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 6.4,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
@@ -569,6 +738,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 0],
@@ -577,6 +747,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 1],
@@ -585,6 +756,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -606,10 +778,18 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 4.4,
             source: "free-electron estimate V0 = E_F + phi = 2.12 + 2.30 eV (E_F from Kittel, Introduction to Solid State Physics, 8th ed., ch. 6, Table 1; phi from Michaelson 1977), from memory",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 83.3,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 330.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 330 K (potassium melts at 336.5 K).",
+        },
         faces: &[FaceSources {
             miller: [1, 1, 0],
             work_function_ev: None,
             inner_potential_ev: None,
+            inner_potential_form: None,
         }],
     },
     CrystalSources {
@@ -624,10 +804,18 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
         lattice_source: "Wyckoff, Crystal Structures, 2nd ed., vol. 1 (1963), room temperature, from memory",
         work_function_ev: None,
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 37.0,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "room-temperature linear coefficient as handbooks tabulate it (CRC Handbook of Chemistry and Physics, table not checked), from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[FaceSources {
             miller: [1, 0, 0],
             work_function_ev: None,
             inner_potential_ev: None,
+            inner_potential_form: None,
         }],
     },
     CrystalSources {
@@ -642,10 +830,18 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
         lattice_source: "Wyckoff, Crystal Structures, 2nd ed., vol. 1 (1963), room temperature, from memory",
         work_function_ev: None,
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 34.0,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "room-temperature linear coefficient as handbooks tabulate it (CRC Handbook of Chemistry and Physics, table not checked), from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[FaceSources {
             miller: [1, 0, 0],
             work_function_ev: None,
             inner_potential_ev: None,
+            inner_potential_form: None,
         }],
     },
     CrystalSources {
@@ -666,10 +862,18 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 10.7,
             source: "free-electron estimate V0 = E_F + phi = 7.08 + 3.66 eV (E_F from Kittel, Introduction to Solid State Physics, 8th ed., ch. 6, Table 1; phi from Michaelson 1977), from memory",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 24.8,
+            alpha_c_ppm_per_k: Some(24.8),
+            range_k: [100.0, 700.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory; hexagonal, but the single-crystal a and c coefficients are not in our sources: the polycrystalline value is used for both (isotropic approximation). Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[FaceSources {
             miller: [0, 0, 1],
             work_function_ev: None,
             inner_potential_ev: None,
+            inner_potential_form: None,
         }],
     },
     CrystalSources {
@@ -684,10 +888,18 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
         lattice_source: "Wyckoff, Crystal Structures, 2nd ed., vol. 1 (1963), room temperature, from memory",
         work_function_ev: None,
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 10.5,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "room-temperature linear coefficient as handbooks tabulate it (CRC Handbook of Chemistry and Physics, table not checked), from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[FaceSources {
             miller: [1, 0, 0],
             work_function_ev: None,
             inner_potential_ev: None,
+            inner_potential_form: None,
         }],
     },
     CrystalSources {
@@ -708,6 +920,13 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 10.0,
             source: "common practice, no source: about 10 eV is the usual starting value of a transition-metal LEED fit",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 4.8,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
@@ -716,6 +935,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 0],
@@ -724,6 +944,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 1],
@@ -732,6 +953,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -753,10 +975,18 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 6.0,
             source: "free-electron estimate V0 = E_F + phi = 3.24 + 2.75 eV (E_F from Kittel, Introduction to Solid State Physics, 8th ed., ch. 6, Table 1; phi from Michaelson 1977), from memory",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 71.0,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 360.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 360 K (sodium melts at 371 K).",
+        },
         faces: &[FaceSources {
             miller: [1, 1, 0],
             work_function_ev: None,
             inner_potential_ev: None,
+            inner_potential_form: None,
         }],
     },
     CrystalSources {
@@ -771,10 +1001,18 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
         lattice_source: "Wyckoff, Crystal Structures, 2nd ed., vol. 1 (1963), room temperature, from memory",
         work_function_ev: None,
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 44.0,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "room-temperature linear coefficient as handbooks tabulate it (CRC Handbook of Chemistry and Physics, table not checked), from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[FaceSources {
             miller: [1, 0, 0],
             work_function_ev: None,
             inner_potential_ev: None,
+            inner_potential_form: None,
         }],
     },
     CrystalSources {
@@ -795,6 +1033,13 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 10.0,
             source: "common practice, no source: about 10 eV is the usual starting value of a transition-metal LEED fit",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 7.3,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
@@ -803,6 +1048,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 0],
@@ -811,6 +1057,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 1],
@@ -819,6 +1066,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -840,6 +1088,13 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 12.0,
             source: "typical LEED value, from memory",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 13.4,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
@@ -848,6 +1103,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 0],
@@ -856,6 +1112,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 1],
@@ -864,6 +1121,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -879,10 +1137,18 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
         lattice_source: "Wyckoff, Crystal Structures, 2nd ed., vol. 1 (1963), room temperature, from memory",
         work_function_ev: None,
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 14.0,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "room-temperature linear coefficient as handbooks tabulate it (CRC Handbook of Chemistry and Physics, table not checked), from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[FaceSources {
             miller: [1, 0, 0],
             work_function_ev: None,
             inner_potential_ev: None,
+            inner_potential_form: None,
         }],
     },
     CrystalSources {
@@ -903,21 +1169,31 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 13.7,
             source: "free-electron estimate V0 = E_F + phi = 9.47 + 4.25 eV (E_F from Kittel, Introduction to Solid State Physics, 8th ed., ch. 6, Table 1; phi from Michaelson 1977), from memory",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 28.9,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 550.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 550 K (lead melts at 600 K).",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 1],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -939,16 +1215,25 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 10.0,
             source: "common practice, no source: about 10 eV is the usual starting value of a transition-metal LEED fit",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 11.8,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 1],
@@ -957,6 +1242,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -978,16 +1264,25 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 10.0,
             source: "common practice, no source: about 10 eV is the usual starting value of a transition-metal LEED fit",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 8.8,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 1],
@@ -996,6 +1291,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -1017,21 +1313,31 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 10.0,
             source: "common practice, no source: about 10 eV is the usual starting value of a transition-metal LEED fit",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 8.2,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 1],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -1053,10 +1359,18 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 10.0,
             source: "common practice, no source: about 10 eV is the usual starting value of a transition-metal LEED fit",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 6.4,
+            alpha_c_ppm_per_k: Some(6.4),
+            range_k: [100.0, 700.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory; hexagonal, but the single-crystal a and c coefficients are not in our sources: the polycrystalline value is used for both (isotropic approximation). Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[FaceSources {
             miller: [0, 0, 1],
             work_function_ev: None,
             inner_potential_ev: None,
+            inner_potential_form: None,
         }],
     },
     CrystalSources {
@@ -1077,16 +1391,25 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 12.0,
             source: "common practice, no source: about 12 eV is the usual starting value of a LEED fit on an elemental semiconductor",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 2.6,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "Madelung, Semiconductors: Data Handbook, 3rd ed. (Springer, 2004), linear coefficient at 300 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 1],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -1108,6 +1431,13 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 10.0,
             source: "common practice, no source: about 10 eV is the usual starting value of a transition-metal LEED fit",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 6.3,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
@@ -1116,6 +1446,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 0],
@@ -1124,6 +1455,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 1],
@@ -1132,6 +1464,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -1153,10 +1486,18 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 10.0,
             source: "common practice, no source: about 10 eV is the usual starting value of a transition-metal LEED fit",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 8.6,
+            alpha_c_ppm_per_k: Some(8.6),
+            range_k: [100.0, 700.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory; hexagonal, but the single-crystal a and c coefficients are not in our sources: the polycrystalline value is used for both (isotropic approximation). Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[FaceSources {
             miller: [0, 0, 1],
             work_function_ev: None,
             inner_potential_ev: None,
+            inner_potential_form: None,
         }],
     },
     CrystalSources {
@@ -1177,21 +1518,31 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 10.0,
             source: "common practice, no source: about 10 eV is the usual starting value of a transition-metal LEED fit",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 8.4,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 0],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 1],
                 work_function_ev: None,
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -1213,6 +1564,13 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 10.0,
             source: "common practice, no source: about 10 eV is the usual starting value of a transition-metal LEED fit",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 4.5,
+            alpha_c_ppm_per_k: None,
+            range_k: [100.0, 700.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory. Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[
             FaceSources {
                 miller: [1, 0, 0],
@@ -1221,6 +1579,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 0],
@@ -1229,6 +1588,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
             FaceSources {
                 miller: [1, 1, 1],
@@ -1237,6 +1597,7 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
                     source: "Hölzl & Schulte, Springer Tracts in Modern Physics 85 (1979), as compiled in CRC Handbook of Chemistry and Physics, 97th ed., 'Electron work function of the elements', from memory",
                 }),
                 inner_potential_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -1258,10 +1619,18 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 13.8,
             source: "free-electron estimate V0 = E_F + phi = 9.47 + 4.33 eV (E_F from Kittel, Introduction to Solid State Physics, 8th ed., ch. 6, Table 1; phi from Michaelson 1977), from memory",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 15.0,
+            alpha_c_ppm_per_k: Some(60.0),
+            range_k: [100.0, 650.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), single-crystal coefficients perpendicular (a) and parallel (c) to the hexagonal axis near 293 K, from memory (±10 %). Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 650 K (zinc melts at 693 K).",
+        },
         faces: &[FaceSources {
             miller: [0, 0, 1],
             work_function_ev: None,
             inner_potential_ev: None,
+            inner_potential_form: None,
         }],
     },
     CrystalSources {
@@ -1282,10 +1651,18 @@ pub(crate) static CRYSTALS: &[CrystalSources] = &[
             value: 10.0,
             source: "common practice, no source: about 10 eV is the usual starting value of a transition-metal LEED fit",
         }),
+        inner_potential_form: None,
+        expansion: ExpansionSources {
+            alpha_a_ppm_per_k: 5.7,
+            alpha_c_ppm_per_k: Some(5.7),
+            range_k: [100.0, 700.0],
+            source: "CRC Handbook of Chemistry and Physics, 97th ed. (2016), 'Thermal expansion of metals and alloys', linear coefficient at 293 K, from memory; hexagonal, but the single-crystal a and c coefficients are not in our sources: the polycrystalline value is used for both (isotropic approximation). Range: the linear model with the room-temperature coefficient (common practice, no source), from 100 K up to 700 K.",
+        },
         faces: &[FaceSources {
             miller: [0, 0, 1],
             work_function_ev: None,
             inner_potential_ev: None,
+            inner_potential_form: None,
         }],
     },
 ];

@@ -42,6 +42,37 @@ pub struct FaceSources {
     pub work_function_ev: Option<Sourced>,
     /// Typical inner potential V0 of this face, eV.
     pub inner_potential_ev: Option<Sourced>,
+    /// Energy-dependent inner potential V0(E) of this face.
+    pub inner_potential_form: Option<V0FormSources>,
+}
+
+/// A crystal's linear thermal expansion, as the table gives it, with its source.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct ExpansionSources {
+    /// Linear expansion coefficient of a (and b) at the table temperature, 10⁻⁶/K.
+    pub alpha_a_ppm_per_k: f64,
+    /// Linear expansion coefficient of c, 10⁻⁶/K, where the structure has a c of its own.
+    pub alpha_c_ppm_per_k: Option<f64>,
+    /// Temperatures the linear model is accepted at, K: [lowest, highest].
+    pub range_k: [f64; 2],
+    /// Where the coefficients and the range come from.
+    pub source: &'static str,
+}
+
+/// An energy-dependent inner potential V0(E) = min(max_ev, c_ev/√(E + d_ev) − b_ev)
+/// (see [`matterwave_core::inner`]), with its source.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct V0FormSources {
+    /// The cap at low energy, eV.
+    pub max_ev: f64,
+    /// Offset b, eV.
+    pub b_ev: f64,
+    /// Scale c, eV^(3/2).
+    pub c_ev: f64,
+    /// Energy shift d, eV.
+    pub d_ev: f64,
+    /// Where the form and its parameters come from.
+    pub source: &'static str,
 }
 
 /// One crystal of the table, with its sources.
@@ -69,6 +100,10 @@ pub struct CrystalSources {
     pub work_function_ev: Option<Sourced>,
     /// Typical inner potential V0, eV, used for faces without their own value.
     pub inner_potential_ev: Option<Sourced>,
+    /// Energy-dependent inner potential V0(E) for faces without their own.
+    pub inner_potential_form: Option<V0FormSources>,
+    /// Linear thermal expansion about `temperature_k`.
+    pub expansion: ExpansionSources,
     /// Common faces, in table order.
     pub faces: &'static [FaceSources],
 }

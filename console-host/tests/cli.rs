@@ -195,7 +195,7 @@ fn bad_input_exits_2_with_one_line() {
         (&["calc", "ivpeaks", "--crystal", "gaas", "--face", "100", "--beam", "0,0", "--from", "20", "--to", "200"], Some("E132: --inner-potential face: the crystal table has no inner potential for gaas (100); give it in eV (`mwctl crystals --crystal gaas` lists the table's values)")),
         (&["calc", "nonsense"], Some("unknown command 'nonsense' for `mwctl calc`: accepted: wavelength, reflections, rings, beams, ivpeaks, screen, aim, track, sweep, view, fit, budget")),
         (&["calc"], Some("`mwctl calc` needs a command: one of wavelength, reflections, rings, beams, ivpeaks, screen, aim, track, sweep, view, fit, budget")),
-        (&[], Some("`mwctl` needs a command: one of crystals, calc, demo, rig, plot, safety, talk, run, verify, scan, backup, restore, serve, completions, man")),
+        (&[], Some("`mwctl` needs a command: one of crystals, calc, demo, rig, plot, safety, talk, run, align, verify, scan, backup, restore, serve, completions, man")),
         (&["calc", "wavelength"], Some("the following required arguments were not provided: --energy <EV>; usage: mwctl calc wavelength --energy <EV>")),
         (&["calc", "wavelength", "--energy", "100", "--bogus"], Some("unexpected argument '--bogus' found; usage: mwctl calc wavelength --energy <EV>")),
         (&["--format", "xml", "crystals"], Some("invalid value 'xml' for '--format <FORMAT>' [possible values: table, json, csv]; --format <FORMAT>: Output format")),
@@ -573,6 +573,7 @@ fn csv_rows_carry_their_context() {
     for key in [
         "crystal",
         "face",
+        "temperature_k",
         "beam",
         "tilt_deg",
         "mode",
@@ -587,8 +588,9 @@ fn csv_rows_carry_their_context() {
     assert_eq!(rows.len(), 3, "{out}");
     for r in rows {
         assert!(
-            // crystal, face, beam, tilt, V0 and I-V maxima in range, mode, branch
-            r.starts_with("cu,(1 0 0),\"1,0\",20,10,1,in-plane,nearest,"),
+            // crystal, face, sample temperature (the table's), beam, tilt, V0 and I-V
+            // maxima in range, mode, branch
+            r.starts_with("cu,(1 0 0),293,\"1,0\",20,10,1,in-plane,nearest,"),
             "{r}"
         );
     }

@@ -36,6 +36,8 @@ pub enum Quantity {
     EnergySpread,
     /// One standard deviation of the arm zero (degrees).
     ArmZeroSigma,
+    /// Sample temperature (K).
+    Temperature,
 }
 
 impl Quantity {
@@ -55,6 +57,7 @@ impl Quantity {
             Quantity::Count => "count",
             Quantity::EnergySpread => "energy spread (eV, one standard deviation)",
             Quantity::ArmZeroSigma => "arm-zero uncertainty (deg, one standard deviation)",
+            Quantity::Temperature => "sample temperature (K)",
         }
     }
 }
@@ -222,6 +225,12 @@ pub enum Error {
     ResidualTooLarge(AxisId),
     /// A `move` while an axis is still moving (from an earlier `move`).
     AxisMoving,
+    /// The sample temperature lies outside the range the crystal's thermal-expansion
+    /// data hold for (the table's `expansion_range_k`).
+    TemperatureOutsideData,
+    /// The energy-dependent inner potential was asked for a face the crystal table gives
+    /// no V0(E) form for.
+    NoEnergyForm,
 }
 
 impl Error {
@@ -284,6 +293,8 @@ impl Error {
             Error::StepTooCoarse(_) => 322,
             Error::ResidualTooLarge(_) => 323,
             Error::AxisMoving => 324,
+            Error::TemperatureOutsideData => 160,
+            Error::NoEnergyForm => 161,
         }
     }
 
@@ -400,6 +411,12 @@ impl Error {
             }
             Error::AxisMoving => {
                 "an axis is still moving; wait until status shows moving=0, or send stop"
+            }
+            Error::TemperatureOutsideData => {
+                "sample temperature outside the range of this crystal's thermal-expansion data; the crystals listing gives the range (K), or use the table temperature"
+            }
+            Error::NoEnergyForm => {
+                "the crystal table has no energy-dependent V0(E) for this face; use the constant inner-potential model"
             }
         }
     }

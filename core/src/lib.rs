@@ -57,6 +57,7 @@ pub mod constants;
 pub mod error;
 pub mod fit;
 pub mod goniometer;
+pub mod inner;
 pub mod lattice;
 pub mod listing;
 pub mod math;

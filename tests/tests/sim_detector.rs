@@ -68,6 +68,7 @@ fn scene<'a>(
         elevation_deg: el,
         rig,
         inner_potential_ev: s.v0_ev,
+        energy_offset_ev: 0.0,
     }
 }
 

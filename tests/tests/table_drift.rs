@@ -116,8 +116,27 @@ fn core_rows_equal_toml_rows() {
             same_opt(c.inner_potential_ev, r.inner_potential_ev),
             "{what}"
         );
+        let e = &r.expansion;
+        assert!(
+            same_f32(c.expansion.alpha_a_ppm_per_k, e.alpha_a_ppm_per_k)
+                && same_f32(
+                    c.expansion.alpha_c_ppm_per_k,
+                    e.alpha_c_ppm_per_k.unwrap_or(e.alpha_a_ppm_per_k)
+                )
+                && same_f32(c.expansion.min_k, e.range_k[0])
+                && same_f32(c.expansion.max_k, e.range_k[1]),
+            "expansion: {what}"
+        );
+        assert!(
+            same_form(c.inner_potential_form, r.inner_potential_form.as_ref()),
+            "V0(E): {what}"
+        );
         assert_eq!(c.faces.len(), r.faces.len(), "{what}");
         for (cf, rf) in c.faces.iter().zip(&r.faces) {
+            assert!(
+                same_form(cf.inner_potential_form, rf.inner_potential_form.as_ref()),
+                "face V0(E): {what}"
+            );
             assert_eq!(cf.miller, rf.miller, "{what}");
             assert!(same_opt(cf.work_function_ev, rf.work_function_ev), "{what}");
             assert!(
@@ -127,6 +146,33 @@ fn core_rows_equal_toml_rows() {
         }
         assert_eq!(table::find(&r.id).map(|x| x.id), Ok(c.id), "{what}");
     }
+}
+
+/// The core's V0(E) form is the TOML row's, to f32.
+fn same_form(
+    c: Option<matterwave_core::inner::V0Form>,
+    r: Option<&matterwave_gen_tables::V0FormRow>,
+) -> bool {
+    match (c, r) {
+        (None, None) => true,
+        (Some(c), Some(r)) => {
+            same_f32(c.max_ev, r.max_ev)
+                && same_f32(c.b_ev, r.b_ev)
+                && same_f32(c.c_ev, r.c_ev)
+                && same_f32(c.d_ev, r.d_ev)
+        }
+        _ => false,
+    }
+}
+
+/// The console's V0(E) form with its source is the TOML row's.
+fn host_form(h: Option<host::V0FormSources>) -> Option<(f64, f64, f64, f64, String)> {
+    h.map(|h| (h.max_ev, h.b_ev, h.c_ev, h.d_ev, h.source.to_string()))
+}
+
+/// The TOML row's V0(E) form as [`host_form`] gives it.
+fn row_form(r: Option<&matterwave_gen_tables::V0FormRow>) -> Option<(f64, f64, f64, f64, String)> {
+    r.map(|r| (r.max_ev, r.b_ev, r.c_ev, r.d_ev, r.source.clone()))
 }
 
 /// A value and its source as the console holds them, as the TOML row's pair of fields.
@@ -167,6 +213,27 @@ fn host_rows_equal_toml_rows() {
             (r.inner_potential_ev, r.inner_potential_source.clone()),
             "inner potential: {what}"
         );
+        let e = &r.expansion;
+        assert_eq!(
+            (
+                h.expansion.alpha_a_ppm_per_k,
+                h.expansion.alpha_c_ppm_per_k,
+                h.expansion.range_k,
+                h.expansion.source
+            ),
+            (
+                e.alpha_a_ppm_per_k,
+                e.alpha_c_ppm_per_k,
+                e.range_k,
+                e.source.as_str()
+            ),
+            "expansion: {what}"
+        );
+        assert_eq!(
+            host_form(h.inner_potential_form),
+            row_form(r.inner_potential_form.as_ref()),
+            "V0(E): {what}"
+        );
         assert_eq!(h.faces.len(), r.faces.len(), "faces: {what}");
         for (k, (hf, rf)) in h.faces.iter().zip(&r.faces).enumerate() {
             let what = format!("face #{}, {what}", k + 1);
@@ -180,6 +247,11 @@ fn host_rows_equal_toml_rows() {
                 pair(hf.inner_potential_ev),
                 (rf.inner_potential_ev, rf.inner_potential_source.clone()),
                 "inner potential: {what}"
+            );
+            assert_eq!(
+                host_form(hf.inner_potential_form),
+                row_form(rf.inner_potential_form.as_ref()),
+                "face V0(E): {what}"
             );
         }
         assert_eq!(host::find(&r.id).map(|x| x.id), Some(h.id), "{what}");

@@ -5,15 +5,18 @@ use crate::error::{CliError, CliResult, Context};
 use crate::output::{col, Column, List, Report, Value};
 use crate::tables;
 use matterwave_core::beam::{self, Beam, Gun, GunInput};
+use matterwave_core::inner::{V0Model, V0ModelKind};
 use matterwave_core::lattice::{parse_miller, Cell, Miller, System};
 use matterwave_core::reflections::{self, Reflection};
 use matterwave_core::surface::{Face, Incidence, IvPeak, SurfaceBeam};
 use matterwave_core::table::{self, Crystal};
 
 mod gun;
+mod sample;
 pub use gun::{
     ev_or_face, no_face_for, table_value, EvOrFace, GunArgs, TableValue, WavelengthGunArgs,
 };
+pub use sample::{crystal_at, v0_model, v0_model_kind, SampleArgs};
 
 /// Looks up a crystal by id, with a helpful list when unknown.
 pub fn crystal(id: &str) -> CliResult<&'static Crystal> {
@@ -101,6 +104,7 @@ pub fn crystal_faces(id: &str) -> CliResult<Report> {
         "lattice source",
         Value::Text(src.lattice_source.into()),
     );
+    sample::expansion_fields(&mut r, c, src);
     let mut list = List {
         key: "faces",
         columns: vec![
@@ -111,6 +115,8 @@ pub fn crystal_faces(id: &str) -> CliResult<Report> {
             col("inner_potential_ev", "V0 (eV)"),
             col("inner_potential_from", "V0 from"),
             col("inner_potential_source", "V0 source"),
+            col("v0_form", "V0(E) [max, b, c, d]"),
+            col("v0_form_source", "V0(E) source"),
         ],
         rows: Vec::new(),
     };
@@ -138,6 +144,10 @@ pub fn crystal_faces(id: &str) -> CliResult<Report> {
             v0,
             v0_from,
             v0_src,
+            sample::form_value(f.inner_potential_form.or(src.inner_potential_form)),
+            f.inner_potential_form
+                .or(src.inner_potential_form)
+                .map_or(Value::Missing, |v| Value::Text(v.source.into())),
         ]);
     }
     r.list = Some(list);
@@ -290,14 +300,20 @@ pub(crate) fn truncated_field(r: &mut Report, truncated: bool) {
 
 /// What `reflections` and `rings` start with: the crystal's cell, the wavelength at the
 /// sample, and a report holding the crystal, the gun fields and the wavelength.
-fn bulk_start(id: &str, g: &GunArgs, command: &str) -> CliResult<(Cell, f32, Report)> {
+fn bulk_start(
+    id: &str,
+    s: &SampleArgs,
+    g: &GunArgs,
+    command: &str,
+) -> CliResult<(Cell, f32, Report)> {
     let g = &g.without_face(command)?;
-    let c = crystal(id)?;
-    let cell = cell_of(c)?;
+    let c = crystal_at(id, s)?;
+    let cell = cell_of(&c)?;
     let e = g.kinetic_ev()?;
     let lambda = beam::wavelength_a(e).ctx("energy at the sample")?;
     let mut r = Report::default();
     r.field("crystal", "crystal", Value::Text(c.id.into()));
+    temperature_field(&mut r, &c);
     g.fields(&mut r, e);
     r.field("wavelength_a", "wavelength (Å)", Value::F32(lambda, 6));
     Ok((cell, lambda, r))
@@ -346,8 +362,8 @@ fn family_row(f: &Reflection, hex: bool, middle: [Value; 2]) -> Vec<Value> {
 }
 
 /// `mwctl calc reflections`.
-pub fn reflections(id: &str, g: &GunArgs, max: usize) -> CliResult<Report> {
-    let (cell, lambda, mut r) = bulk_start(id, g, "calc reflections")?;
+pub fn reflections(id: &str, s: &SampleArgs, g: &GunArgs, max: usize) -> CliResult<Report> {
+    let (cell, lambda, mut r) = bulk_start(id, s, g, "calc reflections")?;
     let (fams, truncated) = family_list(&cell, lambda / 2.0, max)?;
     let hex = cell.structure.system() == System::Hexagonal;
     let mut rows = Vec::new();
@@ -373,8 +389,14 @@ pub fn reflections(id: &str, g: &GunArgs, max: usize) -> CliResult<Report> {
 }
 
 /// `mwctl calc rings`.
-pub fn rings(id: &str, g: &GunArgs, screen_mm: f32, max: usize) -> CliResult<Report> {
-    let (cell, lambda, mut r) = bulk_start(id, g, "calc rings")?;
+pub fn rings(
+    id: &str,
+    s: &SampleArgs,
+    g: &GunArgs,
+    screen_mm: f32,
+    max: usize,
+) -> CliResult<Report> {
+    let (cell, lambda, mut r) = bulk_start(id, s, g, "calc rings")?;
     if !(screen_mm.is_finite() && screen_mm > 0.0 && screen_mm <= 1.0e5) {
         return Err(CliError::new(format!(
             "--screen-distance {screen_mm}: give a distance in mm, above 0 and at most 100000"
@@ -425,6 +447,17 @@ pub(crate) fn crystal_face_fields(r: &mut Report, c: &Crystal, face: &Face) {
     let hex = c.structure.system() == System::Hexagonal;
     r.field("crystal", "crystal", Value::Text(c.id.into()));
     r.field("face", "face", Value::Text(miller_text(face.miller, hex)));
+    temperature_field(r, c);
+}
+
+/// The sample temperature the lattice constants were taken at (the table's unless
+/// `--temperature`).
+pub(crate) fn temperature_field(r: &mut Report, c: &Crystal) {
+    r.field(
+        "temperature_k",
+        "sample temperature (K)",
+        Value::F32(c.temperature_k, 2),
+    );
 }
 
 /// The crystal and face fields, then the face's surface mesh and layer spacing.
@@ -478,15 +511,17 @@ pub(crate) fn check_angle(x: f32, name: &str, limit: f32) -> CliResult<f32> {
 }
 
 /// `mwctl calc beams`.
+#[allow(clippy::too_many_arguments)]
 pub fn beams(
     id: &str,
+    s: &SampleArgs,
     face_text: &str,
     g: &GunArgs,
     tilt: f32,
     azimuth: f32,
     max: usize,
 ) -> CliResult<Report> {
-    let c = crystal(id)?;
+    let c = &crystal_at(id, s)?;
     let (_, face) = face_of(c, face_text)?;
     let g = &g.at_face(c, &face)?;
     let e = g.kinetic_ev()?;
@@ -550,11 +585,15 @@ pub struct IvArgs {
     pub sample_work_function: EvOrFace,
     /// Gun offset, eV.
     pub energy_offset: f32,
+    /// Sample temperature.
+    pub sample: SampleArgs,
+    /// A constant V0 (`inner_potential`) or the table's V0(E) for the face.
+    pub v0_model: V0ModelKind,
 }
 
 /// `mwctl calc ivpeaks`.
 pub fn ivpeaks(id: &str, face_text: &str, a: &IvArgs, max: usize) -> CliResult<Report> {
-    let c = crystal(id)?;
+    let c = &crystal_at(id, &a.sample)?;
     let (_, face) = face_of(c, face_text)?;
     let tilt = check_angle(a.tilt, "tilt", matterwave_core::surface::TILT_MAX_DEG)?;
     let azimuth = check_angle(a.azimuth, "azimuth", 360.0)?;
@@ -605,9 +644,10 @@ pub fn ivpeaks(id: &str, face_text: &str, a: &IvArgs, max: usize) -> CliResult<R
             ));
         }
     }
+    let model = v0_model(a.v0_model, v0, c, face.miller)?;
     let mut buf = vec![IvPeak::EMPTY; check_max(max)?];
     let l = face
-        .iv_peaks(a.rod, &inc, v0, lo, hi, &mut buf)
+        .iv_peaks_model(a.rod, &inc, &model, lo, hi, &mut buf)
         .ctx(format_args!("--inner-potential {v0}"))?;
     let mut r = Report::default();
     face_fields(&mut r, c, &face);
@@ -617,9 +657,17 @@ pub fn ivpeaks(id: &str, face_text: &str, a: &IvArgs, max: usize) -> CliResult<R
         Value::Text(format!("{},{}", a.rod[0], a.rod[1])),
     );
     r.field(
+        "inner_potential_model",
+        "inner-potential model",
+        Value::Text(model.name().into()),
+    );
+    r.field(
         "inner_potential_ev",
         "inner potential (eV)",
-        Value::F32(v0, 2),
+        match model {
+            V0Model::Constant(v) => Value::F32(v, 2),
+            V0Model::Energy(_) => Value::Missing,
+        },
     );
     r.field(
         "cathode_work_function_ev",
@@ -648,6 +696,7 @@ pub fn ivpeaks(id: &str, face_text: &str, a: &IvArgs, max: usize) -> CliResult<R
         col("energy_ev", "energy (eV)"),
         col("nominal_ev", "nominal (eV)"),
         col("inner_energy_ev", "inside (eV)"),
+        col("v0_ev", "V0 (eV)"),
         col("order", "m"),
         col("g_h", "G h"),
         col("g_k", "G k"),
@@ -665,7 +714,8 @@ pub fn ivpeaks(id: &str, face_text: &str, a: &IvArgs, max: usize) -> CliResult<R
         let mut row = vec![
             Value::F32(p.energy_ev, 2),
             Value::F32(p.energy_ev - corr, 2),
-            Value::F32(p.energy_ev + v0, 2),
+            Value::F32(p.energy_ev + model.at_ev(p.energy_ev), 2),
+            Value::F32(model.at_ev(p.energy_ev), 2),
             Value::Int(p.order.into()),
         ];
         row.extend(index_values(p.g_hkl, hex));

@@ -192,9 +192,9 @@ pub(super) fn aim_query<'a>(
     azimuth: Option<f32>,
     branch: Branch,
     position: &PositionArgs,
-) -> CliResult<(&'static Crystal, Cell, f32, AimQuery<'a>, GunArgs)> {
+) -> CliResult<(Crystal, Cell, f32, AimQuery<'a>, GunArgs)> {
     let (c, cell, face, rod) = target(target_args)?;
-    let gun = gun.at_face(c, &face)?;
+    let gun = gun.at_face(&c, &face)?;
     let e = gun.kinetic_ev()?;
     let q = AimQuery {
         rig: &rf.rig,
@@ -226,7 +226,7 @@ pub fn aim(a: &AimArgs) -> CliResult<Report> {
     let mut buf = [Solution::EMPTY; MAX_SOLUTIONS];
     let n = q.reachable(e, gun.energy, gun.correction_ev(), &mut buf)?;
     let mut r = Report::default();
-    crystal_face_fields(&mut r, c, &q.face);
+    crystal_face_fields(&mut r, &c, &q.face);
     r.field("beam", "beam", text(rod_text(q.rod)));
     gun.fields(&mut r, e);
     r.field(
@@ -319,7 +319,7 @@ pub fn budget_cmd(a: &BudgetArgs) -> CliResult<Report> {
         format!("--arm-zero-sigma {zero_sigma} deg"),
     ];
     let mut r = Report::default();
-    crystal_face_fields(&mut r, c, &face);
+    crystal_face_fields(&mut r, &c, &face);
     r.field("beam", "beam", text(rod_text(rod)));
     gun.fields(&mut r, e);
     r.field("tilt_deg", "tilt (deg)", f(tilt, 3));
@@ -375,14 +375,13 @@ pub fn budget_cmd(a: &BudgetArgs) -> CliResult<Report> {
 pub fn add_reach(
     r: &mut Report,
     rf: &RigFile,
-    crystal: &str,
+    c: &Crystal,
     face_text: &str,
     gun: &GunArgs,
     tilt_deg: f32,
     azimuth_deg: f32,
     only_reachable: bool,
 ) -> CliResult<()> {
-    let c = calc::crystal(crystal)?;
     let (_, face) = calc::face_of(c, face_text)?;
     let e = gun.at_face(c, &face)?.kinetic_ev()?;
     let mode = if rf.rig.elevation.is_some() {

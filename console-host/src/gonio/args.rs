@@ -35,6 +35,9 @@ pub struct TargetArgs {
     /// Crystal id (see `mwctl crystals`).
     #[arg(long, value_name = "ID")]
     pub crystal: String,
+    /// Sample temperature.
+    #[command(flatten)]
+    pub sample: crate::calc::SampleArgs,
     /// Face: 111, 1-10, 1,1,0, (1 -1 0); hexagonal also 0001, 10-10.
     #[arg(long, value_name = "HKL", allow_hyphen_values = true)]
     pub face: String,
@@ -174,6 +177,9 @@ pub struct SweepArgs {
     /// Crystal id.
     #[arg(long, value_name = "ID")]
     pub crystal: String,
+    /// Sample temperature.
+    #[command(flatten)]
+    pub sample: crate::calc::SampleArgs,
     /// Face (as for `beams`).
     #[arg(long, value_name = "HKL", allow_hyphen_values = true)]
     pub face: String,
@@ -218,6 +224,9 @@ pub struct ViewArgs {
     /// Crystal id.
     #[arg(long, value_name = "ID")]
     pub crystal: String,
+    /// Sample temperature.
+    #[command(flatten)]
+    pub sample: crate::calc::SampleArgs,
     /// Face (as for `beams`).
     #[arg(long, value_name = "HKL", allow_hyphen_values = true)]
     pub face: String,
@@ -323,6 +332,9 @@ pub struct FitArgs {
     /// arm-zero: crystal id.
     #[arg(long, value_name = "ID")]
     pub crystal: Option<String>,
+    /// arm-zero: sample temperature.
+    #[command(flatten)]
+    pub sample: crate::calc::SampleArgs,
     /// arm-zero: face.
     #[arg(long, value_name = "HKL", allow_hyphen_values = true)]
     pub face: Option<String>,

@@ -279,6 +279,13 @@ pub fn fit_cmd(a: &FitArgs) -> CliResult<Report> {
                 pts.push((csv_i32(p, row, 0, cols[0])?, csv_f32(p, row, 1, cols[1])?));
             }
             let fit = matterwave_core::fit::inner_potential_and_spacing(&pts).ctx(&ctx)?;
+            // The fit's model: one V0 over the whole energy range (not V0(E)).
+            r.field(
+                "inner_potential_model",
+                "inner-potential model",
+                text(matterwave_core::inner::V0ModelKind::Constant.name()),
+            );
+            r.notes.push("V0 is fitted as one constant over the energy range of the points; an energy-dependent V0(E) is not fitted.".into());
             r.field(
                 "inner_potential_ev",
                 "inner potential V0 (eV)",
@@ -343,7 +350,7 @@ pub(super) fn fit_arm_zero(
             "fit arm-zero needs the beam's model: give --crystal ID --face HKL --beam H,K (and --tilt DEG)",
         ));
     };
-    let c = calc::crystal(crystal)?;
+    let c = &calc::crystal_at(crystal, &a.sample)?;
     let (_, face) = calc::face_of(c, face_t)?;
     let rod = calc::parse_rod(beam_t)?;
     let tilt = check_angle(a.tilt, "tilt", TILT_MAX_DEG)?;

@@ -50,11 +50,11 @@ pub(crate) use calib::{csv_f32, read_csv};
 pub use sweep::{sweep, view, SweepOutput};
 pub use track::track;
 
-pub(super) type Target = (&'static Crystal, Cell, Face, [i32; 2]);
+pub(super) type Target = (Crystal, Cell, Face, [i32; 2]);
 
 pub(super) fn target(t: &TargetArgs) -> CliResult<Target> {
-    let c = calc::crystal(&t.crystal)?;
-    let (cell, face) = calc::face_of(c, &t.face)?;
+    let c = calc::crystal_at(&t.crystal, &t.sample)?;
+    let (cell, face) = calc::face_of(&c, &t.face)?;
     let rod = calc::parse_rod(&t.beam)?;
     Ok((c, cell, face, rod))
 }

@@ -60,7 +60,7 @@ impl SweepOutput {
 pub fn sweep(a: &SweepArgs) -> CliResult<SweepOutput> {
     let rf = a.rig.load()?;
     let rig = &rf.rig;
-    let c = calc::crystal(&a.crystal)?;
+    let c = &calc::crystal_at(&a.crystal, &a.sample)?;
     let (_, face) = calc::face_of(c, &a.face)?;
     let gun = a.gun.at_face(c, &face)?;
     let e = gun.kinetic_ev()?;
@@ -230,7 +230,7 @@ pub fn sweep(a: &SweepArgs) -> CliResult<SweepOutput> {
 pub fn view(a: &ViewArgs) -> CliResult<Report> {
     let rf = a.rig.load()?;
     let rig = &rf.rig;
-    let c = calc::crystal(&a.crystal)?;
+    let c = &calc::crystal_at(&a.crystal, &a.sample)?;
     let (_, face) = calc::face_of(c, &a.face)?;
     let gun = a.gun.at_face(c, &face)?;
     let e = gun.kinetic_ev()?;

@@ -9,6 +9,7 @@ use super::*;
 pub fn track(a: &TrackArgs) -> CliResult<Report> {
     let rf = a.rig.load()?;
     let (c, _, face, rod) = target(&a.target)?;
+    let c = &c;
     let tilt = check_angle(a.tilt, "tilt", TILT_MAX_DEG)?;
     let mode = mode_of(a.azimuth)?;
     let dwell = check_dwell(a.dwell)?;

@@ -4,7 +4,7 @@
 //! --pty` and the `pty` link.
 
 use crate::error::{CliError, CliResult};
-use matterwave_core::console::sim::{SimAxes, SimDetector, SimInterlock};
+use matterwave_core::console::sim::{HiddenOffsets, SimAxes, SimDetector, SimInterlock};
 use matterwave_core::console::Console;
 use std::io;
 use std::time::{Duration, Instant};
@@ -12,14 +12,133 @@ use std::time::{Duration, Instant};
 /// The simulated controller.
 pub type SimConsole = Console<SimAxes, SimDetector, SimInterlock>;
 
-/// A simulated controller with factory settings.
+/// What the simulated instrument is, beyond what its console holds: the seed of the
+/// detector's noise and the calibration errors it hides from the console
+/// (docs/SIMULATOR.md). Set from the host only (`--sim-seed`, `--sim-hidden`), never
+/// through the console.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct SimConfig {
+    /// Seed of the detector noise (`SimDetector::with_seed`).
+    pub seed: u32,
+    /// The hidden arm zero, energy offset and tilt error.
+    pub hidden: HiddenOffsets,
+}
+
+impl Default for SimConfig {
+    /// Seed 1, no hidden offsets: the simulator as it always started.
+    fn default() -> Self {
+        SimConfig {
+            seed: 1,
+            hidden: HiddenOffsets::default(),
+        }
+    }
+}
+
+/// The keys of `--sim-hidden`, their field, unit and accepted range (the ranges the
+/// synthetic detector clamps to, docs/SIMULATOR.md): the one table its parser and its
+/// error message read.
+const HIDDEN_KEYS: [(&str, &str, f32); 3] = [
+    ("arm_zero", "deg", 360.0),
+    ("energy", "eV", 1.0e6),
+    ("tilt", "deg", 90.0),
+];
+
+impl SimConfig {
+    /// The configuration of `--sim-seed N` and `--sim-hidden
+    /// arm_zero=DEG,energy=EV,tilt=DEG` (any subset of the keys; absent ones are 0).
+    pub fn from_args(seed: Option<u32>, hidden: Option<&str>) -> CliResult<SimConfig> {
+        let mut c = SimConfig::default();
+        if let Some(s) = seed {
+            c.seed = s;
+        }
+        if let Some(text) = hidden {
+            c.hidden = parse_hidden(text)?;
+        }
+        Ok(c)
+    }
+}
+
+/// Reads `arm_zero=DEG,energy=EV,tilt=DEG` (any subset, in any order).
+pub fn parse_hidden(text: &str) -> CliResult<HiddenOffsets> {
+    let accepted = HIDDEN_KEYS
+        .iter()
+        .map(|(k, u, r)| format!("{k}=±{r} {u}"))
+        .collect::<Vec<_>>()
+        .join(", ");
+    let err = |what: String| {
+        CliError::new(format!(
+            "--sim-hidden {text}: {what}; give KEY=VALUE pairs separated by commas, accepted: {accepted}"
+        ))
+    };
+    let mut h = HiddenOffsets::default();
+    for part in text.split(',').map(str::trim).filter(|p| !p.is_empty()) {
+        let (k, v) = part
+            .split_once('=')
+            .ok_or_else(|| err(format!("{part:?} is not KEY=VALUE")))?;
+        let (i, (_, unit, range)) = HIDDEN_KEYS
+            .iter()
+            .enumerate()
+            .find(|(_, (name, _, _))| *name == k)
+            .ok_or_else(|| err(format!("unknown key {k:?}")))?;
+        let x: f32 = v
+            .parse()
+            .ok()
+            .filter(|x: &f32| x.is_finite() && x.abs() <= *range)
+            .ok_or_else(|| {
+                err(format!(
+                    "{k}={v} is not a number from -{range} to {range} {unit}"
+                ))
+            })?;
+        match i {
+            0 => h.arm_zero_deg = x,
+            1 => h.energy_offset_ev = x,
+            _ => h.tilt_error_deg = x,
+        }
+    }
+    Ok(h)
+}
+
+/// The simulator configuration of this process, set once from the command line
+/// ([`set_sim_config`]) and read by every [`sim_console`]: the in-process `sim` link,
+/// the `pty` link, `mwctl serve --pty` (also after an injected restart: the
+/// instrument's errors survive a power cycle).
+static SIM_CONFIG: std::sync::Mutex<SimConfig> = std::sync::Mutex::new(SimConfig {
+    seed: 1,
+    hidden: HiddenOffsets {
+        arm_zero_deg: 0.0,
+        energy_offset_ev: 0.0,
+        tilt_error_deg: 0.0,
+    },
+});
+
+/// Sets the configuration every later [`sim_console`] of this process starts with.
+pub fn set_sim_config(c: SimConfig) {
+    match SIM_CONFIG.lock() {
+        Ok(mut g) => *g = c,
+        Err(p) => *p.into_inner() = c,
+    }
+}
+
+/// The configuration [`sim_console`] starts with.
+pub fn sim_config() -> SimConfig {
+    match SIM_CONFIG.lock() {
+        Ok(g) => *g,
+        Err(p) => *p.into_inner(),
+    }
+}
+
+/// A simulated controller with factory settings, its detector as [`sim_config`] says.
 pub fn sim_console() -> CliResult<SimConsole> {
-    Console::new(
-        SimAxes::default(),
-        SimDetector::default(),
-        SimInterlock { safe: true },
-    )
-    .map_err(|e| CliError::core(e, "simulator start"))
+    sim_console_with(&sim_config())
+}
+
+/// A simulated controller with factory settings and the detector of `c` (its seed and
+/// hidden offsets).
+pub fn sim_console_with(c: &SimConfig) -> CliResult<SimConsole> {
+    let mut detector = SimDetector::with_seed(c.seed);
+    detector.hidden = c.hidden;
+    Console::new(SimAxes::default(), detector, SimInterlock { safe: true })
+        .map_err(|e| CliError::core(e, "simulator start"))
 }
 
 /// Faults `mwctl serve --pty --fault KIND:N` injects into what the device does, each

@@ -26,14 +26,23 @@ pub trait Wire {
 pub struct SimWire {
     console: SimConsole,
     out: std::collections::VecDeque<u8>,
+    config: device::SimConfig,
 }
 
 impl SimWire {
-    /// A simulated controller with factory settings.
+    /// A simulated controller with factory settings, its detector as
+    /// [`device::sim_config`] says.
     pub fn new() -> crate::error::CliResult<SimWire> {
+        SimWire::with_config(device::sim_config())
+    }
+
+    /// A simulated controller with factory settings and the detector of `config` (its
+    /// noise seed and hidden offsets), whatever the process's configuration.
+    pub fn with_config(config: device::SimConfig) -> crate::error::CliResult<SimWire> {
         Ok(SimWire {
-            console: device::sim_console()?,
+            console: device::sim_console_with(&config)?,
             out: std::collections::VecDeque::new(),
+            config,
         })
     }
 }
@@ -47,7 +56,7 @@ impl SimWire {
     /// Replaces the controller with a freshly started one, as a power cycle would; what
     /// was on its way out is lost.
     pub fn power_cycle(&mut self) -> crate::error::CliResult<()> {
-        self.console = device::sim_console()?;
+        self.console = device::sim_console_with(&self.config)?;
         self.out.clear();
         Ok(())
     }

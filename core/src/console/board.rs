@@ -100,6 +100,10 @@ pub struct Scene<'a> {
     pub rig: &'a Rig,
     /// The inner potential V0 in use, eV (the set value, else the table's).
     pub inner_potential_ev: f32,
+    /// The gun's energy offset the console applies (its `offset` setting), eV: part of
+    /// `incidence.energy_ev`. A simulator takes it out to find what the hardware alone
+    /// delivers.
+    pub energy_offset_ev: f32,
 }
 
 /// The detector (Faraday cup or channeltron behind its electronics).

@@ -23,6 +23,7 @@
 //! | [`centroid`] | weighted mean of (current − threshold) | peak angle |
 //! | [`parabola_log`] | ln I = a + b·θ + c·θ² (Gaussian peak) | peak angle, FWHM |
 //! | [`arm_zero_and_energy_offset`] | δ = model(E + ΔE) + δ0 | arm zero δ0, gun offset ΔE |
+//! | [`arm_zero_in_plane_beams`] | the same, several beams in-plane | arm zero δ0, gun offset ΔE |
 //! | [`row_spacing`] | sin θ = n·λ(E)/d | row spacing d |
 //! | [`inner_potential_and_spacing`] | E_n = E_in(n/2d) − V0 | V0, layer spacing d |
 //!
@@ -45,7 +46,9 @@ mod lattice_fits;
 mod lsq;
 mod peak;
 pub use arm::{arm_zero_and_energy_offset, arm_zero_and_energy_offset_multi};
-pub use in_plane::{arm_zero_in_plane, InPlaneArmFit};
+pub use in_plane::{
+    arm_zero_in_plane, arm_zero_in_plane_beams, in_plane_arm_at_offsets_deg, BeamArm, InPlaneArmFit,
+};
 pub use lattice_fits::{inner_potential_and_spacing, row_spacing};
 use lsq::{gauss_newton2, Lsq};
 use peak::count_u16;

@@ -35,6 +35,7 @@ use crate::listing::Listing;
 use crate::math::{self, Vec3};
 
 mod iv;
+mod iv_model;
 mod rods;
 mod sorted;
 

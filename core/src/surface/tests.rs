@@ -107,3 +107,71 @@ fn iv_closed_form_matches_bisection() {
         );
     }
 }
+
+/// I-V maxima with V0(E): every peak satisfies the constant-V0 condition with V0 taken
+/// at its own energy, and lies between the peaks of the extreme constant V0s. Oracle:
+/// the specular fcc(100) closed form λ_inside = a/n (Bragg's law on the (200)
+/// planes, d = a/2, at normal incidence), E + V0(E) = h²n²/(2 m a²).
+#[test]
+fn iv_peaks_with_energy_dependent_v0() {
+    use crate::inner::{V0Form, V0Model};
+    let a = 3.6149;
+    let f = Face::new(&Cell::new(Structure::Fcc, a, 0.0, 0.0).unwrap(), [1, 0, 0]).unwrap();
+    let form = V0Form {
+        max_ev: 10.3,
+        b_ev: 0.75,
+        c_ev: 76.6,
+        d_ev: 11.4,
+    };
+    let inc = Incidence::normal(100.0).unwrap();
+    let mut out = [IvPeak::EMPTY; 32];
+    let l = f
+        .iv_peaks_model([0, 0], &inc, &V0Model::Energy(form), 20.0, 500.0, &mut out)
+        .unwrap();
+    assert!(l.stored >= 4 && !l.truncated, "{l:?}");
+    for p in &out[..l.stored] {
+        let n = p.g_hkl.iter().map(|x| x.abs()).sum::<i32>() as f32 / 2.0; // (2n 0 0): λ_in = a/n
+        let inside = crate::beam::energy_from_wavelength_ev(a / n).unwrap();
+        let v = form.value_ev(p.energy_ev);
+        assert!(
+            (p.energy_ev + v - inside).abs() < 0.02,
+            "{p:?}: {} vs {inside}",
+            p.energy_ev + v
+        );
+        assert!((20.0..=500.0).contains(&p.energy_ev));
+    }
+    // Oblique incidence and a side rod: each peak is the constant-V0 peak at V0(E).
+    let inc = Incidence::new(100.0, 12.0, 0.0).unwrap();
+    let l = f
+        .iv_peaks_model([1, 0], &inc, &V0Model::Energy(form), 30.0, 400.0, &mut out)
+        .unwrap();
+    assert!(l.stored >= 3);
+    for p in &out[..l.stored] {
+        let mut one = [IvPeak::EMPTY; 32];
+        let m = f
+            .iv_peaks(
+                [1, 0],
+                &inc,
+                form.value_ev(p.energy_ev),
+                1.0,
+                500.0,
+                &mut one,
+            )
+            .unwrap()
+            .stored;
+        assert!(
+            one[..m]
+                .iter()
+                .any(|q| q.g_hkl == p.g_hkl && (q.energy_ev - p.energy_ev).abs() < 0.01),
+            "{p:?}"
+        );
+    }
+    // A constant model is iv_peaks itself.
+    let mut a1 = [IvPeak::EMPTY; 32];
+    let mut a2 = [IvPeak::EMPTY; 32];
+    let n1 = f.iv_peaks([1, 0], &inc, 8.0, 30.0, 400.0, &mut a1).unwrap();
+    let n2 = f
+        .iv_peaks_model([1, 0], &inc, &V0Model::Constant(8.0), 30.0, 400.0, &mut a2)
+        .unwrap();
+    assert_eq!((n1, &a1[..n1.stored]), (n2, &a2[..n2.stored]));
+}

@@ -2,7 +2,7 @@
 // Do not edit by hand: edit tables/crystals.toml (which names the source of every
 // number) and run the generator.
 #![allow(clippy::all)]
-use super::{Crystal, FaceInfo};
+use super::{Crystal, Expansion, FaceInfo, V0Form};
 use crate::lattice::Structure;
 
 pub(super) static CRYSTALS: &[Crystal] = &[
@@ -17,21 +17,31 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(4.26),
         inner_potential_ev: Some(9.8),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 18.9,
+            alpha_c_ppm_per_k: 18.9,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: Some(4.64),
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 0],
                 inner_potential_ev: None,
                 work_function_ev: Some(4.52),
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 1],
                 inner_potential_ev: None,
                 work_function_ev: Some(4.74),
+                inner_potential_form: None,
             },
         ],
     },
@@ -46,21 +56,31 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(4.28),
         inner_potential_ev: Some(16.0),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 23.1,
+            alpha_c_ppm_per_k: 23.1,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: Some(4.2),
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 0],
                 inner_potential_ev: None,
                 work_function_ev: Some(4.06),
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 1],
                 inner_potential_ev: None,
                 work_function_ev: Some(4.26),
+                inner_potential_form: None,
             },
         ],
     },
@@ -75,21 +95,31 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(5.1),
         inner_potential_ev: Some(10.6),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 14.2,
+            alpha_c_ppm_per_k: 14.2,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: Some(5.47),
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 0],
                 inner_potential_ev: None,
                 work_function_ev: Some(5.37),
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 1],
                 inner_potential_ev: None,
                 work_function_ev: Some(5.31),
+                inner_potential_form: None,
             },
         ],
     },
@@ -104,10 +134,18 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(4.98),
         inner_potential_ev: Some(19.3),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 11.3,
+            alpha_c_ppm_per_k: 11.3,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[FaceInfo {
             miller: [0, 0, 1],
             inner_potential_ev: None,
             work_function_ev: None,
+            inner_potential_form: None,
         }],
     },
     Crystal {
@@ -121,16 +159,25 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 300.0,
         work_function_ev: None,
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 1.0,
+            alpha_c_ppm_per_k: 1.0,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 1],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -145,10 +192,18 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(4.22),
         inner_potential_ev: Some(11.7),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 21.0,
+            alpha_c_ppm_per_k: 52.0,
+            min_k: 100.0,
+            max_k: 550.0,
+        },
         faces: &[FaceInfo {
             miller: [0, 0, 1],
             inner_potential_ev: None,
             work_function_ev: None,
+            inner_potential_form: None,
         }],
     },
     Crystal {
@@ -162,10 +217,18 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(5.0),
         inner_potential_ev: Some(10.0),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 13.0,
+            alpha_c_ppm_per_k: 13.0,
+            min_k: 100.0,
+            max_k: 650.0,
+        },
         faces: &[FaceInfo {
             miller: [0, 0, 1],
             inner_potential_ev: None,
             work_function_ev: None,
+            inner_potential_form: None,
         }],
     },
     Crystal {
@@ -179,21 +242,31 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(4.5),
         inner_potential_ev: Some(10.0),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 4.9,
+            alpha_c_ppm_per_k: 4.9,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 1],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -208,16 +281,25 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 298.0,
         work_function_ev: None,
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 46.0,
+            alpha_c_ppm_per_k: 46.0,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -232,21 +314,36 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(4.65),
         inner_potential_ev: Some(10.0),
+        inner_potential_form: Some(V0Form {
+            max_ev: 10.3,
+            b_ev: 0.75,
+            c_ev: 76.6,
+            d_ev: 11.4,
+        }),
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 16.5,
+            alpha_c_ppm_per_k: 16.5,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: Some(4.59),
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 0],
                 inner_potential_ev: None,
                 work_function_ev: Some(4.48),
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 1],
                 inner_potential_ev: None,
                 work_function_ev: Some(4.94),
+                inner_potential_form: None,
             },
         ],
     },
@@ -261,21 +358,31 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(4.5),
         inner_potential_ev: Some(10.0),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 11.8,
+            alpha_c_ppm_per_k: 11.8,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: Some(4.67),
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 1],
                 inner_potential_ev: None,
                 work_function_ev: Some(4.81),
+                inner_potential_form: None,
             },
         ],
     },
@@ -290,21 +397,31 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 300.0,
         work_function_ev: None,
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 5.73,
+            alpha_c_ppm_per_k: 5.73,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 1],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -319,16 +436,25 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 300.0,
         work_function_ev: None,
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 4.65,
+            alpha_c_ppm_per_k: 4.65,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -343,16 +469,25 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 300.0,
         work_function_ev: Some(5.0),
         inner_potential_ev: Some(12.0),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 5.9,
+            alpha_c_ppm_per_k: 5.9,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 1],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -367,10 +502,18 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 298.0,
         work_function_ev: Some(5.0),
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: -1.5,
+            alpha_c_ppm_per_k: 27.0,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[FaceInfo {
             miller: [0, 0, 1],
             inner_potential_ev: None,
             work_function_ev: None,
+            inner_potential_form: None,
         }],
     },
     Crystal {
@@ -384,16 +527,25 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 300.0,
         work_function_ev: None,
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 4.52,
+            alpha_c_ppm_per_k: 4.52,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -408,16 +560,25 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 300.0,
         work_function_ev: None,
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 4.6,
+            alpha_c_ppm_per_k: 4.6,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -432,21 +593,31 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(5.27),
         inner_potential_ev: Some(10.0),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 6.4,
+            alpha_c_ppm_per_k: 6.4,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: Some(5.67),
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 0],
                 inner_potential_ev: None,
                 work_function_ev: Some(5.42),
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 1],
                 inner_potential_ev: None,
                 work_function_ev: Some(5.76),
+                inner_potential_form: None,
             },
         ],
     },
@@ -461,10 +632,18 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(2.3),
         inner_potential_ev: Some(4.4),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 83.3,
+            alpha_c_ppm_per_k: 83.3,
+            min_k: 100.0,
+            max_k: 330.0,
+        },
         faces: &[FaceInfo {
             miller: [1, 1, 0],
             inner_potential_ev: None,
             work_function_ev: None,
+            inner_potential_form: None,
         }],
     },
     Crystal {
@@ -478,10 +657,18 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 298.0,
         work_function_ev: None,
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 37.0,
+            alpha_c_ppm_per_k: 37.0,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[FaceInfo {
             miller: [1, 0, 0],
             inner_potential_ev: None,
             work_function_ev: None,
+            inner_potential_form: None,
         }],
     },
     Crystal {
@@ -495,10 +682,18 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 298.0,
         work_function_ev: None,
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 34.0,
+            alpha_c_ppm_per_k: 34.0,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[FaceInfo {
             miller: [1, 0, 0],
             inner_potential_ev: None,
             work_function_ev: None,
+            inner_potential_form: None,
         }],
     },
     Crystal {
@@ -512,10 +707,18 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(3.66),
         inner_potential_ev: Some(10.7),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 24.8,
+            alpha_c_ppm_per_k: 24.8,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[FaceInfo {
             miller: [0, 0, 1],
             inner_potential_ev: None,
             work_function_ev: None,
+            inner_potential_form: None,
         }],
     },
     Crystal {
@@ -529,10 +732,18 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 298.0,
         work_function_ev: None,
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 10.5,
+            alpha_c_ppm_per_k: 10.5,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[FaceInfo {
             miller: [1, 0, 0],
             inner_potential_ev: None,
             work_function_ev: None,
+            inner_potential_form: None,
         }],
     },
     Crystal {
@@ -546,21 +757,31 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(4.6),
         inner_potential_ev: Some(10.0),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 4.8,
+            alpha_c_ppm_per_k: 4.8,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: Some(4.53),
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 0],
                 inner_potential_ev: None,
                 work_function_ev: Some(4.95),
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 1],
                 inner_potential_ev: None,
                 work_function_ev: Some(4.55),
+                inner_potential_form: None,
             },
         ],
     },
@@ -575,10 +796,18 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(2.75),
         inner_potential_ev: Some(6.0),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 71.0,
+            alpha_c_ppm_per_k: 71.0,
+            min_k: 100.0,
+            max_k: 360.0,
+        },
         faces: &[FaceInfo {
             miller: [1, 1, 0],
             inner_potential_ev: None,
             work_function_ev: None,
+            inner_potential_form: None,
         }],
     },
     Crystal {
@@ -592,10 +821,18 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 298.0,
         work_function_ev: None,
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 44.0,
+            alpha_c_ppm_per_k: 44.0,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[FaceInfo {
             miller: [1, 0, 0],
             inner_potential_ev: None,
             work_function_ev: None,
+            inner_potential_form: None,
         }],
     },
     Crystal {
@@ -609,21 +846,31 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(4.3),
         inner_potential_ev: Some(10.0),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 7.3,
+            alpha_c_ppm_per_k: 7.3,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: Some(4.02),
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 0],
                 inner_potential_ev: None,
                 work_function_ev: Some(4.87),
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 1],
                 inner_potential_ev: None,
                 work_function_ev: Some(4.36),
+                inner_potential_form: None,
             },
         ],
     },
@@ -638,21 +885,31 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(5.15),
         inner_potential_ev: Some(12.0),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 13.4,
+            alpha_c_ppm_per_k: 13.4,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: Some(5.22),
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 0],
                 inner_potential_ev: None,
                 work_function_ev: Some(5.04),
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 1],
                 inner_potential_ev: None,
                 work_function_ev: Some(5.35),
+                inner_potential_form: None,
             },
         ],
     },
@@ -667,10 +924,18 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 298.0,
         work_function_ev: None,
         inner_potential_ev: None,
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 14.0,
+            alpha_c_ppm_per_k: 14.0,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[FaceInfo {
             miller: [1, 0, 0],
             inner_potential_ev: None,
             work_function_ev: None,
+            inner_potential_form: None,
         }],
     },
     Crystal {
@@ -684,21 +949,31 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(4.25),
         inner_potential_ev: Some(13.7),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 28.9,
+            alpha_c_ppm_per_k: 28.9,
+            min_k: 100.0,
+            max_k: 550.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 1],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -713,21 +988,31 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(5.12),
         inner_potential_ev: Some(10.0),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 11.8,
+            alpha_c_ppm_per_k: 11.8,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 1],
                 inner_potential_ev: None,
                 work_function_ev: Some(5.6),
+                inner_potential_form: None,
             },
         ],
     },
@@ -742,21 +1027,31 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(5.65),
         inner_potential_ev: Some(10.0),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 8.8,
+            alpha_c_ppm_per_k: 8.8,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 1],
                 inner_potential_ev: None,
                 work_function_ev: Some(5.93),
+                inner_potential_form: None,
             },
         ],
     },
@@ -771,21 +1066,31 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(4.98),
         inner_potential_ev: Some(10.0),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 8.2,
+            alpha_c_ppm_per_k: 8.2,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 1],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -800,10 +1105,18 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(4.71),
         inner_potential_ev: Some(10.0),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 6.4,
+            alpha_c_ppm_per_k: 6.4,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[FaceInfo {
             miller: [0, 0, 1],
             inner_potential_ev: None,
             work_function_ev: None,
+            inner_potential_form: None,
         }],
     },
     Crystal {
@@ -817,16 +1130,25 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 295.65,
         work_function_ev: Some(4.85),
         inner_potential_ev: Some(12.0),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 2.6,
+            alpha_c_ppm_per_k: 2.6,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 1],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -841,21 +1163,31 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(4.25),
         inner_potential_ev: Some(10.0),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 6.3,
+            alpha_c_ppm_per_k: 6.3,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: Some(4.15),
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 0],
                 inner_potential_ev: None,
                 work_function_ev: Some(4.8),
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 1],
                 inner_potential_ev: None,
                 work_function_ev: Some(4.0),
+                inner_potential_form: None,
             },
         ],
     },
@@ -870,10 +1202,18 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(4.33),
         inner_potential_ev: Some(10.0),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 8.6,
+            alpha_c_ppm_per_k: 8.6,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[FaceInfo {
             miller: [0, 0, 1],
             inner_potential_ev: None,
             work_function_ev: None,
+            inner_potential_form: None,
         }],
     },
     Crystal {
@@ -887,21 +1227,31 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(4.3),
         inner_potential_ev: Some(10.0),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 8.4,
+            alpha_c_ppm_per_k: 8.4,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 0],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 1],
                 inner_potential_ev: None,
                 work_function_ev: None,
+                inner_potential_form: None,
             },
         ],
     },
@@ -916,21 +1266,31 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(4.55),
         inner_potential_ev: Some(10.0),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 4.5,
+            alpha_c_ppm_per_k: 4.5,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[
             FaceInfo {
                 miller: [1, 0, 0],
                 inner_potential_ev: None,
                 work_function_ev: Some(4.63),
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 0],
                 inner_potential_ev: None,
                 work_function_ev: Some(5.22),
+                inner_potential_form: None,
             },
             FaceInfo {
                 miller: [1, 1, 1],
                 inner_potential_ev: None,
                 work_function_ev: Some(4.47),
+                inner_potential_form: None,
             },
         ],
     },
@@ -945,10 +1305,18 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(4.33),
         inner_potential_ev: Some(13.8),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 15.0,
+            alpha_c_ppm_per_k: 60.0,
+            min_k: 100.0,
+            max_k: 650.0,
+        },
         faces: &[FaceInfo {
             miller: [0, 0, 1],
             inner_potential_ev: None,
             work_function_ev: None,
+            inner_potential_form: None,
         }],
     },
     Crystal {
@@ -962,10 +1330,18 @@ pub(super) static CRYSTALS: &[Crystal] = &[
         temperature_k: 293.0,
         work_function_ev: Some(4.05),
         inner_potential_ev: Some(10.0),
+        inner_potential_form: None,
+        expansion: Expansion {
+            alpha_a_ppm_per_k: 5.7,
+            alpha_c_ppm_per_k: 5.7,
+            min_k: 100.0,
+            max_k: 700.0,
+        },
         faces: &[FaceInfo {
             miller: [0, 0, 1],
             inner_potential_ev: None,
             work_function_ev: None,
+            inner_potential_form: None,
         }],
     },
 ];

@@ -15,7 +15,11 @@
 use crate::error::{Error, Result};
 use crate::lattice::{Cell, Miller, Structure};
 
+pub use crate::inner::V0Form;
+pub use thermal::Expansion;
+
 mod data;
+mod thermal;
 
 /// Typical values for one common face of a crystal.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -27,6 +31,8 @@ pub struct FaceInfo {
     pub inner_potential_ev: Option<f32>,
     /// Work function of this face, eV, where known.
     pub work_function_ev: Option<f32>,
+    /// Energy-dependent inner potential V0(E) of this face, where the table gives one.
+    pub inner_potential_form: Option<V0Form>,
 }
 
 /// One crystal of the table.
@@ -53,6 +59,10 @@ pub struct Crystal {
     pub work_function_ev: Option<f32>,
     /// Typical inner potential when no face value is listed, eV.
     pub inner_potential_ev: Option<f32>,
+    /// Energy-dependent inner potential V0(E) for faces without their own.
+    pub inner_potential_form: Option<V0Form>,
+    /// Linear thermal expansion about `temperature_k`.
+    pub expansion: Expansion,
     /// Common faces with their typical values.
     pub faces: &'static [FaceInfo],
 }
@@ -74,6 +84,14 @@ impl Crystal {
         self.face(miller)
             .and_then(|f| f.inner_potential_ev)
             .or(self.inner_potential_ev)
+    }
+
+    /// Energy-dependent inner potential for a face: the face's V0(E) form, else the
+    /// crystal's, where the table gives one.
+    pub fn inner_potential_form_for(&self, miller: Miller) -> Option<V0Form> {
+        self.face(miller)
+            .and_then(|f| f.inner_potential_form)
+            .or(self.inner_potential_form)
     }
 
     /// Work function for a face: the face's value, else the polycrystalline value.

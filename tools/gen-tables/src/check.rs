@@ -15,6 +15,18 @@ pub const INNER_POTENTIAL_RANGE_EV: (f64, f64) = (0.0, 40.0);
 pub const UNCERTAINTY_RANGE_A: (f64, f64) = (0.0, 0.1);
 /// Accepted temperatures (K): above the first bound, up to the second.
 pub const TEMPERATURE_RANGE_K: (f64, f64) = (0.0, 2000.0);
+/// Accepted linear thermal-expansion coefficients (10⁻⁶/K), inclusive (negative: the
+/// axis shrinks on heating, as graphite's a does).
+pub const EXPANSION_RANGE_PPM_PER_K: (f64, f64) = (-20.0, 200.0);
+/// Accepted parameters of the V0(E) form, inclusive: cap and offset (eV), scale
+/// (eV^(3/2)), shift (eV).
+pub const V0_FORM_MAX_RANGE_EV: (f64, f64) = (1.0, 40.0);
+/// Accepted offset b of the V0(E) form, eV, inclusive.
+pub const V0_FORM_B_RANGE_EV: (f64, f64) = (-40.0, 40.0);
+/// Accepted scale c of the V0(E) form, eV^(3/2), inclusive.
+pub const V0_FORM_C_RANGE: (f64, f64) = (0.0, 1000.0);
+/// Accepted shift d of the V0(E) form, eV, inclusive.
+pub const V0_FORM_D_RANGE_EV: (f64, f64) = (0.0, 100.0);
 /// Longest accepted id, characters.
 pub const MAX_ID_LEN: usize = 24;
 /// Longest accepted name, characters.
@@ -34,6 +46,12 @@ pub(crate) const CRYSTAL_FIELDS: &[&str] = &[
     "work_function_source",
     "inner_potential_ev",
     "inner_potential_source",
+    "inner_potential_form",
+    "inner_potential_form_source",
+    "expansion_a_ppm_per_k",
+    "expansion_c_ppm_per_k",
+    "expansion_range_k",
+    "expansion_source",
     "face",
 ];
 
@@ -43,6 +61,8 @@ pub(crate) const FACE_FIELDS: &[&str] = &[
     "work_function_source",
     "inner_potential_ev",
     "inner_potential_source",
+    "inner_potential_form",
+    "inner_potential_form_source",
 ];
 
 /// Where a value sits: row, id and face, for error messages.

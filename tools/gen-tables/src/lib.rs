@@ -54,7 +54,7 @@ mod testdata;
 pub use parse::parse;
 pub use render_core::render_core_table;
 pub use render_sources::render_sources_table;
-pub use row::{CrystalRow, FaceRow, TableError};
+pub use row::{CrystalRow, ExpansionRow, FaceRow, TableError, V0FormRow};
 
 /// The crystal table, relative to the workspace root.
 pub const TOML_PATH: &str = "tables/crystals.toml";

@@ -10,7 +10,10 @@ use crate::check::{
     WORK_FUNCTION_RANGE_EV,
 };
 use crate::row::{CrystalRow, FaceRow, TableError};
+
+mod thermal;
 use crate::structure::{Structure, MAX_INDEX, STRUCTURES};
+use thermal::{expansion, v0_form};
 
 /// Parses and validates a crystal table (the text of a `crystals.toml`).
 ///
@@ -22,7 +25,9 @@ use crate::structure::{Structure, MAX_INDEX, STRUCTURES};
 /// functions 1–7 eV, inner potentials above 0 up to 40 eV, uncertainty above 0 up to
 /// 0.1 Å, temperature above 0 up to 2000 K); a source for every optional value given and
 /// no source without its value; faces with three indices, not all zero, |index| ≤ 12,
-/// no face listed twice.
+/// no face listed twice; thermal expansion (coefficients −20 to 200 ppm/K, c's only
+/// where the structure has a c of its own, a range [lo, hi] K holding the table
+/// temperature) with its source; a V0(E) form only with its source.
 pub fn parse(text: &str) -> Result<Vec<CrystalRow>, TableError> {
     let top: Table = text.parse().map_err(|e: toml::de::Error| TableError {
         row: None,
@@ -170,6 +175,8 @@ fn parse_row(ctx: &Ctx<'_>, t: &Table) -> Result<CrystalRow, TableError> {
         .number(t, "temperature_k", true, TEMPERATURE_RANGE_K, false, "of K")?
         .unwrap_or_default();
     let lattice_source = ctx.string(t, "lattice_source", true)?.unwrap_or_default();
+    let expansion = expansion(ctx, t, wants_c, temperature_k)?;
+    let inner_potential_form = v0_form(ctx, t)?;
     let ((work_function_ev, work_function_source), (inner_potential_ev, inner_potential_source)) =
         typical_values(ctx, t)?;
 
@@ -232,6 +239,8 @@ fn parse_row(ctx: &Ctx<'_>, t: &Table) -> Result<CrystalRow, TableError> {
         work_function_source,
         inner_potential_ev,
         inner_potential_source,
+        inner_potential_form,
+        expansion,
         faces,
     })
 }
@@ -298,12 +307,14 @@ fn parse_face(ctx: &Ctx<'_>, t: &Table) -> Result<FaceRow, TableError> {
     };
     let ((work_function_ev, work_function_source), (inner_potential_ev, inner_potential_source)) =
         typical_values(ctx, t)?;
+    let inner_potential_form = v0_form(ctx, t)?;
     Ok(FaceRow {
         miller,
         work_function_ev,
         work_function_source,
         inner_potential_ev,
         inner_potential_source,
+        inner_potential_form,
     })
 }
 

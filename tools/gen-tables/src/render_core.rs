@@ -3,7 +3,7 @@
 //! and c = a where the table gives none).
 
 use crate::render::{float_lit, header, opt_lit, push_lines, struct_list};
-use crate::row::{CrystalRow, FaceRow};
+use crate::row::{CrystalRow, FaceRow, V0FormRow};
 
 /// The Rust source of `core/src/table/data.rs` for these rows, formatted exactly as
 /// rustfmt (edition 2021, default settings) leaves it, so `cargo fmt --check` passes on
@@ -11,11 +11,17 @@ use crate::row::{CrystalRow, FaceRow};
 pub fn render_core_table(rows: &[CrystalRow]) -> String {
     let mut out = header();
     out.push_str("#![allow(clippy::all)]\n");
+    let mut types = vec!["Crystal", "Expansion"];
     if rows.iter().any(|r| !r.faces.is_empty()) {
-        out.push_str("use super::{Crystal, FaceInfo};\n");
-    } else {
-        out.push_str("use super::Crystal;\n");
+        types.push("FaceInfo");
     }
+    let forms = rows.iter().any(|r| {
+        r.inner_potential_form.is_some() || r.faces.iter().any(|f| f.inner_potential_form.is_some())
+    });
+    if forms {
+        types.push("V0Form");
+    }
+    out.push_str(&format!("use super::{{{}}};\n", types.join(", ")));
     out.push_str("use crate::lattice::Structure;\n\n");
     out.push_str("pub(super) static CRYSTALS: &[Crystal] = ");
     struct_list(&mut out, 0, "Crystal", rows, crystal_fields);
@@ -40,6 +46,24 @@ fn crystal_fields(out: &mut String, indent: usize, r: &CrystalRow) {
             format!("inner_potential_ev: {},", opt_lit(r.inner_potential_ev)),
         ],
     );
+    form_field(out, indent, r.inner_potential_form.as_ref());
+    let e = &r.expansion;
+    let pad = " ".repeat(indent);
+    out.push_str(&format!("{pad}expansion: Expansion {{\n"));
+    push_lines(
+        out,
+        indent + 4,
+        [
+            format!("alpha_a_ppm_per_k: {},", float_lit(e.alpha_a_ppm_per_k)),
+            format!(
+                "alpha_c_ppm_per_k: {},",
+                float_lit(e.alpha_c_ppm_per_k.unwrap_or(e.alpha_a_ppm_per_k))
+            ),
+            format!("min_k: {},", float_lit(e.range_k[0])),
+            format!("max_k: {},", float_lit(e.range_k[1])),
+        ],
+    );
+    out.push_str(&format!("{pad}}},\n"));
     out.push_str(&format!("{}faces: ", " ".repeat(indent)));
     struct_list(out, indent, "FaceInfo", &r.faces, face_fields);
     out.push_str(",\n");
@@ -56,6 +80,29 @@ fn face_fields(out: &mut String, indent: usize, f: &FaceRow) {
             format!("work_function_ev: {},", opt_lit(f.work_function_ev)),
         ],
     );
+    form_field(out, indent, f.inner_potential_form.as_ref());
+}
+
+/// `inner_potential_form: None,` or `inner_potential_form: Some(V0Form { .. }),`.
+fn form_field(out: &mut String, indent: usize, form: Option<&V0FormRow>) {
+    let pad = " ".repeat(indent);
+    match form {
+        None => out.push_str(&format!("{pad}inner_potential_form: None,\n")),
+        Some(v) => {
+            out.push_str(&format!("{pad}inner_potential_form: Some(V0Form {{\n"));
+            push_lines(
+                out,
+                indent + 4,
+                [
+                    format!("max_ev: {},", float_lit(v.max_ev)),
+                    format!("b_ev: {},", float_lit(v.b_ev)),
+                    format!("c_ev: {},", float_lit(v.c_ev)),
+                    format!("d_ev: {},", float_lit(v.d_ev)),
+                ],
+            );
+            out.push_str(&format!("{pad}}}),\n"));
+        }
+    }
 }
 
 #[cfg(test)]
@@ -70,7 +117,7 @@ mod tests {
         let rows = parse(GOOD).unwrap();
         let src = render_core_table(&rows);
         assert!(src.starts_with("// @generated"));
-        assert!(src.contains("#![allow(clippy::all)]\nuse super::{Crystal, FaceInfo};\nuse crate::lattice::Structure;\n"));
+        assert!(src.contains("#![allow(clippy::all)]\nuse super::{Crystal, Expansion, FaceInfo, V0Form};\nuse crate::lattice::Structure;\n"));
         assert!(src.contains("        structure: Structure::Hcp,\n"));
         assert!(src.contains("        c_a: 3.6,\n"), "cubic c is a");
         assert!(
@@ -78,7 +125,8 @@ mod tests {
             "hcp b is a"
         );
         assert!(src.contains("        temperature_k: 293.0,\n"));
-        assert!(src.contains("        faces: &[FaceInfo {\n            miller: [1, 1, 1],\n            inner_potential_ev: None,\n            work_function_ev: Some(4.9),\n        }],\n"));
+        assert!(src.contains("        faces: &[FaceInfo {\n            miller: [1, 1, 1],\n            inner_potential_ev: None,\n            work_function_ev: Some(4.9),\n            inner_potential_form: None,\n        }],\n"));
+        assert!(src.contains("        expansion: Expansion {\n            alpha_a_ppm_per_k: 16.5,\n            alpha_c_ppm_per_k: 16.5,\n            min_k: 100.0,\n            max_k: 700.0,\n        },\n"), "cubic: c expands as a");
         assert!(!src.contains("test\""), "the firmware carries no sources");
         assert!(src.ends_with("];\n"));
     }

@@ -19,6 +19,37 @@ pub struct FaceRow {
     pub inner_potential_ev: Option<f64>,
     /// Where `inner_potential_ev` comes from (present exactly when the value is).
     pub inner_potential_source: Option<String>,
+    /// Energy-dependent inner potential V0(E) of this face, with its source.
+    pub inner_potential_form: Option<V0FormRow>,
+}
+
+/// Linear thermal expansion of a crystal about the table temperature, with its source.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ExpansionRow {
+    /// Linear expansion coefficient of a (and b), 10⁻⁶/K, at the table temperature.
+    pub alpha_a_ppm_per_k: f64,
+    /// Linear expansion coefficient of c, 10⁻⁶/K (structures with a c of their own).
+    pub alpha_c_ppm_per_k: Option<f64>,
+    /// Temperatures the linear model is accepted at, K: [lowest, highest].
+    pub range_k: [f64; 2],
+    /// Where the coefficients and the range come from.
+    pub source: String,
+}
+
+/// An energy-dependent inner potential V0(E) = min(max_ev, c_ev/√(E + d_ev) − b_ev),
+/// E the beam energy outside in eV, with its source.
+#[derive(Clone, Debug, PartialEq)]
+pub struct V0FormRow {
+    /// The cap of V0 at low energy, eV.
+    pub max_ev: f64,
+    /// Offset b, eV.
+    pub b_ev: f64,
+    /// Scale c, eV^(3/2).
+    pub c_ev: f64,
+    /// Energy shift d, eV.
+    pub d_ev: f64,
+    /// Where the form and its parameters come from.
+    pub source: String,
 }
 
 /// One crystal, as read from the table.
@@ -50,6 +81,10 @@ pub struct CrystalRow {
     pub inner_potential_ev: Option<f64>,
     /// Where `inner_potential_ev` comes from (present exactly when the value is).
     pub inner_potential_source: Option<String>,
+    /// Energy-dependent inner potential V0(E) for faces without their own.
+    pub inner_potential_form: Option<V0FormRow>,
+    /// Linear thermal expansion about `temperature_k`.
+    pub expansion: ExpansionRow,
     /// Common faces, in file order.
     pub faces: Vec<FaceRow>,
 }

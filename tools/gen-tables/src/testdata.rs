@@ -10,6 +10,9 @@ a_a = 3.6
 a_uncertainty_a = 0.001
 temperature_k = 293
 lattice_source = "test"
+expansion_a_ppm_per_k = 16.5
+expansion_range_k = [100, 700]
+expansion_source = "test"
 work_function_ev = 4.5
 work_function_source = "test"
 inner_potential_ev = 10.0
@@ -28,6 +31,12 @@ c_a = 4.1
 a_uncertainty_a = 0.001
 temperature_k = 293
 lattice_source = "test"
+expansion_a_ppm_per_k = -1.5
+expansion_c_ppm_per_k = 27
+expansion_range_k = [150, 600]
+expansion_source = "test"
+inner_potential_form = { max_ev = 10.3, b_ev = 0.75, c_ev = 76.6, d_ev = 11.4 }
+inner_potential_form_source = "test"
 [[crystal.face]]
 miller = [0, 0, 1]
 "#;

@@ -257,6 +257,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             elevation_deg: ang[1],
             rig: &s.rig,
             inner_potential_ev: s.inner_potential(),
+            energy_offset_ev: s.gun.offset_ev,
         };
         let v = self.detector.read(&scene);
         if !v.is_finite() {

@@ -26,6 +26,8 @@ pub struct Settings {
     pub sample_from_table: bool,
     /// The crystal.
     pub crystal: &'static Crystal,
+    /// Sample temperature for the lattice constants, K; `None` = the table's.
+    pub temperature_k: Option<f32>,
     /// The face (computed from the crystal and the Miller indices).
     pub face: Face,
     /// Sample tilt, degrees (also the tilt axis target of `aim`).
@@ -50,6 +52,7 @@ impl Settings {
             inner_potential_ev: None,
             sample_from_table: false,
             crystal,
+            temperature_k: None,
             face,
             tilt_deg: 20.0,
             azimuth_deg: None,
@@ -124,6 +127,8 @@ pub enum Key {
     Acceptance,
     /// Branch preference: `nearest`, `+1` or `-1`.
     Branch,
+    /// Sample temperature, K, or `table`.
+    Temperature,
 }
 
 /// One setting key as the protocol names it.
@@ -150,7 +155,7 @@ const fn k(name: &'static str, key: Key, settable: bool, dump_line: u8) -> Setti
 
 /// Every setting key, in the order `get` prints them and `set` applies them (the
 /// crystal before the face it is read against).
-pub const SETTING_KEYS: [SettingKey; 14] = [
+pub const SETTING_KEYS: [SettingKey; 15] = [
     k("energy", Key::Energy, true, 0),
     k("kinetic", Key::Kinetic, false, 0),
     k("wavelength", Key::Wavelength, false, 0),
@@ -159,6 +164,7 @@ pub const SETTING_KEYS: [SettingKey; 14] = [
     k("offset", Key::Offset, true, 0),
     k("v0", Key::InnerPotential, true, 0),
     k("crystal", Key::Crystal, true, 1),
+    k("temperature", Key::Temperature, true, 2),
     k("face", Key::Face, true, 1),
     k("tilt", Key::Tilt, true, 1),
     k("azimuth", Key::Azimuth, true, 1),
@@ -180,6 +186,8 @@ struct SetNotes {
     miller: Option<Miller>,
     /// Whether `crystal=` was given.
     crystal: bool,
+    /// Whether `temperature=` was given.
+    temperature: bool,
     /// Whether a key of the rig's geometry (`acceptance=`) was given.
     geometry: bool,
     /// The detector acceptance given with `acceptance=`, degrees.
@@ -208,6 +216,14 @@ fn apply(s: &mut Settings, notes: &mut SetNotes, key: Key, v: &str) -> Result<()
         Key::Crystal => {
             s.crystal = table::find(v)?;
             notes.crystal = true;
+        }
+        Key::Temperature => {
+            s.temperature_k = if v == "table" {
+                None
+            } else {
+                Some(parse_num(v)?)
+            };
+            notes.temperature = true;
         }
         Key::Face => {
             let hex = s.crystal.structure.system() == System::Hexagonal;
@@ -259,6 +275,11 @@ impl Settings {
                 (false, _) => rw.field_f32_rt(n, self.inner_potential()),
             },
             Key::Crystal => rw.field_str(n, self.crystal.id),
+            Key::Temperature => match (for_dump, self.temperature_k) {
+                (true, None) => rw.field_str(n, "table"),
+                (_, Some(t)) => rw.field_f32_rt(n, t),
+                (false, None) => rw.field_f32_rt(n, self.crystal.temperature_k),
+            },
             Key::Face => {
                 let mut b = [0u8; 40];
                 rw.field_str(n, miller_text(self.face.miller, &mut b))
@@ -328,8 +349,26 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             ),
             (None, false) => None,
         };
+        // A new crystal without `temperature=` goes back to the table temperature (its
+        // expansion range differs from the old crystal's), and the `ok` line says so.
+        let temperature_reset = notes.crystal && !notes.temperature && s.temperature_k.is_some();
+        if temperature_reset {
+            s.temperature_k = None;
+        }
+        // A new temperature rebuilds the face.
+        let rebuild = notes.temperature || temperature_reset;
+        let miller = miller.or(rebuild.then_some(s.face.miller));
         if let Some(m) = miller {
-            s.face = Face::new(&s.crystal.cell()?, m)?;
+            let key = if notes.temperature {
+                "temperature"
+            } else {
+                "crystal"
+            };
+            let cell = s
+                .crystal
+                .cell_at(s.temperature_k)
+                .map_err(|e| Fault::from(e).on_key(key))?;
+            s.face = Face::new(&cell, m)?;
         }
         if s.sample_from_table {
             s.gun.sample_work_function_ev = s
@@ -360,6 +399,10 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             rw.field_str("crystal", s.crystal.id)
                 .field_str("face", miller_text(s.face.miller, &mut b))
                 .field_str("face_from", "table");
+        }
+        if temperature_reset {
+            rw.field_f32_rt("temperature", s.crystal.temperature_k)
+                .field_str("temperature_from", "table");
         }
         Ok(None)
     }

@@ -55,15 +55,22 @@ const VIEW_SIGMAS: f32 = 3.0;
 /// cannot read: tests and demos set them, alignment has to find them. Signs follow the
 /// core's arm-zero fit ([`crate::fit::arm_zero_and_energy_offset`]: measured arm δ =
 /// model(E + ΔE) + δ0).
+///
+/// They are properties of the hardware, not of the console's calibration: each is
+/// measured from the uncalibrated reading (arm and tilt angles with their axis's
+/// `home_offset_deg` taken out, the energy without the console's `offset`). So a
+/// console calibrated with home offset −δ0 and energy offset ΔE sees the true geometry,
+/// and a second alignment finds nothing left.
 #[derive(Clone, Copy, Debug, Default, PartialEq)]
 pub struct HiddenOffsets {
-    /// Arm zero δ0, degrees: a beam at true arm angle δ is seen when the console's arm
-    /// angle is δ + δ0.
+    /// Arm zero δ0, degrees: a beam at true arm angle δ is seen when the arm's angle
+    /// with home offset 0 (steps / steps per degree) is δ + δ0.
     pub arm_zero_deg: f32,
-    /// Energy offset ΔE, eV: the true kinetic energy at the sample is the console's plus
-    /// ΔE.
+    /// Energy offset ΔE, eV: the true kinetic energy at the sample is the console's
+    /// without its `offset` setting, plus ΔE.
     pub energy_offset_ev: f32,
-    /// Sample tilt error, degrees: the true tilt is the console's plus this.
+    /// Sample tilt error, degrees: the true tilt is the tilt axis's angle with home
+    /// offset 0, plus this.
     pub tilt_error_deg: f32,
 }
 
@@ -154,15 +161,20 @@ impl SimDetector {
     }
 
     /// The noiseless reading, nA, of the scene the console describes, seen through the
-    /// hidden offsets.
+    /// hidden offsets (applied to the uncalibrated readings, [`HiddenOffsets`]).
     pub fn expected_na(&self, scene: &Scene<'_>) -> f32 {
         let big = 1.0e6;
         let dark = param(self.dark_na, 0.0, big);
         let h = &self.hidden;
         let inc0 = &scene.incidence;
-        let e = inc0.energy_ev + param(h.energy_offset_ev, -big, big);
-        let tilt = inc0.tilt_deg + param(h.tilt_error_deg, -90.0, 90.0);
-        let arm = scene.arm_deg - param(h.arm_zero_deg, -360.0, 360.0);
+        // What the hardware alone gives: the console's calibration taken out. Its
+        // values are checked (finite, ±360°, ±1e6 eV) where the console accepts them.
+        let e_raw = inc0.energy_ev - param(scene.energy_offset_ev, -big, big);
+        let tilt_raw = inc0.tilt_deg - param(scene.rig.tilt.home_offset_deg, -360.0, 360.0);
+        let arm_raw = scene.arm_deg - param(scene.rig.arm.home_offset_deg, -360.0, 360.0);
+        let e = e_raw + param(h.energy_offset_ev, -big, big);
+        let tilt = tilt_raw + param(h.tilt_error_deg, -90.0, 90.0);
+        let arm = arm_raw - param(h.arm_zero_deg, -360.0, 360.0);
         let Ok(inc) = Incidence::new(e, tilt, inc0.azimuth_deg) else {
             // No beam at the sample (below 1 eV, say): only the dark current.
             return dark;

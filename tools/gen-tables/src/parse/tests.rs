@@ -437,3 +437,101 @@ fn bad_faces() {
         "array of [[crystal.face]]",
     );
 }
+
+#[test]
+fn thermal_expansion_fields() {
+    let rows = parse(GOOD).unwrap();
+    assert_eq!(rows[0].expansion.alpha_a_ppm_per_k, 16.5);
+    assert_eq!(rows[0].expansion.alpha_c_ppm_per_k, None);
+    assert_eq!(rows[1].expansion.alpha_a_ppm_per_k, -1.5);
+    assert_eq!(rows[1].expansion.range_k, [150.0, 600.0]);
+    expect(
+        &with("expansion_a_ppm_per_k = 16.5\n", ""),
+        Some(1),
+        Some("expansion_a_ppm_per_k"),
+        "missing",
+    );
+    expect(
+        &with(
+            "expansion_a_ppm_per_k = 16.5\n",
+            "expansion_a_ppm_per_k = 16.5\nexpansion_c_ppm_per_k = 16.5\n",
+        ),
+        Some(1),
+        Some("expansion_c_ppm_per_k"),
+        "cubic",
+    );
+    expect(
+        &with("expansion_c_ppm_per_k = 27\n", ""),
+        Some(2),
+        Some("expansion_c_ppm_per_k"),
+        "missing",
+    );
+    expect(
+        &with(
+            "expansion_a_ppm_per_k = 16.5",
+            "expansion_a_ppm_per_k = 500",
+        ),
+        Some(1),
+        Some("expansion_a_ppm_per_k"),
+        "from -20 to 200",
+    );
+    expect(
+        &with(
+            "expansion_range_k = [100, 700]",
+            "expansion_range_k = [300, 700]",
+        ),
+        Some(1),
+        Some("expansion_range_k"),
+        "table temperature 293 K inside",
+    );
+    expect(
+        &with(
+            "expansion_range_k = [100, 700]",
+            "expansion_range_k = [700, 100]",
+        ),
+        Some(1),
+        Some("expansion_range_k"),
+        "got [700, 100]",
+    );
+    expect(
+        &with("expansion_source = \"test\"\n", ""),
+        Some(1),
+        Some("expansion_source"),
+        "missing",
+    );
+}
+
+#[test]
+fn inner_potential_form_fields() {
+    let rows = parse(GOOD).unwrap();
+    let f = rows[1].inner_potential_form.as_ref().unwrap();
+    assert_eq!((f.max_ev, f.b_ev, f.c_ev, f.d_ev), (10.3, 0.75, 76.6, 11.4));
+    assert_eq!(rows[0].inner_potential_form, None);
+    expect(
+        &with("inner_potential_form_source = \"test\"\n", ""),
+        Some(2),
+        Some("inner_potential_form_source"),
+        "missing",
+    );
+    expect(
+        &with("d_ev = 11.4 }", "e_ev = 11.4 }"),
+        Some(2),
+        Some("inner_potential_form"),
+        "unknown key \"e_ev\"",
+    );
+    expect(
+        &with("max_ev = 10.3", "max_ev = 99"),
+        Some(2),
+        Some("inner_potential_form"),
+        "from 1 to 40",
+    );
+    expect(
+        &with(
+            "[[crystal.face]]\nmiller = [0, 0, 1]\n",
+            "[[crystal.face]]\nmiller = [0, 0, 1]\ninner_potential_form_source = \"t\"\n",
+        ),
+        Some(2),
+        Some("inner_potential_form_source"),
+        "given without inner_potential_form",
+    );
+}
