@@ -63,6 +63,10 @@ pub enum Command {
     /// The goniometer's rig: axes, limits, forbidden zones, detector (docs/RIG.md).
     #[command(subcommand)]
     Rig(RigCmd),
+    /// Pictures (PNG or SVG): the beam pattern on a screen, the beam tracks against
+    /// energy with the arm's limits and zones, scan data with predicted positions.
+    #[command(subcommand)]
+    Plot(crate::plot::PlotCmd),
     /// Print the safety cautions.
     Safety,
     /// Talk to a controller console: requests from stdin, replies to stdout.
@@ -705,6 +709,7 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
         | Command::Scan(_)
         | Command::Completions { .. }
         | Command::Man { .. } => return Ok(Output::Text(String::new())),
+        Command::Plot(p) => crate::plot::run(p)?,
         Command::Calc(c) => match c {
             Calc::Wavelength {
                 gun,

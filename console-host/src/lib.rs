@@ -17,6 +17,7 @@ pub mod link;
 pub mod number;
 pub mod oracle;
 pub mod output;
+pub mod plot;
 pub mod remote;
 pub mod repl;
 pub mod rig;

@@ -195,7 +195,7 @@ fn bad_input_exits_2_with_one_line() {
         (&["calc", "ivpeaks", "--crystal", "gaas", "--face", "100", "--beam", "0,0", "--from", "20", "--to", "200"], Some("E132: --inner-potential face: the crystal table has no inner potential for gaas (100); give it in eV (`mwctl crystals --crystal gaas` lists the table's values)")),
         (&["calc", "nonsense"], Some("unknown command 'nonsense' for `mwctl calc`: accepted: wavelength, reflections, rings, beams, ivpeaks, steps, screen, aim, track, sweep, view, fit, budget")),
         (&["calc"], Some("`mwctl calc` needs a command: one of wavelength, reflections, rings, beams, ivpeaks, steps, screen, aim, track, sweep, view, fit, budget")),
-        (&[], Some("`mwctl` needs a command: one of crystals, calc, demo, rig, safety, talk, run, align, verify, scan, backup, restore, serve, completions, man")),
+        (&[], Some("`mwctl` needs a command: one of crystals, calc, demo, rig, plot, safety, talk, run, align, verify, scan, backup, restore, serve, completions, man")),
         (&["calc", "wavelength"], Some("the following required arguments were not provided: --energy <EV>; usage: mwctl calc wavelength --energy <EV>")),
         (&["calc", "wavelength", "--energy", "100", "--bogus"], Some("unexpected argument '--bogus' found; usage: mwctl calc wavelength --energy <EV>")),
         (&["--format", "xml", "crystals"], Some("invalid value 'xml' for '--format <FORMAT>' [possible values: table, json, csv]; --format <FORMAT>: Output format")),

@@ -6,7 +6,7 @@ use super::*;
 // fit
 
 /// One data line of a CSV file: its 1-based line number and the required columns' text.
-pub(super) struct CsvRow {
+pub(crate) struct CsvRow {
     line: usize,
     cells: Vec<String>,
 }
@@ -18,7 +18,7 @@ const CSV_LINE_MAX: usize = 4096;
 /// Most data rows a fit reads (the fits count points in 16 bits).
 const CSV_ROWS_MAX: usize = 65_535;
 
-pub(super) fn read_csv(path: &Path, required: &[&str]) -> CliResult<Vec<CsvRow>> {
+pub(crate) fn read_csv(path: &Path, required: &[&str]) -> CliResult<Vec<CsvRow>> {
     use std::io::BufRead;
     let name = path.display();
     let file = std::fs::File::open(path)
@@ -72,7 +72,7 @@ pub(super) fn read_csv(path: &Path, required: &[&str]) -> CliResult<Vec<CsvRow>>
             [i] => idx.push(*i),
             [] => {
                 return Err(CliError::new(format!(
-                    "--input {name} line {hline}: the header lacks column \"{r}\"; this fit needs the columns {want}"
+                    "--input {name} line {hline}: the header lacks column \"{r}\"; the columns needed are {want}"
                 )))
             }
             _ => {
@@ -108,7 +108,7 @@ pub(super) fn read_csv(path: &Path, required: &[&str]) -> CliResult<Vec<CsvRow>>
     Ok(rows)
 }
 
-pub(super) fn csv_f32(path: &Path, row: &CsvRow, i: usize, column: &str) -> CliResult<f32> {
+pub(crate) fn csv_f32(path: &Path, row: &CsvRow, i: usize, column: &str) -> CliResult<f32> {
     let t = &row.cells[i];
     match t.parse::<f32>() {
         Ok(x) if x.is_finite() => Ok(x),

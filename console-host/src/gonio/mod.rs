@@ -46,6 +46,7 @@ mod track;
 pub use aim::{add_reach, aim, budget_cmd};
 pub use args::*;
 pub use calib::fit_cmd;
+pub(crate) use calib::{csv_f32, read_csv};
 pub use sweep::{sweep, view, SweepOutput};
 pub use track::track;
 

@@ -461,6 +461,34 @@ pub fn in_plane_emergence_ev(face: &Face, rod: [i32; 2], tilt_deg: f32) -> Optio
     beam::energy_from_wavelength_ev((1.0 + s) / g_len).ok()
 }
 
+/// The kinetic energy at the sample, eV, above which rod `rod` of `face` exists in
+/// in-plane mode at tilt `tilt_deg` on `branch` (+1: g along +e1, −1: along −e1, as
+/// [`in_plane_arm_deg`]): where |sin α + branch·λ·|g|| reaches 1, i.e.
+/// λ·|g| = 1 − branch·sin α (the grating equation at grazing exit). `None` for the
+/// specular rod, a branch other than ±1, or when that energy is below 1 eV or above
+/// 300 keV. The branch that emerges first gives [`in_plane_emergence_ev`].
+pub fn in_plane_branch_emergence_ev(
+    face: &Face,
+    rod: [i32; 2],
+    tilt_deg: f32,
+    branch: i8,
+) -> Option<f32> {
+    if branch != 1 && branch != -1 {
+        return None;
+    }
+    let g = face.rod_inv_a(rod);
+    let g_len = math::sqrt(g[0] * g[0] + g[1] * g[1]);
+    if g_len <= 0.0 {
+        return None;
+    }
+    let s = math::sin(math::rad(tilt_deg));
+    let lambda = (1.0 - f32::from(branch) * s) / g_len;
+    if lambda <= 0.0 {
+        return None;
+    }
+    beam::energy_from_wavelength_ev(lambda).ok()
+}
+
 /// Reduces an angle to (−180, 180].
 pub fn wrap_180(x: f32) -> f32 {
     let r = x - 360.0 * math::floor((x + 180.0) / 360.0);

@@ -25,6 +25,41 @@ fn in_plane_emergence_matches_the_f64_inverse() {
 use super::*;
 use crate::lattice::{Cell, Structure};
 
+/// Each in-plane branch against the f64 inversion of the relativistic λ(E) (CODATA 2018
+/// hc and mc², as above) at the grating equation's grazing exit λ·|g| = 1 − s·sin α
+/// (any diffraction textbook's grating equation; the sign convention is
+/// docs/CONVENTIONS.md's), Cu(100) rod (1,0); and the beam just above it exists while
+/// just below it is evanescent, by the core's own in-plane arm angle.
+#[test]
+fn each_branch_emerges_where_the_grating_equation_says() {
+    let f = cu([1, 0, 0]);
+    let (hc, mc2) = (12398.419843320f64, 510998.95f64);
+    for tilt in [0.0f64, 6.0, -25.0, 60.0] {
+        for s in [1i8, -1] {
+            let lambda = (1.0 - f64::from(s) * tilt.to_radians().sin()) * 3.615 / 2f64.sqrt();
+            let want = ((hc / lambda).powi(2) + mc2 * mc2).sqrt() - mc2;
+            let got = in_plane_branch_emergence_ev(&f, [1, 0], tilt as f32, s).unwrap();
+            assert!(
+                (f64::from(got) / want - 1.0).abs() < 1e-5,
+                "tilt {tilt} branch {s}: {got} vs {want}"
+            );
+            let t = tilt as f32;
+            assert!(in_plane_arm_deg(&f, [1, 0], t, s, got * 1.001).is_ok());
+            assert_eq!(
+                in_plane_arm_deg(&f, [1, 0], t, s, got * 0.999),
+                Err(Error::Evanescent)
+            );
+        }
+        // The branch that emerges first is the one `in_plane_emergence_ev` gives.
+        let first = in_plane_emergence_ev(&f, [1, 0], tilt as f32).unwrap();
+        let both =
+            [1i8, -1].map(|s| in_plane_branch_emergence_ev(&f, [1, 0], tilt as f32, s).unwrap());
+        assert!((first / both[0].min(both[1]) - 1.0).abs() < 1e-5);
+    }
+    assert_eq!(in_plane_branch_emergence_ev(&f, [0, 0], 10.0, 1), None);
+    assert_eq!(in_plane_branch_emergence_ev(&f, [1, 0], 10.0, 0), None);
+}
+
 fn cu(m: [i32; 3]) -> Face {
     Face::new(&Cell::new(Structure::Fcc, 3.615, 0.0, 0.0).unwrap(), m).unwrap()
 }
