@@ -58,8 +58,16 @@ pub enum Command {
     /// Offline calculations with the controller's own f32 code.
     #[command(subcommand)]
     Calc(Calc),
-    /// A short walk-through in an invented bench scenario (Ag(100) at 95 eV).
-    Demo,
+    /// A day at the bench in an invented scenario (Ag(100) at 95 eV on the simulated
+    /// bench B): beams and I-V maxima, the rig loaded, an alignment that finds the
+    /// simulator's hidden arm zero and energy offset, a tracking scan to CSV, and the
+    /// pictures, all written into a folder.
+    Demo {
+        /// The folder for the files (made if missing; the demo's files in it are
+        /// replaced). Default: a new folder matterwave-demo-N in the current directory.
+        #[arg(long, value_name = "DIR")]
+        out: Option<PathBuf>,
+    },
     /// The goniometer's rig: axes, limits, forbidden zones, detector (docs/RIG.md).
     #[command(subcommand)]
     Rig(RigCmd),
@@ -656,7 +664,10 @@ fn run_report(cli: &Cli) -> CliResult<Output> {
                 )),
             }
         }
-        Command::Demo => return crate::demo::run(f).map(Output::Text),
+        Command::Demo { out } => {
+            return crate::demo::run(f, &crate::demo::DemoArgs { out: out.clone() })
+                .map(Output::Text)
+        }
         Command::Align(a) => crate::align::run(a)?,
         Command::Rig(RigCmd::Show {
             rig: r,

@@ -255,9 +255,12 @@ fn labelled(out: &str, label: &str) -> f64 {
 
 #[test]
 fn demo_runs() {
-    let (code, out, err) = mwctl(&["demo"]);
+    let dir = std::env::temp_dir().join(format!("mwctl-cli-demo-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    let (code, out, err) = mwctl(&["demo", "--out", dir.to_str().unwrap()]);
     assert_eq!(code, 0, "{err}");
-    assert!(err.is_empty(), "{err}");
+    // stderr carries only the scan's cautions and its start line.
+    assert!(!err.contains("error"), "{err}");
     // The scenario (demo.rs): 95 eV nominal, LaB6 cathode 2.7 eV, Ag(100) 4.64 eV, tilt 6°.
     // At the sample E = 95 + 2.7 − 4.64 = 93.06 eV (beam rules); λ from the f64 formula
     // with CODATA 2018 hc = 12398.419843320 eV·Å, mc² = 510998.95 eV.
@@ -283,63 +286,58 @@ fn demo_runs() {
     let exit: f64 = row.split_whitespace().nth(3).unwrap().parse().unwrap();
     assert!((exit - theta).abs() < 2e-3, "{row} vs {theta}");
     assert_eq!(labelled(&out, "beams"), 17.0, "{out}");
-    // The controller session: one final line per request, each `ok`, with the values
-    // the scenario implies.
-    let session: Vec<&str> = out
+    // The bench part (demo.rs): the rig loaded, the alignment applied, the scan written,
+    // the pictures drawn — each a section naming its command, each file where it says.
+    for title in [
+        "== alignment on the simulated bench B",
+        "== what the alignment found",
+        "== an I-V scan following the (1,0) beam",
+        "== the pattern at 95 eV",
+        "== the scan with the I-V maxima",
+    ] {
+        assert!(out.contains(title), "no {title:?}: {out}");
+    }
+    assert!(
+        out.contains("both found within 3σ of the truth:  true")
+            || out
+                .lines()
+                .any(|l| l.starts_with("both found within 3σ") && l.ends_with("true")),
+        "{out}"
+    );
+    for f in [
+        "bench-b.toml",
+        "bench-b-aligned.toml",
+        "iv-1-0.csv",
+        "pattern-95ev.svg",
+    ] {
+        assert!(dir.join(f).is_file(), "{f} not written: {out}");
+    }
+    for f in ["pattern-95ev.png", "tracks.png", "iv-1-0.png"] {
+        let bytes = std::fs::read(dir.join(f)).unwrap();
+        // The PNG signature (ISO/IEC 15948, §5.2).
+        assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n", "{f}");
+    }
+    // The corrected rig copy differs from the input in the arm's home offset only.
+    let a = std::fs::read_to_string(dir.join("bench-b.toml")).unwrap();
+    let b = std::fs::read_to_string(dir.join("bench-b-aligned.toml")).unwrap();
+    let changed: Vec<(&str, &str)> = a.lines().zip(b.lines()).filter(|(x, y)| x != y).collect();
+    assert!(
+        changed.len() == 1 && changed[0].1.starts_with("home_offset_deg"),
+        "{changed:?}"
+    );
+    // Every scan point measured: 44 to 110 eV nominal in 2 eV steps.
+    let csv = std::fs::read_to_string(dir.join("iv-1-0.csv")).unwrap();
+    let ok_rows = csv
         .lines()
-        .skip_while(|l| !l.starts_with("== the controller"))
-        .skip(1)
-        .collect();
-    let requests = session.iter().filter(|l| l.starts_with("> ")).count();
-    let finals: Vec<&str> = session
-        .iter()
-        .filter_map(|l| l.strip_prefix("< "))
-        .filter(|l| !l.starts_with("- "))
-        .collect();
-    assert_eq!(requests, 7, "{session:?}");
-    assert_eq!(finals.len(), requests, "{session:?}");
+        .filter(|l| !l.starts_with('#') && l.contains(",ok,"))
+        .count();
+    assert_eq!(ok_rows, 34, "{csv}");
     assert!(
-        finals.iter().all(|l| *l == "ok" || l.starts_with("ok ")),
-        "{finals:?}"
-    );
-    assert!(finals.contains(&"ok count=2"), "{finals:?}");
-    assert!(finals.contains(&"ok enabled=1") && finals.contains(&"ok enabled=0"));
-    assert!(
-        finals.contains(&"ok points=11 reachable=11 estimate_s=30.5"),
-        "{finals:?}"
-    );
-    // Solution 0 is branch +1 at δ = α + θ (geometry rules), within a step of the bench
-    // arm (1/888.9°) plus the f32 rounding.
-    let sol0 = session
-        .iter()
-        .find(|l| l.starts_with("< - sol=0 "))
-        .unwrap_or_else(|| panic!("{session:?}"));
-    let arm: f64 = sol0
-        .split(' ')
-        .find_map(|t| t.strip_prefix("arm="))
-        .unwrap()
-        .parse()
-        .unwrap();
-    assert!(sol0.contains(" branch=1 "), "{sol0}");
-    assert!(
-        (arm - (6.0 + theta)).abs() < 1.2e-3 + 2e-3,
-        "{sol0} vs {}",
-        6.0 + theta
-    );
-    // The move lands on that solution's steps.
-    let steps = sol0
-        .split(' ')
-        .find_map(|t| t.strip_prefix("arm_steps="))
-        .unwrap();
-    // The move lands on that solution's steps (each with its residual).
-    let mv = finals
-        .iter()
-        .find(|l| l.starts_with("ok arm_steps="))
-        .unwrap_or_else(|| panic!("{finals:?}"));
-    assert!(mv.starts_with(&format!("ok arm_steps={steps} ")), "{mv}");
-    assert!(
-        mv.contains(" tilt_steps=5333 ") && mv.contains(" azimuth_steps=0 "),
-        "{mv}"
+        csv.lines()
+            .last()
+            .unwrap()
+            .starts_with("# end status=complete"),
+        "{csv}"
     );
 }
 
@@ -488,21 +486,46 @@ fn mesh_directions_lie_in_the_face() {
 /// document, `talk` one JSON object per reply line; CSV is refused where no table exists.
 #[test]
 fn format_is_honoured_or_refused() {
-    let v = json(&["demo"]);
-    for key in ["cautions", "beam", "beams", "iv_peaks", "controller"] {
+    let dir = std::env::temp_dir().join(format!("mwctl-cli-demo-json-{}", std::process::id()));
+    let v = json(&["demo", "--out", dir.to_str().unwrap()]);
+    for key in [
+        "cautions",
+        "scenario",
+        "beam",
+        "beams",
+        "iv_peaks",
+        "align",
+        "recovered",
+        "scan",
+        "plot_pattern",
+        "plot_tracks",
+        "plot_scan",
+        "commands",
+        "files",
+        "out_dir",
+    ] {
         assert!(v.get(key).is_some(), "demo JSON lacks {key}: {v}");
     }
-    // The controller part: one object per reply line, as `talk --format json`.
-    let aim: Vec<&serde_json::Value> = v["controller"]
-        .as_array()
-        .unwrap()
+    // Typed: the check is a boolean, counts are integers, the files an array of paths
+    // that exist.
+    assert_eq!(
+        v["recovered"]["within_3_sigma"],
+        serde_json::Value::Bool(true),
+        "{v}"
+    );
+    assert_eq!(v["scan"]["measured"].as_i64(), Some(34), "{v}");
+    let files = v["files"].as_array().unwrap();
+    assert_eq!(files.len(), 7, "{v}");
+    assert!(files
         .iter()
-        .filter(|x| x["request"] == "aim")
-        .collect();
-    let last = aim.last().expect("the demo aims");
-    assert_eq!(last["kind"], "ok", "{aim:?}");
-    assert!(last["fields"]["count"].as_i64().unwrap() >= 1, "{aim:?}");
-    assert!(aim.len() >= 2 && aim[0]["kind"] == "item", "{aim:?}");
+        .all(|f| std::path::Path::new(f.as_str().unwrap()).is_file()));
+    assert!(
+        v["commands"]["align"]
+            .as_str()
+            .unwrap()
+            .starts_with("mwctl "),
+        "{v}"
+    );
     let v = json(&["safety"]);
     assert!(
         v["cautions"].as_str().unwrap().contains("not an interlock"),
