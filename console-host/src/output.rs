@@ -282,6 +282,8 @@ impl Report {
     /// Aligned columns; widths come from a first pass over the rows, then each row is
     /// written as it is formatted.
     fn write_table(&self, w: &mut dyn Write) -> std::io::Result<()> {
+        /// Lists longer than this, as one line, are printed one item to a line.
+        const LONG_LIST_CHARS: usize = 100;
         let lw = self
             .fields
             .iter()
@@ -290,7 +292,17 @@ impl Report {
             .unwrap_or(0);
         for (_, label, v) in &self.fields {
             let pad = lw - label.chars().count();
-            writeln!(w, "{label}:{:pad$} {}", "", v.shown())?;
+            let shown = v.shown();
+            match v {
+                // A long list (reasons, say) reads better one item to a line.
+                Value::List(items) if shown.chars().count() > LONG_LIST_CHARS => {
+                    writeln!(w, "{label}:{:pad$} {} items:", "", items.len())?;
+                    for item in items {
+                        writeln!(w, "  - {}", item.shown())?;
+                    }
+                }
+                _ => writeln!(w, "{label}:{:pad$} {shown}", "")?,
+            }
         }
         if let Some(l) = &self.list {
             if !self.fields.is_empty() {

@@ -377,9 +377,6 @@ pub fn report(a: &Alignment, applied: Option<&Applied>) -> Report {
             })
             .collect(),
     });
-    for m in &a.missed {
-        r.notes.push(format!("not used: {}", m.describe()));
-    }
     if applied.is_none_or(|x| !x.device) {
         r.notes
             .push("not applied: run again with --yes (or answer y at the prompt) to apply".into());
