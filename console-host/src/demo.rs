@@ -7,7 +7,8 @@
 //! simulated instrument hides an arm zero and an energy offset that its console does not
 //! know (docs/SIMULATOR.md). The demo lists the beams and I-V maxima offline, loads the
 //! rig into the controller, aligns (finding the hidden offsets), runs a short tracking
-//! scan written row by row to CSV, and draws the pattern, the energy tracks and the scan.
+//! scan written row by row to CSV, and draws the alignment, the pattern, the energy
+//! tracks and the scan.
 //! Every step is also a command of its own; the demo prints them.
 
 use crate::calc::{self, GunArgs, IvArgs};
@@ -279,6 +280,25 @@ pub fn run(format: Format, args: &DemoArgs) -> CliResult<String> {
         ),
         report: ar,
     });
+    // Its picture, as align --plot draws it.
+    let align_png = path("align.png");
+    let align_target = crate::plot::plot_target(&align_png)?;
+    crate::plot::write_align(&crate::plot::AlignPlot::compute(&a)?, &align_target)?;
+    let mut apr = Report::default();
+    crate::plot::file_fields(&mut apr, &align_target);
+    apr.field("points", "centred peaks", Value::Int(a.measured.len() as i64));
+    let align_plot_section = Section {
+        key: "plot_align",
+        title: "the alignment: centred peaks over the model before and after the fit, residuals"
+            .into(),
+        command: format!(
+            "mwctl --sim-seed {SEED} --sim-hidden arm_zero={},energy={} align --plot {}",
+            HIDDEN.arm_zero_deg,
+            HIDDEN.energy_offset_ev,
+            align_png.display()
+        ),
+        report: apr,
+    };
     sections.push(Section {
         key: "recovered",
         title: "what the alignment found, against what the simulator hid (the demo alone can look)"
@@ -330,6 +350,7 @@ pub fn run(format: Format, args: &DemoArgs) -> CliResult<String> {
     ok(&mut s, "disable", &mut log)?;
 
     // The pictures.
+    sections.push(align_plot_section);
     let pattern_png = path("pattern-95ev.png");
     let pattern_svg = path("pattern-95ev.svg");
     let tracks_png = path("tracks.png");
@@ -420,6 +441,7 @@ pub fn run(format: Format, args: &DemoArgs) -> CliResult<String> {
         rig_in.clone(),
         rig_out.clone(),
         csv.clone(),
+        align_png,
         pattern_png,
         pattern_svg,
         tracks_png,

@@ -75,6 +75,10 @@ pub struct AlignArgs {
     /// Where to write the corrected copy of --rig (must not exist yet).
     #[arg(long, value_name = "FILE", requires = "rig")]
     pub rig_out: Option<PathBuf>,
+    /// Draw the alignment into FILE.png or FILE.svg: every centred peak against energy
+    /// with its 1σ over the model before and after the fit, and the residuals.
+    #[arg(long, value_name = "FILE")]
+    pub plot: Option<PathBuf>,
 }
 
 /// What [`measure`] does, resolved from [`AlignArgs`].
@@ -245,6 +249,8 @@ pub struct Alignment {
     pub crystal: String,
     /// Face as the controller prints it.
     pub face: String,
+    /// The face the fit used (the core's, from the controller's crystal and face).
+    pub surface: matterwave_core::surface::Face,
     /// Tilt reached, degrees (the setting to within a step): the one fitted.
     pub tilt_deg: f32,
     /// Cathode minus sample work function, eV.
@@ -413,6 +419,12 @@ fn confirm(a: &Alignment, rig_out: Option<&std::path::Path>) -> bool {
 pub fn run(args: &AlignArgs) -> CliResult<Report> {
     use std::io::IsTerminal;
     let o = args.options()?;
+    // Checked before anything moves.
+    let plot = args
+        .plot
+        .as_deref()
+        .map(crate::plot::plot_target)
+        .transpose()?;
     if let (Some(i), Some(out)) = (&args.rig, &args.rig_out) {
         // Checked before anything moves.
         apply::check_rig_paths(i, out)?;
@@ -447,6 +459,17 @@ pub fn run(args: &AlignArgs) -> CliResult<Report> {
         None
     };
     let mut r = report(&a, applied.as_ref());
+    // The result stands (and may be applied) whatever becomes of the picture.
+    let drawn = plot.as_ref().and_then(|t| {
+        match crate::plot::AlignPlot::compute(&a).and_then(|p| crate::plot::write_align(&p, t)) {
+            Ok(_) => Some(t.path.display().to_string()),
+            Err(e) => {
+                r.notes.push(format!("the picture was not written: {e}"));
+                None
+            }
+        }
+    });
+    r.field("plot", "picture", drawn.map_or(Value::Missing, Value::Text));
     if let Some(i) = &args.rig {
         if let Ok(rf) = crate::rig::load(i) {
             let file = rf.rig.arm.home_offset_deg;
