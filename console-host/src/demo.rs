@@ -231,7 +231,19 @@ pub fn run(format: Format, args: &DemoArgs) -> CliResult<String> {
     let rig_out = path("bench-b-aligned.toml");
     let _ = std::fs::remove_file(&rig_out);
     let applied = crate::align::apply(&mut s, &a, Some((&rig_in, &rig_out)))?;
-    let ar = crate::align::report(&a, Some(&applied));
+    // Its picture, as align --plot draws it.
+    let align_png = path("align.png");
+    let align_target = crate::plot::plot_target(&align_png)?;
+    crate::plot::write_align(&crate::plot::AlignPlot::compute(&a)?, &align_target)?;
+    let align_cmd = format!(
+        "mwctl --sim-seed {SEED} --sim-hidden arm_zero={},energy={} align --yes --rig {} --rig-out {} --plot {}",
+        HIDDEN.arm_zero_deg,
+        HIDDEN.energy_offset_ev,
+        rig_text,
+        rig_out.display(),
+        align_png.display()
+    );
+    let ar = crate::align::report(&a, Some(&applied), Some(&align_png));
     let new_home = a.new_home_offset_deg();
     // The simulator's truth (docs/SIMULATOR.md): the arm reads true at home offset
     // −δ0_hidden, the gun at offset ΔE_hidden.
@@ -271,19 +283,9 @@ pub fn run(format: Format, args: &DemoArgs) -> CliResult<String> {
     sections.push(Section {
         key: "align",
         title: "alignment on the simulated bench B: arm zero and energy offset from known beams (applied)".into(),
-        command: format!(
-            "mwctl --sim-seed {SEED} --sim-hidden arm_zero={},energy={} align --yes --rig {} --rig-out {}",
-            HIDDEN.arm_zero_deg,
-            HIDDEN.energy_offset_ev,
-            rig_text,
-            rig_out.display()
-        ),
+        command: align_cmd.clone(),
         report: ar,
     });
-    // Its picture, as align --plot draws it.
-    let align_png = path("align.png");
-    let align_target = crate::plot::plot_target(&align_png)?;
-    crate::plot::write_align(&crate::plot::AlignPlot::compute(&a)?, &align_target)?;
     let mut apr = Report::default();
     crate::plot::file_fields(&mut apr, &align_target);
     apr.field("points", "centred peaks", Value::Int(a.measured.len() as i64));
@@ -291,12 +293,7 @@ pub fn run(format: Format, args: &DemoArgs) -> CliResult<String> {
         key: "plot_align",
         title: "the alignment: centred peaks over the model before and after the fit, residuals"
             .into(),
-        command: format!(
-            "mwctl --sim-seed {SEED} --sim-hidden arm_zero={},energy={} align --plot {}",
-            HIDDEN.arm_zero_deg,
-            HIDDEN.energy_offset_ev,
-            align_png.display()
-        ),
+        command: align_cmd,
         report: apr,
     };
     sections.push(Section {

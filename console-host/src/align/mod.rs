@@ -284,8 +284,8 @@ impl Alignment {
 }
 
 /// The report: the fit with 1σ uncertainties, what would change, and one row per
-/// centred peak with its residual.
-pub fn report(a: &Alignment, applied: Option<&Applied>) -> Report {
+/// centred peak with its residual; `plot` is the picture drawn of it, if one was.
+pub fn report(a: &Alignment, applied: Option<&Applied>, plot: Option<&std::path::Path>) -> Report {
     let mut r = Report::default();
     let f32v = |x: f32, d: usize| Value::F32(x, d);
     r.field("crystal", "crystal", Value::Text(a.crystal.clone()));
@@ -349,6 +349,11 @@ pub fn report(a: &Alignment, applied: Option<&Applied>) -> Report {
         "missed",
         "beams not used",
         Value::List(a.missed.iter().map(|m| Value::Text(m.describe())).collect()),
+    );
+    r.field(
+        "plot",
+        "picture",
+        plot.map_or(Value::Missing, |p| Value::Text(p.display().to_string())),
     );
     r.list = Some(List {
         key: "peaks",
@@ -458,18 +463,19 @@ pub fn run(args: &AlignArgs) -> CliResult<Report> {
     } else {
         None
     };
-    let mut r = report(&a, applied.as_ref());
     // The result stands (and may be applied) whatever becomes of the picture.
+    let mut unwritten = None;
     let drawn = plot.as_ref().and_then(|t| {
         match crate::plot::AlignPlot::compute(&a).and_then(|p| crate::plot::write_align(&p, t)) {
-            Ok(_) => Some(t.path.display().to_string()),
+            Ok(_) => Some(t.path.as_path()),
             Err(e) => {
-                r.notes.push(format!("the picture was not written: {e}"));
+                unwritten = Some(format!("the picture was not written: {e}"));
                 None
             }
         }
     });
-    r.field("plot", "picture", drawn.map_or(Value::Missing, Value::Text));
+    let mut r = report(&a, applied.as_ref(), drawn);
+    r.notes.extend(unwritten);
     if let Some(i) = &args.rig {
         if let Ok(rf) = crate::rig::load(i) {
             let file = rf.rig.arm.home_offset_deg;
