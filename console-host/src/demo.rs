@@ -288,7 +288,11 @@ pub fn run(format: Format, args: &DemoArgs) -> CliResult<String> {
     });
     let mut apr = Report::default();
     crate::plot::file_fields(&mut apr, &align_target);
-    apr.field("points", "centred peaks", Value::Int(a.measured.len() as i64));
+    apr.field(
+        "points",
+        "centred peaks",
+        Value::Int(a.measured.len() as i64),
+    );
     let align_plot_section = Section {
         key: "plot_align",
         title: "the alignment: centred peaks over the model before and after the fit, residuals"

@@ -288,13 +288,20 @@ impl Picture for AlignPlot {
             .map_err(e)?
             .label(self.before_label.as_str())
             .legend(|(x, y)| {
-                DashedPathElement::new(vec![(x, y), (x + 20, y)], 5, 3, style::HIDDEN.stroke_width(2))
+                DashedPathElement::new(
+                    vec![(x, y), (x + 20, y)],
+                    5,
+                    3,
+                    style::HIDDEN.stroke_width(2),
+                )
             });
         chart
             .draw_series(std::iter::empty::<PathElement<(f64, f64)>>())
             .map_err(e)?
             .label(self.after_label.as_str())
-            .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], style::INK.stroke_width(2)));
+            .legend(|(x, y)| {
+                PathElement::new(vec![(x, y), (x + 20, y)], style::INK.stroke_width(2))
+            });
         for (i, t) in self.tracks.iter().enumerate() {
             let c = track_colour(i);
             chart
