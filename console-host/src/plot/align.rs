@@ -63,9 +63,9 @@ pub struct AlignPlot {
     pub tracks: Vec<AlignTrack>,
     /// The centred peaks.
     pub points: Vec<AlignPoint>,
-    /// Key text of the model before the fit.
+    /// Key text of the model before the fit (lines split at `\n`).
     pub before_label: String,
-    /// Key text of the model after the fit.
+    /// Key text of the model after the fit (lines split at `\n`).
     pub after_label: String,
 }
 
@@ -155,10 +155,10 @@ impl AlignPlot {
             tracks,
             points,
             before_label: format!(
-                "model before the fit (arm zero 0°, energy offset {:+.3} eV)",
+                "model before the fit\n(arm zero 0°, offset {:+.3} eV)",
                 a.offset_ev
             ),
-            after_label: "model after the fit (fitted arm zero and energy offset)".into(),
+            after_label: "model after the fit\n(fitted arm zero, offset)".into(),
         })
     }
 
@@ -188,6 +188,58 @@ impl AlignPlot {
             .fold(0.0f64, f64::max);
         let m = if m > 0.0 { 1.2 * m } else { 0.01 };
         (-m, m)
+    }
+}
+
+impl AlignPlot {
+    /// The key, in its own strip `area`: the two models, then each beam and branch in
+    /// its colour.
+    fn draw_key<DB: DrawingBackend>(
+        &self,
+        area: &DrawingArea<DB, Shift>,
+        label_px: u32,
+    ) -> Result<(), DrawingAreaErrorKind<DB::ErrorType>> {
+        let size = label_px.saturating_sub(2).max(9);
+        let line = (size + 8) as i32;
+        let font = style::text(size);
+        let mut y = 3 * line;
+        let row = |y: &mut i32, text: &str| -> Result<(), DrawingAreaErrorKind<DB::ErrorType>> {
+            area.draw(&Text::new(
+                text.to_string(),
+                (34, *y - (size as i32) / 2),
+                font.clone(),
+            ))?;
+            *y += line;
+            Ok(())
+        };
+        area.draw(&DashedPathElement::new(
+            vec![(6, y), (28, y)],
+            5,
+            3,
+            style::HIDDEN.stroke_width(2),
+        ))?;
+        for t in self.before_label.split('\n') {
+            row(&mut y, t)?;
+        }
+        area.draw(&PathElement::new(
+            vec![(6, y), (28, y)],
+            style::INK.stroke_width(2),
+        ))?;
+        for t in self.after_label.split('\n') {
+            row(&mut y, t)?;
+        }
+        y += line / 2;
+        for (i, t) in self.tracks.iter().enumerate() {
+            area.draw(&Circle::new((17, y), 4, track_colour(i).filled()))?;
+            row(&mut y, &t.label())?;
+        }
+        y += line / 2;
+        area.draw(&PathElement::new(
+            vec![(17, y - 7), (17, y + 7)],
+            style::INK.stroke_width(1),
+        ))?;
+        row(&mut y, "centred peak ± 1σ")?;
+        Ok(())
     }
 }
 
@@ -228,8 +280,11 @@ impl Picture for AlignPlot {
         let title_px = (h / 36).clamp(12, 24);
         let body = root.titled(&self.title, style::text(title_px)).map_err(e)?;
         let label_px = (h / 45).clamp(10, 18);
-        let (_, bh) = body.dim_in_pixel();
-        let (upper, lower) = body.split_vertically(bh * 68 / 100);
+        let (bw, bh) = body.dim_in_pixel();
+        // The key in a strip of its own on the right: nothing drawn under it.
+        let key_w = (bw * 24 / 100).clamp(150, 360);
+        let (panels, key) = body.split_horizontally(bw.saturating_sub(key_w));
+        let (upper, lower) = panels.split_vertically(bh * 68 / 100);
         let x = self.energy_ev;
         let y = self.arm_range();
         let y_area = 3 * label_px + 30;
@@ -283,50 +338,8 @@ impl Picture for AlignPlot {
                     .map_err(e)?;
             }
         }
-        chart
-            .draw_series(std::iter::empty::<PathElement<(f64, f64)>>())
-            .map_err(e)?
-            .label(self.before_label.as_str())
-            .legend(|(x, y)| {
-                DashedPathElement::new(
-                    vec![(x, y), (x + 20, y)],
-                    5,
-                    3,
-                    style::HIDDEN.stroke_width(2),
-                )
-            });
-        chart
-            .draw_series(std::iter::empty::<PathElement<(f64, f64)>>())
-            .map_err(e)?
-            .label(self.after_label.as_str())
-            .legend(|(x, y)| {
-                PathElement::new(vec![(x, y), (x + 20, y)], style::INK.stroke_width(2))
-            });
-        for (i, t) in self.tracks.iter().enumerate() {
-            let c = track_colour(i);
-            chart
-                .draw_series(std::iter::empty::<Circle<(f64, f64), i32>>())
-                .map_err(e)?
-                .label(format!("{}: centred peaks ± 1σ", t.label()))
-                .legend(move |(x, y)| Circle::new((x + 10, y), 4, c.filled()));
-        }
-        // The key where the tracks are not: they fall toward 0° with the energy, so
-        // high on the right for angles below 0, low on the right for angles above.
-        let below = self.points.iter().filter(|p| p.arm_deg < 0.0).count();
-        let corner = if 2 * below > self.points.len() {
-            SeriesLabelPosition::LowerRight
-        } else {
-            SeriesLabelPosition::UpperRight
-        };
-        chart
-            .configure_series_labels()
-            .position(corner)
-            .background_style(style::BACKGROUND.mix(0.85))
-            .border_style(style::GRID)
-            .label_font(style::text(label_px.saturating_sub(2).max(9)))
-            .draw()
-            .map_err(e)?;
-        // The peaks last, over the key: none hidden.
+        self.draw_key(&key, label_px).map_err(e)?;
+        // The peaks last, over the tracks: none hidden.
         for p in &self.points {
             let c = track_colour(p.track);
             let area = chart.plotting_area();
