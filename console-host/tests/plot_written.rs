@@ -311,16 +311,51 @@ fn align_picture_shows_the_peaks_where_the_frames_put_them() {
     assert_eq!((img.w, img.h), (1000, 700));
     // The upper panel sits above the lower one, both within the picture.
     assert!(drawn.arm.px_y.1 < drawn.residual.px_y.0, "{drawn:?}");
-    // A marker is a disc of radius 4 px, its 1σ bar a vertical line 1 px wide: the
-    // disc is found 2 px left and right of the centre, where the bar is not.
-    let disc =
-        |(x, y): (i32, i32), c: [u8; 3]| img.near((x - 2, y), 1, c) && img.near((x + 2, y), 1, c);
-    for q in &p.points {
-        let tc = track_colour(q.track);
-        let c = [tc.0, tc.1, tc.2];
-        let at = drawn.arm.to_px(q.nominal_ev, q.arm_deg);
-        assert!(disc(at, c), "peak {q:?} not drawn at {at:?}");
-        let at = drawn.residual.to_px(q.nominal_ev, q.residual_deg);
-        assert!(disc(at, c), "residual {q:?} not drawn at {at:?}");
+    // A marker is a disc of radius 4 px (about 50 px of its colour); its 1σ bar is a
+    // line 1 px wide and its track a line 2 px wide, which fill at most about 30 of the
+    // 81 px within 4 px of the centre: a disc drawn there fills most of them (50 to 55
+    // seen; a disc missing or drawn 10 px off leaves about 20).
+    let count = |(x, y): (i32, i32), c: [u8; 3]| {
+        (-4..=4)
+            .flat_map(|dx| (-4..=4).map(move |dy| (x + dx, y + dy)))
+            .filter(|&q| img.at(q) == c)
+            .count()
+    };
+    let disc = |at: (i32, i32), c: [u8; 3]| count(at, c) >= 40;
+    for (name, frame) in [("arm", drawn.arm), ("residual", drawn.residual)] {
+        let px: Vec<(i32, i32)> = p
+            .points
+            .iter()
+            .map(|q| {
+                let v = if name == "arm" {
+                    q.arm_deg
+                } else {
+                    q.residual_deg
+                };
+                frame.to_px(q.nominal_ev, v)
+            })
+            .collect();
+        let mut checked = 0;
+        for (i, q) in p.points.iter().enumerate() {
+            let at = px[i];
+            let covered = (i + 1..px.len()).any(|j| {
+                let b = px[j];
+                p.points[j].track != q.track && (b.0 - at.0).pow(2) + (b.1 - at.1).pow(2) < 100
+            });
+            if covered {
+                continue;
+            }
+            let tc = track_colour(q.track);
+            assert!(
+                disc(at, [tc.0, tc.1, tc.2]),
+                "{name}: peak {q:?} not drawn at {at:?}"
+            );
+            checked += 1;
+        }
+        assert!(
+            2 * checked > p.points.len(),
+            "{name}: only {checked} of {} checked",
+            p.points.len()
+        );
     }
 }
