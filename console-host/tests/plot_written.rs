@@ -1,6 +1,6 @@
 //! The pictures `mwctl scan --plot` and `mwctl align --plot` write: valid files of the
 //! expected size; the scan's is the very picture `mwctl plot scan` draws of the same file
-//! (byte for byte, also after `--resume`); the alignment's shows every centred peak at
+//! (byte for byte, also after `--resume` and after Ctrl-C); the alignment's shows every centred peak at
 //! the pixel its frame maps it to, in its beam's colour, in both panels, and its model
 //! tracks follow the grating equation computed here in f64; a bad `--plot` is refused
 //! before the controller hears anything.
@@ -57,11 +57,6 @@ impl Rgb {
         assert!(c >= 0 && r >= 0 && (c as u32) < self.w && (r as u32) < self.h);
         let i = (r as usize * self.w as usize + c as usize) * 3;
         [self.px[i], self.px[i + 1], self.px[i + 2]]
-    }
-
-    /// Whether any pixel within `d` of `(c, r)` is exactly `rgb`.
-    fn near(&self, (c, r): (i32, i32), d: i32, rgb: [u8; 3]) -> bool {
-        (-d..=d).any(|dc| (-d..=d).any(|dr| self.at((c + dc, r + dr)) == rgb))
     }
 }
 
@@ -151,6 +146,60 @@ fn a_resumed_scan_draws_the_whole_file() {
         "{}",
         svg.matches("<circle").count()
     );
+}
+
+/// A scan stopped early by Ctrl-C still draws what it measured (the same bytes as
+/// `mwctl plot scan` of the file), and the command it prints to go on keeps `--plot`.
+#[test]
+fn an_interrupted_scan_draws_what_it_measured() {
+    use std::process::Stdio;
+    use std::time::{Duration, Instant};
+    let served = common::serve_pty(&[]);
+    let csv = tmp("interrupted.csv");
+    let (pic, again) = (tmp("interrupted-scan.svg"), tmp("interrupted-plot.svg"));
+    let c = csv.to_str().unwrap();
+    let mut args = scan_args(
+        c,
+        &["--dwell", "0.1", "--plot", pic.to_str().unwrap(), "--link"],
+    );
+    args.push(&served.link);
+    let child = std::process::Command::new(env!("CARGO_BIN_EXE_mwctl"))
+        .args(&args)
+        .stderr(Stdio::piped())
+        .stdout(Stdio::null())
+        .spawn()
+        .unwrap();
+    let t = Instant::now();
+    while std::fs::read_to_string(&csv)
+        .map(|t| {
+            t.lines()
+                .filter(|l| l.as_bytes().first().is_some_and(u8::is_ascii_digit))
+                .count()
+        })
+        .unwrap_or(0)
+        < 5
+    {
+        assert!(t.elapsed() < Duration::from_secs(20), "no rows coming");
+        std::thread::sleep(Duration::from_millis(10));
+    }
+    // SIGINT, as the terminal sends on Ctrl-C.
+    assert_eq!(unsafe { libc::kill(child.id() as i32, libc::SIGINT) }, 0);
+    let o = child.wait_with_output().unwrap();
+    let err = String::from_utf8_lossy(&o.stderr).into_owned();
+    assert_eq!(o.status.code(), Some(2), "{err}");
+    assert!(err.contains("interrupted (Ctrl-C)"), "{err}");
+    assert!(err.contains(&format!("--plot {}", pic.display())), "{err}");
+    let text = std::fs::read_to_string(&csv).unwrap();
+    let rows = text
+        .lines()
+        .filter(|l| l.as_bytes().first().is_some_and(u8::is_ascii_digit))
+        .count();
+    assert!((5..33).contains(&rows), "{rows} rows");
+    let (code, _, e) = common::mwctl(&["plot", "scan", c, "--out", again.to_str().unwrap()]);
+    assert_eq!(code, 0, "{e}");
+    let svg = std::fs::read_to_string(&pic).unwrap();
+    assert_eq!(svg, std::fs::read_to_string(&again).unwrap());
+    assert!(svg.matches("<circle").count() >= rows);
 }
 
 /// `requests=` of the controller's `status`, asked by `mwctl talk`.
