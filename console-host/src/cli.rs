@@ -600,8 +600,16 @@ pub fn run(cli: &Cli, out: &mut dyn std::io::Write) -> CliResult<()> {
                 } else {
                     writeln!(
                         out,
-                        "scan {}: {} of {} points in {} ({} measured), {:.1} s",
-                        s.status, s.rows, s.points, s.file, s.measured, s.seconds
+                        "scan {}: {} of {} points in {} ({} measured), {:.1} s{}",
+                        s.status,
+                        s.rows,
+                        s.points,
+                        s.file,
+                        s.measured,
+                        s.seconds,
+                        s.plot
+                            .as_ref()
+                            .map_or(String::new(), |p| format!("; picture {p}"))
                     )
                 };
                 let _ = out.flush();

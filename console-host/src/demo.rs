@@ -7,7 +7,8 @@
 //! simulated instrument hides an arm zero and an energy offset that its console does not
 //! know (docs/SIMULATOR.md). The demo lists the beams and I-V maxima offline, loads the
 //! rig into the controller, aligns (finding the hidden offsets), runs a short tracking
-//! scan written row by row to CSV, and draws the pattern, the energy tracks and the scan.
+//! scan written row by row to CSV, and draws the alignment, the pattern, the energy
+//! tracks and the scan.
 //! Every step is also a command of its own; the demo prints them.
 
 use crate::calc::{self, GunArgs, IvArgs};
@@ -230,7 +231,19 @@ pub fn run(format: Format, args: &DemoArgs) -> CliResult<String> {
     let rig_out = path("bench-b-aligned.toml");
     let _ = std::fs::remove_file(&rig_out);
     let applied = crate::align::apply(&mut s, &a, Some((&rig_in, &rig_out)))?;
-    let ar = crate::align::report(&a, Some(&applied));
+    // Its picture, as align --plot draws it.
+    let align_png = path("align.png");
+    let align_target = crate::plot::plot_target(&align_png)?;
+    crate::plot::write_align(&crate::plot::AlignPlot::compute(&a)?, &align_target)?;
+    let align_cmd = format!(
+        "mwctl --sim-seed {SEED} --sim-hidden arm_zero={},energy={} align --yes --rig {} --rig-out {} --plot {}",
+        HIDDEN.arm_zero_deg,
+        HIDDEN.energy_offset_ev,
+        rig_text,
+        rig_out.display(),
+        align_png.display()
+    );
+    let ar = crate::align::report(&a, Some(&applied), Some(&align_png));
     let new_home = a.new_home_offset_deg();
     // The simulator's truth (docs/SIMULATOR.md): the arm reads true at home offset
     // −δ0_hidden, the gun at offset ΔE_hidden.
@@ -270,15 +283,23 @@ pub fn run(format: Format, args: &DemoArgs) -> CliResult<String> {
     sections.push(Section {
         key: "align",
         title: "alignment on the simulated bench B: arm zero and energy offset from known beams (applied)".into(),
-        command: format!(
-            "mwctl --sim-seed {SEED} --sim-hidden arm_zero={},energy={} align --yes --rig {} --rig-out {}",
-            HIDDEN.arm_zero_deg,
-            HIDDEN.energy_offset_ev,
-            rig_text,
-            rig_out.display()
-        ),
+        command: align_cmd.clone(),
         report: ar,
     });
+    let mut apr = Report::default();
+    crate::plot::file_fields(&mut apr, &align_target);
+    apr.field(
+        "points",
+        "centred peaks",
+        Value::Int(a.measured.len() as i64),
+    );
+    let align_plot_section = Section {
+        key: "plot_align",
+        title: "the alignment: centred peaks over the model before and after the fit, residuals"
+            .into(),
+        command: align_cmd,
+        report: apr,
+    };
     sections.push(Section {
         key: "recovered",
         title: "what the alignment found, against what the simulator hid (the demo alone can look)"
@@ -330,6 +351,7 @@ pub fn run(format: Format, args: &DemoArgs) -> CliResult<String> {
     ok(&mut s, "disable", &mut log)?;
 
     // The pictures.
+    sections.push(align_plot_section);
     let pattern_png = path("pattern-95ev.png");
     let pattern_svg = path("pattern-95ev.svg");
     let tracks_png = path("tracks.png");
@@ -420,6 +442,7 @@ pub fn run(format: Format, args: &DemoArgs) -> CliResult<String> {
         rig_in.clone(),
         rig_out.clone(),
         csv.clone(),
+        align_png,
         pattern_png,
         pattern_svg,
         tracks_png,

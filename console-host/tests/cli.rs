@@ -292,6 +292,7 @@ fn demo_runs() {
         "== alignment on the simulated bench B",
         "== what the alignment found",
         "== an I-V scan following the (1,0) beam",
+        "== the alignment: centred peaks",
         "== the pattern at 95 eV",
         "== the scan with the I-V maxima",
     ] {
@@ -312,7 +313,7 @@ fn demo_runs() {
     ] {
         assert!(dir.join(f).is_file(), "{f} not written: {out}");
     }
-    for f in ["pattern-95ev.png", "tracks.png", "iv-1-0.png"] {
+    for f in ["align.png", "pattern-95ev.png", "tracks.png", "iv-1-0.png"] {
         let bytes = std::fs::read(dir.join(f)).unwrap();
         // The PNG signature (ISO/IEC 15948, §5.2).
         assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n", "{f}");
@@ -497,6 +498,7 @@ fn format_is_honoured_or_refused() {
         "align",
         "recovered",
         "scan",
+        "plot_align",
         "plot_pattern",
         "plot_tracks",
         "plot_scan",
@@ -515,7 +517,7 @@ fn format_is_honoured_or_refused() {
     );
     assert_eq!(v["scan"]["measured"].as_i64(), Some(34), "{v}");
     let files = v["files"].as_array().unwrap();
-    assert_eq!(files.len(), 7, "{v}");
+    assert_eq!(files.len(), 8, "{v}");
     assert!(files
         .iter()
         .all(|f| std::path::Path::new(f.as_str().unwrap()).is_file()));

@@ -462,6 +462,7 @@ pub fn measure<W: Wire>(s: &mut Session<W>, o: &AlignOptions) -> CliResult<Align
         Ok(Alignment {
             crystal: dev.crystal.clone(),
             face: dev.face_text.clone(),
+            surface: dev.face,
             tilt_deg,
             contact_ev: dev.contact_ev,
             offset_ev: dev.offset_ev,

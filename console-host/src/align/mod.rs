@@ -75,6 +75,10 @@ pub struct AlignArgs {
     /// Where to write the corrected copy of --rig (must not exist yet).
     #[arg(long, value_name = "FILE", requires = "rig")]
     pub rig_out: Option<PathBuf>,
+    /// Draw the alignment into FILE.png or FILE.svg: every centred peak against energy
+    /// with its 1σ over the model before and after the fit, and the residuals.
+    #[arg(long, value_name = "FILE")]
+    pub plot: Option<PathBuf>,
 }
 
 /// What [`measure`] does, resolved from [`AlignArgs`].
@@ -245,6 +249,8 @@ pub struct Alignment {
     pub crystal: String,
     /// Face as the controller prints it.
     pub face: String,
+    /// The face the fit used (the core's, from the controller's crystal and face).
+    pub surface: matterwave_core::surface::Face,
     /// Tilt reached, degrees (the setting to within a step): the one fitted.
     pub tilt_deg: f32,
     /// Cathode minus sample work function, eV.
@@ -278,8 +284,8 @@ impl Alignment {
 }
 
 /// The report: the fit with 1σ uncertainties, what would change, and one row per
-/// centred peak with its residual.
-pub fn report(a: &Alignment, applied: Option<&Applied>) -> Report {
+/// centred peak with its residual; `plot` is the picture drawn of it, if one was.
+pub fn report(a: &Alignment, applied: Option<&Applied>, plot: Option<&std::path::Path>) -> Report {
     let mut r = Report::default();
     let f32v = |x: f32, d: usize| Value::F32(x, d);
     r.field("crystal", "crystal", Value::Text(a.crystal.clone()));
@@ -343,6 +349,11 @@ pub fn report(a: &Alignment, applied: Option<&Applied>) -> Report {
         "missed",
         "beams not used",
         Value::List(a.missed.iter().map(|m| Value::Text(m.describe())).collect()),
+    );
+    r.field(
+        "plot",
+        "picture",
+        plot.map_or(Value::Missing, |p| Value::Text(p.display().to_string())),
     );
     r.list = Some(List {
         key: "peaks",
@@ -410,6 +421,12 @@ fn confirm(a: &Alignment, rig_out: Option<&std::path::Path>) -> bool {
 pub fn run(args: &AlignArgs) -> CliResult<Report> {
     use std::io::IsTerminal;
     let o = args.options()?;
+    // Checked before anything moves.
+    let plot = args
+        .plot
+        .as_deref()
+        .map(crate::plot::plot_target)
+        .transpose()?;
     if let (Some(i), Some(out)) = (&args.rig, &args.rig_out) {
         // Checked before anything moves.
         apply::check_rig_paths(i, out)?;
@@ -443,7 +460,19 @@ pub fn run(args: &AlignArgs) -> CliResult<Report> {
     } else {
         None
     };
-    let mut r = report(&a, applied.as_ref());
+    // The result stands (and may be applied) whatever becomes of the picture.
+    let mut unwritten = None;
+    let drawn = plot.as_ref().and_then(|t| {
+        match crate::plot::AlignPlot::compute(&a).and_then(|p| crate::plot::write_align(&p, t)) {
+            Ok(_) => Some(t.path.as_path()),
+            Err(e) => {
+                unwritten = Some(format!("the picture was not written: {e}"));
+                None
+            }
+        }
+    });
+    let mut r = report(&a, applied.as_ref(), drawn);
+    r.notes.extend(unwritten);
     if let Some(i) = &args.rig {
         if let Ok(rf) = crate::rig::load(i) {
             let file = rf.rig.arm.home_offset_deg;

@@ -4,14 +4,17 @@
 //! overlaid ([`mod@scan`]). Each picture is one file here; `style.rs` holds what they share
 //! (font, colours, output file, the data→pixel [`Frame`]). The library functions
 //! ([`write_pattern`], [`write_tracks`], [`write_scan`]) let other commands write the same
-//! pictures; the commands below add only the command-line options and a summary.
+//! pictures, and [`write_align`] the picture of an alignment ([`mod@align`], `mwctl align
+//! --plot`); the commands below add only the command-line options and a summary.
 
+pub mod align;
 pub mod pattern;
 pub mod scan;
-mod scan_file;
+pub mod scan_file;
 pub mod style;
 pub mod tracks;
 
+pub use align::{AlignDrawn, AlignPlot};
 pub use pattern::{PatternDrawn, PatternPlot};
 pub use scan::{Marker, ScanPlot};
 pub use style::{FileKind, Frame, Target};
@@ -321,6 +324,18 @@ pub fn tracks(a: &TracksArgs) -> CliResult<Report> {
 /// Writes the scan picture to `t`.
 pub fn write_scan(p: &ScanPlot, t: &Target) -> CliResult<Frame> {
     style::render(p, t)
+}
+
+/// Writes the alignment picture to `t`.
+pub fn write_align(p: &AlignPlot, t: &Target) -> CliResult<AlignDrawn> {
+    style::render(p, t)
+}
+
+/// The target of a `--plot FILE` option of `scan` or `align` (default size), checked
+/// before anything moves: an error names `--plot` and the extensions accepted.
+pub fn plot_target(path: &std::path::Path) -> CliResult<Target> {
+    FileKind::of(path, "--plot")?;
+    Target::new(path, style::WIDTH_DEFAULT_PX, style::HEIGHT_DEFAULT_PX)
 }
 
 /// `mwctl plot …`.

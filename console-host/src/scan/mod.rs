@@ -74,6 +74,10 @@ pub struct ScanArgs {
     /// Show the progress bar on stderr even when it is not a terminal.
     #[arg(long)]
     pub progress: bool,
+    /// After the scan (complete or stopped early), draw its picture into FILE.png or
+    /// FILE.svg: what was measured, with the predictions, as `mwctl plot scan` draws it.
+    #[arg(long, value_name = "FILE")]
+    pub plot: Option<PathBuf>,
 }
 
 /// The scan's settings, resolved once from the options.
@@ -113,6 +117,8 @@ pub struct Config {
     pub progress: bool,
     /// `--format json`.
     pub json: bool,
+    /// `--plot`: the picture to draw after the scan.
+    pub plot: Option<crate::plot::Target>,
 }
 
 /// The options a resumed scan must share with the file, as header keys: the plan, its
@@ -166,6 +172,12 @@ impl Config {
                 )));
             }
         }
+        // Checked here, before the controller is asked anything.
+        let plot = a
+            .plot
+            .as_deref()
+            .map(crate::plot::plot_target)
+            .transpose()?;
         let rig = match &a.rig {
             Some(p) => {
                 let rf = crate::rig::load(p)?;
@@ -191,6 +203,7 @@ impl Config {
             force: a.force,
             progress: a.progress,
             json,
+            plot,
         })
     }
 
@@ -249,6 +262,9 @@ impl Config {
         }
         if let Some((p, _)) = &self.rig {
             c.push_str(&format!(" --rig {p}"));
+        }
+        if let Some(t) = &self.plot {
+            c.push_str(&format!(" --plot {}", t.path.display()));
         }
         c
     }

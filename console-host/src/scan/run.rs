@@ -42,6 +42,8 @@ pub struct Summary {
     pub seconds: f64,
     /// The index this run started at, when it resumed a file.
     pub resumed_from: Option<u32>,
+    /// The picture drawn (`--plot`), when it was.
+    pub plot: Option<String>,
 }
 
 impl Summary {
@@ -56,6 +58,7 @@ impl Summary {
             "measured": self.measured,
             "seconds": (self.seconds * 1000.0).round() / 1000.0,
             "resumed_from": self.resumed_from,
+            "plot": self.plot,
         })
     }
 }
@@ -140,9 +143,40 @@ pub fn run_on(
         },
     };
     match run_inner(s, cfg) {
-        Ok((s, e)) => (Some(s), e),
+        Ok((mut sum, e)) => {
+            let Some(t) = &cfg.plot else {
+                return (Some(sum), e);
+            };
+            match draw(cfg, t) {
+                Ok(()) => {
+                    sum.plot = Some(t.path.display().to_string());
+                    (Some(sum), e)
+                }
+                // The scan's own error first (it says how to resume); the picture's after.
+                Err(pe) => (
+                    Some(sum),
+                    Some(CliError::new(match e {
+                        Some(e) => format!("{e}; and --plot: {pe}"),
+                        None => format!(
+                            "the scan ended, but its picture was not drawn: {pe} (draw it later: mwctl plot scan {} --out {})",
+                            cfg.out.display(),
+                            t.path.display()
+                        ),
+                    })),
+                ),
+            }
+        }
         Err(e) => (None, Some(e)),
     }
+}
+
+/// `--plot`: the picture of the file as it stands, drawn by `mwctl plot scan`'s code.
+fn draw(cfg: &Config, t: &crate::plot::Target) -> CliResult<()> {
+    let rig = crate::gonio::RigArgs {
+        rig: cfg.rig.as_ref().map(|(p, _)| std::path::PathBuf::from(p)),
+    };
+    let (p, _) = crate::plot::scan_file::plot_of(&cfg.out, &rig)?;
+    crate::plot::write_scan(&p, t).map(|_| ())
 }
 
 /// The stop flag of the session a scan runs on, for the Ctrl-C handler (installed once
@@ -275,6 +309,7 @@ fn run_inner(s: &mut Dev, cfg: &Config) -> CliResult<(Summary, Option<CliError>)
         status: status.into(),
         seconds: t0.elapsed().as_secs_f64(),
         resumed_from: prior.as_ref().map(|_| next),
+        plot: None,
     };
     let resume = cfg.resume_command();
     let err = halt.map(|h| {
