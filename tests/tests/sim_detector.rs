@@ -18,6 +18,7 @@ use matterwave_console::oracle;
 use matterwave_core::console::sim::{HiddenOffsets, SimDetector};
 use matterwave_core::console::{Detector, Scene};
 use matterwave_core::goniometer::Rig;
+use matterwave_core::inner::V0Model;
 use matterwave_core::surface::{Face, Incidence};
 use matterwave_core::table;
 use matterwave_tests::{exact, ocell};
@@ -67,7 +68,7 @@ fn scene<'a>(
         arm_deg: arm,
         elevation_deg: el,
         rig,
-        inner_potential_ev: s.v0_ev,
+        inner_potential: V0Model::Constant(s.v0_ev),
         energy_offset_ev: 0.0,
     }
 }
