@@ -136,3 +136,47 @@ fn refusals_and_the_dump() {
     assert!(l[0].ends_with("v0_model=constant v0_model_from=no_form"), "{l:?}");
     assert_eq!(exchange(&mut c, "get v0_model"), ["ok v0_model=constant"]);
 }
+
+/// `mwctl calc track --inner-potential-model energy` marks the V0(E) maxima of `calc
+/// ivpeaks` with the same model (the core's I-V plan and `Face::iv_peaks_model`), each
+/// on the point within half a step of it; a face without a form is refused (E161).
+#[test]
+fn calc_track_marks_the_v0_of_e_maxima() {
+    let args = |cmd: &'static str| {
+        let mut a = vec![
+            "calc", cmd, "--crystal", "cu", "--face", "100", "--beam", "0,0", "--from", "30",
+            "--to", "200", "--tilt", "10",
+        ];
+        a.extend(["--inner-potential-model", "energy"]);
+        a
+    };
+    let mut t = args("track");
+    t.extend(["--step", "5"]);
+    let track = json(&t);
+    assert_eq!(track["inner_potential_model"], "energy");
+    assert!(track["inner_potential_ev"].is_null());
+    let marks: Vec<(f64, f64)> = track["points"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter_map(|p| Some((p["energy_ev"].as_f64()?, p["iv_max_ev"].as_f64()?)))
+        .collect();
+    let peaks: Vec<f64> = json(&args("ivpeaks"))["peaks"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|p| p["energy_ev"].as_f64().unwrap())
+        .collect();
+    assert_eq!(marks.len(), peaks.len(), "{marks:?} vs {peaks:?}");
+    assert_eq!(track["iv_maxima"].as_u64(), Some(peaks.len() as u64));
+    for ((at, m), p) in marks.iter().zip(&peaks) {
+        assert!((m - p).abs() <= 0.005 + 1e-6, "mark {m} vs ivpeaks {p}");
+        assert!((at - m).abs() <= 2.5, "marked at {at} eV, maximum {m} eV");
+    }
+    let (code, _, err) = common::mwctl(&[
+        "calc", "track", "--crystal", "ag", "--face", "100", "--beam", "0,0", "--from", "30",
+        "--to", "200", "--step", "5", "--inner-potential-model", "energy",
+    ]);
+    assert_eq!(code, 2);
+    assert!(err.contains("E161"), "{err}");
+}
