@@ -180,3 +180,15 @@ fn calc_track_marks_the_v0_of_e_maxima() {
     assert_eq!(code, 2);
     assert!(err.contains("E161"), "{err}");
 }
+
+/// `mwctl calc ivpeaks` refuses V0(E) beside a relaxation with the core's error (E162),
+/// as the console does.
+#[test]
+fn ivpeaks_refuses_v0_of_e_with_a_relaxation() {
+    let (code, _, err) = common::mwctl(&[
+        "calc", "ivpeaks", "--crystal", "cu", "--face", "100", "--beam", "0,0", "--from", "20",
+        "--to", "400", "--inner-potential-model", "energy", "--relax-d12", "-5",
+    ]);
+    assert_eq!(code, 2);
+    assert!(err.contains("E162") && err.contains("--relax-d12 -5"), "{err}");
+}
