@@ -274,8 +274,7 @@ pub fn compare_read_back(
     let named: std::collections::BTreeSet<&str> =
         setting_tokens(file_set).map(|(k, _)| k).collect();
     let (_, factory_set) = split_settings(factory);
-    let factory_of: std::collections::BTreeMap<&str, &str> =
-        setting_tokens(factory_set).collect();
+    let factory_of: std::collections::BTreeMap<&str, &str> = setting_tokens(factory_set).collect();
     let mut absent = Vec::new();
     let mut kept = Vec::new();
     for l in now_set {

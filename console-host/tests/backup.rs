@@ -235,7 +235,10 @@ fn an_older_backup_without_the_newest_keys_restores_when_they_are_at_factory_val
         .expect("backup")
         .success());
     let old = old_format(&std::fs::read_to_string(&factory).expect("file"));
-    assert!(!old.contains("temperature=") && !old.contains("v0_model="), "{old}");
+    assert!(
+        !old.contains("temperature=") && !old.contains("v0_model="),
+        "{old}"
+    );
     assert!(old.contains("\nset acceptance=1\n"), "{old}");
     let f = tmp("old.mwbackup");
     std::fs::write(&f, &old).expect("file");
@@ -259,7 +262,10 @@ fn an_older_backup_without_the_newest_keys_restores_when_they_are_at_factory_val
     let (_, code) = run(&s, "reset3", "reset\n");
     assert_eq!(code, 0);
     let (fresh, _) = run(&s, "d-fresh", "dump\n");
-    assert_eq!(now, fresh, "the old file restored the factory configuration");
+    assert_eq!(
+        now, fresh,
+        "the old file restored the factory configuration"
+    );
     // The text says which keys took factory values.
     let o = mwctl()
         .args(["restore", "--link", &s.link])

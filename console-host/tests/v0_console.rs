@@ -33,7 +33,10 @@ fn plan_peaks(c: &mut matterwave_console::talk::SimConsole, req: &str) -> Vec<f6
 #[test]
 fn plan_maxima_with_energy_model_are_mwctls_and_satisfy_the_form() {
     let mut c = sim_console().unwrap();
-    let ok = exchange(&mut c, "set crystal=cu face=100 tilt=0 beam=0,0 v0_model=energy");
+    let ok = exchange(
+        &mut c,
+        "set crystal=cu face=100 tilt=0 beam=0,0 v0_model=energy",
+    );
     assert_eq!(ok, ["ok"]);
     let console = plan_peaks(&mut c, "plan kind=iv from=20 to=400 step=1");
     let host = json(&[
@@ -74,12 +77,18 @@ fn plan_maxima_with_energy_model_are_mwctls_and_satisfy_the_form() {
             .map(|n| inside_of(n as f64))
             .min_by(|x, y| (x - e - v0).abs().total_cmp(&(y - e - v0).abs()))
             .unwrap();
-        assert!((e + v0 - inside).abs() < 0.02, "E {e} + V0 {v0} vs {inside}");
+        assert!(
+            (e + v0 - inside).abs() < 0.02,
+            "E {e} + V0 {v0} vs {inside}"
+        );
     }
     // The constant model puts them elsewhere (the test tells the models apart).
     exchange(&mut c, "set v0_model=constant");
     let constant = plan_peaks(&mut c, "plan kind=iv from=20 to=400 step=1");
-    assert!(constant.iter().zip(&console).all(|(a, b)| (a - b).abs() > 0.2));
+    assert!(constant
+        .iter()
+        .zip(&console)
+        .all(|(a, b)| (a - b).abs() > 0.2));
 }
 
 /// The simulated detector, on the console, peaks at the V0(E) maximum: aimed at the
@@ -89,7 +98,10 @@ fn plan_maxima_with_energy_model_are_mwctls_and_satisfy_the_form() {
 #[test]
 fn detector_reads_the_maximum_at_the_v0_of_e_energy() {
     let mut c = sim_console().unwrap();
-    exchange(&mut c, "set crystal=cu face=100 tilt=10 beam=0,0 v0_model=energy");
+    exchange(
+        &mut c,
+        "set crystal=cu face=100 tilt=10 beam=0,0 v0_model=energy",
+    );
     let peaks = plan_peaks(&mut c, "plan kind=iv from=80 to=120 step=0.5");
     let e = peaks[0];
     assert_eq!(exchange(&mut c, &format!("set energy={e}")), ["ok"]);
@@ -133,7 +145,10 @@ fn refusals_and_the_dump() {
     assert_eq!(exchange(&mut fresh, "get v0_model"), ["ok v0_model=energy"]);
     // A crystal without a form takes the model back, and says so.
     let l = exchange(&mut c, "set crystal=ag");
-    assert!(l[0].ends_with("v0_model=constant v0_model_from=no_form"), "{l:?}");
+    assert!(
+        l[0].ends_with("v0_model=constant v0_model_from=no_form"),
+        "{l:?}"
+    );
     assert_eq!(exchange(&mut c, "get v0_model"), ["ok v0_model=constant"]);
 }
 
@@ -144,8 +159,20 @@ fn refusals_and_the_dump() {
 fn calc_track_marks_the_v0_of_e_maxima() {
     let args = |cmd: &'static str| {
         let mut a = vec![
-            "calc", cmd, "--crystal", "cu", "--face", "100", "--beam", "0,0", "--from", "30",
-            "--to", "200", "--tilt", "10",
+            "calc",
+            cmd,
+            "--crystal",
+            "cu",
+            "--face",
+            "100",
+            "--beam",
+            "0,0",
+            "--from",
+            "30",
+            "--to",
+            "200",
+            "--tilt",
+            "10",
         ];
         a.extend(["--inner-potential-model", "energy"]);
         a
@@ -174,8 +201,22 @@ fn calc_track_marks_the_v0_of_e_maxima() {
         assert!((at - m).abs() <= 2.5, "marked at {at} eV, maximum {m} eV");
     }
     let (code, _, err) = common::mwctl(&[
-        "calc", "track", "--crystal", "ag", "--face", "100", "--beam", "0,0", "--from", "30",
-        "--to", "200", "--step", "5", "--inner-potential-model", "energy",
+        "calc",
+        "track",
+        "--crystal",
+        "ag",
+        "--face",
+        "100",
+        "--beam",
+        "0,0",
+        "--from",
+        "30",
+        "--to",
+        "200",
+        "--step",
+        "5",
+        "--inner-potential-model",
+        "energy",
     ]);
     assert_eq!(code, 2);
     assert!(err.contains("E161"), "{err}");
@@ -186,9 +227,26 @@ fn calc_track_marks_the_v0_of_e_maxima() {
 #[test]
 fn ivpeaks_refuses_v0_of_e_with_a_relaxation() {
     let (code, _, err) = common::mwctl(&[
-        "calc", "ivpeaks", "--crystal", "cu", "--face", "100", "--beam", "0,0", "--from", "20",
-        "--to", "400", "--inner-potential-model", "energy", "--relax-d12", "-5",
+        "calc",
+        "ivpeaks",
+        "--crystal",
+        "cu",
+        "--face",
+        "100",
+        "--beam",
+        "0,0",
+        "--from",
+        "20",
+        "--to",
+        "400",
+        "--inner-potential-model",
+        "energy",
+        "--relax-d12",
+        "-5",
     ]);
     assert_eq!(code, 2);
-    assert!(err.contains("E162") && err.contains("--relax-d12 -5"), "{err}");
+    assert!(
+        err.contains("E162") && err.contains("--relax-d12 -5"),
+        "{err}"
+    );
 }

@@ -24,9 +24,9 @@
 //! ```
 
 use crate::beam::Gun;
-use crate::inner::V0Model;
 use crate::error::{finite, AxisId, Error, Quantity, Result};
 use crate::goniometer::{self, AimRequest, Branch, InView, Mode, Position, Rig, Solution};
+use crate::inner::V0Model;
 use crate::listing::{insert_sorted, Listing};
 use crate::math;
 use crate::surface::{Face, Incidence, IvPeak, Relaxation};

@@ -395,8 +395,7 @@ fn iv_maxima_follow_the_energy_dependent_inner_potential() {
         let ys: Vec<f32> = (0..n)
             .map(|i| {
                 let e = e0 + de * i as f64;
-                let Some(ob) = oracle::beam_exit(s.a1, s.a2, s.normal, rod, e, 8.0, 0.0)
-                else {
+                let Some(ob) = oracle::beam_exit(s.a1, s.a2, s.normal, rod, e, 8.0, 0.0) else {
                     return 0.0;
                 };
                 let mut sc = scene(
@@ -421,9 +420,8 @@ fn iv_maxima_follow_the_energy_dependent_inner_potential() {
             }
             let e = vertex(e0 + de * (i - 1) as f64, de, &ys[i - 1..=i + 1]);
             let v0 = v0_of(e);
-            let at_v0 = oracle::iv_peaks(
-                &s.oc, s.a1, s.a2, s.normal, rod, 8.0, 0.0, v0, 1.0, 400.0,
-            );
+            let at_v0 =
+                oracle::iv_peaks(&s.oc, s.a1, s.a2, s.normal, rod, 8.0, 0.0, v0, 1.0, 400.0);
             let nearest = at_v0
                 .iter()
                 .map(|p| (p.energy_ev - e).abs())
@@ -436,7 +434,10 @@ fn iv_maxima_follow_the_energy_dependent_inner_potential() {
                 .iter()
                 .map(|p| (p - e).abs())
                 .fold(f64::INFINITY, f64::min);
-            assert!(constant > 0.1 * vi as f64, "{rod:?} at {e} eV: V0 = 9 eV fits too");
+            assert!(
+                constant > 0.1 * vi as f64,
+                "{rod:?} at {e} eV: V0 = 9 eV fits too"
+            );
             found += 1;
         }
     }

@@ -11,9 +11,9 @@ use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::console::wire::token::Args;
 use crate::error::{Error, Quantity};
 use crate::goniometer::{AimRequest, Branch, CheckedRig, Mode, Rig};
+use crate::inner::{self, V0Model, V0ModelKind};
 use crate::lattice::{parse_miller, Miller, System};
 use crate::surface::{Face, Relaxation};
-use crate::inner::{self, V0Model, V0ModelKind};
 use crate::table::{self, Crystal};
 
 /// Every setting the console keeps (what `dump` saves and `reset` restores).

@@ -198,11 +198,9 @@ impl SimDetector {
         let peak = param(self.beam_na, 0.0, big);
         let vi = param(self.absorption_ev, ABSORPTION_MIN_EV, ABSORPTION_MAX_EV);
         let v0 = match scene.inner_potential {
-            V0Model::Constant(v) => V0Model::Constant(param(
-                v,
-                0.0,
-                crate::constants::INNER_POTENTIAL_MAX_EV,
-            )),
+            V0Model::Constant(v) => {
+                V0Model::Constant(param(v, 0.0, crate::constants::INNER_POTENTIAL_MAX_EV))
+            }
             // The form's values lie in [0, its cap], checked where the console uses them.
             m @ V0Model::Energy(_) => m,
         };
