@@ -7,7 +7,11 @@
 //! checked first (checksum, format, protocol version, device kind, line count), the
 //! device must be at rest, its own configuration is saved, the file's lines are sent in
 //! order — the first refusal puts the saved configuration back — and the result is read
-//! back and compared with the file.
+//! back and compared with the file ([`compare_read_back`]). A file written before the
+//! newest setting keys (an older controller's dump: no `temperature=`, `relax_d12=`,
+//! `relax_d23=` or `v0_model=`) is accepted when each key it lacks reads back at its
+//! factory value (the in-process simulator's factory `dump`, the core's own
+//! `Settings::defaults`); any other difference puts the saved configuration back too.
 
 use crate::error::{CliError, CliResult};
 use crate::link::session::Session;
@@ -199,27 +203,149 @@ pub fn restore(
     let mut s = link::connect(spec)?;
     let mut sink = std::io::sink();
     let text_out: &mut dyn Write = if json { &mut sink } else { out };
-    let unknown = restore_session(&mut s, &b, text_out)
+    let done = restore_session(&mut s, &b, text_out)
         .map_err(|e| CliError::new(format!("restore {}: {e}", path.display())))?;
     if json {
+        let absent: Vec<&str> = done
+            .absent_keys
+            .iter()
+            .filter_map(|kv| kv.split_once('=').map(|(k, _)| k))
+            .collect();
         let v = serde_json::json!({
             "file": path.display().to_string(),
             "lines": b.lines.len(),
-            "read_back_identical": true,
-            "unknown_axes": unknown,
+            "read_back_identical": done.absent_keys.is_empty(),
+            "absent_keys": absent,
+            "unknown_axes": done.unknown_axes,
         });
         writeln!(out, "{v}").map_err(|e| CliError::new(format!("output: {e}")))?;
     }
     Ok(())
 }
 
+/// What a restore came to.
+#[derive(Debug, Default, PartialEq, Eq)]
+pub struct Restored {
+    /// Axes whose position is unknown afterwards (their calibration was sent).
+    pub unknown_axes: Vec<String>,
+    /// Setting keys the file lacks (it predates them), each read back at its factory
+    /// value, as `key=value` in dump order; empty when the read-back is identical.
+    pub absent_keys: Vec<String>,
+}
+
+/// The trailing `set` lines of a dump (the settings) and the lines before them (the
+/// rig: the head line, axes and zones).
+fn split_settings(lines: &[String]) -> (&[String], &[String]) {
+    let n = lines
+        .iter()
+        .rev()
+        .take_while(|l| l.starts_with("set "))
+        .count();
+    lines.split_at(lines.len() - n)
+}
+
+/// The `key=value` tokens of settings lines.
+fn setting_tokens(lines: &[String]) -> impl Iterator<Item = (&str, &str)> {
+    lines
+        .iter()
+        .flat_map(|l| l.split(' ').skip(1))
+        .filter_map(|t| t.split_once('='))
+}
+
+/// Compares the dump read back after a restore (`now`) with the file's lines (`file`):
+/// `Ok` with the keys the file lacks (`key=value` as read back) when the read-back is
+/// the file's lines but for setting keys the file's settings lines do not name — a
+/// backup older than those keys — each of which reads back at its value in `factory`
+/// (a factory console's dump); `Err` with what differs otherwise. The rig's lines must
+/// be identical, and so must the settings lines once the absent keys are taken out.
+pub fn compare_read_back(
+    file: &[String],
+    now: &[String],
+    factory: &[String],
+) -> Result<Vec<String>, String> {
+    if now == file {
+        return Ok(Vec::new());
+    }
+    let (file_rig, file_set) = split_settings(file);
+    let (now_rig, now_set) = split_settings(now);
+    if file_rig != now_rig {
+        return Err("its axis and zone lines read back differ from the file".into());
+    }
+    let named: std::collections::BTreeSet<&str> =
+        setting_tokens(file_set).map(|(k, _)| k).collect();
+    let (_, factory_set) = split_settings(factory);
+    let factory_of: std::collections::BTreeMap<&str, &str> = setting_tokens(factory_set).collect();
+    let mut absent = Vec::new();
+    let mut kept = Vec::new();
+    for l in now_set {
+        let mut line = String::from("set");
+        for t in l.split(' ').skip(1) {
+            match t.split_once('=') {
+                Some((k, v)) if !named.contains(k) => {
+                    let f = factory_of.get(k).copied();
+                    if f != Some(v) {
+                        let f = f.unwrap_or("(none)");
+                        return Err(format!(
+                            "the file (older than the setting {k}) does not set {k}, and the controller has {k}={v}, not its factory value {f}; set {k}={f} first, or restore a newer backup"
+                        ));
+                    }
+                    absent.push(t.to_string());
+                }
+                _ => {
+                    line.push(' ');
+                    line.push_str(t);
+                }
+            }
+        }
+        if line != "set" {
+            kept.push(line);
+        }
+    }
+    if kept != file_set {
+        return Err("its settings read back differ from the file's".into());
+    }
+    Ok(absent)
+}
+
+/// The dump of a factory console: the in-process simulator's, whose settings are the
+/// core's factory settings.
+fn factory_dump() -> Result<Vec<String>, String> {
+    let mut c = crate::link::device::sim_console().map_err(|e| e.to_string())?;
+    let lines = crate::talk::exchange(&mut c, "dump");
+    Ok(lines
+        .iter()
+        .filter_map(|l| l.strip_prefix("- "))
+        .map(str::to_string)
+        .collect())
+}
+
+/// Sends `saved` back and says how that went (for a restore that failed).
+fn put_back<W: Wire>(s: &mut Session<W>, saved: &[String]) -> Result<String, String> {
+    for back in saved {
+        let _ = s.request(back);
+    }
+    let now = dump(s).map_err(|e| e.to_string())?;
+    let mut state = if now == saved {
+        "the controller's configuration was put back (read back: identical)".to_string()
+    } else {
+        "putting the controller's configuration back did not read back identical; check it with dump".to_string()
+    };
+    let st = s.request("status").map_err(|e| e.to_string())?.last;
+    let unknown = hello_field(&st, "unknown");
+    if !unknown.is_empty() {
+        state.push_str(&format!(
+            "; positions unknown since a calibration line ran: {unknown} (home them)"
+        ));
+    }
+    Ok(state)
+}
+
 /// Restores `b` on an open session, all or nothing (see the module documentation).
-/// Returns the axes whose position is unknown afterwards (their calibration was sent).
 pub fn restore_session<W: Wire>(
     s: &mut Session<W>,
     b: &Backup,
     out: &mut dyn Write,
-) -> Result<Vec<String>, String> {
+) -> Result<Restored, String> {
     let hello = s.request("hello").map_err(|e| e.to_string())?.last;
     let (name, protocol) = (hello_field(&hello, "name"), hello_field(&hello, "protocol"));
     if b.device != name {
@@ -245,22 +371,7 @@ pub fn restore_session<W: Wire>(
         let r = s.request(l).map_err(|e| e.to_string())?;
         if !r.ok() {
             // Put the controller's own configuration back.
-            for back in &saved {
-                let _ = s.request(back);
-            }
-            let now = dump(s).map_err(|e| e.to_string())?;
-            let mut state = if now == saved {
-                "the controller's configuration was put back (read back: identical)".to_string()
-            } else {
-                "putting the controller's configuration back did not read back identical; check it with dump".to_string()
-            };
-            let st = s.request("status").map_err(|e| e.to_string())?.last;
-            let unknown = hello_field(&st, "unknown");
-            if !unknown.is_empty() {
-                state.push_str(&format!(
-                    "; positions unknown since a calibration line ran: {unknown} (home them)"
-                ));
-            }
+            let state = put_back(s, &saved)?;
             return Err(format!(
                 "line {} `{l}` was refused ({}); {state}",
                 i + 1,
@@ -269,30 +380,45 @@ pub fn restore_session<W: Wire>(
         }
     }
     let now = dump(s).map_err(|e| e.to_string())?;
-    if now != b.lines {
-        return Err(
-            "the configuration read back after restoring differs from the file; check it with dump"
-                .into(),
-        );
-    }
+    let absent = match compare_read_back(&b.lines, &now, &factory_dump()?) {
+        Ok(a) => a,
+        Err(why) => {
+            let state = put_back(s, &saved)?;
+            return Err(format!(
+                "the configuration read back after restoring differs from the file: {why}; {state}"
+            ));
+        }
+    };
     let st = s.request("status").map_err(|e| e.to_string())?.last;
     let unknown = hello_field(&st, "unknown");
-    let _ = writeln!(
-        out,
-        "restore: {} configuration lines sent; read back: identical to the file",
-        b.lines.len()
-    );
+    if absent.is_empty() {
+        let _ = writeln!(
+            out,
+            "restore: {} configuration lines sent; read back: identical to the file",
+            b.lines.len()
+        );
+    } else {
+        let _ = writeln!(
+            out,
+            "restore: {} configuration lines sent; read back: identical to the file but for the settings it predates, each at its factory value: {}",
+            b.lines.len(),
+            absent.join(" ")
+        );
+    }
     if !unknown.is_empty() {
         let _ = writeln!(
             out,
             "restore: positions now unknown (calibration changed): {unknown}; home them before enable"
         );
     }
-    Ok(unknown
-        .split(',')
-        .filter(|a| !a.is_empty())
-        .map(str::to_string)
-        .collect())
+    Ok(Restored {
+        unknown_axes: unknown
+            .split(',')
+            .filter(|a| !a.is_empty())
+            .map(str::to_string)
+            .collect(),
+        absent_keys: absent,
+    })
 }
 
 #[cfg(test)]

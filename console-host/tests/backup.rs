@@ -177,3 +177,140 @@ fn restore_refuses_while_motion_is_enabled() {
     assert_eq!(o.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&o.stderr).contains("send disable"));
 }
+
+/// A backup in the format of a controller older than the newest setting keys: the
+/// factory backup of this one with `temperature=`, `relax_d12=`, `relax_d23=` and
+/// `v0_model=` taken out of its settings lines (the last line, which then holds none,
+/// dropped) and the header's count and CRC-32 (IEEE 802.3, the project's
+/// `backup::crc32`) written again.
+fn old_format(factory: &str) -> String {
+    let mut body = String::new();
+    let mut lines = 0usize;
+    let mut in_body = false;
+    for l in factory.lines() {
+        if l.starts_with("crc32=") {
+            break;
+        }
+        if l.starts_with("lines=") {
+            in_body = true;
+            continue;
+        }
+        if !in_body {
+            body.push_str(l);
+            body.push('\n');
+            continue;
+        }
+        let kept: Vec<&str> = l
+            .split(' ')
+            .filter(|t| {
+                !["temperature=", "relax_d12=", "relax_d23=", "v0_model="]
+                    .iter()
+                    .any(|k| t.starts_with(k))
+            })
+            .collect();
+        if kept == ["set"] {
+            continue;
+        }
+        lines += 1;
+        body.push_str(&kept.join(" "));
+        body.push('\n');
+    }
+    // The header's count goes before the request lines.
+    let (head, req) = body.split_at(body.find("\nset acceptance=20\n").unwrap() + 1);
+    let body = format!("{head}lines={lines}\n{req}");
+    format!(
+        "{body}crc32={:08X}\n",
+        matterwave_console::backup::crc32(body.as_bytes())
+    )
+}
+
+#[test]
+fn an_older_backup_without_the_newest_keys_restores_when_they_are_at_factory_values() {
+    let s = serve_pty(&[]);
+    let factory = tmp("factory-now.mwbackup");
+    assert!(mwctl()
+        .args(["backup", "--link", &s.link])
+        .arg(&factory)
+        .status()
+        .expect("backup")
+        .success());
+    let old = old_format(&std::fs::read_to_string(&factory).expect("file"));
+    assert!(
+        !old.contains("temperature=") && !old.contains("v0_model="),
+        "{old}"
+    );
+    assert!(old.contains("\nset acceptance=1\n"), "{old}");
+    let f = tmp("old.mwbackup");
+    std::fs::write(&f, &old).expect("file");
+    // A configured controller: the file's keys change, the absent ones are at factory.
+    let (out, code) = run(&s, "cfg3", CONFIG);
+    assert_eq!(code, 0, "{out}");
+    let o = mwctl()
+        .args(["restore", "--format", "json", "--link", &s.link])
+        .arg(&f)
+        .output()
+        .expect("restore");
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).expect("json");
+    assert_eq!(v["read_back_identical"], false, "{v}");
+    assert_eq!(
+        v["absent_keys"],
+        serde_json::json!(["temperature", "relax_d12", "relax_d23", "v0_model"]),
+        "{v}"
+    );
+    let (now, _) = run(&s, "d-old", "dump\n");
+    let (_, code) = run(&s, "reset3", "reset\n");
+    assert_eq!(code, 0);
+    let (fresh, _) = run(&s, "d-fresh", "dump\n");
+    assert_eq!(
+        now, fresh,
+        "the old file restored the factory configuration"
+    );
+    // The text says which keys took factory values.
+    let o = mwctl()
+        .args(["restore", "--link", &s.link])
+        .arg(&f)
+        .output()
+        .expect("restore");
+    let msg = String::from_utf8_lossy(&o.stdout);
+    assert!(
+        msg.contains("each at its factory value: temperature=table relax_d12=0 relax_d23=0 v0_model=constant"),
+        "{msg}"
+    );
+    // A missing key the controller holds at another value: refused, put back.
+    let (_, code) = run(&s, "relax", "set relax_d12=-5\n");
+    assert_eq!(code, 0);
+    let before = dump(&s, "before-relax");
+    let o = mwctl()
+        .args(["restore", "--link", &s.link])
+        .arg(&f)
+        .output()
+        .expect("restore");
+    assert_eq!(o.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("controller has relax_d12=-5, not its factory value 0")
+            && err.contains("put back (read back: identical)"),
+        "{err}"
+    );
+    assert_eq!(dump(&s, "after-relax"), before);
+    // Any other difference is still refused: a value that reads back otherwise.
+    let (_, code) = run(&s, "relax0", "set relax_d12=0\n");
+    assert_eq!(code, 0);
+    let t = old.replacen("set energy=100 ", "set energy=100.0 ", 1);
+    let body = &t[..t.trim_end().rfind('\n').unwrap() + 1];
+    let t = format!(
+        "{body}crc32={:08X}\n",
+        matterwave_console::backup::crc32(body.as_bytes())
+    );
+    let g = tmp("old-other.mwbackup");
+    std::fs::write(&g, t).expect("file");
+    let o = mwctl()
+        .args(["restore", "--link", &s.link])
+        .arg(&g)
+        .output()
+        .expect("restore");
+    assert_eq!(o.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(err.contains("settings read back differ"), "{err}");
+}

@@ -613,9 +613,9 @@ fn csv_rows_carry_their_context() {
     assert_eq!(rows.len(), 3, "{out}");
     for r in rows {
         assert!(
-            // crystal, face, sample temperature (the table's), beam, tilt, V0 and I-V
-            // maxima in range, mode, branch
-            r.starts_with("cu,(1 0 0),293,\"1,0\",20,10,1,in-plane,nearest,"),
+            // crystal, face, sample temperature (the table's), beam, tilt, V0 model, V0
+            // and I-V maxima in range, mode, branch
+            r.starts_with("cu,(1 0 0),293,\"1,0\",20,constant,10,1,in-plane,nearest,"),
             "{r}"
         );
     }

@@ -231,6 +231,9 @@ pub enum Error {
     /// The energy-dependent inner potential was asked for a face the crystal table gives
     /// no V0(E) form for.
     NoEnergyForm,
+    /// A top-layer relaxation asked for together with the energy-dependent inner
+    /// potential: the relaxation shifts are modelled with a constant V0 only.
+    RelaxationNeedsConstantV0,
     /// Superstructure text that is neither a matrix nor Wood notation.
     BadSuperstructureText,
     /// A superstructure matrix with determinant 0.
@@ -306,6 +309,7 @@ impl Error {
             Error::AxisMoving => 324,
             Error::TemperatureOutsideData => 160,
             Error::NoEnergyForm => 161,
+            Error::RelaxationNeedsConstantV0 => 162,
             Error::BadSuperstructureText => 165,
             Error::SingularSuperstructure => 166,
             Error::WoodNotOnMesh => 167,
@@ -433,6 +437,9 @@ impl Error {
             }
             Error::NoEnergyForm => {
                 "the crystal table has no energy-dependent V0(E) for this face; use the constant inner-potential model"
+            }
+            Error::RelaxationNeedsConstantV0 => {
+                "a top-layer relaxation is modelled with a constant inner potential only; use the constant model, or set the relaxation to 0"
             }
             Error::BadSuperstructureText => {
                 "superstructure not understood; give a matrix m11,m12,m21,m22 (e.g. 2,0,0,2 or 1/2,0,0,1/2) or Wood notation p(2x2), c(2x2), (sqrt3xsqrt3)R30"

@@ -26,6 +26,7 @@
 use crate::beam::Gun;
 use crate::error::{finite, AxisId, Error, Quantity, Result};
 use crate::goniometer::{self, AimRequest, Branch, InView, Mode, Position, Rig, Solution};
+use crate::inner::V0Model;
 use crate::listing::{insert_sorted, Listing};
 use crate::math;
 use crate::surface::{Face, Incidence, IvPeak, Relaxation};
@@ -376,8 +377,9 @@ impl SweepPlan {
 pub struct IvPlan {
     /// The tracking sweep.
     pub track: TrackPlan,
-    /// Inner potential used for the prediction, eV.
-    pub inner_potential_ev: f32,
+    /// The constant inner potential of the prediction, eV; `None` when the maxima come
+    /// from the face's V0(E) form ([`IvPlan::with_model`]).
+    pub inner_potential_ev: Option<f32>,
     peaks: [IvPeak; MAX_PEAKS],
     peak_count: usize,
 }
@@ -417,6 +419,19 @@ impl IvPlan {
         relax: &Relaxation,
         start: Position,
     ) -> Result<IvPlan> {
+        IvPlan::with_model(track, &V0Model::Constant(inner_potential_ev), relax, start)
+    }
+
+    /// As [`IvPlan::relaxed`], with an inner-potential model: a constant V0, or V0(E)
+    /// ([`crate::surface::Face::iv_peaks_with`]: the energy model takes no relaxation,
+    /// [`crate::error::Error::RelaxationNeedsConstantV0`]).
+    #[inline(never)]
+    pub fn with_model(
+        track: TrackPlan,
+        v0: &V0Model,
+        relax: &Relaxation,
+        start: Position,
+    ) -> Result<IvPlan> {
         let mut peaks = [IvPeak::EMPTY; MAX_PEAKS];
         let azimuth = match track.mode {
             Mode::AtAzimuth(a) => a,
@@ -438,22 +453,29 @@ impl IvPlan {
         let mut peak_count = 0;
         if hi > lo {
             let inc = Incidence::new(lo, track.tilt_deg, azimuth)?;
-            let l = track.face.iv_peaks_relaxed(
-                track.rod,
-                &inc,
-                inner_potential_ev,
-                lo,
-                hi,
-                relax,
-                &mut peaks,
-            )?;
+            let l = track
+                .face
+                .iv_peaks_with(track.rod, &inc, v0, lo, hi, relax, &mut peaks)?;
             peak_count = l.stored;
         } else {
-            crate::beam::check_inner_potential(inner_potential_ev)?;
+            match v0 {
+                V0Model::Constant(v) => {
+                    crate::beam::check_inner_potential(*v)?;
+                }
+                V0Model::Energy(_) if !relax.is_none() => {
+                    return Err(Error::RelaxationNeedsConstantV0)
+                }
+                V0Model::Energy(f) => {
+                    crate::beam::check_inner_potential(f.value_ev(lo))?;
+                }
+            }
         }
         Ok(IvPlan {
             track,
-            inner_potential_ev,
+            inner_potential_ev: match v0 {
+                V0Model::Constant(v) => Some(*v),
+                V0Model::Energy(_) => None,
+            },
             peaks,
             peak_count,
         })

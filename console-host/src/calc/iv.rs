@@ -101,29 +101,29 @@ pub fn ivpeaks(id: &str, face_text: &str, a: &IvArgs, max: usize) -> CliResult<R
         matterwave_core::surface::RELAX_MAX_PCT
     ))?;
     let model = v0_model(a.v0_model, v0, c, face.miller)?;
-    if matches!(model, V0Model::Energy(_)) && !relax.is_none() {
-        return Err(CliError::new(format!(
-            "--relax-d12 {} --relax-d23 {} with --inner-potential-model energy: the relaxation shifts are modelled with a constant V0 only; give --inner-potential-model constant, or no relaxation",
-            a.relax[0], a.relax[1]
-        )));
-    }
     let mut buf = vec![IvPeak::EMPTY; check_max(max)?];
     let mut bulk = vec![IvPeak::EMPTY; buf.len()];
-    let l = match model {
+    // The core's one choice of model and relaxation (it refuses V0(E) with a relaxation).
+    let l = face
+        .iv_peaks_with(a.rod, &inc, &model, lo, hi, &relax, &mut buf)
+        .map_err(|e| match (e, model) {
+            (matterwave_core::Error::RelaxationNeedsConstantV0, _) => CliError::core(
+                e,
+                format_args!(
+                    "--relax-d12 {} --relax-d23 {} with --inner-potential-model energy",
+                    a.relax[0], a.relax[1]
+                ),
+            ),
+            (e, V0Model::Constant(v0)) => CliError::core(e, format_args!("--inner-potential {v0}")),
+            (e, V0Model::Energy(_)) => CliError::core(e, "--inner-potential-model energy"),
+        })?;
+    match model {
         V0Model::Constant(v0) => {
             face.iv_peaks(a.rod, &inc, v0, lo, hi, &mut bulk)
                 .ctx(format_args!("--inner-potential {v0}"))?;
-            face.iv_peaks_relaxed(a.rod, &inc, v0, lo, hi, &relax, &mut buf)
-                .ctx(format_args!("--inner-potential {v0}"))?
         }
-        V0Model::Energy(_) => {
-            let l = face
-                .iv_peaks_model(a.rod, &inc, &model, lo, hi, &mut buf)
-                .ctx("--inner-potential-model energy")?;
-            bulk.copy_from_slice(&buf);
-            l
-        }
-    };
+        V0Model::Energy(_) => bulk.copy_from_slice(&buf),
+    }
     let mut r = Report::default();
     face_fields(&mut r, c, &face);
     r.field(

@@ -164,6 +164,11 @@ pub struct TrackArgs {
     /// when the table has none).
     #[arg(value_parser = crate::calc::ev_or_face, long, value_name = "EV|face")]
     pub inner_potential: Option<crate::calc::EvOrFace>,
+    /// Inner-potential model of the I-V marks: `constant` (the one V0 of
+    /// --inner-potential) or `energy` (the crystal table's V0(E) for the face, where it
+    /// has one).
+    #[arg(value_parser = crate::calc::v0_model_kind, long, value_name = "constant|energy", default_value = "constant")]
+    pub inner_potential_model: matterwave_core::inner::V0ModelKind,
     /// The rig.
     #[command(flatten)]
     pub rig: RigArgs,

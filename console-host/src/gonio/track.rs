@@ -1,6 +1,8 @@
 //! `mwctl calc track`: an energy sweep that follows one beam.
 
 use super::*;
+use matterwave_core::inner::{V0Model, V0ModelKind};
+use matterwave_core::surface::Relaxation;
 
 // ---------------------------------------------------------------------------------------
 // track
@@ -54,9 +56,25 @@ pub fn track(a: &TrackArgs) -> CliResult<Report> {
         None => c.inner_potential_for(face.miller),
     };
     // Kinematic I-V maxima come from bulk reciprocal vectors: integer-order beams only.
-    let v0 = v0.filter(|_| beam.pos.integer().is_some());
-    let iv = match v0 {
-        Some(v) => Some(IvPlan::new(plan, v, start).ctx(format_args!("--inner-potential {v}"))?),
+    let integer = beam.pos.integer().is_some();
+    let model = match a.inner_potential_model {
+        // The energy model needs no constant V0 (the form's own values are used).
+        V0ModelKind::Energy if integer => Some(calc::v0_model(
+            V0ModelKind::Energy,
+            v0.unwrap_or(0.0),
+            c,
+            face.miller,
+        )?),
+        V0ModelKind::Energy => None,
+        V0ModelKind::Constant => v0.filter(|_| integer).map(V0Model::Constant),
+    };
+    let iv = match model {
+        Some(m) => Some(
+            IvPlan::with_model(plan, &m, &Relaxation::NONE, start).ctx(match m {
+                V0Model::Constant(v) => format!("--inner-potential {v}"),
+                V0Model::Energy(_) => "--inner-potential-model energy".to_string(),
+            })?,
+        ),
         None => None,
     };
     let marks: Vec<Option<(f32, f32)>> = match &iv {
@@ -146,9 +164,14 @@ pub fn track(a: &TrackArgs) -> CliResult<Report> {
     }
     r.field("tilt_deg", "tilt (deg)", f(tilt, 3));
     r.field(
+        "inner_potential_model",
+        "inner-potential model of the I-V maxima",
+        text(a.inner_potential_model.name()),
+    );
+    r.field(
         "inner_potential_ev",
         "inner potential for I-V maxima (eV)",
-        Value::opt(iv.as_ref().map(|p| p.inner_potential_ev), 2),
+        Value::opt(iv.as_ref().and_then(|p| p.inner_potential_ev), 2),
     );
     r.field(
         "iv_maxima",

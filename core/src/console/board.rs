@@ -98,8 +98,9 @@ pub struct Scene<'a> {
     pub elevation_deg: f32,
     /// The rig (for the detector acceptance).
     pub rig: &'a Rig,
-    /// The inner potential V0 in use, eV (the set value, else the table's).
-    pub inner_potential_ev: f32,
+    /// The inner-potential model in use (`v0_model`): the constant V0 (the set value,
+    /// else the table's), or the face's V0(E) form.
+    pub inner_potential: crate::inner::V0Model,
     /// The gun's energy offset the console applies (its `offset` setting), eV: part of
     /// `incidence.energy_ev`. A simulator takes it out to find what the hardware alone
     /// delivers.

@@ -124,3 +124,30 @@ impl Face {
         Err(Error::NoConvergence)
     }
 }
+
+impl Face {
+    /// Kinematic I-V peak energies with an inner-potential model and a top-layer
+    /// relaxation, the one choice the console's I-V plan and `mwctl` make: with
+    /// [`V0Model::Constant`] the relaxed maxima of [`Face::iv_peaks_relaxed`]; with
+    /// [`V0Model::Energy`] the maxima of [`Face::iv_peaks_model`], for the
+    /// bulk-terminated face only — a relaxation beside it is
+    /// [`Error::RelaxationNeedsConstantV0`] (its shifts are modelled with one V0).
+    #[allow(clippy::too_many_arguments)]
+    #[inline(never)]
+    pub fn iv_peaks_with(
+        &self,
+        rod: [i32; 2],
+        inc: &Incidence,
+        v0: &V0Model,
+        from_ev: f32,
+        to_ev: f32,
+        relax: &super::Relaxation,
+        out: &mut [IvPeak],
+    ) -> Result<Listing> {
+        match v0 {
+            V0Model::Constant(v) => self.iv_peaks_relaxed(rod, inc, *v, from_ev, to_ev, relax, out),
+            V0Model::Energy(_) if !relax.is_none() => Err(Error::RelaxationNeedsConstantV0),
+            V0Model::Energy(_) => self.iv_peaks_model(rod, inc, v0, from_ev, to_ev, out),
+        }
+    }
+}

@@ -9,8 +9,10 @@
 //!    (with `wrap=1` for a wrapping axis); home and limits; steps per degree, backlash,
 //!    approach and wrap; speed and acceleration; then the zones that are set, in slot
 //!    order;
-//! 3. the setting keys of [`SETTING_KEYS`] on three lines (the gun and inner potential;
-//!    crystal, face, tilt, azimuth, beam and branch; the acceptance), each of which fits
+//! 3. the setting keys of [`SETTING_KEYS`] on four lines (the gun and inner potential;
+//!    crystal, face, tilt, azimuth, beam and branch; the temperature and acceptance; the
+//!    relaxation and the inner-potential model, after the face that may take the model
+//!    back to `constant`), each of which fits
 //!    one request line with its checksum whatever the values
 //!    (`tests/tests/reply_lengths.rs` checks every dump line with every number at its
 //!    longest).

@@ -33,6 +33,7 @@ use crate::console::wire::reply::Echo;
 use crate::console::wire::token::{Args, TokenError, TokenFault, MAX_ARGS};
 use crate::error::{AxisId, Error};
 use crate::goniometer::{Branch, Rig};
+use crate::inner::V0ModelKind;
 
 /// Longest key quoted back, characters (the longest key of the protocol has 15).
 pub(super) const KEY_ECHO: usize = 16;
@@ -82,6 +83,8 @@ pub(super) enum Accepted {
     Bool,
     /// The branch preferences ([`Branch::word`]).
     Branch,
+    /// The inner-potential models ([`V0ModelKind::name`]).
+    V0Models,
     /// A command's usage line from [`COMMANDS`].
     Usage(&'static str),
 }
@@ -102,6 +105,7 @@ impl Accepted {
             Accepted::Approach => Approach::ALL.get(i).map(|a| a.word()),
             Accepted::Bool => BOOL_WORDS.get(i).map(|w| w.0),
             Accepted::Branch => Branch::ALL.get(i).map(|b| b.word()),
+            Accepted::V0Models => V0ModelKind::ALL.get(i).map(|k| k.name()),
         }
     }
 

@@ -256,7 +256,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             arm_deg: ang[0],
             elevation_deg: ang[1],
             rig: &s.rig,
-            inner_potential_ev: s.inner_potential(),
+            inner_potential: s.v0()?,
             energy_offset_ev: s.gun.offset_ev,
         };
         let v = self.detector.read(&scene);

@@ -105,7 +105,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                     branch,
                 )?;
                 if kind == "iv" {
-                    Plan::Iv(IvPlan::relaxed(t, s.inner_potential(), &s.relax, pos)?)
+                    Plan::Iv(IvPlan::with_model(t, &s.v0()?, &s.relax, pos)?)
                 } else {
                     Plan::Track(t)
                 }

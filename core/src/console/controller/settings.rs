@@ -11,6 +11,7 @@ use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::console::wire::token::Args;
 use crate::error::{Error, Quantity};
 use crate::goniometer::{AimRequest, Branch, CheckedRig, Mode, Rig};
+use crate::inner::{self, V0Model, V0ModelKind};
 use crate::lattice::{parse_miller, Miller, System};
 use crate::surface::{Face, Relaxation};
 use crate::table::{self, Crystal};
@@ -42,6 +43,10 @@ pub struct Settings {
     pub branch: Branch,
     /// Top-layer relaxation of the I-V plan's predicted maxima.
     pub relax: Relaxation,
+    /// The inner-potential model of the I-V plan and the detector: a constant V0, or
+    /// the table's V0(E) form for the face (kept only while the face has one and the
+    /// relaxation is 0).
+    pub v0_model: V0ModelKind,
 }
 
 impl Settings {
@@ -62,6 +67,7 @@ impl Settings {
             rig: CheckedRig::new(Rig::bench_default())?,
             branch: Branch::Nearest,
             relax: Relaxation::NONE,
+            v0_model: V0ModelKind::Constant,
         })
     }
 
@@ -96,6 +102,17 @@ impl Settings {
         self.inner_potential_ev
             .or_else(|| self.crystal.inner_potential_for(self.face.miller))
             .unwrap_or(10.0)
+    }
+
+    /// The inner-potential model in use: the constant [`Settings::inner_potential`],
+    /// or the table's V0(E) form for the face (`set` keeps that choice valid, so the
+    /// error, [`Error::NoEnergyForm`], comes only from a hand-built `Settings`).
+    pub(super) fn v0(&self) -> crate::error::Result<V0Model> {
+        inner::model_for(
+            self.v0_model,
+            self.inner_potential(),
+            self.crystal.inner_potential_form_for(self.face.miller),
+        )
     }
 }
 
@@ -136,6 +153,8 @@ pub enum Key {
     RelaxD12,
     /// Relaxation Δd23, percent.
     RelaxD23,
+    /// Inner-potential model: `constant` or `energy`.
+    V0Model,
 }
 
 /// One setting key as the protocol names it.
@@ -162,7 +181,7 @@ const fn k(name: &'static str, key: Key, settable: bool, dump_line: u8) -> Setti
 
 /// Every setting key, in the order `get` prints them and `set` applies them (the
 /// crystal before the face it is read against).
-pub const SETTING_KEYS: [SettingKey; 17] = [
+pub const SETTING_KEYS: [SettingKey; 18] = [
     k("energy", Key::Energy, true, 0),
     k("kinetic", Key::Kinetic, false, 0),
     k("wavelength", Key::Wavelength, false, 0),
@@ -180,6 +199,7 @@ pub const SETTING_KEYS: [SettingKey; 17] = [
     k("branch", Key::Branch, true, 1),
     k("relax_d12", Key::RelaxD12, true, 3),
     k("relax_d23", Key::RelaxD23, true, 3),
+    k("v0_model", Key::V0Model, true, 3),
 ];
 
 /// Lines of the dump that [`SETTING_KEYS`] fill: four, so that each fits one request
@@ -201,6 +221,8 @@ struct SetNotes {
     geometry: bool,
     /// The detector acceptance given with `acceptance=`, degrees.
     acceptance_deg: Option<f32>,
+    /// Whether `v0_model=` was given.
+    v0_model: bool,
 }
 
 /// Applies `key=value` to `s`.
@@ -255,6 +277,14 @@ fn apply(s: &mut Settings, notes: &mut SetNotes, key: Key, v: &str) -> Result<()
         Key::Branch => s.branch = parse_branch(v)?,
         Key::RelaxD12 => s.relax = Relaxation::new(parse_num(v)?, s.relax.d23_pct)?,
         Key::RelaxD23 => s.relax = Relaxation::new(s.relax.d12_pct, parse_num(v)?)?,
+        Key::V0Model => {
+            s.v0_model = V0ModelKind::from_name(v).ok_or_else(|| {
+                Fault::from(Error::BadValue)
+                    .because("no such inner-potential model")
+                    .accepting(Accepted::V0Models)
+            })?;
+            notes.v0_model = true;
+        }
         Key::Kinetic | Key::Wavelength => return Err(Error::UnknownArgument.into()),
     }
     Ok(())
@@ -308,6 +338,7 @@ impl Settings {
             Key::Branch => rw.field_str(n, self.branch.word()),
             Key::RelaxD12 => rw.field_f32_rt(n, self.relax.d12_pct),
             Key::RelaxD23 => rw.field_f32_rt(n, self.relax.d23_pct),
+            Key::V0Model => rw.field_str(n, self.v0_model.name()),
         };
         Ok(())
     }
@@ -398,6 +429,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 GunInput::Offset => "offset",
             })
         })?;
+        let v0_reset = s.check_v0_model(notes.v0_model)?;
         if let Some(a) = notes.acceptance_deg {
             let mut rig = *s.rig.rig();
             rig.acceptance_deg = a;
@@ -416,6 +448,10 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         if temperature_reset {
             rw.field_f32_rt("temperature", s.crystal.temperature_k)
                 .field_str("temperature_from", "table");
+        }
+        if v0_reset {
+            rw.field_str("v0_model", s.v0_model.name())
+                .field_str("v0_model_from", "no_form");
         }
         Ok(None)
     }
@@ -447,5 +483,43 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             s.write_key(key, false, rw)?;
         }
         Ok(None)
+    }
+}
+
+impl Settings {
+    /// Keeps the inner-potential model valid after `set`: `energy` needs the table's
+    /// V0(E) form for the face ([`Error::NoEnergyForm`]) and no relaxation
+    /// ([`Error::RelaxationNeedsConstantV0`]), both refused when `v0_model=` was
+    /// `given`. Otherwise a new crystal or face without a form takes the model back to
+    /// `constant` (true: the `ok` line says so), so that every dump line replays on its
+    /// own; a relaxation given with the model `energy` in place is refused.
+    fn check_v0_model(&mut self, given: bool) -> Result<bool> {
+        if self.v0_model != V0ModelKind::Energy {
+            return Ok(false);
+        }
+        let has_form = self
+            .crystal
+            .inner_potential_form_for(self.face.miller)
+            .is_some();
+        if !has_form {
+            if given {
+                return Err(Fault::from(Error::NoEnergyForm).at("v0_model", "energy"));
+            }
+            self.v0_model = V0ModelKind::Constant;
+            return Ok(true);
+        }
+        if !self.relax.is_none() {
+            let fault = Fault::from(Error::RelaxationNeedsConstantV0);
+            return Err(if given {
+                fault.at("v0_model", "energy")
+            } else {
+                fault.on_key(if self.relax.d12_pct != 0.0 {
+                    "relax_d12"
+                } else {
+                    "relax_d23"
+                })
+            });
+        }
+        Ok(false)
     }
 }

@@ -16,7 +16,8 @@
 //!   lowered by its value there so that it is continuous: A = (g − g₃)/(1 − g₃) with
 //!   g = exp(−θ²/2σ²), g₃ = exp(−9/2);
 //! * L(E) = Σ_n ℓ(E − E_n), E_n the kinematic I-V maxima of the beam's rod
-//!   ([`crate::surface::Face::iv_peaks`]) and ℓ a Lorentzian of half-width Vi, the
+//!   with the console's inner-potential model ([`crate::surface::Face::iv_peaks_model`]:
+//!   a constant V0, or V0(E) when the console's `v0_model=energy`) and ℓ a Lorentzian of half-width Vi, the
 //!   imaginary inner potential (absorption), so of full width 2·Vi in energy (common
 //!   practice, no source), cut at ±10·Vi and lowered by its value there so that it is
 //!   continuous: ℓ(x) = (1/(1 + x²/Vi²) − 1/101)·101/100 for |x| < 10·Vi, else 0;
@@ -33,6 +34,7 @@
 use super::rng::XorShift32;
 use crate::console::board::{Detector, Scene};
 use crate::goniometer::{self, InView};
+use crate::inner::V0Model;
 use crate::math;
 use crate::surface::{Incidence, IvPeak};
 
@@ -195,11 +197,13 @@ impl SimDetector {
         .map_or(0, |l| l.stored);
         let peak = param(self.beam_na, 0.0, big);
         let vi = param(self.absorption_ev, ABSORPTION_MIN_EV, ABSORPTION_MAX_EV);
-        let v0 = param(
-            scene.inner_potential_ev,
-            0.0,
-            crate::constants::INNER_POTENTIAL_MAX_EV,
-        );
+        let v0 = match scene.inner_potential {
+            V0Model::Constant(v) => {
+                V0Model::Constant(param(v, 0.0, crate::constants::INNER_POTENTIAL_MAX_EV))
+            }
+            // The form's values lie in [0, its cap], checked where the console uses them.
+            m @ V0Model::Energy(_) => m,
+        };
         let lo = (e - CUT_HALF_WIDTHS * vi).max(1.0);
         let hi = (e + CUT_HALF_WIDTHS * vi).min(crate::constants::ENERGY_MAX_EV);
         let edge = math::exp(-0.5 * VIEW_SIGMAS * VIEW_SIGMAS);
@@ -209,7 +213,7 @@ impl SimDetector {
             let mut peaks = [IvPeak::EMPTY; PEAKS_MAX];
             let m = scene
                 .face
-                .iv_peaks(v.beam.rod, &inc, v0, lo, hi, &mut peaks)
+                .iv_peaks_model(v.beam.rod, &inc, &v0, lo, hi, &mut peaks)
                 .map_or(0, |l| l.stored);
             let energy: f32 = peaks
                 .iter()
