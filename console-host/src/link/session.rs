@@ -145,6 +145,14 @@ pub fn reply_field<'a>(line: &'a str, key: &str) -> Option<&'a str> {
         .find_map(|w| w.strip_prefix(key)?.strip_prefix('='))
 }
 
+/// Whether `last` is the final line of a `status` reply (it counts the requests): only
+/// such a line can tell that the session's mark is gone. Another `ok` read in its place
+/// (the answer to a `stop` sent on Ctrl-C in the middle of the exchange, say) tells
+/// nothing about a restart.
+fn is_status_reply(last: &str) -> bool {
+    last.starts_with("ok") && reply_field(last, "requests").is_some()
+}
+
 /// Whether a `status` line carries the session mark `id`.
 fn has_mark(status: &str, id: u32) -> bool {
     reply_field(status, "session") == Some(id.to_string().as_str())
@@ -306,7 +314,7 @@ impl<W: Wire> Session<W> {
         self.wire.send(&line).map_err(LinkError::Io)?;
         let mut none = Vec::new();
         if let Ok(Some(last)) = self.collect("status", &mut none, &mut |_| {}) {
-            if !has_mark(&last, id) {
+            if is_status_reply(&last) && !has_mark(&last, id) {
                 self.mark = None;
                 return Err(LinkError::DeviceReset {
                     why: "the session's mark is gone from its status".into(),
@@ -328,7 +336,7 @@ impl<W: Wire> Session<W> {
             return Ok(());
         }
         if let Some(id) = self.mark {
-            if last.starts_with("ok") && !has_mark(last, id) {
+            if is_status_reply(last) && !has_mark(last, id) {
                 self.mark = None;
                 return Err(LinkError::DeviceReset {
                     why: "the session's mark is gone from its status".into(),
