@@ -89,25 +89,8 @@ fn folder(out: Option<&Path>) -> CliResult<PathBuf> {
 }
 
 /// One request that must succeed.
-fn ok<W: Wire>(
-    s: &mut Session<W>,
-    req: &str,
-    log: &mut Vec<(String, Vec<String>)>,
-) -> CliResult<()> {
-    let r = s
-        .request(req)
-        .map_err(|e| CliError::new(format!("demo: `{req}`: {e}")))?;
-    let mut lines = r.items.clone();
-    lines.push(r.last.clone());
-    log.push((req.to_string(), lines));
-    if r.ok() {
-        Ok(())
-    } else {
-        Err(CliError::new(format!(
-            "demo: the simulated controller refused `{req}`: {}",
-            r.last
-        )))
-    }
+fn ok<W: Wire>(s: &mut Session<W>, req: &str) -> CliResult<()> {
+    crate::link::request_ok(s, "demo", req).map(|_| ())
 }
 
 /// Runs `mwctl` with `args` in this process (the same parser and dispatch as the
@@ -211,19 +194,18 @@ pub fn run(format: Format, args: &DemoArgs) -> CliResult<String> {
         hidden: HIDDEN,
     })?);
     let mut s = Session::new(wire);
-    let mut log = Vec::new();
     let rf =
         crate::rig::parse(BENCH_B, "bench-b.toml").map_err(|e| CliError::new(e.to_string()))?;
-    ok(&mut s, "disable", &mut log)?;
+    ok(&mut s, "disable")?;
     for req in crate::rig::console_requests(&rf) {
-        ok(&mut s, &req, &mut log)?;
+        ok(&mut s, &req)?;
     }
     // The rig's axes are new to the controller: declare them at home (the simulated
     // axes stand there; on a real bench, only when they truly do).
     for axis in ["arm", "elevation", "tilt", "azimuth"] {
-        ok(&mut s, &format!("home name={axis}"), &mut log)?;
+        ok(&mut s, &format!("home name={axis}"))?;
     }
-    ok(&mut s, SETUP, &mut log)?;
+    ok(&mut s, SETUP)?;
 
     // Alignment: known beams found, centred and fitted; applied, with a corrected copy
     // of the rig file.
@@ -348,7 +330,7 @@ pub fn run(format: Format, args: &DemoArgs) -> CliResult<String> {
         command: format!("mwctl scan {}", scan_args.join(" ")),
         report: sr,
     });
-    ok(&mut s, "disable", &mut log)?;
+    ok(&mut s, "disable")?;
 
     // The pictures.
     sections.push(align_plot_section);

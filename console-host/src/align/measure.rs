@@ -17,14 +17,7 @@ use std::time::{Duration, Instant};
 
 /// Sends `line` and returns the reply; an `err` reply is an error naming the request.
 pub(super) fn ok<W: Wire>(s: &mut Session<W>, line: &str) -> CliResult<Reply> {
-    let r = try_req(s, line)?;
-    if !r.ok() {
-        return Err(CliError::new(format!(
-            "align: the controller refused `{line}`: {}",
-            r.last
-        )));
-    }
-    Ok(r)
+    crate::link::request_ok(s, "align", line)
 }
 
 /// Sends `line` and returns the reply, `ok` or `err`.

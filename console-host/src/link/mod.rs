@@ -144,3 +144,23 @@ pub fn connect(spec: &LinkSpec) -> CliResult<session::Session<Box<dyn Wire>>> {
         .map_err(|e| CliError::new(format!("{name}: {e}")))?;
     Ok(s)
 }
+
+/// Sends `line` and returns its reply; a lost link and an `err` reply are errors that
+/// name `who` (the command asking, e.g. `align`) and the request. For a command's
+/// requests that must succeed.
+pub fn request_ok<W: Wire>(
+    s: &mut session::Session<W>,
+    who: &str,
+    line: &str,
+) -> CliResult<session::Reply> {
+    let r = s
+        .request(line)
+        .map_err(|e| CliError::new(format!("{who}: `{line}`: {e}")))?;
+    if !r.ok() {
+        return Err(CliError::new(format!(
+            "{who}: the controller refused `{line}`: {}",
+            r.last
+        )));
+    }
+    Ok(r)
+}
