@@ -257,7 +257,8 @@ fn setting_tokens(lines: &[String]) -> impl Iterator<Item = (&str, &str)> {
 /// the file's lines but for setting keys the file's settings lines do not name — a
 /// backup older than those keys — each of which reads back at its value in `factory`
 /// (a factory console's dump); `Err` with what differs otherwise. The rig's lines must
-/// be identical, and so must the settings lines once the absent keys are taken out.
+/// be identical, and so must the settings, key by key (on whichever dump line each
+/// is), once the absent keys are taken out.
 pub fn compare_read_back(
     file: &[String],
     now: &[String],
@@ -276,32 +277,28 @@ pub fn compare_read_back(
     let (_, factory_set) = split_settings(factory);
     let factory_of: std::collections::BTreeMap<&str, &str> = setting_tokens(factory_set).collect();
     let mut absent = Vec::new();
-    let mut kept = Vec::new();
-    for l in now_set {
-        let mut line = String::from("set");
-        for t in l.split(' ').skip(1) {
-            match t.split_once('=') {
-                Some((k, v)) if !named.contains(k) => {
-                    let f = factory_of.get(k).copied();
-                    if f != Some(v) {
-                        let f = f.unwrap_or("(none)");
-                        return Err(format!(
-                            "the file (older than the setting {k}) does not set {k}, and the controller has {k}={v}, not its factory value {f}; set {k}={f} first, or restore a newer backup"
-                        ));
-                    }
-                    absent.push(t.to_string());
+    let mut kept: Vec<&str> = Vec::new();
+    for t in now_set.iter().flat_map(|l| l.split(' ').skip(1)) {
+        match t.split_once('=') {
+            Some((k, v)) if !named.contains(k) => {
+                let f = factory_of.get(k).copied();
+                if f != Some(v) {
+                    let f = f.unwrap_or("(none)");
+                    return Err(format!(
+                        "the file (older than the setting {k}) does not set {k}, and the controller has {k}={v}, not its factory value {f}; set {k}={f} first, or restore a newer backup"
+                    ));
                 }
-                _ => {
-                    line.push(' ');
-                    line.push_str(t);
-                }
+                absent.push(t.to_string());
             }
-        }
-        if line != "set" {
-            kept.push(line);
+            _ => kept.push(t),
         }
     }
-    if kept != file_set {
+    // The settings are compared key by key, not line by line: a newer firmware may
+    // carry a key on another dump line (the beam moved after the overlayer).
+    let mut file_tokens: Vec<&str> = file_set.iter().flat_map(|l| l.split(' ').skip(1)).collect();
+    kept.sort_unstable();
+    file_tokens.sort_unstable();
+    if kept != file_tokens {
         return Err("its settings read back differ from the file's".into());
     }
     Ok(absent)

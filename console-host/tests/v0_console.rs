@@ -132,10 +132,11 @@ fn refusals_and_the_dump() {
     assert_eq!(exchange(&mut c, "set v0_model=energy"), ["ok"]);
     let l = exchange(&mut c, "set relax_d23=2");
     assert!(l[0].starts_with("err 162 relax_d23"), "{l:?}");
-    // The dump carries the model on its last settings line, and replays.
+    // The dump carries the model on its fourth settings line (the overlayer's comes
+    // last), and replays.
     let dump = exchange(&mut c, "dump");
-    let last = &dump[dump.len() - 2];
-    assert_eq!(last, "- set relax_d12=0 relax_d23=0 v0_model=energy");
+    let line = &dump[dump.len() - 3];
+    assert_eq!(line, "- set relax_d12=0 relax_d23=0 v0_model=energy");
     let mut fresh = sim_console().unwrap();
     exchange(&mut fresh, "set crystal=ag");
     for l in &dump[..dump.len() - 1] {

@@ -245,6 +245,12 @@ pub enum Error {
     SuperstructureTooLarge,
     /// Beam text that is not two fractions h,k (denominators 1–99).
     BadFractionalBeam,
+    /// A fractional-order beam that is not a beam of the overlayer set (nor, with its
+    /// domains, of any of its domains).
+    NotOverlayerBeam,
+    /// A fractional-order beam given to a model that holds for integer-order beams only
+    /// (the kinematic I-V maxima, the error budget's lattice term).
+    IntegerBeamsOnly,
 }
 
 impl Error {
@@ -315,6 +321,8 @@ impl Error {
             Error::WoodNotOnMesh => 167,
             Error::SuperstructureTooLarge => 168,
             Error::BadFractionalBeam => 169,
+            Error::NotOverlayerBeam => 170,
+            Error::IntegerBeamsOnly => 171,
         }
     }
 
@@ -455,6 +463,12 @@ impl Error {
             }
             Error::BadFractionalBeam => {
                 "beam must be two numbers h,k, integers or fractions such as 1/2,0 or 1/3,1/3 (denominators 1 to 99)"
+            }
+            Error::NotOverlayerBeam => {
+                "this fractional beam is not a beam of the overlayer (nor of its domains); set the overlayer first, or give a beam of its lattice (the beams list shows them)"
+            }
+            Error::IntegerBeamsOnly => {
+                "modelled for integer-order beams only (I-V maxima and the budget's lattice term vary the bulk cell); give an integer beam, or use aim and plan kind=track for a fractional one"
             }
         }
     }

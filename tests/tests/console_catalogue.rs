@@ -124,7 +124,7 @@ const CATALOGUE: &[Case] = &[
     case("protocol rules: a fractional index (406)", &[], b"zone name=arm i=1.5 from=1 to=2\n", &[406]),
     case("protocol rules: dwell beyond an hour (406)", &[], b"plan kind=sweep from=20 to=30 step=5 dwell=5000\n", &[406]),
     case("protocol rules: unknown words: approach=sideways (407)", &[], b"axis name=arm approach=sideways\n", &[407]),
-    case("protocol rules: unknown words: beam=1 is not h,k (407)", &[], b"set beam=1\n", &[407]),
+    case("protocol rules: beam=1 is not h,k (169)", &[], b"set beam=1\n", &[169]),
     case("protocol rules: unknown words: axis name=gun (407)", &[], b"axis name=gun steps_per_deg=100\n", &[407]),
     case("protocol rules: unknown words: fit kind=foo (407)", &[], b"fit kind=foo\n", &[407]),
     case("protocol rules: unknown words: plan kind=bar (407)", &[], b"plan kind=bar from=1 to=2 step=1\n", &[407]),
@@ -423,7 +423,11 @@ fn boundary_controls_are_accepted() {
     // protocol rules: exactly 120 bytes is accepted ("get" and 117 blanks).
     let line = format!("get{}", " ".repeat(117));
     assert_eq!(line.len(), 120);
-    assert!(request(&mut c, &line).starts_with("ok energy="));
+    let r = request(&mut c, &line);
+    assert!(
+        r.starts_with("- energy=") && r.ends_with("ok count=20\n"),
+        "{r}"
+    );
     // protocol rules: CR, CRLF and LF all end a line; tabs separate.
     assert_eq!(
         feed(&mut c, b"get\tenergy\r\nget energy\rget energy\n")
@@ -752,11 +756,11 @@ const DETAILS: &[Detail] = &[
         "not an integer",
     ),
     detail(
-        "number: syntax (beam index)",
+        "beam: not a fraction (beam index)",
         "set beam=1.5,0",
-        406,
+        169,
         "beam=\"1.5,0\" - ",
-        "not an integer",
+        "integers or fractions such as 1/2,0",
     ),
     detail(
         "number: not finite",
@@ -837,11 +841,25 @@ const DETAILS: &[Detail] = &[
         "usage: fit kind=peak|",
     ),
     detail(
-        "word value",
+        "beam: one index",
         "set beam=1",
-        407,
+        169,
         "beam=\"1\" - ",
-        "two integers h,k",
+        "two numbers h,k",
+    ),
+    detail(
+        "beam: fractional without the overlayer",
+        "set beam=1/2,0",
+        170,
+        "beam=\"1/2,0\" - ",
+        "not a beam of the overlayer",
+    ),
+    detail(
+        "word value",
+        "set domains=both",
+        407,
+        "domains=\"both\" - ",
+        "accepted: one all",
     ),
     detail(
         "table value",

@@ -42,9 +42,12 @@ const CRC_SUFFIX: usize = 5;
 
 /// Fields whose values have a known widest text, bytes: flags (0 or 1), the branch (−1,
 /// 0, +1), zone slots (0 to 3), error codes (three digits), `estimate_s`, and the face
-/// and beam texts at the index limits `set` accepts (|index| ≤ 12 for a face, ≤ 99 for
-/// a beam: `-12,-12,-12`, `-99,-99`).
-const SMALL: [(&str, usize); 8] = [
+/// and beam texts at the limits `set` accepts (|index| ≤ 12 for a face: `-12,-12,-12`;
+/// a beam of two fractions, |h|, |k| ≤ 99 with denominators up to 99 in lowest terms:
+/// `-9800/99,-9799/99`, 17 bytes; an overlayer matrix of four entries ±24 over a
+/// denominator up to 4 in lowest terms: `-23/4,-23/4,-23/4,-23/4`, 23 bytes; the
+/// domains of an overlayer beam, `0,1,…,11`, 26 bytes).
+const SMALL: [(&str, usize); 10] = [
     ("wrap=", 1),
     ("fitted=", 1),
     ("branch=", 2),
@@ -52,7 +55,10 @@ const SMALL: [(&str, usize); 8] = [
     ("err=", 3),
     ("estimate_s=", FIXED_MAX),
     ("face=", 11),
-    ("beam=", 7),
+    ("beam=", 17),
+    ("overlayer=", 23),
+    // The domain indices 0 to 11 of an overlayer beam, comma-separated.
+    ("domains=", 26),
 ];
 
 /// `line` with every number (optional sign, digits, point, exponent) counted at
@@ -288,6 +294,21 @@ fn no_stream_line_outgrows_its_buffer() {
     scripts.push(format!(
         "set crystal={longest_id} face=-12,-11,-10 beam=-10,-11 azimuth=-170.123457"
     ));
+    // An overlayer with its domains on the longest face, and a fractional beam of it;
+    // the overlayer's beams; aim, plans and the two refusals of a fractional beam.
+    scripts.push("set crystal=cu face=1,0,0 energy=150.123457 tilt=20.123457 azimuth=free".into());
+    scripts.push("set overlayer=2,1,-1,3 domains=all beam=3/7,-1/7".into());
+    scripts.push("beams".into());
+    scripts.push("aim".into());
+    scripts.push("plan kind=track from=20.123457 to=300.123457 step=9.87654321".into());
+    scripts.push("plan kind=iv from=20.123457 to=300.123457 step=9.87654321".into());
+    scripts.push("budget".into());
+    scripts.push("get".into());
+    scripts.push("get overlayer".into());
+    scripts.push(format!(
+        "set crystal={longest_id} face=-12,-11,-10 beam=-10,-11 azimuth=-170.123457"
+    ));
+    scripts.push("set overlayer=-23/4,-11/2,-21/4,-5".into());
     scripts.push("dump".into());
     for s in &scripts {
         let lines = stream(&mut c, s, &mut seen);
@@ -336,6 +357,12 @@ fn no_stream_line_outgrows_its_buffer() {
         "- axis name steps_per_deg backlash_deg approach wrap",
         "- axis name max_speed_deg_s accel_deg_s2",
         "- zone name i from to",
+        "- h k exit exit_azimuth row emerge integer domains",
+        "- energy",
+        "- overlayer",
+        "- beam",
+        "ok count",
+        "- set overlayer domains beam",
     ] {
         assert!(
             all.iter().any(|s| s.starts_with(needle)),

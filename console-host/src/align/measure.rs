@@ -62,7 +62,7 @@ pub(super) struct DeviceSettings {
 
 /// Reads `get` into [`DeviceSettings`], building the face with the core.
 pub(super) fn read_settings<W: Wire>(s: &mut Session<W>) -> CliResult<DeviceSettings> {
-    let g = ok(s, "get")?.last;
+    let g = ok(s, "get")?.items_line();
     if text(&g, "azimuth")? != "free" {
         return Err(CliError::new(
             "align: the controller aims two-circle (azimuth set); align measures in-plane: send `set azimuth=free` first (mwctl talk), or give --tilt/--crystal/--face and set azimuth=free",

@@ -31,6 +31,18 @@ impl Reply {
     pub fn ok(&self) -> bool {
         self.last == "ok" || self.last.starts_with("ok ")
     }
+
+    /// The streamed items' fields as one line (each item without its `- `, joined by
+    /// spaces): the settings of a `get` without a key, which streams one item per
+    /// setting, read with [`reply_field`] as one line.
+    pub fn items_line(&self) -> String {
+        let fields: Vec<&str> = self
+            .items
+            .iter()
+            .map(|i| i.strip_prefix("- ").unwrap_or(i))
+            .collect();
+        fields.join(" ")
+    }
 }
 
 /// What a session reports while a request runs.
@@ -123,12 +135,13 @@ pub struct Session<W: Wire> {
 }
 
 /// How many streamed items a final line says came before it: `count=` of the lists
-/// (`help`, `crystals`, `faces`, `beams`, `aim`) and `points=` of the plans. `None` for
+/// (`help`, `crystals`, `faces`, `beams`, `aim`, `get` without a key) and `points=` of
+/// the plans. `None` for
 /// replies that do not say (`dump`, `budget`, single-line replies): for those a lost
 /// item line cannot be told from the final line.
 pub fn announced_items(request: &str, last: &str) -> Option<u64> {
     let key = match request.split_whitespace().next()? {
-        "help" | "crystals" | "faces" | "beams" | "aim" => "count",
+        "help" | "crystals" | "faces" | "beams" | "aim" | "get" => "count",
         "plan" => "points",
         _ => return None,
     };

@@ -157,7 +157,7 @@ pub(super) fn prepare(s: &mut Dev, cfg: &Config) -> CliResult<Prepared> {
     Ok(Prepared {
         pos,
         hello,
-        get: get.last,
+        get: get.items_line(),
         dump,
         points: points_of(&plan.items),
         plan_last: plan.last,

@@ -38,6 +38,7 @@ pub mod domains;
 mod iv;
 mod iv_model;
 pub mod layers;
+mod overlayer_list;
 pub mod relax;
 mod rods;
 mod sorted;
@@ -46,6 +47,7 @@ mod superstructure;
 mod wood;
 
 pub use layers::{AtomicPlanes, MAX_PLANES};
+pub use overlayer_list::{BeamLattices, OverlayerBeams};
 pub use relax::{Relaxation, RELAX_MAX_PCT};
 pub use rods::BeamIter;
 pub use sorted::{SortedBeams, SORTED_WINDOW};
@@ -582,9 +584,7 @@ impl Face {
 
     /// Rod vector g(h, k) in the surface frame at azimuth 0, 1/Å.
     pub fn rod_inv_a(&self, rod: [i32; 2]) -> [f32; 2] {
-        let (h, k) = (rod[0] as f32, rod[1] as f32);
-        let b = &self.recip_2d_inv_a;
-        [h * b[0][0] + k * b[1][0], h * b[0][1] + k * b[1][1]]
+        mesh_g(&self.recip_2d_inv_a, rod[0] as f32, rod[1] as f32)
     }
 
     /// Row spacing 1/|g(h, k)|, Å; `None` for (0, 0).
@@ -600,11 +600,7 @@ impl Face {
 
     /// Rod vector turned by the incidence's azimuth, in the surface frame, 1/Å.
     pub(crate) fn rod_turned(&self, rod: [i32; 2], inc: &Incidence) -> [f32; 2] {
-        let g = self.rod_inv_a(rod);
-        [
-            g[0] * inc.cos_az - g[1] * inc.sin_az,
-            g[0] * inc.sin_az + g[1] * inc.cos_az,
-        ]
+        turned(self.rod_inv_a(rod), inc)
     }
 
     /// The beam on rod (h, k) at `inc`, or `Evanescent`.
@@ -624,7 +620,7 @@ impl Face {
             return Err(Error::IndicesTooLarge);
         }
         let g = self.rod_turned(rod, inc);
-        self.beam_from(rod, g, inc).ok_or(Error::Evanescent)
+        beam_from(rod, g, inc).ok_or(Error::Evanescent)
     }
 
     /// k∥ (surface frame of `inc`, 1/Å) of the beam on rod (h, k) and its square, or
@@ -632,30 +628,6 @@ impl Face {
     /// (no exit angles, no emergence energy), with the same arithmetic.
     pub(crate) fn k_par_of(&self, rod: [i32; 2], inc: &Incidence) -> Option<([f32; 2], f32)> {
         k_par_from(self.rod_turned(rod, inc), inc)
-    }
-
-    pub(crate) fn beam_from(
-        &self,
-        rod: [i32; 2],
-        g: [f32; 2],
-        inc: &Incidence,
-    ) -> Option<SurfaceBeam> {
-        let u = inc.k_inv_a;
-        let ([kx, ky], q) = k_par_from(g, inc)?;
-        let g2 = g[0] * g[0] + g[1] * g[1];
-        let k_par = math::sqrt(q);
-        Some(SurfaceBeam {
-            rod,
-            g_inv_a: math::sqrt(g2),
-            k_par_inv_a: [kx, ky],
-            exit_deg: exit_deg_of(k_par, u),
-            exit_azimuth_deg: if q > 0.0 {
-                math::deg(math::atan2(ky, kx))
-            } else {
-                0.0
-            },
-            emergence_ev: emergence_from(g, g2, inc.sin_tilt),
-        })
     }
 
     /// The outside energy (eV) at which rod (h, k) emerges at this tilt and azimuth
@@ -711,6 +683,41 @@ fn emergence_from(g: [f32; 2], g2: f32, s: f32) -> Option<f32> {
         g2 / (root - sg)
     };
     Some(beam::energy_from_wavenumber_ev(u))
+}
+
+/// g = h·b1 + k·b2 for the reciprocal mesh `b` (rows b1, b2), 1/Å: the one arithmetic of
+/// every rod vector, whole or fractional.
+pub(crate) fn mesh_g(b: &[[f32; 2]; 2], h: f32, k: f32) -> [f32; 2] {
+    [h * b[0][0] + k * b[1][0], h * b[0][1] + k * b[1][1]]
+}
+
+/// A rod vector turned by the incidence's azimuth, in the surface frame, 1/Å.
+pub(crate) fn turned(g: [f32; 2], inc: &Incidence) -> [f32; 2] {
+    [
+        g[0] * inc.cos_az - g[1] * inc.sin_az,
+        g[0] * inc.sin_az + g[1] * inc.cos_az,
+    ]
+}
+
+/// The beam labelled `rod` whose turned rod vector is `g` (1/Å) at `inc`, or `None`
+/// when it is evanescent.
+pub(crate) fn beam_from(rod: [i32; 2], g: [f32; 2], inc: &Incidence) -> Option<SurfaceBeam> {
+    let u = inc.k_inv_a;
+    let ([kx, ky], q) = k_par_from(g, inc)?;
+    let g2 = g[0] * g[0] + g[1] * g[1];
+    let k_par = math::sqrt(q);
+    Some(SurfaceBeam {
+        rod,
+        g_inv_a: math::sqrt(g2),
+        k_par_inv_a: [kx, ky],
+        exit_deg: exit_deg_of(k_par, u),
+        exit_azimuth_deg: if q > 0.0 {
+            math::deg(math::atan2(ky, kx))
+        } else {
+            0.0
+        },
+        emergence_ev: emergence_from(g, g2, inc.sin_tilt),
+    })
 }
 
 /// The one beam order (DEVELOPERS.md): whether `a` is listed before `b` — increasing

@@ -201,6 +201,11 @@ impl Face {
 }
 
 impl BeamIter {
+    /// The incidence the beams are computed at.
+    pub(crate) fn incidence(&self) -> &Incidence {
+        &self.inc
+    }
+
     fn new(face: &Face, inc: &Incidence, disk: Disk, max_g_inv_a: f32) -> BeamIter {
         let radius = disk.radius * (1.0 + EDGE) + EDGE;
         let a1 = face.mesh_2d_a[0];
@@ -284,7 +289,7 @@ impl Iterator for BeamIter {
                 let rod = [self.h, self.k];
                 self.k += 1;
                 let g = self.face.rod_turned(rod, &self.inc);
-                if let Some(b) = self.face.beam_from(rod, g, &self.inc) {
+                if let Some(b) = super::beam_from(rod, g, &self.inc) {
                     let in_band = self
                         .band
                         .is_none_or(|(_, lo, hi)| (lo..=hi).contains(&b.k_par_inv_a[1]));

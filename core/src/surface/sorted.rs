@@ -4,6 +4,7 @@
 //! the size of the list), so the console's `beams` list and `mwctl calc beams` print the
 //! same sequence.
 
+use super::overlayer_list::BeamLattices;
 #[cfg(doc)]
 use super::Face;
 use super::{beam_before, BeamIter, SurfaceBeam};
@@ -29,6 +30,8 @@ pub struct SortedBeams {
     last: Option<SurfaceBeam>,
     /// Whether the window holds every beam still to come.
     complete: bool,
+    /// Only the rods of these lattices are kept (`None`: every rod).
+    keep: Option<BeamLattices>,
 }
 
 impl BeamIter {
@@ -54,11 +57,27 @@ impl BeamIter {
             pos: 0,
             last: None,
             complete: false,
+            keep: None,
+        }
+    }
+
+    /// The same beams in the same order, but only those whose rod lies in one of the
+    /// lattices of `keep` (filtered during each walk, so the window holds kept beams
+    /// only and a `next` still does at most one walk).
+    pub(crate) fn sorted_in(self, keep: BeamLattices) -> SortedBeams {
+        SortedBeams {
+            keep: Some(keep),
+            ..self.sorted()
         }
     }
 }
 
 impl SortedBeams {
+    /// The incidence the beams are computed at.
+    pub(crate) fn incidence(&self) -> &super::Incidence {
+        self.all.incidence()
+    }
+
     /// Walks the search once and keeps the first beams after `last`.
     fn refill(&mut self) {
         let mut stored = 0usize;
@@ -66,6 +85,9 @@ impl SortedBeams {
         // A fresh pass over the search (BeamIter is Copy).
         for b in self.all {
             if self.last.as_ref().is_some_and(|l| !beam_before(l, &b)) {
+                continue;
+            }
+            if self.keep.as_ref().is_some_and(|k| k.domains_of(b.rod) == 0) {
                 continue;
             }
             truncated |= insert_sorted(&mut self.window, &mut stored, b, beam_before);

@@ -255,9 +255,11 @@ impl Face {
             return self.rod_inv_a(r);
         }
         let d = pos.den as f32;
-        let (h, k) = (pos.num[0] as f32 / d, pos.num[1] as f32 / d);
-        let b = &self.recip_2d_inv_a;
-        [h * b[0][0] + k * b[1][0], h * b[0][1] + k * b[1][1]]
+        super::mesh_g(
+            &self.recip_2d_inv_a,
+            pos.num[0] as f32 / d,
+            pos.num[1] as f32 / d,
+        )
     }
 
     /// The beam at fractional position `pos` at `inc` (`rod` holds the numerators for a
@@ -270,12 +272,8 @@ impl Face {
         if let Some(r) = pos.integer() {
             return self.beam(r, inc);
         }
-        let g = self.frac_rod_inv_a(pos);
-        let t = [
-            g[0] * inc.cos_az - g[1] * inc.sin_az,
-            g[0] * inc.sin_az + g[1] * inc.cos_az,
-        ];
-        self.beam_from(pos.num, t, inc).ok_or(Error::Evanescent)
+        let t = super::turned(self.frac_rod_inv_a(pos), inc);
+        super::beam_from(pos.num, t, inc).ok_or(Error::Evanescent)
     }
 }
 

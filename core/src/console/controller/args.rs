@@ -75,20 +75,6 @@ pub(super) fn opt_int(a: &mut Args<'_>, key: &str) -> Result<Option<i32>> {
     keyed(a, key, parse_int)
 }
 
-pub(super) fn parse_rod(s: &str) -> Result<[i32; 2]> {
-    let shape = || Fault::from(Error::BadValue).because("a beam is two integers h,k");
-    let mut it = s.split(',');
-    let h = parse_int(it.next().ok_or_else(shape)?)?;
-    let k = parse_int(it.next().ok_or_else(shape)?)?;
-    if it.next().is_some() {
-        return Err(shape());
-    }
-    if h.abs() > 99 || k.abs() > 99 {
-        return Err(Error::IndicesTooLarge.into());
-    }
-    Ok([h, k])
-}
-
 pub(super) fn parse_bool(s: &str) -> Result<bool> {
     BOOL_WORDS
         .iter()
@@ -153,11 +139,6 @@ pub(super) fn write_point_error<W: Write>(rw: &mut Rw<'_, W>, e: Error) {
 /// Writes `h,k,l` into `buf`.
 pub(super) fn miller_text(m: Miller, buf: &mut [u8; 40]) -> &str {
     join_ints(&m, buf)
-}
-
-/// Writes `h,k` into `buf`.
-pub(super) fn rod_text(r: [i32; 2], buf: &mut [u8; 40]) -> &str {
-    join_ints(&r, buf)
 }
 
 /// Comma-separated integers into `buf` (cut at its end).

@@ -25,10 +25,12 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         check_used(a)?;
         let pos = self.position();
         let s = &self.settings;
+        // The lattice term varies the bulk cell, which a fractional grid is not.
+        let rod = s.integer_beam()?;
         let e = s.gun.kinetic_energy_ev()?;
         let b = budget::arm_budget(
             &s.rig,
-            &s.aim_request(s.beam, e, s.branch),
+            &s.aim_request(rod, e, s.branch),
             &pos,
             &ArmBudgetInputs {
                 energy_spread_ev: spread,

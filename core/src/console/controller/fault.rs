@@ -25,7 +25,7 @@ use embedded_io::Write;
 
 use super::args::BOOL_WORDS;
 use super::axes::{axis_of, AXIS_KEYS};
-use super::settings::SETTING_KEYS;
+use super::settings::{DOMAIN_WORDS, SETTING_KEYS};
 use super::{Rw, COMMANDS, MAX_REPLY};
 use crate::axis::{Approach, MAX_ZONES};
 use crate::console::wire::num::{self, NumError};
@@ -85,6 +85,8 @@ pub(super) enum Accepted {
     Branch,
     /// The inner-potential models ([`V0ModelKind::name`]).
     V0Models,
+    /// The words of `domains=` ([`DOMAIN_WORDS`]).
+    Domains,
     /// A command's usage line from [`COMMANDS`].
     Usage(&'static str),
 }
@@ -106,6 +108,7 @@ impl Accepted {
             Accepted::Bool => BOOL_WORDS.get(i).map(|w| w.0),
             Accepted::Branch => Branch::ALL.get(i).map(|b| b.word()),
             Accepted::V0Models => V0ModelKind::ALL.get(i).map(|k| k.name()),
+            Accepted::Domains => DOMAIN_WORDS.get(i).map(|w| w.0),
         }
     }
 

@@ -98,9 +98,10 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 // The same model as `mwctl calc fit arm-zero`: in-plane arm angle of the
                 // current beam, contact potential from the gun's work functions.
                 let contact = s.gun.cathode_work_function_ev - s.gun.sample_work_function_ev;
+                let (grid, rod) = s.beam_grid(&s.beam)?;
                 let f = fit::arm_zero_in_plane(
-                    &s.face,
-                    s.beam,
+                    &grid,
+                    rod,
                     s.tilt_deg,
                     contact,
                     xy.get(..pts.len()).unwrap_or(&[]),

@@ -3,17 +3,15 @@
 
 use embedded_io::Write;
 
-use super::args::{
-    keyed, parse_branch, parse_num, parse_rod, req_num, req_word, write_point_error,
-};
+use super::args::{keyed, parse_branch, parse_num, req_num, req_word, write_point_error};
 use super::fault::{check_used, Accepted, Fault, Result};
 use super::{Console, Rw, Stream, ANGLE_DECIMALS, ENERGY_DECIMALS, MAX_SOLUTIONS};
 use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::console::wire::token::Args;
 use crate::error::Error;
-use crate::goniometer::{self, Position, Rig, Solution};
+use crate::goniometer::{self, AimRequest, Branch, Position, Rig, Solution};
 use crate::scan::{self, IvPlan, SweepPlan, TrackPlan};
-use crate::surface::Incidence;
+use crate::surface::{Face, FracRod, Incidence};
 
 // No heap to box into: the one running plan lives in place.
 #[allow(clippy::large_enum_variant)]
@@ -41,16 +39,54 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         // Any `aim` that fails leaves no stale solutions behind for `move sol=`.
         self.solutions.clear();
         self.refusals.clear();
-        let rod = keyed(a, "beam", parse_rod)?.unwrap_or(self.settings.beam);
+        let beam = keyed(a, "beam", |v| {
+            let b = FracRod::parse(v)?;
+            self.settings.check_beam(&b)?;
+            Ok(b)
+        })?
+        .unwrap_or(self.settings.beam);
         let branch = keyed(a, "branch", parse_branch)?.unwrap_or(self.settings.branch);
         check_used(a)?;
-        let s = &self.settings;
-        let e = s.gun.kinetic_energy_ev()?;
+        let e = self.settings.gun.kinetic_energy_ev()?;
         let pos = self.position();
+        match beam.integer() {
+            Some(rod) => self.aim_on(None, rod, e, branch, &pos),
+            None => self.aim_fractional(&beam, e, branch, &pos),
+        }
+    }
+
+    /// `aim` at a fractional beam: on the face's [`Face::fractional_grid`], whose whole
+    /// rod `beam.num` it is. Out of line, so that the grid's copy of the face deepens
+    /// only these requests' frames.
+    #[inline(never)]
+    fn aim_fractional(
+        &mut self,
+        beam: &FracRod,
+        energy_ev: f32,
+        branch: Branch,
+        pos: &Position,
+    ) -> Result<Option<Stream>> {
+        let grid = self.settings.face.fractional_grid(beam.den)?;
+        self.aim_on(Some(&grid), beam.num, energy_ev, branch, pos)
+    }
+
+    /// Aims at rod `rod` of `grid` (the settings' face when `None`) and keeps the
+    /// solutions, or the refusals.
+    fn aim_on(
+        &mut self,
+        grid: Option<&Face>,
+        rod: [i32; 2],
+        energy_ev: f32,
+        branch: Branch,
+        pos: &Position,
+    ) -> Result<Option<Stream>> {
         let s = &self.settings;
-        let req = s.aim_request(rod, e, branch);
+        let face = grid.unwrap_or(&s.face);
+        let req = AimRequest::new(face, rod, energy_ev, s.tilt_deg)
+            .with_mode(s.mode())
+            .with_branch(branch);
         let mut out = [Solution::EMPTY; MAX_SOLUTIONS];
-        let l = match goniometer::aim_checked(&s.rig, &req, &pos, &mut out) {
+        let l = match goniometer::aim_checked(&s.rig, &req, pos, &mut out) {
             Ok(l) => l,
             Err(e)
                 if e == Error::Evanescent
@@ -58,7 +94,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                     || e == Error::NoReachableSolution =>
             {
                 // Say everything that stands in the way, then the error.
-                let r = goniometer::refusals_checked(&s.rig, &req, &pos)?;
+                let r = goniometer::refusals_checked(&s.rig, &req, pos)?;
                 self.refusals = r;
                 self.errors = self.errors.saturating_add(1);
                 return Ok(Some(Stream::Refused(0)));
@@ -92,10 +128,15 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         let s = &self.settings;
         let plan = match kind {
             "track" | "iv" => {
+                if kind == "iv" {
+                    // The kinematic I-V maxima are those of the bulk's integer rods.
+                    s.integer_beam()?;
+                }
+                let (grid, rod) = s.beam_grid(&s.beam)?;
                 let t = TrackPlan::new(
                     *s.rig,
-                    s.face,
-                    s.beam,
+                    grid,
+                    rod,
                     s.gun,
                     from,
                     to,

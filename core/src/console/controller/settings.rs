@@ -3,7 +3,7 @@
 
 use embedded_io::Write;
 
-use super::args::{miller_text, parse_branch, parse_num, parse_rod, rod_text};
+use super::args::{miller_text, parse_branch, parse_num};
 use super::fault::{check_used, check_used_or, Accepted, Fault, Result};
 use super::{Console, Rw, Stream};
 use crate::beam::{self, Gun, GunInput};
@@ -13,7 +13,8 @@ use crate::error::{Error, Quantity};
 use crate::goniometer::{AimRequest, Branch, CheckedRig, Mode, Rig};
 use crate::inner::{self, V0Model, V0ModelKind};
 use crate::lattice::{parse_miller, Miller, System};
-use crate::surface::{Face, Relaxation};
+use crate::surface::domains::{self, Domain, MAX_DOMAINS};
+use crate::surface::{BeamLattices, Face, FracRod, Relaxation, Superstructure};
 use crate::table::{self, Crystal};
 
 /// Every setting the console keeps (what `dump` saves and `reset` restores).
@@ -35,8 +36,9 @@ pub struct Settings {
     pub tilt_deg: f32,
     /// Sample azimuth for two-circle aiming, degrees; `None` = in-plane mode.
     pub azimuth_deg: Option<f32>,
-    /// The beam (rod) `aim` and the plans use.
-    pub beam: [i32; 2],
+    /// The beam `aim` and the plans use: a whole rod, or a fractional-order beam of
+    /// the overlayer.
+    pub beam: FracRod,
     /// Axes and detector acceptance, checked whenever they change.
     pub rig: CheckedRig,
     /// Branch preference of `aim`, `budget` and the plans.
@@ -47,6 +49,13 @@ pub struct Settings {
     /// the table's V0(E) form for the face (kept only while the face has one and the
     /// relaxation is 0).
     pub v0_model: V0ModelKind,
+    /// The overlayer (a superstructure on the face's mesh, kept as its matrix), or
+    /// `None` for the bare face. Its beams are those `beams` lists and a fractional
+    /// `beam=` must be one of.
+    pub overlayer: Option<Superstructure>,
+    /// Whether the overlayer's rotational and mirror domains (from the mesh's point
+    /// group) count with it: `domains=all` (true) or `one`.
+    pub domains: bool,
 }
 
 impl Settings {
@@ -63,11 +72,13 @@ impl Settings {
             face,
             tilt_deg: 20.0,
             azimuth_deg: None,
-            beam: [0, 0],
+            beam: FracRod::whole([0, 0]),
             rig: CheckedRig::new(Rig::bench_default())?,
             branch: Branch::Nearest,
             relax: Relaxation::NONE,
             v0_model: V0ModelKind::Constant,
+            overlayer: None,
+            domains: false,
         })
     }
 
@@ -102,6 +113,60 @@ impl Settings {
         self.inner_potential_ev
             .or_else(|| self.crystal.inner_potential_for(self.face.miller))
             .unwrap_or(10.0)
+    }
+
+    /// The lattices of the overlayer's beams (with its domains when `domains` is
+    /// set), or `None` without an overlayer.
+    pub(super) fn lattices(&self) -> crate::error::Result<Option<BeamLattices>> {
+        let Some(sup) = self.overlayer else {
+            return Ok(None);
+        };
+        let mut doms = [Domain::EMPTY; MAX_DOMAINS];
+        let n = if self.domains {
+            domains::domains(&self.face, &sup, &mut doms)
+        } else {
+            1
+        };
+        if !self.domains {
+            if let Some(d) = doms.first_mut() {
+                d.sup = sup;
+            }
+        }
+        let mut sups = [Superstructure::IDENTITY; MAX_DOMAINS];
+        for (d, s) in sups.iter_mut().zip(doms.iter()) {
+            *d = s.sup;
+        }
+        BeamLattices::new(sups.get(..n).unwrap_or(&[])).map(Some)
+    }
+
+    /// The face whose whole rods hold `pos` and the rod there: the face itself and the
+    /// rod for a whole position, else [`Face::fractional_grid`] of its denominator and
+    /// its numerators (the grid `mwctl calc aim` and `calc track` use).
+    pub(super) fn beam_grid(&self, pos: &FracRod) -> crate::error::Result<(Face, [i32; 2])> {
+        match pos.integer() {
+            Some(r) => Ok((self.face, r)),
+            None => Ok((self.face.fractional_grid(pos.den)?, pos.num)),
+        }
+    }
+
+    /// The current beam as a whole rod: `Err(IntegerBeamsOnly)` for a fractional one
+    /// (for the models of integer-order beams only).
+    pub(super) fn integer_beam(&self) -> Result<[i32; 2]> {
+        self.beam
+            .integer()
+            .ok_or_else(|| Fault::from(Error::IntegerBeamsOnly).on_key("beam"))
+    }
+
+    /// Checks that `pos` is a beam the console may aim at: a whole rod, or a
+    /// fractional beam of the overlayer's lattices ([`Error::NotOverlayerBeam`]).
+    pub(super) fn check_beam(&self, pos: &FracRod) -> crate::error::Result<()> {
+        if pos.integer().is_some() {
+            return Ok(());
+        }
+        match self.lattices()? {
+            Some(l) if l.domains_at(pos) != 0 => Ok(()),
+            _ => Err(Error::NotOverlayerBeam),
+        }
     }
 
     /// The inner-potential model in use: the constant [`Settings::inner_potential`],
@@ -155,6 +220,10 @@ pub enum Key {
     RelaxD23,
     /// Inner-potential model: `constant` or `energy`.
     V0Model,
+    /// Overlayer: `none`, a matrix or Wood notation.
+    Overlayer,
+    /// Whether the overlayer's domains count: `one` or `all`.
+    Domains,
 }
 
 /// One setting key as the protocol names it.
@@ -181,7 +250,7 @@ const fn k(name: &'static str, key: Key, settable: bool, dump_line: u8) -> Setti
 
 /// Every setting key, in the order `get` prints them and `set` applies them (the
 /// crystal before the face it is read against).
-pub const SETTING_KEYS: [SettingKey; 18] = [
+pub const SETTING_KEYS: [SettingKey; 20] = [
     k("energy", Key::Energy, true, 0),
     k("kinetic", Key::Kinetic, false, 0),
     k("wavelength", Key::Wavelength, false, 0),
@@ -194,23 +263,33 @@ pub const SETTING_KEYS: [SettingKey; 18] = [
     k("face", Key::Face, true, 1),
     k("tilt", Key::Tilt, true, 1),
     k("azimuth", Key::Azimuth, true, 1),
-    k("beam", Key::Beam, true, 1),
     k("acceptance", Key::Acceptance, true, 2),
     k("branch", Key::Branch, true, 1),
     k("relax_d12", Key::RelaxD12, true, 3),
     k("relax_d23", Key::RelaxD23, true, 3),
     k("v0_model", Key::V0Model, true, 3),
+    k("overlayer", Key::Overlayer, true, 4),
+    k("domains", Key::Domains, true, 4),
+    k("beam", Key::Beam, true, 4),
 ];
 
-/// Lines of the dump that [`SETTING_KEYS`] fill: four, so that each fits one request
+/// The words of `domains=`: the overlayer alone, or with its domains.
+pub(super) const DOMAIN_WORDS: [(&str, bool); 2] = [("one", false), ("all", true)];
+
+/// Lines of the dump that [`SETTING_KEYS`] fill: five, so that each fits one request
 /// line with its checksum at the longest values `set` accepts (every number at 15
-/// bytes, face and beam at their index limits; `tests/tests/reply_lengths.rs`). The
-/// branch stays on the line with the azimuth, which it depends on.
-pub(super) const SETTING_DUMP_LINES: u8 = 4;
+/// bytes, face, overlayer and beam at their limits; `tests/tests/reply_lengths.rs`).
+/// The branch stays on the line with the azimuth, which it depends on; the beam comes
+/// last, after the face and the overlayer it must belong to.
+pub(super) const SETTING_DUMP_LINES: u8 = 5;
 
 /// What `set` changed besides the fields it was given.
 #[derive(Default)]
-struct SetNotes {
+struct SetNotes<'a> {
+    /// The text given with `overlayer=` (read once the face is known).
+    overlayer: Option<&'a str>,
+    /// The text given with `beam=`.
+    beam: Option<&'a str>,
     /// Miller indices given with `face=`.
     miller: Option<Miller>,
     /// Whether `crystal=` was given.
@@ -226,7 +305,7 @@ struct SetNotes {
 }
 
 /// Applies `key=value` to `s`.
-fn apply(s: &mut Settings, notes: &mut SetNotes, key: Key, v: &str) -> Result<()> {
+fn apply<'a>(s: &mut Settings, notes: &mut SetNotes<'a>, key: Key, v: &'a str) -> Result<()> {
     match key {
         Key::Energy => s.gun.nominal_ev = parse_num(v)?,
         Key::Cathode => s.gun.cathode_work_function_ev = beam::check_work_function(parse_num(v)?)?,
@@ -272,7 +351,22 @@ fn apply(s: &mut Settings, notes: &mut SetNotes, key: Key, v: &str) -> Result<()
                 Some(x)
             }
         }
-        Key::Beam => s.beam = parse_rod(v)?,
+        Key::Beam => {
+            s.beam = FracRod::parse(v)?;
+            notes.beam = Some(v);
+        }
+        Key::Overlayer => notes.overlayer = Some(v),
+        Key::Domains => {
+            s.domains = DOMAIN_WORDS
+                .iter()
+                .find(|(w, _)| *w == v)
+                .map(|(_, b)| *b)
+                .ok_or_else(|| {
+                    Fault::from(Error::BadValue)
+                        .because("not a domains word")
+                        .accepting(Accepted::Domains)
+                })?;
+        }
         Key::Acceptance => notes.acceptance_deg = Some(parse_num(v)?),
         Key::Branch => s.branch = parse_branch(v)?,
         Key::RelaxD12 => s.relax = Relaxation::new(parse_num(v)?, s.relax.d23_pct)?,
@@ -331,9 +425,21 @@ impl Settings {
                 None => rw.field_str(n, "free"),
             },
             Key::Beam => {
-                let mut b = [0u8; 40];
-                rw.field_str(n, rod_text(self.beam, &mut b))
+                let mut b: heapless::String<40> = heapless::String::new();
+                // 40 bytes hold any beam `set` accepts (two fractions of ±9801/99).
+                let _ = self.beam.write_to(&mut b);
+                rw.field_str(n, &b)
             }
+            Key::Overlayer => match self.overlayer {
+                None => rw.field_str(n, "none"),
+                Some(o) => {
+                    let mut b: heapless::String<40> = heapless::String::new();
+                    // 40 bytes hold any matrix (four entries of ±24/4 at most 5 bytes).
+                    let _ = o.write_to(&mut b);
+                    rw.field_str(n, &b)
+                }
+            },
+            Key::Domains => rw.field_str(n, if self.domains { "all" } else { "one" }),
             Key::Acceptance => rw.field_f32_rt(n, self.rig.acceptance_deg),
             Key::Branch => rw.field_str(n, self.branch.word()),
             Key::RelaxD12 => rw.field_f32_rt(n, self.relax.d12_pct),
@@ -430,6 +536,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             })
         })?;
         let v0_reset = s.check_v0_model(notes.v0_model)?;
+        let (overlayer_reset, beam_reset) = s.check_overlayer(&self.settings, &notes)?;
         if let Some(a) = notes.acceptance_deg {
             let mut rig = *s.rig.rig();
             rig.acceptance_deg = a;
@@ -453,10 +560,19 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             rw.field_str("v0_model", s.v0_model.name())
                 .field_str("v0_model_from", "no_form");
         }
+        if overlayer_reset {
+            rw.field_str("overlayer", "none")
+                .field_str("overlayer_from", "new_face");
+        }
+        if beam_reset {
+            rw.field_str("beam", "0,0")
+                .field_str("beam_from", "overlayer");
+        }
         Ok(None)
     }
 
-    /// `get [key]`: one setting, or all of them in table order.
+    /// `get [key]`: one setting on the `ok` line, or all of them streamed, one item each
+    /// in table order.
     pub(super) fn cmd_get<W: Write>(
         &mut self,
         a: &mut Args<'_>,
@@ -472,16 +588,16 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                     .accepting(Accepted::GetKeys));
             }
         }
-        let s = self.settings;
-        // Fails early (before `ok`) when the gun settings give no valid energy.
+        let s = &self.settings;
+        // Fails early (before `ok` or the first item) when the gun settings give no
+        // valid energy.
         s.gun.kinetic_energy_ev()?;
+        let Some(key) = want.and_then(|w| SETTING_KEYS.iter().find(|k| k.name == w)) else {
+            // Every setting, one item each: no single line holds them all.
+            return Ok(Some(Stream::Get(0)));
+        };
         rw.ok();
-        for key in SETTING_KEYS
-            .iter()
-            .filter(|k| want.is_none_or(|w| w == k.name))
-        {
-            s.write_key(key, false, rw)?;
-        }
+        s.write_key(key, false, rw)?;
         Ok(None)
     }
 }
@@ -521,5 +637,52 @@ impl Settings {
             });
         }
         Ok(false)
+    }
+}
+
+impl Settings {
+    /// Keeps the overlayer and the beam valid after `set` (`old`: the settings before
+    /// it). `overlayer=` is read on the new face (Wood notation maps to a matrix there);
+    /// a new crystal or face without it takes the overlayer back to `none` (true first:
+    /// the `ok` line says so). A fractional beam must be one of the overlayer's
+    /// ([`Error::NotOverlayerBeam`], refused when `beam=` was given); one that no longer
+    /// is goes back to the specular beam (true second).
+    fn check_overlayer(&mut self, old: &Settings, notes: &SetNotes<'_>) -> Result<(bool, bool)> {
+        let mut overlayer_reset = false;
+        match notes.overlayer {
+            Some("none") => self.overlayer = None,
+            Some(t) => {
+                self.overlayer = Some(
+                    Superstructure::parse(t, &self.face)
+                        .map_err(|e| Fault::from(e).at("overlayer", t))?,
+                );
+            }
+            None => {
+                let new_face =
+                    self.face.miller != old.face.miller || self.crystal.id != old.crystal.id;
+                if new_face && self.overlayer.is_some() {
+                    self.overlayer = None;
+                    overlayer_reset = true;
+                }
+            }
+        }
+        // The grid of the overlayer's beams must be one a beam can name (checked here,
+        // so that `beams` and `aim` never meet a lattice they cannot list).
+        self.lattices().map_err(|e| {
+            let f = Fault::from(e);
+            match notes.overlayer {
+                Some(t) => f.at("overlayer", t),
+                None => f.on_key("domains"),
+            }
+        })?;
+        let mut beam_reset = false;
+        if let Err(e) = self.check_beam(&self.beam) {
+            if let Some(v) = notes.beam {
+                return Err(Fault::from(e).at("beam", v));
+            }
+            self.beam = FracRod::whole([0, 0]);
+            beam_reset = true;
+        }
+        Ok((overlayer_reset, beam_reset))
     }
 }

@@ -1,6 +1,7 @@
 //! The running stream: what each `poll` writes for help, the crystal and face lists,
 //! beams, aim solutions, plan points and the dump.
 
+use core::fmt::Write as _;
 use embedded_io::Write;
 
 use super::args::{miller_text, write_refusal};
@@ -8,7 +9,7 @@ use super::fault::Accepted;
 use super::fault::Result;
 use super::fault::{write_err, Fault};
 use super::plan::PlanRun;
-use super::settings::Settings;
+use super::settings::{Settings, SETTING_KEYS};
 use super::{
     Console, Rw, ANGLE_DECIMALS, COMMANDS, ENERGY_DECIMALS, LENGTH_DECIMALS, MAX_SOLUTIONS,
     RESIDUAL_DECIMALS,
@@ -17,7 +18,7 @@ use crate::budget::ArmBudget;
 use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::goniometer::{Refusals, Solution};
 use crate::lattice::System;
-use crate::surface::{Incidence, SortedBeams};
+use crate::surface::{Incidence, OverlayerBeams, SortedBeams};
 use crate::table;
 
 /// What a stream reads besides its own state: borrowed from the console beside it.
@@ -37,6 +38,11 @@ pub(super) enum Stream {
     Faces(u8),
     /// The beams, the count so far, and the |g| limit when it cuts the list.
     Beams(SortedBeams, u32, Option<f32>),
+    /// The overlayer's beams (with its domains), the count so far, and the |g| limit
+    /// when it cuts the list.
+    Overlayer(OverlayerBeams, u32, Option<f32>),
+    /// `get` without a key: the next entry of [`SETTING_KEYS`].
+    Get(u8),
     Aim(u8),
     Refused(u8),
     Plan(PlanRun),
@@ -52,19 +58,24 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
         let e = s.gun.kinetic_energy_ev()?;
         let inc = Incidence::new(e, s.tilt_deg, s.azimuth_deg.unwrap_or(0.0))?;
         let f = &s.face;
-        let g_max =
-            crate::math::sqrt(BEAM_LIST_RODS as f32 / (core::f32::consts::PI * f.area_a2()));
+        // With an overlayer the disk holds about as many rods of its beams' grid (of
+        // 1/den in h and k, den² rods per substrate cell), so that a walk costs the same.
+        let lattices = s.lattices()?;
+        let den = lattices.map_or(1, |l| l.den()) as f32;
+        let g_max = crate::math::sqrt(
+            BEAM_LIST_RODS as f32 / (core::f32::consts::PI * f.area_a2() * den * den),
+        );
         let cut = (!f.covers_all(&inc, g_max)).then_some(g_max);
-        Ok(Some(Stream::Beams(
-            f.beams_within(&inc, g_max).sorted(),
-            0,
-            cut,
-        )))
+        Ok(Some(match lattices {
+            None => Stream::Beams(f.beams_within(&inc, g_max).sorted(), 0, cut),
+            Some(l) => Stream::Overlayer(OverlayerBeams::new(f, &inc, l, g_max)?, 0, cut),
+        }))
     }
 }
 
 /// About how many rods the `beams` list searches: the disk of |g| it lists has this
-/// many mesh cells of the reciprocal lattice.
+/// many mesh cells of the reciprocal lattice (with an overlayer: of the grid its beams
+/// lie on).
 pub const BEAM_LIST_RODS: u32 = 400;
 
 impl Stream {
@@ -155,6 +166,60 @@ impl Stream {
                     if let Some(g) = cut {
                         rw.field_i32("truncated", 1).field_f32_rt("g_max", *g);
                     }
+                    false
+                }
+            },
+            Stream::Overlayer(iter, n, cut) => match iter.next() {
+                Some(b) => {
+                    rw.item();
+                    for (name, i) in [("h", 0), ("k", 1)] {
+                        let mut t: heapless::String<24> = heapless::String::new();
+                        // 24 bytes hold any reduced component (±9801/99 at most).
+                        let _ = match b.pos.reduced(i) {
+                            (v, 1) => write!(t, "{v}"),
+                            (v, d) => write!(t, "{v}/{d}"),
+                        };
+                        rw.field_str(name, &t);
+                    }
+                    rw.field_f32("exit", b.beam.exit_deg, ANGLE_DECIMALS)
+                        .field_f32("exit_azimuth", b.beam.exit_azimuth_deg, ANGLE_DECIMALS);
+                    if let Some(d) = b.beam.row_spacing_a() {
+                        rw.field_f32("row", d, LENGTH_DECIMALS);
+                    }
+                    if let Some(e) = b.beam.emergence_ev {
+                        rw.field_f32("emerge", e, ENERGY_DECIMALS);
+                    }
+                    rw.field_i32("integer", b.integer as i32);
+                    let mut t: heapless::String<32> = heapless::String::new();
+                    // Domain indices 0 to 11, comma-separated: at most 26 bytes.
+                    for d in (0..16).filter(|d| b.domains & (1 << d) != 0) {
+                        let sep = if t.is_empty() { "" } else { "," };
+                        let _ = write!(t, "{sep}{d}");
+                    }
+                    rw.field_str("domains", &t);
+                    *n = n.saturating_add(1);
+                    true
+                }
+                None => {
+                    rw.ok().field_i32("count", *n as i32);
+                    if let Some(g) = cut {
+                        rw.field_i32("truncated", 1).field_f32_rt("g_max", *g);
+                    }
+                    false
+                }
+            },
+            Stream::Get(i) => match SETTING_KEYS.get(usize::from(*i)) {
+                Some(key) => {
+                    rw.item();
+                    if ctx.settings.write_key(key, false, rw).is_err() {
+                        // Only the gun's energy can fail, and `get` checks it first.
+                        rw.field_str(key.name, "invalid");
+                    }
+                    *i = i.saturating_add(1);
+                    true
+                }
+                None => {
+                    rw.ok().field_i32("count", SETTING_KEYS.len() as i32);
                     false
                 }
             },
