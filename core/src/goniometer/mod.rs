@@ -32,6 +32,7 @@ use crate::listing::{insert_sorted, Listing};
 
 mod resolve;
 mod screen;
+pub(crate) mod super_view;
 
 use crate::math::{self, Vec3};
 use crate::surface::{Face, Incidence, SurfaceBeam};
@@ -43,6 +44,7 @@ pub use screen::{
     check_gun_shadow, gun_shadowed, Landing, Screen, Spot, Spots, GUN_SHADOW_MAX_DEG,
     SCREEN_LENGTH_MAX_MM,
 };
+pub use super_view::{super_beams_in_view, super_nearest_in_view, SuperInView};
 
 /// Index of each axis in a step-count array `[i32; 4]`.
 pub const fn axis_index(id: AxisId) -> usize {
@@ -622,13 +624,41 @@ pub fn nearest_in_view(
     let better = |v: &InView, b: &InView| {
         v.offset_deg < b.offset_deg || (v.offset_deg == b.offset_deg && v.beam.rod < b.beam.rod)
     };
+    Ok(nearest_by(
+        face,
+        inc,
+        d,
+        (centre, radius0),
+        view,
+        |v| v.offset_deg,
+        better,
+    ))
+}
+
+/// The search of [`nearest_in_view`] on the rods of `face`, for any view of its beams:
+/// `view` maps a beam of `face` to what the detector along `d` sees of it (or `None`
+/// outside the acceptance), `offset` gives that view's angle from the detector axis
+/// (degrees) and `better` picks between two views. `disk` is [`view_disk`]'s for the
+/// acceptance (radius ≥ 0). The rods next to the nearest lattice point give a first
+/// candidate at offset θ, and only the disk of k∥ within 2k·sin(θ/2) of the detector's
+/// (where every nearer beam must lie) is searched.
+fn nearest_by<T: Copy>(
+    face: &Face,
+    inc: &Incidence,
+    d: Vec3,
+    disk: ([f32; 2], f32),
+    view: impl Fn(SurfaceBeam) -> Option<T>,
+    offset: impl Fn(&T) -> f32,
+    better: impl Fn(&T, &T) -> bool,
+) -> Option<T> {
+    let (centre, radius0) = disk;
     let seed = face.rod_nearest(inc, centre);
-    let mut best: Option<InView> = None;
+    let mut best: Option<T> = None;
     for dh in -1..=1 {
         for dk in -1..=1 {
             let rod = [seed[0].saturating_add(dh), seed[1].saturating_add(dk)];
-            if let Some(v) = face.beam(rod, inc).ok().and_then(view) {
-                if best.is_none_or(|b| better(&v, &b)) {
+            if let Some(v) = face.beam(rod, inc).ok().and_then(&view) {
+                if best.as_ref().is_none_or(|b| better(&v, b)) {
                     best = Some(v);
                 }
             }
@@ -636,16 +666,16 @@ pub fn nearest_in_view(
     }
     // Every beam nearer than the best seed lies in this disk. The seed itself is kept:
     // on a beam the disk shrinks to the rounding of k∥, which may leave it outside.
-    let radius = match best {
-        Some(b) => view_disk(inc, d, b.offset_deg).1 * (1.0 + 1.0e-4) + 1.0e-6,
+    let radius = match &best {
+        Some(b) => view_disk(inc, d, offset(b)).1 * (1.0 + 1.0e-4) + 1.0e-6,
         None => radius0,
     };
-    for v in face.beams_near(inc, centre, radius).filter_map(view) {
-        if best.is_none_or(|b| better(&v, &b)) {
+    for v in face.beams_near(inc, centre, radius).filter_map(&view) {
+        if best.as_ref().is_none_or(|b| better(&v, b)) {
             best = Some(v);
         }
     }
-    Ok(best)
+    best
 }
 
 /// Arm angle (degrees) of a bulk Bragg reflection in the scattering plane:
