@@ -1,8 +1,7 @@
 //! Tests of superstructure beams in view.
 //!
-//! Sources: the lattice constants are those of the crystal table (Ni a = 3.524 Å,
-//! Cu a = 3.615 Å, Si a = 5.431 Å; Kittel, "Introduction to Solid State Physics",
-//! table of lattice constants); the patterns — Ni(100) p(2×2)-O with its half-order
+//! Sources: the lattice constants are the crystal table's values (Ni a = 3.524 Å,
+//! Cu a = 3.615 Å, Si a = 5.431 Å; tables/crystals.toml cites them); the patterns — Ni(100) p(2×2)-O with its half-order
 //! beams, the two-domain (2×1) of Si(100) with (1/2, 0) from one domain and (0, 1/2)
 //! from the other — as in M. A. Van Hove, W. H. Weinberg, C.-M. Chan, "Low-Energy
 //! Electron Diffraction" (Springer 1986), and K. Oura et al., "Surface Science: An

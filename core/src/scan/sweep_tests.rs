@@ -1,7 +1,7 @@
 //! Tests of the arm sweep with an overlayer.
 //!
-//! Sources: Ni a = 3.524 Å (the crystal table; Kittel, "Introduction to Solid State
-//! Physics", table of lattice constants); the p(2×2)-O pattern on Ni(100) with its
+//! Sources: Ni a = 3.524 Å and Si a = 5.431 Å (the crystal table's values,
+//! tables/crystals.toml cites them); the p(2×2)-O pattern on Ni(100) with its
 //! half-order beams as in M. A. Van Hove, W. H. Weinberg, C.-M. Chan, "Low-Energy
 //! Electron Diffraction" (Springer 1986); λ(E) = hc/√(E(E + 2mc²)) with CODATA 2018
 //! hc and mc².
