@@ -36,7 +36,8 @@
 //! assert!(out[0].offset_deg < 0.01 && !out[0].beam.integer);
 //! ```
 
-use super::{detector_direction, nearest_by, seen_from, view_disk};
+use super::detector_direction;
+use super::view::{nearest_by, seen_from, view_disk};
 use crate::error::{finite, Error, Quantity, Result};
 use crate::listing::{insert_sorted, Listing};
 use crate::math::{self, Vec3};

@@ -233,21 +233,20 @@ impl SweepPlan {
         )
         .ok()
         .flatten();
-        let mut sups = [Superstructure::IDENTITY; MAX_DOMAINS];
-        let n = p.supers(&mut sups);
-        let super_in_view = match sups.get(..n) {
-            Some(supers) if n > 0 => goniometer::super_nearest_in_view(
+        let super_in_view = p.overlayer.and_then(|o| {
+            let mut sups = [Superstructure::IDENTITY; MAX_DOMAINS];
+            let n = o.supers(&p.face, &mut sups);
+            goniometer::super_nearest_in_view(
                 &p.face,
-                supers,
+                sups.get(..n)?,
                 &p.incidence,
                 arm,
                 p.elevation_deg,
                 p.rig.acceptance_deg,
             )
             .ok()
-            .flatten(),
-            _ => None,
-        };
+            .flatten()
+        });
         SweepPoint {
             index: i,
             arm_deg: arm,
