@@ -397,6 +397,8 @@ pub enum Calc {
 }
 
 /// The outcome of reading the command line.
+// Made once per run and matched at once: boxing the command line would save nothing.
+#[allow(clippy::large_enum_variant)]
 #[derive(Debug)]
 pub enum Parsed {
     /// A command to run.

@@ -24,12 +24,14 @@
 //! ```
 
 use crate::beam::Gun;
-use crate::error::{finite, AxisId, Error, Quantity, Result};
-use crate::goniometer::{self, AimRequest, Branch, InView, Mode, Position, Rig, Solution};
+use crate::error::{finite, Error, Quantity, Result};
+use crate::goniometer::{self, AimRequest, Branch, Mode, Position, Rig, Solution};
 use crate::inner::V0Model;
-use crate::listing::{insert_sorted, Listing};
 use crate::math;
 use crate::surface::{Face, Incidence, IvPeak, Relaxation};
+
+mod sweep;
+pub use sweep::{SweepIter, SweepPlan, SweepPoint};
 
 /// Most points one plan may have.
 pub const MAX_POINTS: u32 = 100_000;
@@ -207,168 +209,6 @@ impl Iterator for TrackIter<'_> {
     fn size_hint(&self) -> (usize, Option<usize>) {
         let n = (self.plan.count - self.next) as usize;
         (n, Some(n))
-    }
-}
-
-/// An arm sweep at fixed energy, tilt, azimuth and elevation.
-#[derive(Clone, Copy, Debug, PartialEq)]
-pub struct SweepPlan {
-    /// The instrument.
-    pub rig: Rig,
-    /// The face.
-    pub face: Face,
-    /// Incidence (energy at the sample, tilt, azimuth).
-    pub incidence: Incidence,
-    /// Detector elevation during the sweep, degrees.
-    pub elevation_deg: f32,
-    /// First arm angle, degrees.
-    pub from_deg: f32,
-    /// Arm step, degrees (positive).
-    pub step_deg: f32,
-    count: u32,
-}
-
-/// One point of an arm sweep.
-#[derive(Clone, Copy, Debug, PartialEq)]
-pub struct SweepPoint {
-    /// Index from 0.
-    pub index: u32,
-    /// Requested arm angle, degrees.
-    pub arm_deg: f32,
-    /// The arm setpoint, or the limit/zone that forbids it.
-    pub setpoint: core::result::Result<crate::axis::Setpoint, Error>,
-    /// The beam nearest the detector axis, if one is within the acceptance.
-    pub in_view: Option<InView>,
-}
-
-impl SweepPlan {
-    /// An arm sweep from `from_deg` to `to_deg` in steps of `step_deg`.
-    #[allow(clippy::too_many_arguments)]
-    pub fn new(
-        rig: Rig,
-        face: Face,
-        incidence: Incidence,
-        elevation_deg: f32,
-        from_deg: f32,
-        to_deg: f32,
-        step_deg: f32,
-    ) -> Result<SweepPlan> {
-        rig.validate()?;
-        finite(elevation_deg, Quantity::Angle)?;
-        let count = count_points(from_deg, to_deg, step_deg, Quantity::Angle)?;
-        Ok(SweepPlan {
-            rig,
-            face,
-            incidence,
-            elevation_deg,
-            from_deg,
-            step_deg,
-            count,
-        })
-    }
-
-    /// Number of points.
-    pub fn len(&self) -> u32 {
-        self.count
-    }
-
-    /// Whether the plan has no points (never, once built).
-    pub fn is_empty(&self) -> bool {
-        self.count == 0
-    }
-
-    /// The points, starting from arm step count `start_steps`.
-    pub fn iter(&self, start_steps: i32) -> SweepIter<'_> {
-        SweepIter {
-            plan: self,
-            next: 0,
-            steps: start_steps,
-        }
-    }
-
-    /// Every beam whose arm angle lies in the sweep's range and whose elevation is
-    /// within the acceptance of the sweep's elevation, in order of arm angle.
-    pub fn beams_crossed(&self, out: &mut [InView]) -> Result<Listing> {
-        if out.is_empty() {
-            return Err(Error::EmptyBuffer);
-        }
-        let lo = self.from_deg;
-        let hi = self.from_deg + (self.count.saturating_sub(1)) as f32 * self.step_deg;
-        let inc = &self.incidence;
-        let mut stored = 0usize;
-        let mut truncated = false;
-        // Elevation ν of a beam: sin ν = k∥,y/k (e2 is the lab's vertical), so the band
-        // of elevations within the acceptance is a strip of k∥,y.
-        let acc = self.rig.acceptance_deg;
-        let band = |x: f32| inc.k_inv_a * math::sin(math::rad(math::clamp(x, -90.0, 90.0)));
-        let (ky_lo, ky_hi) = (
-            band(self.elevation_deg - acc),
-            band(self.elevation_deg + acc),
-        );
-        for b in self.face.beams_in_band(inc, ky_lo, ky_hi) {
-            let (arm, elev) =
-                goniometer::arm_elevation_deg(goniometer::beam_direction_lab(&b, inc));
-            let off = (elev - self.elevation_deg).abs();
-            if arm < lo || arm > hi || off > self.rig.acceptance_deg {
-                continue;
-            }
-            let item = InView {
-                beam: b,
-                offset_deg: off,
-                arm_deg: arm,
-                elevation_deg: elev,
-            };
-            truncated |= insert_sorted(out, &mut stored, item, |a, b| a.arm_deg < b.arm_deg);
-        }
-        Ok(Listing { stored, truncated })
-    }
-}
-
-/// Iterator over a [`SweepPlan`].
-#[derive(Clone, Debug)]
-pub struct SweepIter<'a> {
-    plan: &'a SweepPlan,
-    next: u32,
-    steps: i32,
-}
-
-impl Iterator for SweepIter<'_> {
-    type Item = SweepPoint;
-
-    fn next(&mut self) -> Option<SweepPoint> {
-        if self.next >= self.plan.count {
-            return None;
-        }
-        let point = self.plan.point(self.next, self.steps);
-        if let Ok(s) = &point.setpoint {
-            self.steps = s.steps;
-        }
-        self.next += 1;
-        Some(point)
-    }
-}
-
-impl SweepPlan {
-    /// Point `i` of the sweep, moving from arm step count `from_steps`.
-    pub fn point(&self, i: u32, from_steps: i32) -> SweepPoint {
-        let p = self;
-        let arm = p.from_deg + i as f32 * p.step_deg;
-        let sp = p.rig.setpoint(AxisId::Arm, arm, from_steps);
-        let in_view = goniometer::nearest_in_view(
-            &p.face,
-            &p.incidence,
-            arm,
-            p.elevation_deg,
-            p.rig.acceptance_deg,
-        )
-        .ok()
-        .flatten();
-        SweepPoint {
-            index: i,
-            arm_deg: arm,
-            setpoint: sp,
-            in_view,
-        }
     }
 }
 

@@ -19,7 +19,9 @@ pub use gun::{
     ev_or_face, no_face_for, table_value, EvOrFace, GunArgs, TableValue, WavelengthGunArgs,
 };
 pub use iv::{ivpeaks, IvArgs};
-pub use overlayer::{overlayer_beams, parse_frac_rod, parse_overlayer, OverlayerArgs};
+pub use overlayer::{
+    frac_component, overlayer_beams, parse_frac_rod, parse_overlayer, Overlayer, OverlayerArgs,
+};
 pub use sample::{crystal_at, v0_model, v0_model_kind, SampleArgs};
 
 /// Looks up a crystal by id, with a helpful list when unknown.

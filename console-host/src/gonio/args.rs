@@ -177,6 +177,20 @@ pub struct TrackArgs {
     pub position: PositionArgs,
 }
 
+/// `--overlayer TEXT [--domains]` of `calc sweep` and `calc view` (as for `calc beams`).
+#[derive(Clone, Debug, Default, clap::Args)]
+pub struct OverlayerFlags {
+    /// A superstructure on the face's mesh (as for `calc beams --overlayer`: Wood
+    /// notation or a matrix m11,m12,m21,m22): its beams, fractional-order ones labelled
+    /// h,k in substrate units, instead of the substrate's.
+    #[arg(long, value_name = "WOOD|MATRIX", allow_hyphen_values = true)]
+    pub overlayer: Option<String>,
+    /// With --overlayer: the union of its rotational and mirror domains, each beam with
+    /// the domains it belongs to.
+    #[arg(long, requires = "overlayer")]
+    pub domains: bool,
+}
+
 /// Arguments of `mwctl calc sweep`.
 #[derive(Clone, Debug, clap::Args)]
 pub struct SweepArgs {
@@ -216,6 +230,9 @@ pub struct SweepArgs {
     /// Also list every sweep point with its arm setpoint and the beam in view.
     #[arg(long)]
     pub points: bool,
+    /// A superstructure's beams instead of the substrate's.
+    #[command(flatten)]
+    pub overlayer: OverlayerFlags,
     /// The rig.
     #[command(flatten)]
     pub rig: RigArgs,
@@ -254,6 +271,9 @@ pub struct ViewArgs {
     /// Acceptance half-angle, degrees (above 0, up to 90; default: the rig's detector).
     #[arg(value_parser = crate::number::f32_arg, long, value_name = "DEG")]
     pub acceptance: Option<f32>,
+    /// A superstructure's beams instead of the substrate's.
+    #[command(flatten)]
+    pub overlayer: OverlayerFlags,
     /// The rig.
     #[command(flatten)]
     pub rig: RigArgs,

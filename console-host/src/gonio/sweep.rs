@@ -1,6 +1,9 @@
 //! `mwctl calc sweep` and `mwctl calc view`: arm sweeps and the beams in view.
 
 use super::*;
+use crate::calc::Overlayer;
+use matterwave_core::goniometer::SuperInView;
+use matterwave_core::surface::SuperBeam;
 
 // ---------------------------------------------------------------------------------------
 // sweep
@@ -83,8 +86,10 @@ pub fn sweep(a: &SweepArgs) -> CliResult<SweepOutput> {
     within("tilt", &rig.tilt, tilt)?;
     within("azimuth", &rig.azimuth, azimuth)?;
     let inc = Incidence::new(e, tilt, azimuth).ctx("incidence")?;
+    let ov = overlayer_of(&a.overlayer, &face)?;
     let plan = SweepPlan::new(*rig, face, inc, elevation, a.arm_from, a.arm_to, a.step)
-        .map_err(|er| plan_error(er, ("arm-from", a.arm_from), ("arm-to", a.arm_to), a.step))?;
+        .map_err(|er| plan_error(er, ("arm-from", a.arm_from), ("arm-to", a.arm_to), a.step))?
+        .with_overlayer(ov.as_ref().map(Overlayer::core));
     let mut unreachable = 0i64;
     // Why points are unreachable: each reason in words, with its count.
     let mut reasons: Vec<(String, i64)> = Vec::new();
@@ -104,43 +109,86 @@ pub fn sweep(a: &SweepArgs) -> CliResult<SweepOutput> {
             }
         };
         if a.points {
-            let iv = p.in_view;
-            point_rows.push(vec![
+            let mut row = vec![
                 Value::Int(p.index.into()),
                 f(p.arm_deg, 4),
                 p.setpoint
                     .as_ref()
                     .map_or(Value::Missing, |s| Value::Int(s.steps.into())),
                 text(status.clone()),
-                iv.map_or(Value::Missing, |v| Value::Int(v.beam.rod[0].into())),
-                iv.map_or(Value::Missing, |v| Value::Int(v.beam.rod[1].into())),
-                iv.map_or(Value::Missing, |v| f(v.offset_deg, 4)),
-            ]);
+            ];
+            match &ov {
+                None => {
+                    let iv = p.in_view;
+                    row.extend([
+                        iv.map_or(Value::Missing, |v| Value::Int(v.beam.rod[0].into())),
+                        iv.map_or(Value::Missing, |v| Value::Int(v.beam.rod[1].into())),
+                        iv.map_or(Value::Missing, |v| f(v.offset_deg, 4)),
+                    ]);
+                }
+                Some(ov) => {
+                    match &p.super_in_view {
+                        Some(v) => row.extend(super_cells(ov, &v.beam)),
+                        None => row.extend(std::iter::repeat_n(Value::Missing, 5)),
+                    }
+                    row.push(
+                        p.super_in_view
+                            .map_or(Value::Missing, |v| f(v.offset_deg, 4)),
+                    );
+                }
+            }
+            point_rows.push(row);
         }
         statuses.push(status);
     }
-    let mut buf = vec![InView::EMPTY; MAX_BEAMS];
-    let l = plan.beams_crossed(&mut buf).ctx("beams crossed")?;
+    // The status of the sweep point nearest a beam's arm angle: can the sweep get there?
+    let status_at = |arm_deg: f32| {
+        let i = ((arm_deg - plan.from_deg) / plan.step_deg).round().max(0.0) as usize;
+        text(
+            statuses
+                .get(i.min(statuses.len().saturating_sub(1)))
+                .cloned()
+                .unwrap_or_default(),
+        )
+    };
     let mut beam_rows = Vec::new();
-    for b in &buf[..l.stored] {
-        // The status of the sweep point nearest the beam: can the sweep get there?
-        let i = ((b.arm_deg - plan.from_deg) / plan.step_deg)
-            .round()
-            .max(0.0) as usize;
-        let status = statuses
-            .get(i.min(statuses.len().saturating_sub(1)))
-            .cloned()
-            .unwrap_or_default();
-        beam_rows.push(vec![
-            Value::Int(b.beam.rod[0].into()),
-            Value::Int(b.beam.rod[1].into()),
-            f(b.arm_deg, 4),
-            f(b.elevation_deg, 4),
-            f(b.beam.exit_deg, 4),
-            f(b.beam.exit_azimuth_deg, 3),
-            text(status),
-        ]);
-    }
+    let mut fractional = None;
+    let l = match &ov {
+        None => {
+            let mut buf = vec![InView::EMPTY; MAX_BEAMS];
+            let l = plan.beams_crossed(&mut buf).ctx("beams crossed")?;
+            for b in &buf[..l.stored] {
+                beam_rows.push(vec![
+                    Value::Int(b.beam.rod[0].into()),
+                    Value::Int(b.beam.rod[1].into()),
+                    f(b.arm_deg, 4),
+                    f(b.elevation_deg, 4),
+                    f(b.beam.exit_deg, 4),
+                    f(b.beam.exit_azimuth_deg, 3),
+                    status_at(b.arm_deg),
+                ]);
+            }
+            l
+        }
+        Some(ov) => {
+            let mut buf = vec![SuperInView::EMPTY; MAX_BEAMS];
+            let l = plan.super_beams_crossed(&mut buf).ctx("beams crossed")?;
+            let crossed = &buf[..l.stored];
+            fractional = Some(crossed.iter().filter(|v| !v.beam.integer).count());
+            for v in crossed {
+                let mut row = super_cells(ov, &v.beam);
+                row.extend([
+                    f(v.arm_deg, 4),
+                    f(v.elevation_deg, 4),
+                    f(v.beam.beam.exit_deg, 4),
+                    f(v.beam.beam.exit_azimuth_deg, 3),
+                    status_at(v.arm_deg),
+                ]);
+                beam_rows.push(row);
+            }
+            l
+        }
+    };
     let est = scan::estimate_sweep_s(&plan, start[0], dwell);
     let mut r = Report::default();
     crystal_face_fields(&mut r, c, &face);
@@ -189,22 +237,34 @@ pub fn sweep(a: &SweepArgs) -> CliResult<SweepOutput> {
     }
     r.field("dwell_s", "dwell per point (s)", f(dwell, 3));
     r.field("estimate_s", "estimated time (s)", f(est, 1));
+    if let Some(ov) = &ov {
+        ov.fields(&mut r, &face);
+    }
+    if let Some(n) = fractional {
+        r.field("fractional", "fractional-order beams", Value::Int(n as i64));
+    }
     r.field(
         "truncated",
         "more beams than listed",
         Value::Bool(l.truncated),
     );
+    let label_columns = || match &ov {
+        None => vec![col("h", "h"), col("k", "k")],
+        Some(_) => super_columns(),
+    };
     r.list = Some(List {
         key: "beams",
-        columns: vec![
-            col("h", "h"),
-            col("k", "k"),
-            col("arm_deg", "arm (deg)"),
-            col("elevation_deg", "elevation (deg)"),
-            col("exit_deg", "exit (deg)"),
-            col("exit_azimuth_deg", "exit azimuth (deg)"),
-            col("status", "sweep status"),
-        ],
+        columns: [
+            label_columns(),
+            vec![
+                col("arm_deg", "arm (deg)"),
+                col("elevation_deg", "elevation (deg)"),
+                col("exit_deg", "exit (deg)"),
+                col("exit_azimuth_deg", "exit azimuth (deg)"),
+                col("status", "sweep status"),
+            ],
+        ]
+        .concat(),
         rows: beam_rows,
     });
     let points = a.points.then(|| List {
@@ -214,10 +274,11 @@ pub fn sweep(a: &SweepArgs) -> CliResult<SweepOutput> {
             col("arm_deg", "arm (deg)"),
             col("arm_steps", "arm steps"),
             col("status", "status"),
-            col("h", "h"),
-            col("k", "k"),
-            col("offset_deg", "offset (deg)"),
-        ],
+        ]
+        .into_iter()
+        .chain(label_columns())
+        .chain([col("offset_deg", "offset (deg)")])
+        .collect(),
         rows: point_rows,
     });
     Ok(SweepOutput { beams: r, points })
@@ -251,9 +312,31 @@ pub fn view(a: &ViewArgs) -> CliResult<Report> {
         }
     };
     let inc = Incidence::new(e, tilt, azimuth).ctx("incidence")?;
-    let mut buf = vec![InView::EMPTY; MAX_BEAMS];
-    let l = goniometer::beams_in_view(&face, &inc, arm, elevation, acceptance, &mut buf)
-        .ctx("beams in view")?;
+    let ov = overlayer_of(&a.overlayer, &face)?;
+    let (list, l, fractional) = match &ov {
+        None => {
+            let mut buf = vec![InView::EMPTY; MAX_BEAMS];
+            let l = goniometer::beams_in_view(&face, &inc, arm, elevation, acceptance, &mut buf)
+                .ctx("beams in view")?;
+            (view_list(&buf[..l.stored]), l, None)
+        }
+        Some(ov) => {
+            let mut buf = vec![SuperInView::EMPTY; MAX_BEAMS];
+            let l = goniometer::super_beams_in_view(
+                &face,
+                &ov.supers(),
+                &inc,
+                arm,
+                elevation,
+                acceptance,
+                &mut buf,
+            )
+            .ctx("beams in view")?;
+            let seen = &buf[..l.stored];
+            let n = seen.iter().filter(|v| !v.beam.integer).count();
+            (super_view_list(ov, seen), l, Some(n))
+        }
+    };
     let arm_status = match rig.arm.check_angle(arm) {
         Ok(()) => "allowed".to_string(),
         Err(er) => status_word(er),
@@ -272,7 +355,13 @@ pub fn view(a: &ViewArgs) -> CliResult<Report> {
     );
     rig_field(&mut r, &rf);
     r.field("arm_status", "arm position on this rig", text(arm_status));
+    if let Some(ov) = &ov {
+        ov.fields(&mut r, &face);
+    }
     r.field("count", "beams listed", Value::Int(l.stored as i64));
+    if let Some(n) = fractional {
+        r.field("fractional", "fractional-order beams", Value::Int(n as i64));
+    }
     r.field(
         "truncated",
         "more beams in view than listed",
@@ -283,7 +372,13 @@ pub fn view(a: &ViewArgs) -> CliResult<Report> {
             "More than {MAX_BEAMS} beams lie within the acceptance; the {MAX_BEAMS} nearest are listed."
         ));
     }
-    r.list = Some(List {
+    r.list = Some(list);
+    Ok(r)
+}
+
+/// The substrate's beams in view.
+fn view_list(seen: &[InView]) -> List {
+    List {
         key: "beams",
         columns: vec![
             col("h", "h"),
@@ -294,7 +389,7 @@ pub fn view(a: &ViewArgs) -> CliResult<Report> {
             col("exit_deg", "exit (deg)"),
             col("exit_azimuth_deg", "exit azimuth (deg)"),
         ],
-        rows: buf[..l.stored]
+        rows: seen
             .iter()
             .map(|b| {
                 vec![
@@ -308,6 +403,65 @@ pub fn view(a: &ViewArgs) -> CliResult<Report> {
                 ]
             })
             .collect(),
-    });
-    Ok(r)
+    }
+}
+
+/// The superstructure's beams in view, labelled as `calc beams --overlayer` labels them.
+fn super_view_list(ov: &Overlayer, seen: &[SuperInView]) -> List {
+    let mut columns = super_columns();
+    columns.extend([
+        col("offset_deg", "offset (deg)"),
+        col("arm_deg", "arm (deg)"),
+        col("elevation_deg", "elevation (deg)"),
+        col("exit_deg", "exit (deg)"),
+        col("exit_azimuth_deg", "exit azimuth (deg)"),
+    ]);
+    List {
+        key: "beams",
+        columns,
+        rows: seen
+            .iter()
+            .map(|v| {
+                let mut row = super_cells(ov, &v.beam);
+                row.extend([
+                    f(v.offset_deg, 4),
+                    f(v.arm_deg, 4),
+                    f(v.elevation_deg, 4),
+                    f(v.beam.beam.exit_deg, 4),
+                    f(v.beam.beam.exit_azimuth_deg, 3),
+                ]);
+                row
+            })
+            .collect(),
+    }
+}
+
+/// `--overlayer TEXT [--domains]` on the face, if given.
+fn overlayer_of(o: &OverlayerFlags, face: &Face) -> CliResult<Option<Overlayer>> {
+    o.overlayer
+        .as_deref()
+        .map(|t| Overlayer::parse(t, o.domains, face))
+        .transpose()
+}
+
+/// The label columns of a superstructure beam (as `calc beams --overlayer`).
+fn super_columns() -> Vec<crate::output::Column> {
+    vec![
+        col("hk", "h,k"),
+        col("h", "h"),
+        col("k", "k"),
+        col("integer_order", "integer order"),
+        col("domains", "domains"),
+    ]
+}
+
+/// A superstructure beam's label cells: `h,k` exact, h and k, integer order, domains.
+fn super_cells(ov: &Overlayer, b: &SuperBeam) -> Vec<Value> {
+    vec![
+        text(b.pos.to_string()),
+        calc::frac_component(&b.pos, 0),
+        calc::frac_component(&b.pos, 1),
+        Value::Bool(b.integer),
+        ov.domain_list(b.domains),
+    ]
 }

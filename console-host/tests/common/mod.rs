@@ -95,15 +95,29 @@ fn cell_is(shown: &str, v: &serde_json::Value, missing: &str, exact: bool) -> bo
         serde_json::Value::Number(n) => number(shown, n.as_f64().unwrap()),
         serde_json::Value::Array(_) => {
             let items = scalars(v);
-            let tokens: Vec<&str> = shown
-                .split([' ', ',', '[', ']', ';'])
-                .filter(|t| !t.is_empty())
-                .collect();
-            tokens.len() == items.len()
-                && tokens
-                    .iter()
-                    .zip(items)
-                    .all(|(t, x)| cell_is(t, x, missing, exact))
+            // Items split at commas too, or — for text items that hold commas or spaces
+            // of their own (`calc beams --overlayer`'s domain matrices `2,0,0,1` and
+            // operations `rotate 90`, joined by `; `) — not.
+            let split = |seps: &[char]| -> Vec<&str> {
+                shown
+                    .split(seps)
+                    .map(str::trim)
+                    .filter(|t| !t.is_empty())
+                    .collect()
+            };
+            [
+                split(&[' ', ',', '[', ']', ';']),
+                split(&[' ', '[', ']', ';']),
+                split(&[';']),
+            ]
+            .iter()
+            .any(|tokens| {
+                tokens.len() == items.len()
+                    && tokens
+                        .iter()
+                        .zip(&items)
+                        .all(|(t, x)| cell_is(t, x, missing, exact))
+            })
         }
         serde_json::Value::Object(_) => false,
     }

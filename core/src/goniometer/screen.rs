@@ -23,7 +23,8 @@
 //! The gun, in front of the screen's centre, hides every beam within `gun_shadow_deg` of
 //! the direction back at the gun (−x); 0 means no shadow.
 
-use super::{beam_direction_lab, detector_direction, nearest_in_view, view_disk, InView};
+use super::view::view_disk;
+use super::{beam_direction_lab, detector_direction, nearest_in_view, InView};
 use crate::error::{finite, Error, Quantity, Result};
 use crate::listing::{insert_sorted, Listing};
 use crate::math::{self, Vec3};

@@ -269,3 +269,40 @@ pub fn domains(face: &Face, sup: &Superstructure, out: &mut [Domain; MAX_DOMAINS
     }
     n
 }
+
+/// A superstructure as the sample shows it: alone, or as the union of its
+/// symmetry-distinct domains ([`domains`]). Six bytes, so that a plan can carry one;
+/// the domain list is made again where it is needed ([`Overlayer::supers`]).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Overlayer {
+    /// The superstructure (domain 0).
+    pub sup: Superstructure,
+    /// Whether the beams are those of the union of its domains.
+    pub with_domains: bool,
+}
+
+impl Overlayer {
+    /// The superstructure alone (`with_domains` false) or with its domains.
+    pub const fn new(sup: Superstructure, with_domains: bool) -> Overlayer {
+        Overlayer { sup, with_domains }
+    }
+
+    /// The superstructures whose beams the overlayer shows, into `out`: `sup` alone, or
+    /// the domains of [`domains`] in its order (so bit i of a beam's `domains` is
+    /// domain i). Returns how many (1 to [`MAX_DOMAINS`]).
+    pub fn supers(&self, face: &Face, out: &mut [Superstructure; MAX_DOMAINS]) -> usize {
+        if !self.with_domains {
+            if let Some(o) = out.first_mut() {
+                *o = self.sup;
+            }
+            return 1;
+        }
+        let mut doms = [Domain::EMPTY; MAX_DOMAINS];
+        let n = domains(face, &self.sup, &mut doms);
+        for (o, d) in out.iter_mut().zip(doms.iter().take(n)) {
+            *o = d.sup;
+        }
+        n
+    }
+}

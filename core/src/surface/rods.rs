@@ -209,7 +209,13 @@ impl BeamIter {
     fn new(face: &Face, inc: &Incidence, disk: Disk, max_g_inv_a: f32) -> BeamIter {
         let radius = disk.radius * (1.0 + EDGE) + EDGE;
         let a1 = face.mesh_2d_a[0];
-        let a1_len = face.a1_len_a();
+        // |a1|: a face's a1 lies along e1; a superstructure's search mesh
+        // (`goniometer::super_view`) may have its first vector anywhere.
+        let a1_len = if a1[1] == 0.0 {
+            a1[0].abs()
+        } else {
+            math::sqrt(a1[0] * a1[0] + a1[1] * a1[1])
+        };
         let mid = disk.centre[0] * a1[0] + disk.centre[1] * a1[1];
         let lo = math::floor(mid - radius * a1_len);
         let hi = math::floor(mid + radius * a1_len) + 1.0;
