@@ -256,3 +256,35 @@ fn the_dump_replays_an_overlayer_and_a_fractional_beam() {
         Some("all")
     );
 }
+
+#[test]
+fn an_arm_sweep_names_the_half_order_beam_where_it_crosses() {
+    let mut c = sim_console();
+    ok(
+        &mut c,
+        "set crystal=ni face=100 tilt=0 energy=80 overlayer=p(2x2)",
+    );
+    let r = ok(&mut c, "plan kind=sweep from=13 to=40 step=0.5");
+    let want = exit_deg(0.5 / (3.524 / 2f64.sqrt()), 80.0);
+    let seen: Vec<&str> = r
+        .lines()
+        .filter(|l| field(l, "h") == Some("1/2") && field(l, "k") == Some("0"))
+        .collect();
+    assert!(!seen.is_empty(), "{r}");
+    for l in seen {
+        let arm: f64 = field(l, "arm").unwrap().parse().unwrap();
+        let offset: f64 = field(l, "offset").unwrap().parse().unwrap();
+        // In the scattering plane the offset is the arm's distance from the beam.
+        assert!(
+            ((arm - want).abs() - offset).abs() < 2e-3,
+            "{l}: beam at {want:.4}"
+        );
+        assert!(offset <= 1.0, "{l}: within the factory acceptance of 1°");
+    }
+    // The integer-order (1, 0) at 33.38° is named as before.
+    assert!(
+        r.lines()
+            .any(|l| field(l, "h") == Some("1") && field(l, "k") == Some("0")),
+        "{r}"
+    );
+}

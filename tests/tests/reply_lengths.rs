@@ -303,6 +303,7 @@ fn no_stream_line_outgrows_its_buffer() {
     scripts.push("plan kind=track from=20.123457 to=300.123457 step=9.87654321".into());
     scripts.push("plan kind=iv from=20.123457 to=300.123457 step=9.87654321".into());
     scripts.push("budget".into());
+    scripts.push("plan kind=sweep from=-170.123457 to=170.123457 step=1.23456789".into());
     scripts.push("get".into());
     scripts.push("get overlayer".into());
     scripts.push(format!(

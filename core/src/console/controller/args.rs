@@ -10,6 +10,8 @@ use crate::console::wire::token::Args;
 use crate::error::{AxisId, Error};
 use crate::goniometer::{Branch, Refusal, Rig};
 use crate::lattice::Miller;
+use crate::surface::FracRod;
+use core::fmt::Write as _;
 
 /// The words of a 0/1 switch (`wrap=`, `fitted=`) and what they mean.
 pub(super) const BOOL_WORDS: [(&str, bool); 6] = [
@@ -162,4 +164,16 @@ fn join_ints<'b>(vals: &[i32], buf: &'b mut [u8; 40]) -> &'b str {
     buf.get(..len)
         .and_then(|b| core::str::from_utf8(b).ok())
         .unwrap_or("")
+}
+
+/// Writes `name=` component `i` (0 = h, 1 = k) of `pos`: a whole number or a reduced
+/// fraction (`1/2`).
+pub(super) fn write_frac<W: Write>(rw: &mut Rw<'_, W>, name: &str, pos: &FracRod, i: usize) {
+    let mut t: heapless::String<24> = heapless::String::new();
+    // 24 bytes hold any reduced component (±9801/99 at most).
+    let _ = match pos.reduced(i) {
+        (v, 1) => write!(t, "{v}"),
+        (v, d) => write!(t, "{v}/{d}"),
+    };
+    rw.field_str(name, &t);
 }

@@ -155,7 +155,10 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 let e = s.gun.kinetic_energy_ev()?;
                 let ang = s.rig.angles(&pos);
                 let inc = Incidence::new(e, s.tilt_deg, s.azimuth_deg.unwrap_or(ang[3]))?;
-                Plan::Sweep(SweepPlan::new(*s.rig, s.face, inc, ang[1], from, to, step)?)
+                Plan::Sweep(
+                    SweepPlan::new(*s.rig, s.face, inc, ang[1], from, to, step)?
+                        .with_overlayer(s.overlayer_model()),
+                )
             }
             _ => {
                 return Err(Fault::from(Error::BadValue)
@@ -244,7 +247,16 @@ impl PlanRun {
                     }
                     Err(e) => write_point_error(rw, e),
                 }
-                if let Some(v) = point.in_view {
+                // With an overlayer, the nearer of the substrate's and the overlayer's
+                // beams in view (the overlayer's on a tie: its label says more).
+                let sup = point
+                    .super_in_view
+                    .filter(|sv| point.in_view.is_none_or(|v| sv.offset_deg <= v.offset_deg));
+                if let Some(sv) = sup {
+                    super::args::write_frac(rw, "h", &sv.beam.pos, 0);
+                    super::args::write_frac(rw, "k", &sv.beam.pos, 1);
+                    rw.field_f32("offset", sv.offset_deg, ANGLE_DECIMALS);
+                } else if let Some(v) = point.in_view {
                     rw.field_i32("h", v.beam.rod[0])
                         .field_i32("k", v.beam.rod[1])
                         .field_f32("offset", v.offset_deg, ANGLE_DECIMALS);

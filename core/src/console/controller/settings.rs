@@ -13,7 +13,7 @@ use crate::error::{Error, Quantity};
 use crate::goniometer::{AimRequest, Branch, CheckedRig, Mode, Rig};
 use crate::inner::{self, V0Model, V0ModelKind};
 use crate::lattice::{parse_miller, Miller, System};
-use crate::surface::domains::{self, Domain, MAX_DOMAINS};
+use crate::surface::domains::{Overlayer, MAX_DOMAINS};
 use crate::surface::{BeamLattices, Face, FracRod, Relaxation, Superstructure};
 use crate::table::{self, Crystal};
 
@@ -115,27 +115,20 @@ impl Settings {
             .unwrap_or(10.0)
     }
 
+    /// The overlayer as the sample shows it: alone, or with its domains (`domains`);
+    /// `None` without one.
+    pub(super) fn overlayer_model(&self) -> Option<Overlayer> {
+        self.overlayer.map(|s| Overlayer::new(s, self.domains))
+    }
+
     /// The lattices of the overlayer's beams (with its domains when `domains` is
     /// set), or `None` without an overlayer.
     pub(super) fn lattices(&self) -> crate::error::Result<Option<BeamLattices>> {
-        let Some(sup) = self.overlayer else {
+        let Some(o) = self.overlayer_model() else {
             return Ok(None);
         };
-        let mut doms = [Domain::EMPTY; MAX_DOMAINS];
-        let n = if self.domains {
-            domains::domains(&self.face, &sup, &mut doms)
-        } else {
-            1
-        };
-        if !self.domains {
-            if let Some(d) = doms.first_mut() {
-                d.sup = sup;
-            }
-        }
         let mut sups = [Superstructure::IDENTITY; MAX_DOMAINS];
-        for (d, s) in sups.iter_mut().zip(doms.iter()) {
-            *d = s.sup;
-        }
+        let n = o.supers(&self.face, &mut sups);
         BeamLattices::new(sups.get(..n).unwrap_or(&[])).map(Some)
     }
 

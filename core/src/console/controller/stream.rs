@@ -4,7 +4,7 @@
 use core::fmt::Write as _;
 use embedded_io::Write;
 
-use super::args::{miller_text, write_refusal};
+use super::args::{miller_text, write_frac, write_refusal};
 use super::fault::Accepted;
 use super::fault::Result;
 use super::fault::{write_err, Fault};
@@ -172,15 +172,8 @@ impl Stream {
             Stream::Overlayer(iter, n, cut) => match iter.next() {
                 Some(b) => {
                     rw.item();
-                    for (name, i) in [("h", 0), ("k", 1)] {
-                        let mut t: heapless::String<24> = heapless::String::new();
-                        // 24 bytes hold any reduced component (±9801/99 at most).
-                        let _ = match b.pos.reduced(i) {
-                            (v, 1) => write!(t, "{v}"),
-                            (v, d) => write!(t, "{v}/{d}"),
-                        };
-                        rw.field_str(name, &t);
-                    }
+                    write_frac(rw, "h", &b.pos, 0);
+                    write_frac(rw, "k", &b.pos, 1);
                     rw.field_f32("exit", b.beam.exit_deg, ANGLE_DECIMALS)
                         .field_f32("exit_azimuth", b.beam.exit_azimuth_deg, ANGLE_DECIMALS);
                     if let Some(d) = b.beam.row_spacing_a() {
