@@ -279,6 +279,10 @@ fn no_stream_line_outgrows_its_buffer() {
         "plan kind=track from=20.123457 to=300.123457 step=9.87654321".into(),
         "plan kind=iv from=20.123457 to=300.123457 step=9.87654321".into(),
         "budget".into(),
+        // A stepped face: both sub-beams and the phase list, then one sub-beam
+        // evanescent.
+        "steps miscut=2.12345678 height=1.23456789 direction=-33.123457 from=5.12345678 to=300.123457".into(),
+        "steps terrace=0.5 height=99.123457".into(),
         // The inverse wavelength at both edges of the range, and refused.
         "energy lambda=0.0196875123".into(),
         "energy lambda=12.2643123".into(),
@@ -364,6 +368,9 @@ fn no_stream_line_outgrows_its_buffer() {
         "- beam",
         "ok count",
         "- set overlayer domains beam",
+        "- sub j offset exit exit_azimuth arm elevation weight",
+        "- phase energy cycles in_phase",
+        "ok terrace height miscut direction phase splitting splitting_deg phases",
     ] {
         assert!(
             all.iter().any(|s| s.starts_with(needle)),

@@ -117,7 +117,9 @@ impl Steps {
     }
 }
 
-fn check_height(h: f32) -> Result<f32> {
+/// A step height h checked: finite, 0 < h ≤ [`STEP_HEIGHT_MAX_A`] Å. Errors:
+/// `NotFinite`/`TooLow`/`TooHigh` of `Length`.
+pub fn check_height(h: f32) -> Result<f32> {
     let h = finite(h, Quantity::Length)?;
     if h <= 0.0 {
         Err(Error::TooLow(Quantity::Length))
@@ -147,6 +149,48 @@ impl StepPhase {
         phase_cycles: 0.0,
         in_phase: false,
     };
+}
+
+/// The half-cycles of the specular phase within an energy range
+/// ([`Face::step_phase_range`]).
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct StepPhaseRange {
+    /// First half-cycle index 2·q·h to try (at least 1).
+    pub first_half: i32,
+    /// Last half-cycle index to try.
+    pub last_half: i32,
+    height_a: f32,
+    sin_tilt: f32,
+    v0_ev: f32,
+    from_ev: f32,
+    to_ev: f32,
+    q_lo: f32,
+    q_hi: f32,
+}
+
+impl StepPhaseRange {
+    /// The in- or out-of-phase energy of half-cycle `half` (phase `half`/2), or `None`
+    /// when it lies outside the range. One bisection.
+    pub fn phase(&self, half: i32) -> Option<StepPhase> {
+        let phase = half as f32 * 0.5;
+        let target = phase / self.height_a;
+        if target < self.q_lo || target > self.q_hi {
+            return None;
+        }
+        Some(StepPhase {
+            energy_ev: bisect_energy(
+                [0.0, 0.0],
+                self.sin_tilt,
+                self.v0_ev,
+                target,
+                self.from_ev,
+                self.to_ev,
+            ),
+            phase_cycles: phase,
+            in_phase: half % 2 == 0,
+        })
+    }
 }
 
 /// One sub-beam of a split spot.
@@ -258,42 +302,59 @@ impl Face {
         to_ev: f32,
         out: &mut [StepPhase],
     ) -> Result<Listing> {
+        if out.is_empty() {
+            return Err(Error::EmptyBuffer);
+        }
+        let range = self.step_phase_range(steps, inc, v0_ev, from_ev, to_ev)?;
+        let mut stored = 0usize;
+        let mut truncated = false;
+        for half in range.first_half..=range.last_half {
+            let Some(p) = range.phase(half) else {
+                continue;
+            };
+            let Some(slot) = out.get_mut(stored) else {
+                truncated = true;
+                break;
+            };
+            *slot = p;
+            stored += 1;
+        }
+        Ok(Listing { stored, truncated })
+    }
+
+    /// The half-cycles of the specular phase q·h that the energies `from_ev` to `to_ev`
+    /// span, to list them one at a time ([`StepPhaseRange::phase`]) as
+    /// [`Face::step_phases`] lists them. Errors: as [`Face::step_phases`].
+    pub fn step_phase_range(
+        &self,
+        steps: &Steps,
+        inc: &Incidence,
+        v0_ev: f32,
+        from_ev: f32,
+        to_ev: f32,
+    ) -> Result<StepPhaseRange> {
         let v0 = beam::check_inner_potential(v0_ev)?;
         let lo = beam::check_energy(from_ev)?;
         let hi = beam::check_energy(to_ev)?;
         if lo >= hi {
             return Err(Error::EmptyRange);
         }
-        if out.is_empty() {
-            return Err(Error::EmptyBuffer);
-        }
         let h = steps.height_a;
         let s = inc.sin_tilt;
         let q_lo = perp_sum([0.0, 0.0], s, v0, lo);
         let q_hi = perp_sum([0.0, 0.0], s, v0, hi);
         // Half-cycles 2·q·h from just below the range to just above it.
-        let first = (math::floor(2.0 * q_lo * h) as i32).max(1);
-        let last = math::floor(2.0 * q_hi * h) as i32 + 1;
-        let mut stored = 0usize;
-        let mut truncated = false;
-        for half in first..=last {
-            let phase = half as f32 * 0.5;
-            let target = phase / h;
-            if target < q_lo || target > q_hi {
-                continue;
-            }
-            let Some(slot) = out.get_mut(stored) else {
-                truncated = true;
-                break;
-            };
-            *slot = StepPhase {
-                energy_ev: bisect_energy([0.0, 0.0], s, v0, target, lo, hi),
-                phase_cycles: phase,
-                in_phase: half % 2 == 0,
-            };
-            stored += 1;
-        }
-        Ok(Listing { stored, truncated })
+        Ok(StepPhaseRange {
+            first_half: (math::floor(2.0 * q_lo * h) as i32).max(1),
+            last_half: math::floor(2.0 * q_hi * h) as i32 + 1,
+            height_a: h,
+            sin_tilt: s,
+            v0_ev: v0,
+            from_ev: lo,
+            to_ev: hi,
+            q_lo,
+            q_hi,
+        })
     }
 
     /// How beam (h, k) of the terraces splits at `inc` with inner potential V0: the

@@ -24,6 +24,7 @@
 //! | `plan.rs` | `aim` and `plan`: solutions and scan plans |
 //! | `fit.rs` | `pt` and `fit` |
 //! | `budget.rs` | `budget`: the angular error budget of the aimed beam |
+//! | `steps.rs` | `steps`: a stepped face's split spots and in/out-of-phase energies |
 //! | `stream.rs` | the running stream and its items (help, lists, solutions, plan points) |
 //! | `dump.rs` | `dump`: the settings as requests that replay them |
 //!
@@ -38,6 +39,7 @@ mod fit;
 mod motion;
 mod plan;
 mod settings;
+mod steps;
 mod stream;
 
 use embedded_io::Write;
@@ -90,7 +92,7 @@ type Rw<'w, W> = ReplyWriter<'w, W, MAX_REPLY>;
 
 /// Commands with their one-line usage, as `help` lists them (`set` appends the key names
 /// of [`SETTING_KEYS`] it takes, `axis` the rig file's axis keys).
-pub const COMMANDS: [(&str, &str); 26] = [
+pub const COMMANDS: [(&str, &str); 27] = [
     ("hello", "identify: name, version, protocol"),
     ("help", "this list"),
     ("status", "enabled, interlock, motion, stream"),
@@ -137,6 +139,10 @@ pub const COMMANDS: [(&str, &str); 26] = [
     (
         "budget",
         "budget [energy_spread=EV] [arm_zero_sigma=DEG]: angular error budget of the aimed beam",
+    ),
+    (
+        "steps",
+        "steps miscut=DEG|terrace=A [height=A] [direction=DEG] [from=EV] [to=EV]: the beam's split spots on a stepped face, then the in/out-of-phase energies",
     ),
     ("read", "read the detector"),
     ("dump", "settings as commands that replay them"),
@@ -480,6 +486,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             "pt" => self.cmd_pt(a, rw),
             "fit" => self.cmd_fit(a, rw),
             "budget" => self.cmd_budget(a),
+            "steps" => self.cmd_steps(a),
             "read" => {
                 no_args(a)?;
                 self.cmd_read(rw)

@@ -10,6 +10,7 @@ use super::fault::Result;
 use super::fault::{write_err, Fault};
 use super::plan::PlanRun;
 use super::settings::{Settings, SETTING_KEYS};
+use super::steps::StepsRun;
 use super::{
     Console, Rw, ANGLE_DECIMALS, COMMANDS, ENERGY_DECIMALS, LENGTH_DECIMALS, MAX_SOLUTIONS,
     RESIDUAL_DECIMALS,
@@ -47,6 +48,7 @@ pub(super) enum Stream {
     Refused(u8),
     Plan(PlanRun),
     Budget(ArmBudget, u8),
+    Steps(StepsRun),
     Dump(u8),
 }
 
@@ -255,6 +257,7 @@ impl Stream {
             }
             Stream::Plan(run) => run.step(&ctx.settings.rig, rw),
             Stream::Budget(b, i) => super::budget::budget_step(b, i, rw),
+            Stream::Steps(run) => run.step(rw),
             Stream::Dump(i) => loop {
                 match ctx.settings.dump_line(*i, rw) {
                     super::dump::Dump::Line => {
