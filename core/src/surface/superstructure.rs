@@ -230,21 +230,33 @@ impl Face {
     /// fractional beam. Only the 2D mesh changes (the bulk cell, normal, layer spacing
     /// and I-V data stay this face's); `den` = 1 gives the face unchanged, bit for bit.
     pub fn fractional_grid(&self, den: i32) -> Result<Face> {
+        let mut f = *self;
+        f.make_fractional_grid(den)?;
+        Ok(f)
+    }
+
+    /// Turns this face into its [`Face::fractional_grid`] of `den` in place (no copy
+    /// of the face, for callers short of stack); `den` = 1 leaves it unchanged. On an
+    /// error the face is unchanged.
+    pub fn make_fractional_grid(&mut self, den: i32) -> Result<()> {
         if !(1..=MAX_BEAM_DEN).contains(&den) {
             return Err(Error::BadFractionalBeam);
         }
         if den == 1 {
-            return Ok(*self);
+            return Ok(());
         }
         let d = den as f32;
-        let mut f = *self;
-        for (a, b) in f.mesh_2d_a.iter_mut().zip(f.recip_2d_inv_a.iter_mut()) {
+        for (a, b) in self
+            .mesh_2d_a
+            .iter_mut()
+            .zip(self.recip_2d_inv_a.iter_mut())
+        {
             for (x, y) in a.iter_mut().zip(b.iter_mut()) {
                 *x *= d;
                 *y /= d;
             }
         }
-        Ok(f)
+        Ok(())
     }
 
     /// The rod vector of a fractional position at azimuth 0, 1/Å: g = h·b1 + k·b2.

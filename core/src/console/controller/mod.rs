@@ -304,6 +304,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
 
     /// Feeds one byte; a completed line is executed (its reply written to `out`, or
     /// its stream started).
+    #[inline]
     pub fn push<W: Write>(&mut self, byte: u8, out: &mut W) -> WriteResult<W::Error> {
         let mut buf = [0u8; MAX_LINE];
         let len = match self.lines.push(byte) {

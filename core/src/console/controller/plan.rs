@@ -132,11 +132,10 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                     // The kinematic I-V maxima are those of the bulk's integer rods.
                     s.integer_beam()?;
                 }
-                let (grid, rod) = s.beam_grid(&s.beam)?;
-                let t = TrackPlan::new(
+                let mut t = TrackPlan::new(
                     *s.rig,
-                    grid,
-                    rod,
+                    s.face,
+                    s.beam.integer().unwrap_or(s.beam.num),
                     s.gun,
                     from,
                     to,
@@ -145,6 +144,11 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                     s.mode(),
                     branch,
                 )?;
+                // A fractional beam is the whole rod `num` of the face's fractional
+                // grid (made in place: no second face in this frame).
+                if s.beam.integer().is_none() {
+                    t.face.make_fractional_grid(s.beam.den)?;
+                }
                 if kind == "iv" {
                     Plan::Iv(IvPlan::with_model(t, &s.v0()?, &s.relax, pos)?)
                 } else {
@@ -155,10 +159,10 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
                 let e = s.gun.kinetic_energy_ev()?;
                 let ang = s.rig.angles(&pos);
                 let inc = Incidence::new(e, s.tilt_deg, s.azimuth_deg.unwrap_or(ang[3]))?;
-                Plan::Sweep(
-                    SweepPlan::new(*s.rig, s.face, inc, ang[1], from, to, step)?
-                        .with_overlayer(s.overlayer_model()),
-                )
+                let mut p = SweepPlan::new(*s.rig, s.face, inc, ang[1], from, to, step)?;
+                // Set in place: a second plan in this frame would deepen every plan.
+                p.overlayer = s.overlayer_model();
+                Plan::Sweep(p)
             }
             _ => {
                 return Err(Fault::from(Error::BadValue)

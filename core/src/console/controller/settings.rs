@@ -122,7 +122,9 @@ impl Settings {
     }
 
     /// The lattices of the overlayer's beams (with its domains when `domains` is
-    /// set), or `None` without an overlayer.
+    /// set), or `None` without an overlayer. Out of line: the domain search's buffers
+    /// stay out of the callers' frames.
+    #[inline(never)]
     pub(super) fn lattices(&self) -> crate::error::Result<Option<BeamLattices>> {
         let Some(o) = self.overlayer_model() else {
             return Ok(None);
@@ -447,6 +449,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
     /// `set key=value ...`: every key checked and applied to a copy, committed only
     /// when all are valid. A crystal given without a face switches to that crystal's
     /// first table face, and the `ok` line says so (`face=… face_from=table`).
+    #[inline(never)]
     pub(super) fn cmd_set<W: Write>(
         &mut self,
         a: &mut Args<'_>,

@@ -55,6 +55,7 @@ pub(super) enum Stream {
 impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
     /// Starts the `beams` list at the current settings: every beam with |g| up to the
     /// radius of a disk of about [`BEAM_LIST_RODS`] rods (all of them at low energy).
+    #[inline(never)]
     pub(super) fn start_beams(&self) -> Result<Option<Stream>> {
         let s = &self.settings;
         let e = s.gun.kinetic_energy_ev()?;
@@ -68,11 +69,45 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             BEAM_LIST_RODS as f32 / (core::f32::consts::PI * f.area_a2() * den * den),
         );
         let cut = (!f.covers_all(&inc, g_max)).then_some(g_max);
-        Ok(Some(match lattices {
-            None => Stream::Beams(f.beams_within(&inc, g_max).sorted(), 0, cut),
-            Some(l) => Stream::Overlayer(OverlayerBeams::new(f, &inc, l, g_max)?, 0, cut),
-        }))
+        // Each list is built by its own function straight into the reply's slot (the
+        // same return type), so that no copy of a stream sits in this frame.
+        match lattices {
+            None => rods_stream(f, &inc, g_max, cut),
+            Some(l) => overlayer_stream(f, &inc, l, g_max, cut),
+        }
     }
+}
+
+/// The bare face's `beams` stream.
+#[inline(never)]
+fn rods_stream(
+    face: &crate::surface::Face,
+    inc: &Incidence,
+    g_max: f32,
+    cut: Option<f32>,
+) -> Result<Option<Stream>> {
+    Ok(Some(Stream::Beams(
+        face.beams_within(inc, g_max).sorted(),
+        0,
+        cut,
+    )))
+}
+
+/// The overlayer's `beams` stream. Out of line, so that its grid's copy of the face and
+/// its iterator deepen only these requests' frames.
+#[inline(never)]
+fn overlayer_stream(
+    face: &crate::surface::Face,
+    inc: &Incidence,
+    lattices: crate::surface::BeamLattices,
+    g_max: f32,
+    cut: Option<f32>,
+) -> Result<Option<Stream>> {
+    Ok(Some(Stream::Overlayer(
+        OverlayerBeams::new(face, inc, lattices, g_max)?,
+        0,
+        cut,
+    )))
 }
 
 /// About how many rods the `beams` list searches: the disk of |g| it lists has this
@@ -171,38 +206,7 @@ impl Stream {
                     false
                 }
             },
-            Stream::Overlayer(iter, n, cut) => match iter.next() {
-                Some(b) => {
-                    rw.item();
-                    write_frac(rw, "h", &b.pos, 0);
-                    write_frac(rw, "k", &b.pos, 1);
-                    rw.field_f32("exit", b.beam.exit_deg, ANGLE_DECIMALS)
-                        .field_f32("exit_azimuth", b.beam.exit_azimuth_deg, ANGLE_DECIMALS);
-                    if let Some(d) = b.beam.row_spacing_a() {
-                        rw.field_f32("row", d, LENGTH_DECIMALS);
-                    }
-                    if let Some(e) = b.beam.emergence_ev {
-                        rw.field_f32("emerge", e, ENERGY_DECIMALS);
-                    }
-                    rw.field_i32("integer", b.integer as i32);
-                    let mut t: heapless::String<32> = heapless::String::new();
-                    // Domain indices 0 to 11, comma-separated: at most 26 bytes.
-                    for d in (0..16).filter(|d| b.domains & (1 << d) != 0) {
-                        let sep = if t.is_empty() { "" } else { "," };
-                        let _ = write!(t, "{sep}{d}");
-                    }
-                    rw.field_str("domains", &t);
-                    *n = n.saturating_add(1);
-                    true
-                }
-                None => {
-                    rw.ok().field_i32("count", *n as i32);
-                    if let Some(g) = cut {
-                        rw.field_i32("truncated", 1).field_f32_rt("g_max", *g);
-                    }
-                    false
-                }
-            },
+            Stream::Overlayer(iter, n, cut) => overlayer_step(iter, n, cut, rw),
             Stream::Get(i) => match SETTING_KEYS.get(usize::from(*i)) {
                 Some(key) => {
                     rw.item();
@@ -272,6 +276,49 @@ impl Stream {
                     }
                 }
             },
+        }
+    }
+}
+
+/// Writes the next line of the overlayer's `beams` list; false when that line is the
+/// final one. Out of line, so that its iterator's walk deepens only this list's polls.
+#[inline(never)]
+fn overlayer_step<W: Write>(
+    iter: &mut OverlayerBeams,
+    n: &mut u32,
+    cut: &Option<f32>,
+    rw: &mut Rw<'_, W>,
+) -> bool {
+    match iter.next() {
+        Some(b) => {
+            rw.item();
+            write_frac(rw, "h", &b.pos, 0);
+            write_frac(rw, "k", &b.pos, 1);
+            rw.field_f32("exit", b.beam.exit_deg, ANGLE_DECIMALS)
+                .field_f32("exit_azimuth", b.beam.exit_azimuth_deg, ANGLE_DECIMALS);
+            if let Some(d) = b.beam.row_spacing_a() {
+                rw.field_f32("row", d, LENGTH_DECIMALS);
+            }
+            if let Some(e) = b.beam.emergence_ev {
+                rw.field_f32("emerge", e, ENERGY_DECIMALS);
+            }
+            rw.field_i32("integer", b.integer as i32);
+            let mut t: heapless::String<32> = heapless::String::new();
+            // Domain indices 0 to 11, comma-separated: at most 26 bytes.
+            for d in (0..16).filter(|d| b.domains & (1 << d) != 0) {
+                let sep = if t.is_empty() { "" } else { "," };
+                let _ = write!(t, "{sep}{d}");
+            }
+            rw.field_str("domains", &t);
+            *n = n.saturating_add(1);
+            true
+        }
+        None => {
+            rw.ok().field_i32("count", *n as i32);
+            if let Some(g) = cut {
+                rw.field_i32("truncated", 1).field_f32_rt("g_max", *g);
+            }
+            false
         }
     }
 }

@@ -23,7 +23,8 @@
 //! * `worst_call`: the longest single `Console::push` or `Console::poll` call over a set
 //!   of deliberately heavy requests (`HEAVY`: a (12,11,7) face of Cu at 300 keV for
 //!   `beams`, `aim` and the plans, `budget`, fits over 64 points, `dump`, `help`, `set`
-//!   lines of long numbers), each call timed alone — how long a `stop` waits at most
+//!   lines of long numbers, an overlayer with twelve domains for `beams` and the sweep,
+//!   a stepped face's longest phase list), each call timed alone — how long a `stop` waits at most
 //!   for the call before it to finish. Built with `MW_WORST_EACH=1` in the environment,
 //!   the image also prints the longest call of each of those requests.
 #![no_std]
@@ -136,7 +137,7 @@ impl Line {
 /// a few points at 300 keV, the error budget, fits over a full point buffer, the dump,
 /// help, and a `set` whose numbers all need the parser's exact path. `None` marks where
 /// the 64 `pt` points of a fit go.
-const HEAVY: [Option<&str>; 24] = [
+const HEAVY: [Option<&str>; 28] = [
     Some("set crystal=cu face=12,11,7 energy=300000 tilt=0"),
     Some("beams"),
     Some("set beam=1,0 tilt=10"),
@@ -161,6 +162,13 @@ const HEAVY: [Option<&str>; 24] = [
     Some("set energy=123.456789 cathode=1.23456789 sample=4.56789012 offset=0.123456789"),
     Some("set v0=12.3456789 tilt=10.1234567 acceptance=0.987654321 azimuth=123.456789"),
     Some("faces"),
+    // An oblique overlayer with all twelve domains of a hexagonal mesh at 300 keV: its
+    // beam list, the sweep that looks for its beams at every point, and a stepped face
+    // with the longest phase list.
+    Some("set crystal=cu face=111 energy=300000 tilt=0 overlayer=3,1,-1,2 domains=all beam=0,0"),
+    Some("beams"),
+    Some("plan kind=sweep from=20 to=160 step=35"),
+    Some("steps miscut=0.5 height=100 from=1000 to=300000"),
 ];
 
 /// The longest single `Console::push` (of any byte, the line end included) or
