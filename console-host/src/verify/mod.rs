@@ -7,7 +7,12 @@
 //! The sweep: every table crystal × its table faces and the low-index faces of its
 //! system × beam energies 5 eV … 100 keV × tilts × azimuths, each a `set` and a
 //! `beams`; then, per crystal and face, in-plane `aim`s of low-order beams on the
-//! controller's rig.
+//! controller's rig; then overlayers (p(2×2), c(2×2), (√3×√3)R30°, a two-domain (2×1))
+//! on square and hexagonal faces, each a `set … overlayer=` and a `beams`, whose
+//! fractional-order beams are checked against the oracle's own superstructure search
+//! (`overlayer.rs`).
+
+mod overlayer;
 
 use crate::error::{CliError, CliResult};
 use crate::link::session::Session;
@@ -184,6 +189,7 @@ pub fn run_session<W: Wire>(
     let tol = |q: &str| match q {
         "emergence_rel" => EMERGE_TOL_REL,
         "aim_arm_deg" => ARM_TOL_DEG,
+        "overlayer_listing" => 0.0,
         _ => EXIT_TOL_DEG,
     };
     let mut quantities = serde_json::Map::new();
@@ -299,6 +305,8 @@ struct Case {
     energy_ev: f64,
     tilt_deg: f64,
     azimuth_deg: f64,
+    /// The overlayer set for the case's `beams`, if any.
+    overlayer: Option<overlayer::Layer>,
     requests: Vec<String>,
 }
 
@@ -326,6 +334,7 @@ fn plan(extent: Extent) -> Vec<Case> {
                             energy_ev: e,
                             tilt_deg: t,
                             azimuth_deg: az,
+                            overlayer: None,
                             requests: vec![
                                 format!("set crystal={} face={f} energy={e} tilt={t} azimuth={az} sample=0 cathode=0 offset=0", c.id),
                                 "beams".into(),
@@ -348,10 +357,12 @@ fn plan(extent: Extent) -> Vec<Case> {
                 energy_ev: 150.0,
                 tilt_deg: 10.0,
                 azimuth_deg: f64::NAN,
+                overlayer: None,
                 requests,
             });
         }
     }
+    cases.extend(overlayer::cases(extent));
     cases
 }
 
@@ -368,6 +379,12 @@ fn check_oracle(
     let Some(om) = oracle::mesh_by_rule(&oc, case.face) else {
         return;
     };
+    if let Some(layer) = &case.overlayer {
+        if req == "beams" {
+            overlayer::check(case, layer, &om, lines, errs);
+        }
+        return;
+    }
     let id = case.crystal.id;
     let where_ = |rod: [i32; 2]| {
         format!(
