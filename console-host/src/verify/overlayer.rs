@@ -137,9 +137,9 @@ pub(super) fn check(
             .iter()
             .find(|o| (o.hk[0] - h).abs() < 1e-6 && (o.hk[1] - k).abs() < 1e-6)
         else {
-            errs.entry("overlayer_listing")
-                .or_default()
-                .add(1.0, || format!("{}: not a beam of the oracle", where_([h, k])));
+            errs.entry("overlayer_listing").or_default().add(1.0, || {
+                format!("{}: not a beam of the oracle", where_([h, k]))
+            });
             continue;
         };
         if ob.exit_polar_deg <= 85.0 {
@@ -156,13 +156,14 @@ pub(super) fn check(
                 }
             }
         }
-        let n_dom = crate::link::session::reply_field(l, "domains")
-            .map_or(0, |d| d.split(',').count());
+        let n_dom =
+            crate::link::session::reply_field(l, "domains").map_or(0, |d| d.split(',').count());
         let expect = if layer.domains { ob.domains.len() } else { 1 };
-        errs.entry("overlayer_listing").or_default().add(
-            if n_dom == expect { 0.0 } else { 1.0 },
-            || format!("{}: {n_dom} domains, oracle {expect}", where_(ob.hk)),
-        );
+        errs.entry("overlayer_listing")
+            .or_default()
+            .add(if n_dom == expect { 0.0 } else { 1.0 }, || {
+                format!("{}: {n_dom} domains, oracle {expect}", where_(ob.hk))
+            });
     }
     // Every oracle beam inside the listed disk is listed (a relative 1e-5 margin at the
     // disk's edge, where f32 and f64 may round either way).
