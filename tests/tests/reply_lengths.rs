@@ -283,6 +283,12 @@ fn no_stream_line_outgrows_its_buffer() {
         // evanescent.
         "steps miscut=2.12345678 height=1.23456789 direction=-33.123457 from=5.12345678 to=300.123457".into(),
         "steps terrace=0.5 height=99.123457".into(),
+        // Spots on a hemispherical screen with the gun's shadow, on a flat detector,
+        // and the beam at a measured spot (found, and not).
+        "screen radius=66.1234567 rim=55.1234567 shadow=6.12345678".into(),
+        "screen distance=100.123457 half_width=80.1234567 half_height=60.1234567 arm=-3.12345678 elevation=-2.12345678".into(),
+        "screen distance=100.123457 half_width=80.1234567 half_height=60.1234567 x=40.1234567 y=-1.12345678 tolerance=20.1234567".into(),
+        "screen radius=66 x=-65.1234567 y=0.123456789 tolerance=0.000123457".into(),
         // The inverse wavelength at both edges of the range, and refused.
         "energy lambda=0.0196875123".into(),
         "energy lambda=12.2643123".into(),
@@ -369,6 +375,10 @@ fn no_stream_line_outgrows_its_buffer() {
         "ok count",
         "- set overlayer domains beam",
         "- sub j offset exit exit_azimuth arm elevation weight",
+        "- h k x y from_axis shadowed",
+        "ok count cone",
+        "ok found h k offset",
+        "ok found tolerance",
         "- phase energy cycles in_phase",
         "ok terrace height miscut direction phase splitting splitting_deg phases",
     ] {

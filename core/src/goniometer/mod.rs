@@ -41,7 +41,7 @@ pub use resolve::{
     MAX_REFUSALS,
 };
 pub use screen::{
-    check_gun_shadow, gun_shadowed, Landing, Screen, Spot, Spots, GUN_SHADOW_MAX_DEG,
+    check_gun_shadow, gun_shadowed, Landing, Screen, SortedSpots, Spot, Spots, GUN_SHADOW_MAX_DEG,
     SCREEN_LENGTH_MAX_MM,
 };
 pub use super_view::{super_beams_in_view, super_nearest_in_view, SuperInView};

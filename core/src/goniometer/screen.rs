@@ -28,7 +28,7 @@ use super::{beam_direction_lab, detector_direction, nearest_in_view, InView};
 use crate::error::{finite, Error, Quantity, Result};
 use crate::listing::{insert_sorted, Listing};
 use crate::math::{self, Vec3};
-use crate::surface::{beam_before, BeamIter, Face, Incidence, SurfaceBeam};
+use crate::surface::{beam_before, BeamIter, Face, Incidence, SortedBeams, SurfaceBeam};
 
 /// Largest screen radius, detector distance or half-size accepted, mm.
 pub const SCREEN_LENGTH_MAX_MM: f32 = 1.0e5;
@@ -115,16 +115,28 @@ impl Screen {
     /// [`SCREEN_LENGTH_MAX_MM`]; the rim above 0° and at most 90°; the arm angle finite;
     /// the elevation within ±90°.
     pub fn validate(&self) -> Result<()> {
+        self.check_fields().map_err(|(_, e)| e)
+    }
+
+    /// As [`Screen::validate`], naming the first field at fault (`radius_mm`,
+    /// `rim_deg`, `distance_mm`, `half_width_mm`, `half_height_mm`, `arm_deg`,
+    /// `elevation_deg`) with its error.
+    pub fn check_fields(&self) -> core::result::Result<(), (&'static str, Error)> {
+        let angle = |name, x: f32, lo: f32, hi: f32, lo_open: bool| {
+            let v = finite(x, Quantity::Angle).map_err(|e| (name, e))?;
+            if v < lo || (lo_open && v <= lo) {
+                return Err((name, Error::TooLow(Quantity::Angle)));
+            }
+            if v > hi {
+                return Err((name, Error::TooHigh(Quantity::Angle)));
+            }
+            Ok(())
+        };
+        let len = |name, x: f32| length(x).map(|_| ()).map_err(|e| (name, e));
         match *self {
             Screen::Hemisphere { radius_mm, rim_deg } => {
-                length(radius_mm)?;
-                let r = finite(rim_deg, Quantity::Angle)?;
-                if r <= 0.0 {
-                    return Err(Error::TooLow(Quantity::Angle));
-                }
-                if r > 90.0 {
-                    return Err(Error::TooHigh(Quantity::Angle));
-                }
+                len("radius_mm", radius_mm)?;
+                angle("rim_deg", rim_deg, 0.0, 90.0, true)?;
             }
             Screen::Flat {
                 distance_mm,
@@ -133,17 +145,11 @@ impl Screen {
                 half_width_mm,
                 half_height_mm,
             } => {
-                length(distance_mm)?;
-                length(half_width_mm)?;
-                length(half_height_mm)?;
-                finite(arm_deg, Quantity::Angle)?;
-                let e = finite(elevation_deg, Quantity::Angle)?;
-                if e < -90.0 {
-                    return Err(Error::TooLow(Quantity::Angle));
-                }
-                if e > 90.0 {
-                    return Err(Error::TooHigh(Quantity::Angle));
-                }
+                len("distance_mm", distance_mm)?;
+                len("half_width_mm", half_width_mm)?;
+                len("half_height_mm", half_height_mm)?;
+                angle("arm_deg", arm_deg, f32::NEG_INFINITY, f32::INFINITY, false)?;
+                angle("elevation_deg", elevation_deg, -90.0, 90.0, false)?;
             }
         }
         Ok(())
@@ -294,6 +300,28 @@ impl Screen {
         })
     }
 
+    /// The spots of [`Screen::spots`] streamed in the one beam order (increasing |g|,
+    /// [`beam_before`]; the order of [`Screen::list_spots`]) with a fixed window
+    /// ([`crate::surface::SortedBeams`]), for a controller that lists them line by
+    /// line. Errors: those of [`Screen::spots`].
+    pub fn sorted_spots(
+        &self,
+        face: &Face,
+        inc: &Incidence,
+        gun_shadow_deg: f32,
+    ) -> Result<SortedSpots> {
+        self.validate()?;
+        let shadow = check_gun_shadow(gun_shadow_deg)?;
+        let [d, _, _] = self.frame();
+        let (centre, radius) = view_disk(inc, d, self.cone_deg());
+        Ok(SortedSpots {
+            screen: *self,
+            shadow,
+            empty: radius < 0.0,
+            beams: face.beams_near(inc, centre, radius.max(0.0)).sorted(),
+        })
+    }
+
     /// The spots of [`Screen::spots`] into `out` in the one beam order (increasing |g|,
     /// [`beam_before`]): the first `out.len()` of them, `truncated` when more exist.
     /// Errors: those of [`Screen::spots`]; `EmptyBuffer` for an empty `out`.
@@ -362,6 +390,31 @@ pub fn gun_shadowed(dir: Vec3, gun_shadow_deg: f32) -> bool {
     // Angle from −x via atan2 of the perpendicular and parallel parts (accurate near 0).
     let perp = math::sqrt(k[1] * k[1] + k[2] * k[2]);
     math::deg(math::atan2(perp, -k[0])) < gun_shadow_deg
+}
+
+/// The spots on a detector in the one beam order: see [`Screen::sorted_spots`].
+#[derive(Clone, Copy, Debug)]
+pub struct SortedSpots {
+    screen: Screen,
+    shadow: f32,
+    empty: bool,
+    beams: SortedBeams,
+}
+
+impl Iterator for SortedSpots {
+    type Item = Spot;
+
+    fn next(&mut self) -> Option<Spot> {
+        if self.empty {
+            return None;
+        }
+        loop {
+            let b = self.beams.next()?;
+            if let Some(s) = self.screen.spot(&b, self.beams.incidence(), self.shadow) {
+                return Some(s);
+            }
+        }
+    }
 }
 
 /// The spots on a detector: see [`Screen::spots`].

@@ -25,6 +25,7 @@
 //! | `fit.rs` | `pt` and `fit` |
 //! | `budget.rs` | `budget`: the angular error budget of the aimed beam |
 //! | `steps.rs` | `steps`: a stepped face's split spots and in/out-of-phase energies |
+//! | `screen.rs` | `screen`: spots on a hemispherical screen or flat detector, and the beam at a measured spot |
 //! | `stream.rs` | the running stream and its items (help, lists, solutions, plan points) |
 //! | `dump.rs` | `dump`: the settings as requests that replay them |
 //!
@@ -38,6 +39,7 @@ mod fault;
 mod fit;
 mod motion;
 mod plan;
+mod screen;
 mod settings;
 mod steps;
 mod stream;
@@ -92,7 +94,7 @@ type Rw<'w, W> = ReplyWriter<'w, W, MAX_REPLY>;
 
 /// Commands with their one-line usage, as `help` lists them (`set` appends the key names
 /// of [`SETTING_KEYS`] it takes, `axis` the rig file's axis keys).
-pub const COMMANDS: [(&str, &str); 27] = [
+pub const COMMANDS: [(&str, &str); 28] = [
     ("hello", "identify: name, version, protocol"),
     ("help", "this list"),
     ("status", "enabled, interlock, motion, stream"),
@@ -143,6 +145,10 @@ pub const COMMANDS: [(&str, &str); 27] = [
     (
         "steps",
         "steps miscut=DEG|terrace=A [height=A] [direction=DEG] [from=EV] [to=EV]: the beam's split spots on a stepped face, then the in/out-of-phase energies",
+    ),
+    (
+        "screen",
+        "screen radius=MM [rim=] | distance=MM half_width= half_height= [arm= elevation=]; [shadow=DEG] [x=MM y=MM [tolerance=DEG]]: spots, or the beam at a spot",
     ),
     ("read", "read the detector"),
     ("dump", "settings as commands that replay them"),
@@ -488,6 +494,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             "fit" => self.cmd_fit(a, rw),
             "budget" => self.cmd_budget(a),
             "steps" => self.cmd_steps(a),
+            "screen" => self.cmd_screen(a, rw),
             "read" => {
                 no_args(a)?;
                 self.cmd_read(rw)

@@ -9,6 +9,7 @@ use super::fault::Accepted;
 use super::fault::Result;
 use super::fault::{write_err, Fault};
 use super::plan::PlanRun;
+use super::screen::ScreenRun;
 use super::settings::{Settings, SETTING_KEYS};
 use super::steps::StepsRun;
 use super::{
@@ -49,6 +50,7 @@ pub(super) enum Stream {
     Plan(PlanRun),
     Budget(ArmBudget, u8),
     Steps(StepsRun),
+    Screen(ScreenRun),
     Dump(u8),
 }
 
@@ -262,6 +264,7 @@ impl Stream {
             Stream::Plan(run) => run.step(&ctx.settings.rig, rw),
             Stream::Budget(b, i) => super::budget::budget_step(b, i, rw),
             Stream::Steps(run) => run.step(rw),
+            Stream::Screen(run) => run.step(rw),
             Stream::Dump(i) => loop {
                 match ctx.settings.dump_line(*i, rw) {
                     super::dump::Dump::Line => {
