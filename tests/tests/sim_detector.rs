@@ -12,7 +12,11 @@
 //!   normal distribution's half-maximum; from memory);
 //! * noise: reproducible from the seed, and zero-mean with the stated σ over many reads
 //!   (standard error of a mean, σ/√N; common practice, no source);
-//! * bounded work: the worst inputs the rig and the model accept finish, finite.
+//! * bounded work: the worst inputs the rig and the model accept finish, finite;
+//! * an overlayer's fractional-order beams: a p(2×2) half-order beam read where the
+//!   grating equation puts it at normal incidence (sin θ = λ/(2·a_s), a_s the
+//!   substrate's row period; textbook kinematics, λ from the oracle), at the model's
+//!   constant `superstructure_na` and the same angular profile, at every energy.
 
 use matterwave_console::oracle;
 use matterwave_core::console::sim::{HiddenOffsets, SimDetector};
@@ -70,6 +74,7 @@ fn scene<'a>(
         rig,
         inner_potential: V0Model::Constant(s.v0_ev),
         energy_offset_ev: 0.0,
+        overlayer: None,
     }
 }
 
@@ -443,4 +448,43 @@ fn iv_maxima_follow_the_energy_dependent_inner_potential() {
     }
     assert!(found >= 4, "{found} maxima");
     println!("V0(E) detector maxima checked: {found}");
+}
+
+#[test]
+fn an_overlayer_adds_its_half_order_beam_where_the_grating_equation_puts_it() {
+    use matterwave_core::surface::domains::Overlayer;
+    use matterwave_core::surface::Superstructure;
+    let s = setup("ni", [1, 0, 0]);
+    let rig = rig(1.0);
+    let a_s = 3.524 / 2f64.sqrt(); // Ni a (crystal table), square mesh side a/√2
+    let mut d = SimDetector::with_seed(5);
+    d.noise_na = 0.0;
+    d.noise_fraction = 0.0;
+    let p2x2 = Overlayer::new(Superstructure::new([[2, 0], [0, 2]], 1).unwrap(), false);
+    for e in [40.0f32, 73.0, 160.0] {
+        let theta = (oracle::wavelength_a(e as f64) / (2.0 * a_s))
+            .asin()
+            .to_degrees() as f32;
+        let mut on = scene(&s, &rig, e, 0.0, 0.0, theta, 0.0);
+        let bare = d.expected_na(&on);
+        on.overlayer = Some(p2x2);
+        let with = d.expected_na(&on);
+        // Centred on the (1/2, 0) beam: the fractional beam's full current on top.
+        assert!(
+            (with - bare - d.superstructure_na).abs() < 0.01 * d.superstructure_na,
+            "{e} eV: {bare} -> {with}"
+        );
+        // 3σ off it (σ = √((a/2)² + σ_div²) = √(0.25 + 0.04)°): nothing added.
+        let off = 3.2 * (0.25f32 + 0.04).sqrt();
+        let mut away = scene(&s, &rig, e, 0.0, 0.0, theta + off, 0.0);
+        let bare_away = d.expected_na(&away);
+        away.overlayer = Some(p2x2);
+        assert!((d.expected_na(&away) - bare_away).abs() < 1e-3, "{e} eV");
+        // On an integer-order beam the overlayer adds nothing: (1, 0) is the substrate's.
+        let theta1 = (oracle::wavelength_a(e as f64) / a_s).asin().to_degrees() as f32;
+        let mut int = scene(&s, &rig, e, 0.0, 0.0, theta1, 0.0);
+        let b1 = d.expected_na(&int);
+        int.overlayer = Some(p2x2);
+        assert!((d.expected_na(&int) - b1).abs() < 1e-3, "{e} eV (1,0)");
+    }
 }

@@ -105,6 +105,9 @@ pub struct Scene<'a> {
     /// `incidence.energy_ev`. A simulator takes it out to find what the hardware alone
     /// delivers.
     pub energy_offset_ev: f32,
+    /// The overlayer on the face (`overlayer=`, with its domains when `domains=all`),
+    /// or `None`: a simulator adds its fractional-order beams.
+    pub overlayer: Option<crate::surface::domains::Overlayer>,
 }
 
 /// The detector (Faraday cup or channeltron behind its electronics).

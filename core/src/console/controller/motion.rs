@@ -258,6 +258,7 @@ impl<A: AxisDriver, D: Detector, I: Interlock> Console<A, D, I> {
             rig: &s.rig,
             inner_potential: s.v0()?,
             energy_offset_ev: s.gun.offset_ev,
+            overlayer: s.overlayer_model(),
         };
         let v = self.detector.read(&scene);
         if !v.is_finite() {

@@ -21,6 +21,11 @@
 //!   imaginary inner potential (absorption), so of full width 2·Vi in energy (common
 //!   practice, no source), cut at ±10·Vi and lowered by its value there so that it is
 //!   continuous: ℓ(x) = (1/(1 + x²/Vi²) − 1/101)·101/100 for |x| < 10·Vi, else 0;
+//! * with an overlayer on the face, its fractional-order beams
+//!   ([`goniometer::super_beams_in_view`], with its domains when the console counts
+//!   them) at a constant `superstructure_na`·A(θ) each: their I-V maxima are not
+//!   modelled (they need the overlayer's layer, not the bulk), so their current does
+//!   not change with energy; its integer-order beams are the substrate's above;
 //! * a smooth background: a dark current plus a diffuse part ∝ the cosine of the
 //!   detector's angle from the surface normal (Lambert-like; common practice, no
 //!   source);
@@ -33,9 +38,11 @@
 
 use super::rng::XorShift32;
 use crate::console::board::{Detector, Scene};
-use crate::goniometer::{self, InView};
+use crate::goniometer::{self, InView, SuperInView};
 use crate::inner::V0Model;
 use crate::math;
+use crate::surface::domains::MAX_DOMAINS;
+use crate::surface::Superstructure;
 use crate::surface::{Incidence, IvPeak};
 
 /// Most beams one read sums (the nearest first).
@@ -87,6 +94,9 @@ pub struct SimDetector {
     pub diffuse_na: f32,
     /// Current of a beam centred on the detector at an I-V maximum, nA (0 to 1e6).
     pub beam_na: f32,
+    /// Current of a fractional-order beam of an overlayer centred on the detector, nA
+    /// (0 to 1e6), at every energy.
+    pub superstructure_na: f32,
     /// Beam divergence σ, degrees (0 to [`DIVERGENCE_MAX_DEG`]).
     pub divergence_deg: f32,
     /// Imaginary inner potential Vi, eV ([`ABSORPTION_MIN_EV`] to
@@ -103,7 +113,8 @@ pub struct SimDetector {
 
 impl Default for SimDetector {
     /// Seed 1, no hidden offsets, and: dark 0.2 nA, diffuse 0.3 nA, beam 100 nA,
-    /// divergence 0.2°, Vi 4 eV, noise 0.02 nA + 1 % of the current.
+    /// divergence 0.2°, Vi 4 eV, an overlayer's fractional beams 15 nA, noise 0.02 nA +
+    /// 1 % of the current.
     fn default() -> Self {
         SimDetector::with_seed(1)
     }
@@ -121,6 +132,7 @@ impl SimDetector {
             dark_na: 0.2,
             diffuse_na: 0.3,
             beam_na: 100.0,
+            superstructure_na: 15.0,
             divergence_deg: 0.2,
             absorption_ev: 4.0,
             noise_na: 0.02,
@@ -221,6 +233,26 @@ impl SimDetector {
                 .map(|p| self.lorentzian(e - p.energy_ev))
                 .sum();
             i += peak * angular * energy;
+        }
+        if let Some(o) = scene.overlayer {
+            let mut sups = [Superstructure::IDENTITY; MAX_DOMAINS];
+            let k = o.supers(scene.face, &mut sups);
+            let mut sv = [SuperInView::EMPTY; VIEW_MAX];
+            let m = goniometer::super_beams_in_view(
+                scene.face,
+                sups.get(..k).unwrap_or(&[]),
+                &inc,
+                arm,
+                scene.elevation_deg,
+                VIEW_SIGMAS * sigma,
+                &mut sv,
+            )
+            .map_or(0, |l| l.stored);
+            let frac = param(self.superstructure_na, 0.0, big);
+            for v in sv.iter().take(m).filter(|v| !v.beam.integer) {
+                let x = v.offset_deg / sigma;
+                i += frac * ((math::exp(-0.5 * x * x) - edge) / (1.0 - edge)).max(0.0);
+            }
         }
         i
     }
