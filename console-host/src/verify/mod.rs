@@ -10,9 +10,12 @@
 //! controller's rig; then overlayers (p(2×2), c(2×2), (√3×√3)R30°, a two-domain (2×1))
 //! on square and hexagonal faces, each a `set … overlayer=` and a `beams`, whose
 //! fractional-order beams are checked against the oracle's own superstructure search
-//! (`overlayer.rs`).
+//! (`overlayer.rs`); then stepped faces (`steps`: the split sub-beams) and screens
+//! (`screen`: every spot on a hemispherical screen and a flat detector) against the
+//! oracle's own (`surfaces.rs`).
 
 mod overlayer;
+mod surfaces;
 
 use crate::error::{CliError, CliResult};
 use crate::link::session::Session;
@@ -34,6 +37,8 @@ pub const EMERGE_TOL_REL: f64 = 2e-5;
 pub const EMERGE_PRINT_EV: f64 = 0.0005;
 /// Aimed arm angle against the oracle's exit direction at the aimed pose, degrees.
 pub const ARM_TOL_DEG: f64 = 0.002;
+/// Spot positions on a screen against the oracle's, mm (0.002° at 60 mm is 0.002 mm).
+pub const SCREEN_TOL_MM: f64 = 0.002;
 
 /// How much to send.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -190,6 +195,7 @@ pub fn run_session<W: Wire>(
         "emergence_rel" => EMERGE_TOL_REL,
         "aim_arm_deg" => ARM_TOL_DEG,
         "overlayer_listing" => 0.0,
+        "screen_mm" => SCREEN_TOL_MM,
         _ => EXIT_TOL_DEG,
     };
     let mut quantities = serde_json::Map::new();
@@ -307,6 +313,8 @@ struct Case {
     azimuth_deg: f64,
     /// The overlayer set for the case's `beams`, if any.
     overlayer: Option<overlayer::Layer>,
+    /// The stepped face or screen of the case's `steps` or `screen`, if any.
+    surface: Option<surfaces::Surface>,
     requests: Vec<String>,
 }
 
@@ -335,6 +343,7 @@ fn plan(extent: Extent) -> Vec<Case> {
                             tilt_deg: t,
                             azimuth_deg: az,
                             overlayer: None,
+                            surface: None,
                             requests: vec![
                                 format!("set crystal={} face={f} energy={e} tilt={t} azimuth={az} sample=0 cathode=0 offset=0", c.id),
                                 "beams".into(),
@@ -358,11 +367,13 @@ fn plan(extent: Extent) -> Vec<Case> {
                 tilt_deg: 10.0,
                 azimuth_deg: f64::NAN,
                 overlayer: None,
+                surface: None,
                 requests,
             });
         }
     }
     cases.extend(overlayer::cases(extent));
+    cases.extend(surfaces::cases(extent));
     cases
 }
 
@@ -379,6 +390,12 @@ fn check_oracle(
     let Some(om) = oracle::mesh_by_rule(&oc, case.face) else {
         return;
     };
+    if let Some(sf) = &case.surface {
+        if req.starts_with("steps") || req.starts_with("screen") {
+            surfaces::check(case, sf, &om, lines, errs);
+        }
+        return;
+    }
     if let Some(layer) = &case.overlayer {
         if req == "beams" {
             overlayer::check(case, layer, &om, lines, errs);

@@ -77,6 +77,7 @@ pub(super) fn cases(extent: Extent) -> Vec<Case> {
                         m: *m,
                         domains: *domains,
                     }),
+                    surface: None,
                     // Two lines: one request holds at most 120 bytes.
                     requests: vec![
                         format!(
