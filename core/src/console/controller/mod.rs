@@ -18,6 +18,7 @@
 //! | `mod.rs` | the [`Console`], byte intake, request dispatch, `poll` |
 //! | `args.rs` | argument readers and the small text helpers replies share |
 //! | `fault.rs` | a failed request's error and detail (key, value, reason, what is accepted), and the one `err` line writer |
+//! | `overlayer.rs` | the overlayer's lattices and the fractional beam that must belong to them |
 //! | `settings.rs` | [`Settings`] and the one table of setting keys ([`SETTING_KEYS`]) that drives `set`, `get`, `dump` and `help` |
 //! | `motion.rs` | `move`, `stop`, `pos`, `enable`, `disable`, `read` |
 //! | `axes.rs` | `axis` and `zone`: the rig as the controller holds it |
@@ -38,6 +39,7 @@ mod dump;
 mod fault;
 mod fit;
 mod motion;
+mod overlayer;
 mod plan;
 mod screen;
 mod settings;
