@@ -278,10 +278,11 @@ pub fn budget_cmd(a: &BudgetArgs) -> CliResult<Report> {
         &a.position,
     )?;
     if q.pos.integer().is_none() {
-        return Err(CliError::new(format!(
-            "--beam {}: the budget takes integer-order beams only (its lattice term varies the bulk cell)",
-            q.pos
-        )));
+        // The console refuses it with the same error (its `budget`, err 171).
+        return Err(CliError::core(
+            matterwave_core::Error::IntegerBeamsOnly,
+            format_args!("--beam {}", q.pos),
+        ));
     }
     let (face, rod, tilt, mode) = (q.face, q.rod, q.tilt, q.mode);
     let spread = a.energy_spread;

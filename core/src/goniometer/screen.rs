@@ -285,19 +285,34 @@ impl Screen {
     /// that disk (as [`Face::beams_near`]). Errors: those of [`Screen::validate`] and
     /// a gun shadow beyond 0–[`GUN_SHADOW_MAX_DEG`].
     pub fn spots(&self, face: &Face, inc: &Incidence, gun_shadow_deg: f32) -> Result<Spots> {
-        self.validate()?;
-        let shadow = check_gun_shadow(gun_shadow_deg)?;
-        let [d, _, _] = self.frame();
-        let (centre, radius) = view_disk(inc, d, self.cone_deg());
-        // A negative radius: no beam can reach the detector (it faces into the sample).
-        let beams = face.beams_near(inc, centre, radius.max(0.0));
+        let (shadow, empty, beams) = self.search(face, inc, gun_shadow_deg)?;
         Ok(Spots {
             screen: *self,
             inc: *inc,
             shadow,
-            empty: radius < 0.0,
+            empty,
             beams,
         })
+    }
+
+    /// The search behind [`Screen::spots`] and [`Screen::sorted_spots`]: the checked
+    /// gun shadow, whether no beam can reach the detector (a negative radius: it faces
+    /// into the sample), and the rods of the disk of k∥ its cone can see.
+    fn search(
+        &self,
+        face: &Face,
+        inc: &Incidence,
+        gun_shadow_deg: f32,
+    ) -> Result<(f32, bool, BeamIter)> {
+        self.validate()?;
+        let shadow = check_gun_shadow(gun_shadow_deg)?;
+        let [d, _, _] = self.frame();
+        let (centre, radius) = view_disk(inc, d, self.cone_deg());
+        Ok((
+            shadow,
+            radius < 0.0,
+            face.beams_near(inc, centre, radius.max(0.0)),
+        ))
     }
 
     /// The spots of [`Screen::spots`] streamed in the one beam order (increasing |g|,
@@ -310,15 +325,12 @@ impl Screen {
         inc: &Incidence,
         gun_shadow_deg: f32,
     ) -> Result<SortedSpots> {
-        self.validate()?;
-        let shadow = check_gun_shadow(gun_shadow_deg)?;
-        let [d, _, _] = self.frame();
-        let (centre, radius) = view_disk(inc, d, self.cone_deg());
+        let (shadow, empty, beams) = self.search(face, inc, gun_shadow_deg)?;
         Ok(SortedSpots {
             screen: *self,
             shadow,
-            empty: radius < 0.0,
-            beams: face.beams_near(inc, centre, radius.max(0.0)).sorted(),
+            empty,
+            beams: beams.sorted(),
         })
     }
 

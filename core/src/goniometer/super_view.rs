@@ -41,9 +41,7 @@ use super::view::{nearest_by, seen_from, view_disk};
 use crate::error::{finite, Error, Quantity, Result};
 use crate::listing::{insert_sorted, Listing};
 use crate::math::{self, Vec3};
-use crate::surface::{
-    super_beam_before, Face, FracRod, Incidence, SuperBeam, Superstructure, SurfaceBeam,
-};
+use crate::surface::{super_beam_before, Face, Incidence, SuperBeam, Superstructure, SurfaceBeam};
 
 /// Most superstructures one search takes (the bits of [`SuperBeam::domains`]).
 const MAX_SUPERS: usize = 16;
@@ -92,16 +90,6 @@ pub(crate) fn search_face(face: &Face, s: &Superstructure) -> Option<Face> {
     Some(f)
 }
 
-/// Bit i set when `supers[i]` has the beam at `pos`.
-fn domain_bits(supers: &[Superstructure], pos: &FracRod) -> u16 {
-    supers
-        .iter()
-        .take(MAX_SUPERS)
-        .enumerate()
-        .filter(|(_, s)| s.has_beam(pos))
-        .fold(0u16, |m, (i, _)| m | (1u16 << i))
-}
-
 /// The exact beam of rod `pq` of `supers[i]`'s search face at `inc`, with its domain
 /// bits; `None` when evanescent, or — with `first_only` — when an earlier
 /// superstructure of the list has it (so that a listing holds each position once).
@@ -123,7 +111,7 @@ fn exact_beam(
         pos,
         integer: pos.integer().is_some(),
         beam,
-        domains: domain_bits(supers, &pos),
+        domains: crate::surface::domain_bits(supers, &pos),
     })
 }
 

@@ -13,6 +13,8 @@ use std::string::ToString;
 use std::vec;
 use std::vec::Vec;
 
+use crate::surface::FracRod;
+
 use super::super::{beam_direction_lab, beams_in_view, detector_direction, InView};
 use super::*;
 use crate::lattice::{Cell, Structure};

@@ -51,6 +51,7 @@ pub use overlayer_list::{BeamLattices, OverlayerBeams};
 pub use relax::{Relaxation, RELAX_MAX_PCT};
 pub use rods::BeamIter;
 pub use sorted::{SortedBeams, SORTED_WINDOW};
+pub(crate) use superstructure::domain_bits;
 pub use superstructure::{
     super_beam_before, union_beams, FracRod, SuperBeam, Superstructure, MAX_BEAM_DEN, MAX_CELLS,
     MAX_DEN, MAX_ENTRY,

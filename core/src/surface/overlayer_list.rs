@@ -13,12 +13,10 @@
 //! so a beam at a whole position is bit for bit the substrate's [`Face::beam`].
 
 use super::domains::MAX_DOMAINS;
-use super::{
-    beam_from, mesh_g, turned, Face, FracRod, Incidence, SortedBeams, SuperBeam, Superstructure,
-    MAX_BEAM_DEN,
-};
+use super::superstructure::{domain_bits, frac_beam_on};
 #[cfg(doc)]
 use super::{super_beam_before, union_beams};
+use super::{Face, FracRod, Incidence, SortedBeams, SuperBeam, Superstructure, MAX_BEAM_DEN};
 use crate::error::{Error, Result};
 
 /// Up to [`MAX_DOMAINS`] superstructure lattices as a filter on the rods of the grid of
@@ -63,28 +61,15 @@ impl BeamLattices {
     /// Bit i set when lattice i holds the grid rod `rod` (position `rod`/den); 0 when
     /// none does.
     pub fn domains_of(&self, rod: [i32; 2]) -> u16 {
-        let pos = FracRod {
+        self.domains_at(&FracRod {
             num: rod,
             den: self.den,
-        };
-        let mut bits = 0u16;
-        for (i, s) in self.sups.iter().take(usize::from(self.len)).enumerate() {
-            if s.has_beam(&pos) {
-                bits |= 1 << i;
-            }
-        }
-        bits
+        })
     }
 
     /// Bit i set when lattice i holds the position `pos`; 0 when none does.
     pub fn domains_at(&self, pos: &FracRod) -> u16 {
-        let mut bits = 0u16;
-        for (i, s) in self.sups.iter().take(usize::from(self.len)).enumerate() {
-            if s.has_beam(pos) {
-                bits |= 1 << i;
-            }
-        }
-        bits
+        domain_bits(self.sups.get(..usize::from(self.len)).unwrap_or(&[]), pos)
     }
 }
 
@@ -145,25 +130,17 @@ impl Iterator for OverlayerBeams {
                 den: self.lattices.den,
             }
             .normalised();
-            // The arithmetic of `Face::frac_beam` on the substrate's mesh: a whole
-            // position is exactly `Face::beam` of its rod.
-            let (label, g) = match pos.integer() {
-                Some(r) => (r, mesh_g(&self.recip_2d_inv_a, r[0] as f32, r[1] as f32)),
-                None => {
-                    let d = pos.den as f32;
-                    let (h, k) = (pos.num[0] as f32 / d, pos.num[1] as f32 / d);
-                    (pos.num, mesh_g(&self.recip_2d_inv_a, h, k))
-                }
-            };
+            // Computed again on the substrate's own mesh (`Face::frac_beam`'s
+            // arithmetic): a whole position is exactly `Face::beam` of its rod. A beam at
+            // the very edge of the disk may round to evanescent there; it is skipped, as
+            // `union_beams` skips it.
             let inc = self.sorted.incidence();
-            // A beam at the very edge of the disk may round to evanescent on the
-            // substrate's mesh; it is skipped, as `union_beams` skips it.
-            if let Some(beam) = beam_from(label, turned(g, inc), inc) {
+            if let Ok(beam) = frac_beam_on(&self.recip_2d_inv_a, &pos, inc) {
                 return Some(SuperBeam {
                     pos,
                     integer: pos.integer().is_some(),
                     beam,
-                    domains: self.lattices.domains_of(b.rod),
+                    domains: self.lattices.domains_at(&pos),
                 });
             }
         }

@@ -263,30 +263,52 @@ impl Face {
     /// Whole positions go through [`Face::rod_inv_a`], so they are exactly the
     /// integer-order rod's vector.
     pub fn frac_rod_inv_a(&self, pos: &FracRod) -> [f32; 2] {
-        if let Some(r) = pos.integer() {
-            return self.rod_inv_a(r);
-        }
-        let d = pos.den as f32;
-        super::mesh_g(
-            &self.recip_2d_inv_a,
-            pos.num[0] as f32 / d,
-            pos.num[1] as f32 / d,
-        )
+        frac_g(&self.recip_2d_inv_a, pos)
     }
 
     /// The beam at fractional position `pos` at `inc` (`rod` holds the numerators for a
     /// fractional position), or `Evanescent`. Whole positions give exactly
     /// [`Face::beam`].
     pub fn frac_beam(&self, pos: &FracRod, inc: &Incidence) -> Result<SurfaceBeam> {
-        if pos.den < 1 || pos.num[0].abs() > 4096 * pos.den || pos.num[1].abs() > 4096 * pos.den {
-            return Err(Error::IndicesTooLarge);
-        }
-        if let Some(r) = pos.integer() {
-            return self.beam(r, inc);
-        }
-        let t = super::turned(self.frac_rod_inv_a(pos), inc);
-        super::beam_from(pos.num, t, inc).ok_or(Error::Evanescent)
+        frac_beam_on(&self.recip_2d_inv_a, pos, inc)
     }
+}
+
+/// g of position `pos` on the reciprocal mesh `recip` (rows b1, b2, 1/Å): a whole
+/// position with the integer-order arithmetic of [`Face::rod_inv_a`].
+fn frac_g(recip: &[[f32; 2]; 2], pos: &FracRod) -> [f32; 2] {
+    match pos.integer() {
+        Some(r) => super::mesh_g(recip, r[0] as f32, r[1] as f32),
+        None => {
+            let d = pos.den as f32;
+            super::mesh_g(recip, pos.num[0] as f32 / d, pos.num[1] as f32 / d)
+        }
+    }
+}
+
+/// [`Face::frac_beam`] on the reciprocal mesh `recip` alone (the one arithmetic of a
+/// beam at an exact position, for iterators that keep the mesh and not the face).
+pub(crate) fn frac_beam_on(
+    recip: &[[f32; 2]; 2],
+    pos: &FracRod,
+    inc: &Incidence,
+) -> Result<SurfaceBeam> {
+    if pos.den < 1 || pos.num[0].abs() > 4096 * pos.den || pos.num[1].abs() > 4096 * pos.den {
+        return Err(Error::IndicesTooLarge);
+    }
+    let label = pos.integer().unwrap_or(pos.num);
+    let t = super::turned(frac_g(recip, pos), inc);
+    super::beam_from(label, t, inc).ok_or(Error::Evanescent)
+}
+
+/// Bit i set when `supers[i]` (the first 16) has the beam at `pos`.
+pub(crate) fn domain_bits(supers: &[Superstructure], pos: &FracRod) -> u16 {
+    supers
+        .iter()
+        .take(16)
+        .enumerate()
+        .filter(|(_, s)| s.has_beam(pos))
+        .fold(0u16, |m, (i, _)| m | (1u16 << i))
 }
 
 impl Superstructure {

@@ -20,7 +20,7 @@ use crate::budget::ArmBudget;
 use crate::console::board::{AxisDriver, Detector, Interlock};
 use crate::goniometer::{Refusals, Solution};
 use crate::lattice::System;
-use crate::surface::{Incidence, OverlayerBeams, SortedBeams};
+use crate::surface::{Incidence, OverlayerBeams, SortedBeams, SurfaceBeam};
 use crate::table;
 
 /// What a stream reads besides its own state: borrowed from the console beside it.
@@ -186,25 +186,13 @@ impl Stream {
             }
             Stream::Beams(iter, n, cut) => match iter.next() {
                 Some(b) => {
-                    rw.item()
-                        .field_i32("h", b.rod[0])
-                        .field_i32("k", b.rod[1])
-                        .field_f32("exit", b.exit_deg, ANGLE_DECIMALS)
-                        .field_f32("exit_azimuth", b.exit_azimuth_deg, ANGLE_DECIMALS);
-                    if let Some(d) = b.row_spacing_a() {
-                        rw.field_f32("row", d, LENGTH_DECIMALS);
-                    }
-                    if let Some(e) = b.emergence_ev {
-                        rw.field_f32("emerge", e, ENERGY_DECIMALS);
-                    }
+                    rw.item().field_i32("h", b.rod[0]).field_i32("k", b.rod[1]);
+                    write_beam(rw, &b);
                     *n = n.saturating_add(1);
                     true
                 }
                 None => {
-                    rw.ok().field_i32("count", *n as i32);
-                    if let Some(g) = cut {
-                        rw.field_i32("truncated", 1).field_f32_rt("g_max", *g);
-                    }
+                    write_list_end(rw, *n, *cut);
                     false
                 }
             },
@@ -297,14 +285,7 @@ fn overlayer_step<W: Write>(
             rw.item();
             write_frac(rw, "h", &b.pos, 0);
             write_frac(rw, "k", &b.pos, 1);
-            rw.field_f32("exit", b.beam.exit_deg, ANGLE_DECIMALS)
-                .field_f32("exit_azimuth", b.beam.exit_azimuth_deg, ANGLE_DECIMALS);
-            if let Some(d) = b.beam.row_spacing_a() {
-                rw.field_f32("row", d, LENGTH_DECIMALS);
-            }
-            if let Some(e) = b.beam.emergence_ev {
-                rw.field_f32("emerge", e, ENERGY_DECIMALS);
-            }
+            write_beam(rw, &b.beam);
             rw.field_i32("integer", b.integer as i32);
             let mut t: heapless::String<32> = heapless::String::new();
             // Domain indices 0 to 11, comma-separated: at most 26 bytes.
@@ -317,12 +298,33 @@ fn overlayer_step<W: Write>(
             true
         }
         None => {
-            rw.ok().field_i32("count", *n as i32);
-            if let Some(g) = cut {
-                rw.field_i32("truncated", 1).field_f32_rt("g_max", *g);
-            }
+            write_list_end(rw, *n, *cut);
             false
         }
+    }
+}
+
+/// The fields of a `beams` item after its indices: `exit`, `exit_azimuth`, and `row`
+/// and `emerge` where the beam has them.
+fn write_beam<W: Write>(rw: &mut Rw<'_, W>, b: &SurfaceBeam) {
+    rw.field_f32("exit", b.exit_deg, ANGLE_DECIMALS).field_f32(
+        "exit_azimuth",
+        b.exit_azimuth_deg,
+        ANGLE_DECIMALS,
+    );
+    if let Some(d) = b.row_spacing_a() {
+        rw.field_f32("row", d, LENGTH_DECIMALS);
+    }
+    if let Some(e) = b.emergence_ev {
+        rw.field_f32("emerge", e, ENERGY_DECIMALS);
+    }
+}
+
+/// The final line of a `beams` list: the count, and the |g| limit when it cut the list.
+fn write_list_end<W: Write>(rw: &mut Rw<'_, W>, n: u32, cut: Option<f32>) {
+    rw.ok().field_i32("count", n as i32);
+    if let Some(g) = cut {
+        rw.field_i32("truncated", 1).field_f32_rt("g_max", g);
     }
 }
 
